@@ -1,0 +1,112 @@
+# revisit: one Makefile builds the tool, the libraries, the plugins and the tests.
+#   make            build build/revisit, the libraries and build/plugins/*.so
+#   make test       build, then run every C test and cross-check (tests/run.sh)
+#   make asan       the same tests in an ASan + UBSan build (build-asan/)
+#   make bench      benchmarks, one JSON line per figure
+#   make demo       demo sweep on the synthetic port district, then its report
+#   make install PREFIX=/usr/local
+#   make deps       check (and as root install) the Debian packages needed
+# B=DIR builds into another folder, so several builds can share one tree.
+
+VERSION := 0.1.0
+B       ?= build
+PREFIX  ?= /usr/local
+CC      ?= cc
+
+PKGS     := libcjson
+PKG_CFLAGS := $(shell pkg-config --cflags $(PKGS) 2>/dev/null)
+PKG_LIBS   := $(shell pkg-config --libs $(PKGS) 2>/dev/null || echo -lcjson)
+BLAS_LIBS  := $(shell pkg-config --libs openblas 2>/dev/null || echo -lopenblas)
+BLAS_CFLAGS := $(shell pkg-config --cflags openblas 2>/dev/null)
+LAPACK_LIBS := -llapacke
+
+WARN    := -std=c11 -Wall -Wextra -Werror -Wno-format-truncation
+CFLAGS  ?= -O2 -g
+SAN     ?=
+ALL_CFLAGS := $(WARN) $(CFLAGS) $(SAN) -D_POSIX_C_SOURCE=200809L -D_DEFAULT_SOURCE \
+              -DRV_VERSION='"$(VERSION)"' -DRV_PLUGIN_DIR='"$(PREFIX)/lib/revisit/plugins"' -I. $(PKG_CFLAGS) $(BLAS_CFLAGS) -MMD -MP
+HIDDEN  := -fvisibility=hidden
+LDLIBS  := $(PKG_LIBS) $(BLAS_LIBS) $(LAPACK_LIBS) -ldl -lpthread -lm
+
+# --- sources by module -------------------------------------------------------
+PERTURB_SRC := harness/cloud.c $(wildcard perturb/*.c)
+METRICS_SRC := $(wildcard metrics/*.c)
+SYNTH_SRC   := $(wildcard scenarios/*.c)
+REPORTS_SRC := $(wildcard reports/*.c)
+HARNESS_SRC := $(filter-out harness/main.c harness/cloud.c,$(wildcard harness/*.c))
+PLUGINS     := $(notdir $(wildcard harness/plugins/*))
+PLUGIN_SO   := $(PLUGINS:%=$(B)/plugins/%.so)
+TEST_SRC    := $(wildcard tests/test_*.c)
+TOOL_SRC    := $(wildcard tests/tool_*.c)
+BENCH_SRC   := $(wildcard tests/bench_*.c)
+
+obj = $(patsubst %.c,$(B)/obj/%.o,$(1))
+LIBS := $(B)/libharness.a $(B)/libsynth.a $(B)/libreports.a $(B)/libperturb.a $(B)/libmetrics.a
+
+.PHONY: all deps test asan bench demo install clean
+all: deps build
+
+build: $(B)/revisit $(PLUGIN_SO) $(TEST_SRC:tests/%.c=$(B)/tests/%) \
+       $(TOOL_SRC:tests/%.c=$(B)/tests/%) $(BENCH_SRC:tests/%.c=$(B)/tests/%)
+.PHONY: build
+
+deps:
+	@bash harness/deps.sh
+
+$(B)/obj/%.o: %.c
+	@mkdir -p $(dir $@)
+	$(CC) $(ALL_CFLAGS) $(HIDDEN) -c $< -o $@
+
+$(B)/obj/harness/plugins/%.o: harness/plugins/%.c
+	@mkdir -p $(dir $@)
+	$(CC) $(ALL_CFLAGS) -fPIC $(HIDDEN) -c $< -o $@
+
+$(B)/libperturb.a: $(call obj,$(PERTURB_SRC))
+$(B)/libmetrics.a: $(call obj,$(METRICS_SRC))
+$(B)/libsynth.a:   $(call obj,$(SYNTH_SRC))
+$(B)/libreports.a: $(call obj,$(REPORTS_SRC))
+$(B)/libharness.a: $(call obj,$(HARNESS_SRC))
+$(B)/lib%.a:
+	@mkdir -p $(dir $@)
+	@rm -f $@
+	ar rcs $@ $^
+
+$(B)/revisit: $(call obj,harness/main.c) $(LIBS)
+	$(CC) $(SAN) $(HIDDEN) -o $@ $< $(LIBS) $(LDLIBS)
+
+.SECONDEXPANSION:
+$(B)/plugins/%.so: $$(call obj,$$(wildcard harness/plugins/%/*.c))
+	@mkdir -p $(dir $@)
+	$(CC) $(SAN) -shared -o $@ $^ $(LAPACK_LIBS) -lm
+
+$(B)/tests/%: $(B)/obj/tests/%.o $(LIBS)
+	@mkdir -p $(dir $@)
+	$(CC) $(SAN) -o $@ $< $(LIBS) $(LDLIBS)
+
+test: all
+	@bash tests/run.sh $(B)
+
+asan:
+	@$(MAKE) --no-print-directory B=build-asan CFLAGS='-O1 -g -fno-omit-frame-pointer' \
+	  SAN='-fsanitize=address,undefined -fno-sanitize-recover=undefined' test
+
+bench: all
+	@bash tests/bench.sh $(B)
+
+demo: all
+	@bash scenarios/demo.sh $(B)
+
+install: all
+	install -d $(DESTDIR)$(PREFIX)/bin $(DESTDIR)$(PREFIX)/include/revisit \
+	  $(DESTDIR)$(PREFIX)/lib/revisit/plugins $(DESTDIR)$(PREFIX)/share/revisit/help
+	install -m 755 $(B)/revisit $(DESTDIR)$(PREFIX)/bin/revisit
+	install -m 644 harness/revisit_plugin.h $(DESTDIR)$(PREFIX)/include/revisit/
+	install -m 755 $(PLUGIN_SO) $(DESTDIR)$(PREFIX)/lib/revisit/plugins/
+	$(B)/revisit --help > $(DESTDIR)$(PREFIX)/share/revisit/help/revisit.txt
+	for c in $$($(B)/revisit --commands); do \
+	  $(B)/revisit $$c --help > $(DESTDIR)$(PREFIX)/share/revisit/help/revisit-$$c.txt; done
+
+clean:
+	rm -rf build build-*
+
+-include $(shell find $(B)/obj -name '*.d' 2>/dev/null)

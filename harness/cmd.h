@@ -1,0 +1,27 @@
+/* cmd.h: the subcommands of `revisit`.
+ *
+ * To add a command:
+ *   1. write harness/cmd_NAME.c with `int cmd_NAME(int argc, char **argv)`,
+ *      a static usage text and an option table handed to opt_parse();
+ *      `--help` prints usage + options to stdout and returns 0;
+ *   2. declare it below and add a row to the table in harness/main.c;
+ *   3. nothing to add to the Makefile (every .c file in harness/ is picked up);
+ *   4. add tests (tests/test_help.sh runs --help on every row already);
+ *   5. document it in README.md (usage) and DEVELOPERS.md if it adds a module.
+ *
+ * Handlers return an exit code: CMD_OK, CMD_FAIL (a check or criterion
+ * failed), CMD_ERROR (usage or input error; the message is already printed
+ * as "revisit: ..." on stderr), CMD_INTERRUPTED.
+ */
+#ifndef RV_CMD_H
+#define RV_CMD_H
+
+#include "harness/err.h"
+
+enum { CMD_OK = 0, CMD_FAIL = 1, CMD_ERROR = 2, CMD_INTERRUPTED = 130 };
+
+/* Print "revisit: <msg>" to stderr and return CMD_ERROR. */
+int cmd_report(const struct err *e);
+
+
+#endif

@@ -1,0 +1,55 @@
+/* err.c: error records with file:line positions. */
+#include "harness/err.h"
+
+#include <stdarg.h>
+#include <stdio.h>
+#include <string.h>
+
+int err_set(struct err *e, const char *fmt, ...)
+{
+    if (!e) return -1;
+    va_list ap;
+    va_start(ap, fmt);
+    vsnprintf(e->msg, sizeof e->msg, fmt, ap);
+    va_end(ap);
+    return -1;
+}
+
+int err_at(struct err *e, const char *file, long line, const char *fmt, ...)
+{
+    if (!e) return -1;
+    size_t used = 0;
+    if (file && line > 0)
+        used = (size_t)snprintf(e->msg, sizeof e->msg, "%s:%ld: ", file, line);
+    else if (file)
+        used = (size_t)snprintf(e->msg, sizeof e->msg, "%s: ", file);
+    if (used >= sizeof e->msg) used = sizeof e->msg - 1;
+    va_list ap;
+    va_start(ap, fmt);
+    vsnprintf(e->msg + used, sizeof e->msg - used, fmt, ap);
+    va_end(ap);
+    return -1;
+}
+
+int err_wrap(struct err *e, const char *fmt, ...)
+{
+    if (!e) return -1;
+    char prefix[ERR_MSG_MAX], old[ERR_MSG_MAX];
+    memcpy(old, e->msg, sizeof old);
+    va_list ap;
+    va_start(ap, fmt);
+    vsnprintf(prefix, sizeof prefix, fmt, ap);
+    va_end(ap);
+    snprintf(e->msg, sizeof e->msg, "%s: %s", prefix, old);
+    return -1;
+}
+
+void err_line_col(const char *text, size_t offset, long *line, long *col)
+{
+    long l = 1, c = 1;
+    for (size_t i = 0; i < offset && text[i]; i++) {
+        if (text[i] == '\n') { l++; c = 1; } else c++;
+    }
+    *line = l;
+    *col = c;
+}

@@ -1,0 +1,49 @@
+/* eval.h: one evaluation cell, end to end (recording -> perturbation ->
+ * descriptors -> retrieval -> metrics -> files).  `revisit eval` and the
+ * sweep runner both call eval_run; see DEVELOPERS.md "Results folder" for
+ * the files it writes.
+ *
+ *     struct eval_spec s; eval_spec_defaults(&s);
+ *     s.map_rec = "rec/recording.json"; s.method = "scan-context:rings=20";
+ *     s.out_dir = "out/cell";
+ *     struct eval_summary sum;
+ *     if (eval_run(&s, &sum, e)) ...   // 0 or -1; nothing half-written under out_dir
+ */
+#ifndef RV_EVAL_H
+#define RV_EVAL_H
+
+#include <stdint.h>
+#include "harness/err.h"
+#include "metrics/protocol.h"
+
+struct eval_spec {
+    const char *map_rec;       /* recording.json (or its folder) */
+    const char *query_rec;     /* NULL: loop mode on map_rec */
+    const char *method;        /* "name[:key=value,...]" or a path to a .so / external program */
+    const char *plugin_path;   /* extra plugin search folders, ':'-separated, or NULL */
+    const char *chain;         /* perturbation chain or NULL */
+    const char *on;            /* "query" | "map" | "both" (default "query" in reloc, "both" in loop) */
+    uint64_t seed;             /* perturbation seed */
+    struct protocol protocol;
+    const char *out_dir;       /* where result.json, queries.csv, ... go */
+    const char *cache_dir;     /* descriptor cache folder, NULL = no cache */
+    const char *condition;     /* condition name recorded in result.json, or NULL */
+    const char *scenario_hash; /* sweep: hash of the scenario file, or NULL */
+    int bootstrap;             /* resamples (default 1000; 0 = no intervals) */
+    uint64_t bootstrap_seed;   /* default 1 */
+    int jobs;                  /* threads (default: online cores) */
+    int quiet;                 /* no progress bar */
+    int isolate;               /* run the method in a child process */
+};
+
+struct eval_summary {
+    double f1max, r100p, ep, ap, recall1;
+    size_t queries, revisits;
+    double describe_s, retrieval_s, metrics_s;
+    size_t described;          /* scans actually described (not read from cache) */
+};
+
+void eval_spec_defaults(struct eval_spec *s);
+int eval_run(const struct eval_spec *s, struct eval_summary *out, struct err *e);
+
+#endif

@@ -1,0 +1,53 @@
+/* fileio.h: whole-file reads and atomic writes (temporary file, then rename).
+ *
+ * Every file revisit writes goes through afile: it is written under a
+ * temporary name in the same folder, flushed, fsync'ed and renamed over the
+ * target only when complete, so a crash or a full disk never leaves a
+ * truncated file where a good one was expected.
+ *
+ *     struct afile a;
+ *     if (afile_open(&a, "out/result.json", e)) return -1;
+ *     fprintf(a.f, ...);
+ *     return afile_commit(&a, e);      // or afile_abort(&a) on error
+ *
+ * Fault injection for tests: when the environment variable
+ * REVISIT_FAULT_WRITE_BYTES=N is set, a commit of a file larger than N bytes
+ * fails as if the disk were full (ENOSPC), and the temporary file is removed.
+ */
+#ifndef RV_FILEIO_H
+#define RV_FILEIO_H
+
+#include <stdio.h>
+#include <stddef.h>
+#include "harness/err.h"
+
+struct afile {
+    FILE *f;
+    char path[4096];
+    char tmp[4160];
+};
+
+/* Open a temporary file beside path. 0 or -1 (e names the folder and errno). */
+int afile_open(struct afile *a, const char *path, struct err *e);
+/* Flush, sync, close, rename. On failure the temporary is removed. 0 or -1. */
+int afile_commit(struct afile *a, struct err *e);
+/* Close and remove the temporary; safe to call after a failed commit. */
+void afile_abort(struct afile *a);
+
+/* Write len bytes to path atomically. 0 or -1. */
+int fileio_write(const char *path, const void *data, size_t len, struct err *e);
+
+/* Read a whole file into a NUL-terminated malloc'ed buffer; the caller frees.
+ * Refuses files larger than max_bytes with a clear message. 0 or -1. */
+int fileio_read(const char *path, size_t max_bytes, char **buf, size_t *len, struct err *e);
+
+/* mkdir -p. 0 or -1. */
+int fileio_mkdirs(const char *path, struct err *e);
+
+/* Join dir and name into out (size n); name absolute stays as is. */
+void fileio_join(char *out, size_t n, const char *dir, const char *name);
+
+/* The folder part of path ("." when none) into out. */
+void fileio_dirname(char *out, size_t n, const char *path);
+
+#endif

@@ -1,0 +1,71 @@
+/* main.c: the `revisit` command table and dispatcher. */
+#include <stdio.h>
+#include <string.h>
+
+#include "harness/cmd.h"
+
+struct cmd_row {
+    const char *name;
+    int (*fn)(int argc, char **argv);
+    const char *summary;
+};
+
+static const struct cmd_row commands[] = {
+    {NULL, NULL, NULL},
+};
+
+static const char caution[] =
+    "Caution: results on recorded or synthetic data do not show that a vehicle is\n"
+    "safe. Acceptance decisions follow the organisation's safety process, local\n"
+    "regulations and the standards that apply, signed off by qualified safety\n"
+    "engineers; a verdict of this tool is evidence for that process, never a\n"
+    "substitute for it.\n";
+
+static void main_help(FILE *f)
+{
+    fprintf(f, "usage: revisit <command> [options]\n\n"
+               "Robustness benchmarking for LiDAR place recognition: perturb recorded\n"
+               "scans, run descriptor methods, score precision-recall against poses.\n\n"
+               "commands:\n");
+    for (const struct cmd_row *c = commands; c->name; c++)
+        fprintf(f, "  %-10s %s\n", c->name, c->summary);
+    fprintf(f, "\n'revisit <command> --help' describes one command.\n"
+               "exit codes: 0 done, 1 a check or criterion failed, 2 usage or input error,\n"
+               "130 interrupted.\n\n%s", caution);
+}
+
+int cmd_report(const struct err *e)
+{
+    fprintf(stderr, "revisit: %s\n", e->msg);
+    return CMD_ERROR;
+}
+
+static int main_finish(int rc)
+{
+    /* A report redirected to a full disk must not exit 0. */
+    if (fflush(stdout) || ferror(stdout) || fclose(stdout)) {
+        fprintf(stderr, "revisit: cannot write standard output\n");
+        return CMD_ERROR;
+    }
+    return rc;
+}
+
+int main(int argc, char **argv)
+{
+    if (argc < 2 || !strcmp(argv[1], "--help") || !strcmp(argv[1], "-h")) {
+        main_help(argc < 2 ? stderr : stdout);
+        return main_finish(argc < 2 ? CMD_ERROR : CMD_OK);
+    }
+    if (!strcmp(argv[1], "--version")) {
+        printf("revisit %s\n", RV_VERSION);
+        return main_finish(CMD_OK);
+    }
+    if (!strcmp(argv[1], "--commands")) {
+        for (const struct cmd_row *c = commands; c->name; c++) printf("%s\n", c->name);
+        return main_finish(CMD_OK);
+    }
+    for (const struct cmd_row *c = commands; c->name; c++)
+        if (!strcmp(argv[1], c->name)) return main_finish(c->fn(argc - 1, argv + 1));
+    fprintf(stderr, "revisit: unknown command '%s' (see 'revisit --help')\n", argv[1]);
+    return main_finish(CMD_ERROR);
+}

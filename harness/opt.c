@@ -1,0 +1,122 @@
+/* opt.c: table-driven option parsing shared by all subcommands. */
+#include "harness/opt.h"
+
+#include <errno.h>
+#include <math.h>
+#include <stdlib.h>
+#include <string.h>
+
+int opt_to_double(const char *s, double *out)
+{
+    char *end;
+    errno = 0;
+    double v = strtod(s, &end);
+    if (end == s || *end || errno == ERANGE || !isfinite(v)) return -1;
+    *out = v;
+    return 0;
+}
+
+int opt_to_long(const char *s, long *out)
+{
+    char *end;
+    errno = 0;
+    long v = strtol(s, &end, 10);
+    if (end == s || *end || errno == ERANGE) return -1;
+    *out = v;
+    return 0;
+}
+
+static int opt_to_u64(const char *s, unsigned long long *out)
+{
+    char *end;
+    errno = 0;
+    if (*s == '-') return -1;
+    unsigned long long v = strtoull(s, &end, 10);
+    if (end == s || *end || errno == ERANGE) return -1;
+    *out = v;
+    return 0;
+}
+
+static const struct opt *opt_find(const struct opt *table, const char *name, size_t len)
+{
+    for (const struct opt *o = table; o->name; o++)
+        if (strlen(o->name) == len && !strncmp(o->name, name, len)) return o;
+    return NULL;
+}
+
+static int opt_store(const char *cmd, const struct opt *o, const char *val, struct err *e)
+{
+    switch (o->kind) {
+    case OPT_FLAG: *(int *)o->dest = 1; return 0;
+    case OPT_STR: *(const char **)o->dest = val; return 0;
+    case OPT_INT:
+        if (opt_to_long(val, (long *)o->dest))
+            return err_set(e, "revisit %s: option '%s' expects a whole number, got '%s'", cmd, o->name, val);
+        return 0;
+    case OPT_DOUBLE:
+        if (opt_to_double(val, (double *)o->dest))
+            return err_set(e, "revisit %s: option '%s' expects a number, got '%s'", cmd, o->name, val);
+        return 0;
+    case OPT_U64:
+        if (opt_to_u64(val, (unsigned long long *)o->dest))
+            return err_set(e, "revisit %s: option '%s' expects a non-negative whole number, got '%s'", cmd, o->name, val);
+        return 0;
+    case OPT_LIST: {
+        struct opt_list *l = o->dest;
+        if (l->n >= OPT_LIST_MAX)
+            return err_set(e, "revisit %s: option '%s' given more than %d times", cmd, o->name, OPT_LIST_MAX);
+        l->v[l->n++] = val;
+        return 0;
+    }
+    }
+    return err_set(e, "revisit %s: internal: bad option kind", cmd);
+}
+
+int opt_parse(const char *cmd, int argc, char **argv, const struct opt *table,
+              struct opt_args *args, struct err *e)
+{
+    memset(args, 0, sizeof *args);
+    int only_pos = 0;
+    for (int k = 1; k < argc; k++) {
+        const char *a = argv[k];
+        if (!only_pos && (!strcmp(a, "--help") || !strcmp(a, "-h"))) { args->help = 1; continue; }
+        if (!only_pos && !strcmp(a, "--")) { only_pos = 1; continue; }
+        if (only_pos || a[0] != '-' || a[1] == 0) {
+            if (args->n >= (int)(sizeof args->v / sizeof args->v[0]))
+                return err_set(e, "revisit %s: too many arguments", cmd);
+            args->v[args->n++] = a;
+            continue;
+        }
+        const char *eq = strchr(a, '=');
+        size_t len = eq ? (size_t)(eq - a) : strlen(a);
+        const struct opt *o = opt_find(table, a, len);
+        if (!o)
+            return err_set(e, "revisit %s: unknown option '%.*s' (see 'revisit %s --help')",
+                           cmd, (int)len, a, cmd);
+        const char *val = NULL;
+        if (o->kind == OPT_FLAG) {
+            if (eq) return err_set(e, "revisit %s: option '%s' takes no value", cmd, o->name);
+        } else if (eq) {
+            val = eq + 1;
+        } else {
+            if (k + 1 >= argc)
+                return err_set(e, "revisit %s: option '%s' expects %s", cmd, o->name,
+                               o->metavar ? o->metavar : "a value");
+            val = argv[++k];
+        }
+        if (opt_store(cmd, o, val, e)) return -1;
+    }
+    return 0;
+}
+
+void opt_print_help(FILE *f, const struct opt *table)
+{
+    fprintf(f, "options:\n");
+    for (const struct opt *o = table; o->name; o++) {
+        char left[64];
+        snprintf(left, sizeof left, "%s%s%s", o->name, o->metavar ? " " : "",
+                 o->metavar ? o->metavar : "");
+        fprintf(f, "  %-26s %s\n", left, o->help);
+    }
+    fprintf(f, "  %-26s %s\n", "-h, --help", "show this help");
+}

@@ -1,0 +1,60 @@
+/* opt.h: the one option parser every subcommand uses.
+ *
+ * A command declares a NULL-terminated table; opt_parse fills the targets,
+ * collects positional arguments, and on a bad option writes
+ *     revisit eval: option '--top-k' expects a whole number, got 'x'
+ * into the error record.  `--help`/`-h` sets *help (always recognised).
+ *
+ *     const char *out = NULL; int quiet = 0;
+ *     const struct opt opts[] = {
+ *         {"--out", OPT_STR, &out, "DIR", "where to write"},
+ *         {"--quiet", OPT_FLAG, &quiet, NULL, "no progress bar"},
+ *         {0}};
+ */
+#ifndef RV_OPT_H
+#define RV_OPT_H
+
+#include <stdio.h>
+#include "harness/err.h"
+
+enum opt_kind {
+    OPT_FLAG,    /* int: set to 1 */
+    OPT_STR,     /* const char *: the argument */
+    OPT_INT,     /* long */
+    OPT_DOUBLE,  /* double */
+    OPT_U64,     /* unsigned long long (seeds) */
+    OPT_LIST     /* struct opt_list: repeatable string option */
+};
+
+#define OPT_LIST_MAX 64
+struct opt_list {
+    int n;
+    const char *v[OPT_LIST_MAX];
+};
+
+struct opt {
+    const char *name;     /* "--out" */
+    enum opt_kind kind;
+    void *dest;
+    const char *metavar;  /* "DIR"; NULL for flags */
+    const char *help;     /* one line */
+};
+
+struct opt_args {
+    int n;
+    const char *v[64];    /* positional arguments in order */
+    int help;             /* --help given */
+};
+
+/* Parse argv[1..argc-1] (argv[0] is the command name). 0 or -1 with e set. */
+int opt_parse(const char *cmd, int argc, char **argv, const struct opt *table,
+              struct opt_args *args, struct err *e);
+
+/* Print "options:" and one line per table row. */
+void opt_print_help(FILE *f, const struct opt *table);
+
+/* Parse a whole string as a number; 0 on success. */
+int opt_to_double(const char *s, double *out);
+int opt_to_long(const char *s, long *out);
+
+#endif

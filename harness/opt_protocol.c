@@ -1,0 +1,45 @@
+/* opt_protocol.c: shared protocol options. */
+#include "harness/opt_protocol.h"
+
+#include <math.h>
+#include <string.h>
+
+void opt_protocol_init(struct opt_protocol *op)
+{
+    memset(op, 0, sizeof *op);
+    op->r_pos = NAN;
+    op->r_neg = NAN;
+    op->excl_s = NAN;
+    op->excl_scans = -1;
+    op->top_k = -1;
+}
+
+int opt_protocol_finish(const struct opt_protocol *op, const char *cmd,
+                        struct protocol *p, struct err *e)
+{
+    protocol_defaults(p);
+    static const char *const modes[] = {"loop", "reloc", NULL};
+    static const char *const countings[] = {"strict", "lenient", NULL};
+    if (op->mode) {
+        int k = 0;
+        while (modes[k] && strcmp(modes[k], op->mode)) k++;
+        if (!modes[k]) return err_set(e, "revisit %s: --mode expects loop or reloc, got '%s'", cmd, op->mode);
+        p->mode = (enum protocol_mode)k;
+    }
+    if (op->counting) {
+        int k = 0;
+        while (countings[k] && strcmp(countings[k], op->counting)) k++;
+        if (!countings[k])
+            return err_set(e, "revisit %s: --counting expects strict or lenient, got '%s'", cmd, op->counting);
+        p->counting = (enum protocol_counting)k;
+    }
+    if (!isnan(op->r_pos)) p->r_pos_m = op->r_pos;
+    p->r_neg_m = isnan(op->r_neg) ? p->r_pos_m : op->r_neg;
+    if (!isnan(op->excl_s)) p->exclusion_s = op->excl_s;
+    if (op->excl_scans >= 0) p->exclusion_scans = op->excl_scans;
+    if (op->top_k >= 0) p->top_k = (int)op->top_k;
+    p->planar = op->planar;
+    char msg[256];
+    if (protocol_check(p, msg, sizeof msg)) return err_set(e, "revisit %s: %s", cmd, msg);
+    return 0;
+}
