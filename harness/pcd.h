@@ -1,0 +1,27 @@
+/* pcd.h: PCD point-cloud files, version 0.7 (ascii and binary).
+ *
+ * Read: the header lines VERSION, FIELDS, SIZE, TYPE, COUNT, WIDTH, HEIGHT,
+ * VIEWPOINT, POINTS, DATA in that order (comments '#' allowed).  Fields
+ * x y z are required; intensity, ring and time (also "t") are kept when
+ * present; other fields are skipped.  Types: I (1, 2, 4 bytes), U (1, 2, 4),
+ * F (4, 8) as the format allows; any other type or size is refused.
+ * DATA binary_compressed is refused with a clear message.  The declared point
+ * count is checked against the file size and CLOUD_MAX_POINTS before any
+ * allocation.
+ * Write: DATA binary with fields x y z intensity (float32), plus ring
+ * (uint16) and time (float32) when the cloud has them; atomic.
+ *
+ * Failure contract as in scan_io.h.  Thread-safe on distinct clouds.
+ */
+#ifndef RV_PCD_H
+#define RV_PCD_H
+
+#include "harness/cloud.h"
+#include "harness/err.h"
+
+int pcd_read(const char *path, struct cloud *c, struct err *e);
+int pcd_write_binary(const char *path, const struct cloud *c, struct err *e);
+/* The same content as DATA ascii (9 significant digits). */
+int pcd_write_ascii(const char *path, const struct cloud *c, struct err *e);
+
+#endif

@@ -1,0 +1,67 @@
+/* poses_io.h: pose files in three layouts, detected or forced, and a writer.
+ *
+ * Layouts:
+ *   POSES_CSV     comma-separated with a header line naming the columns
+ *                 t,x,y,z,qx,qy,qz,qw in any order (extra columns ignored)
+ *   POSES_TEXT    whitespace-separated lines "t x y z qx qy qz qw"
+ *   POSES_MATRIX  lines of 12 numbers, the row-major 3x4 [R | p], with the
+ *                 times in a separate file (one number per line); without a
+ *                 times file the times are 0, 1, 2, ... seconds -- callers
+ *                 that need real times pass one
+ * In every layout blank lines and lines starting with '#' are skipped.
+ * Detection (POSES_AUTO): a first data line with a letter in it is a CSV
+ * header; else 12 numbers on a line mean POSES_MATRIX, 8 mean POSES_TEXT.
+ *
+ *     struct poses ps;
+ *     if (poses_read("poses.csv", POSES_AUTO, NULL, &ps, e)) return -1;
+ *     ... ps.v[i].t, ps.v[i].p ...   poses_free(&ps);
+ *
+ * Checks, each naming file and line: the column count of every line, every
+ * number, every quaternion (pose_from_quat) or rotation (pose_from_matrix),
+ * and strictly increasing times.  At most POSES_MAX entries.
+ * Failure contract: 0, or -1 with e set and *out empty.  Thread-safe.
+ */
+#ifndef RV_POSES_IO_H
+#define RV_POSES_IO_H
+
+#include <stddef.h>
+#include "harness/err.h"
+#include "harness/pose.h"
+
+#define POSES_MAX ((size_t)10000000)
+
+enum poses_layout {
+    POSES_AUTO = 0,
+    POSES_CSV,
+    POSES_TEXT,
+    POSES_MATRIX
+};
+
+struct poses {
+    size_t n;
+    struct pose *v;      /* n entries, times strictly increasing */
+    enum poses_layout layout;  /* the layout read (after detection) */
+};
+
+/* "auto" | "csv" | "text" | "matrix"; -1 with e naming the words otherwise. */
+int poses_layout_parse(const char *name, enum poses_layout *out, struct err *e);
+const char *poses_layout_name(enum poses_layout layout);
+
+/* Read path in layout (POSES_AUTO detects); times_path is the times file
+ * for POSES_MATRIX (NULL: times 0, 1, 2, ...) and must be NULL otherwise. */
+int poses_read(const char *path, enum poses_layout layout, const char *times_path,
+               struct poses *out, struct err *e);
+
+/* Read a file of one time per line (seconds), strictly increasing.  The
+ * caller frees *t.  0 or -1. */
+int poses_read_times(const char *path, double **t, size_t *n, struct err *e);
+
+void poses_free(struct poses *ps);
+
+/* Write n poses in layout (not POSES_AUTO), atomically, with 17 significant
+ * digits so a read gives back the same doubles.  POSES_MATRIX writes the
+ * times to times_path (required then, NULL otherwise). */
+int poses_write(const char *path, enum poses_layout layout, const struct pose *v, size_t n,
+                const char *times_path, struct err *e);
+
+#endif

@@ -1,0 +1,67 @@
+/* scan_io.h: read one scan file into a struct cloud, and write one back.
+ *
+ * Layouts read (see README "Recordings and formats"):
+ *   SCAN_RAW   little-endian float32 records x y z intensity, 16 bytes per
+ *              point, no header (".bin")
+ *   SCAN_PCD   PCD v0.7 ascii or binary (".pcd"; see harness/pcd.h)
+ *   SCAN_PLY   PLY ascii or binary_little_endian (".ply"; see harness/ply.h)
+ *   SCAN_TEXT  one point per line "x y z [i]", separated by spaces, tabs or
+ *              commas; '#' starts a comment (".txt", ".xyz", ".csv")
+ * SCAN_AUTO picks the layout from the file extension.
+ *
+ *     struct cloud c; cloud_init(&c);
+ *     if (scan_read("scans/000012.bin", SCAN_AUTO, &c, e)) return -1;
+ *     ...  cloud_free(&c);
+ *
+ * Failure contract: 0, or -1 with "FILE:LINE: what, expected what" in e
+ * (LINE omitted for binary files; the message then names the byte offset or
+ * point index).  On -1 the cloud holds no points (n == 0) but keeps its
+ * buffers.  On 0 the cloud's previous contents are replaced; its ring / time
+ * arrays are present exactly when the file carries those fields.  Points with
+ * non-finite coordinates are kept here: recording_load_scan drops and counts
+ * them.  Every bound is checked before allocating: a scan over
+ * CLOUD_MAX_POINTS points is refused.  No state; every function is
+ * thread-safe on distinct clouds.
+ */
+#ifndef RV_SCAN_IO_H
+#define RV_SCAN_IO_H
+
+#include "harness/cloud.h"
+#include "harness/err.h"
+
+enum scan_layout {
+    SCAN_AUTO = 0,
+    SCAN_RAW,
+    SCAN_PCD,
+    SCAN_PLY,
+    SCAN_TEXT
+};
+
+/* "auto" | "raw" | "pcd" | "ply" | "text" -> layout; -1 with e naming the
+ * accepted words otherwise. */
+int scan_layout_parse(const char *name, enum scan_layout *out, struct err *e);
+/* The word for a layout ("raw", ...). */
+const char *scan_layout_name(enum scan_layout layout);
+/* Layout from the extension of path, case-insensitive; SCAN_AUTO if unknown. */
+enum scan_layout scan_layout_from_path(const char *path);
+/* The usual extension for a layout, with the dot (".bin", ".pcd", ...). */
+const char *scan_layout_ext(enum scan_layout layout);
+
+/* Read path as layout (SCAN_AUTO: by extension; an unknown extension is an
+ * error naming the extensions accepted). */
+int scan_read(const char *path, enum scan_layout layout, struct cloud *c, struct err *e);
+
+/* Writers, each atomic (harness/fileio.h).  The raw layout keeps x y z i
+ * only; scan_write picks the writer for layout (SCAN_PCD and SCAN_PLY write
+ * binary; SCAN_TEXT writes "x y z i" lines with 9 significant digits). */
+int scan_write_raw(const char *path, const struct cloud *c, struct err *e);
+int scan_write_text(const char *path, const struct cloud *c, struct err *e);
+int scan_write(const char *path, enum scan_layout layout, const struct cloud *c, struct err *e);
+
+/* Internal to the readers (shared by raw/pcd/ply): read a whole file of at
+ * most max_bytes; like fileio_read but without the NUL and with the bound in
+ * the message phrased for scans.  0 or -1. */
+int scan_slurp(const char *path, size_t max_bytes, unsigned char **buf, size_t *len,
+               struct err *e);
+
+#endif
