@@ -1,0 +1,333 @@
+/* m2dp.c: the M2DP descriptor as a plugin (He, Wang & Zhang, "M2DP: a novel
+ * 3D point cloud descriptor and its application in loop closure detection",
+ * IROS 2016).  Built only against the public plugin header.
+ *
+ * Steps for one scan (the paper's description, constants from memory):
+ *   1. centre the points on their centroid;
+ *   2. principal axes: x' = first, y' = second principal direction, z' = x' × y';
+ *   3. for p azimuths θ_i = iπ/p and q elevations φ_j = jπ/(2q), project the
+ *      points onto the plane with normal m = (cos φ cos θ, cos φ sin θ, sin φ);
+ *      the plane's 2D x axis is the projection of x' onto it (of y' when x' is
+ *      the normal itself), its y axis is m × (2D x axis);
+ *   4. bin every projection into l rings × t sectors: ring k holds radii in
+ *      [k² r0, (k+1)² r0) with r0 = r_max / l², r_max the largest 3D distance
+ *      to the centroid; sector s holds angles in [2πs/t, 2π(s+1)/t);
+ *   5. the counts of plane (i, j) form row i·q + j of A (pq × lt), column
+ *      ring·t + sector; the signature is [u1; v1], A's first left and right
+ *      singular vectors (LAPACKE dgesvd), pq + lt values (192 by default).
+ *
+ * Sign ambiguity.  Both steps produce vectors defined up to sign:
+ *   - principal axis a (x' or y') is flipped so that the third moment of the
+ *     coordinates along it, Σ (d·a)³, is >= 0 (the heavier tail points to +);
+ *     z' = x' × y' keeps the frame right-handed, so z' needs no rule;
+ *   - (u1, v1) and (−u1, −v1) are both singular pairs; A has no negative
+ *     entry, so its leading pair can be taken with no negative component
+ *     (Perron-Frobenius); we flip both when Σ v1 < 0.
+ * A cloud whose third moment along an axis is zero (a symmetric one) has no
+ * preferred sign there; the descriptor of such a cloud may flip under rotation.
+ *
+ * Speed: the binning visits every point once per plane (64 planes by
+ * default).  The sector is found from a fast polynomial arctangent and then
+ * corrected exactly against the sector's boundary directions, so the bins are
+ * the ones atan2 gives; `max_points` thins very dense scans by a fixed stride.
+ */
+#include <lapacke.h>
+#include <math.h>
+#include <stdlib.h>
+#include <string.h>
+#include <stdio.h>
+#include "harness/revisit_plugin.h"
+
+#define M2DP_PI 3.14159265358979323846
+
+enum { SET_AZ, SET_EL, SET_RINGS, SET_SECTORS, SET_MAXPTS, SET_COUNT };
+
+static const struct rv_setting m2dp_settings[SET_COUNT] = {
+    {"azimuths", RV_SET_INT, 4, 1, 64, NULL, "projection planes per elevation: azimuths i*pi/p"},
+    {"elevations", RV_SET_INT, 16, 1, 64, NULL, "plane elevations j*pi/(2q)"},
+    {"rings", RV_SET_INT, 8, 1, 64, NULL, "concentric rings per plane, radii grow as k^2"},
+    {"sectors", RV_SET_INT, 16, 2, 256, NULL, "angular sectors per plane"},
+    {"max_points", RV_SET_INT, 16384, 0, 10000000, NULL,
+     "thin scans with more points by a fixed stride (0 keeps all)"},
+};
+
+/* One projection plane: 2D axes e1, e2 (rows of a 2x3 matrix). */
+struct m2dp_plane {
+    double e1[3], e2[3];
+};
+
+struct m2dp {
+    int p, q, l, t;
+    size_t max_points;
+    struct m2dp_plane *planes;  /* p*q, row order i*q + j */
+    double *bx, *by;            /* t+1 sector boundary directions */
+};
+
+static void m2dp_cross(const double a[3], const double b[3], double out[3])
+{
+    out[0] = a[1] * b[2] - a[2] * b[1];
+    out[1] = a[2] * b[0] - a[0] * b[2];
+    out[2] = a[0] * b[1] - a[1] * b[0];
+}
+
+/* Plane axes for normal m in the aligned frame (see step 3 above). */
+static void m2dp_plane_axes(double theta, double phi, struct m2dp_plane *pl)
+{
+    double m[3] = {cos(phi) * cos(theta), cos(phi) * sin(theta), sin(phi)};
+    double ax[2][3] = {{1, 0, 0}, {0, 1, 0}};
+    for (int k = 0; k < 2; k++) {
+        double d = ax[k][0] * m[0] + ax[k][1] * m[1] + ax[k][2] * m[2];
+        double e[3] = {ax[k][0] - d * m[0], ax[k][1] - d * m[1], ax[k][2] - d * m[2]};
+        double len = sqrt(e[0] * e[0] + e[1] * e[1] + e[2] * e[2]);
+        if (len < 1e-9)
+            continue;
+        for (int c = 0; c < 3; c++)
+            pl->e1[c] = e[c] / len;
+        break;
+    }
+    m2dp_cross(m, pl->e1, pl->e2);
+}
+
+static void m2dp_free(void *inst)
+{
+    struct m2dp *m = inst;
+    if (!m)
+        return;
+    free(m->planes);
+    free(m->bx);
+    free(m->by);
+    free(m);
+}
+
+static int m2dp_new(const double *v, void **inst, uint32_t *dim, uint32_t *key_dim,
+                    char *msg, size_t msg_len)
+{
+    struct m2dp *m = calloc(1, sizeof *m);
+    if (!m)
+        return snprintf(msg, msg_len, "out of memory"), RV_ERR_NOMEM;
+    m->p = (int)v[SET_AZ];
+    m->q = (int)v[SET_EL];
+    m->l = (int)v[SET_RINGS];
+    m->t = (int)v[SET_SECTORS];
+    m->max_points = (size_t)v[SET_MAXPTS];
+    m->planes = calloc((size_t)(m->p * m->q), sizeof *m->planes);
+    m->bx = calloc((size_t)m->t + 1, sizeof *m->bx);
+    m->by = calloc((size_t)m->t + 1, sizeof *m->by);
+    if (!m->planes || !m->bx || !m->by) {
+        m2dp_free(m);
+        return snprintf(msg, msg_len, "out of memory"), RV_ERR_NOMEM;
+    }
+    for (int i = 0; i < m->p; i++)
+        for (int j = 0; j < m->q; j++)
+            m2dp_plane_axes(i * M2DP_PI / m->p, j * M2DP_PI / (2.0 * m->q),
+                            &m->planes[i * m->q + j]);
+    for (int s = 0; s <= m->t; s++) {
+        m->bx[s] = cos(2.0 * M2DP_PI * s / m->t);
+        m->by[s] = sin(2.0 * M2DP_PI * s / m->t);
+    }
+    *inst = m;
+    *dim = (uint32_t)(m->p * m->q + m->l * m->t);
+    *key_dim = 0;
+    return RV_OK;
+}
+
+/* Centroid and principal frame of the (strided) points: rows of r are x', y', z'.
+ * Returns -1 when LAPACKE fails. */
+static int m2dp_frame(const float *xyzi, size_t n, size_t stride, double c[3], double r[3][3])
+{
+    double cov[9] = {0}, w[3];
+    size_t cnt = 0;
+    c[0] = c[1] = c[2] = 0;
+    for (size_t k = 0; k < n; k += stride, cnt++)
+        for (int a = 0; a < 3; a++)
+            c[a] += xyzi[4 * k + a];
+    for (int a = 0; a < 3; a++)
+        c[a] /= (double)cnt;
+    for (size_t k = 0; k < n; k += stride) {
+        double d[3] = {xyzi[4 * k] - c[0], xyzi[4 * k + 1] - c[1], xyzi[4 * k + 2] - c[2]};
+        for (int a = 0; a < 3; a++)
+            for (int b = 0; b < 3; b++)
+                cov[a * 3 + b] += d[a] * d[b];
+    }
+    if (LAPACKE_dsyev(LAPACK_ROW_MAJOR, 'V', 'U', 3, cov, 3, w) != 0)
+        return -1;
+    /* eigenvalues ascending: column 2 is the first principal direction */
+    for (int a = 0; a < 2; a++) {
+        double *row = r[a], m3 = 0;
+        for (int b = 0; b < 3; b++)
+            row[b] = cov[b * 3 + (2 - a)];
+        for (size_t k = 0; k < n; k += stride) {
+            double s = (xyzi[4 * k] - c[0]) * row[0] + (xyzi[4 * k + 1] - c[1]) * row[1]
+                       + (xyzi[4 * k + 2] - c[2]) * row[2];
+            m3 += s * s * s;
+        }
+        if (m3 < 0)
+            for (int b = 0; b < 3; b++)
+                row[b] = -row[b];
+    }
+    m2dp_cross(r[0], r[1], r[2]);
+    return 0;
+}
+
+/* atan2 mapped to [0, 2pi) by a polynomial, error below 1e-4 rad. */
+static double m2dp_fast_angle(double y, double x)
+{
+    double ax = fabs(x), ay = fabs(y);
+    double mx = ax > ay ? ax : ay, mn = ax > ay ? ay : ax;
+    if (mx == 0)
+        return 0;
+    double a = mn / mx, s = a * a;
+    double r = ((-0.0464964749 * s + 0.15931422) * s - 0.327622764) * s * a + a;
+    if (ay > ax)
+        r = M2DP_PI / 2 - r;
+    if (x < 0)
+        r = M2DP_PI - r;
+    if (y < 0)
+        r = 2 * M2DP_PI - r;
+    return r;
+}
+
+/* Sector of direction (u, v): the s with boundary s at or before it and
+ * boundary s+1 after it, counter-clockwise. */
+static int m2dp_sector(const struct m2dp *m, double u, double v)
+{
+    int s = (int)(m2dp_fast_angle(v, u) * m->t / (2 * M2DP_PI));
+    if (s >= m->t)
+        s = m->t - 1;
+    for (int guard = 0; guard < 4; guard++) {
+        if (m->bx[s] * v - m->by[s] * u < 0)
+            s = s == 0 ? m->t - 1 : s - 1;
+        else if (m->bx[s + 1] * v - m->by[s + 1] * u >= 0 && s + 1 < m->t)
+            s = s + 1;
+        else
+            break;
+    }
+    return s;
+}
+
+/* Fill A (p*q rows, l*t columns, row-major) with the bin counts.
+ * Returns the number of points used, 0 when the cloud has no extent. */
+static size_t m2dp_matrix(const struct m2dp *m, const float *xyzi, size_t n, double *a)
+{
+    size_t stride = m->max_points && n > m->max_points
+                        ? (n + m->max_points - 1) / m->max_points : 1;
+    int rows = m->p * m->q, cols = m->l * m->t;
+    double c[3], r[3][3], rmax2 = 0;
+    memset(a, 0, sizeof *a * (size_t)rows * (size_t)cols);
+    if (n < 3 || m2dp_frame(xyzi, n, stride, c, r))
+        return 0;
+    for (size_t k = 0; k < n; k += stride) {
+        double d[3] = {xyzi[4 * k] - c[0], xyzi[4 * k + 1] - c[1], xyzi[4 * k + 2] - c[2]};
+        double d2 = d[0] * d[0] + d[1] * d[1] + d[2] * d[2];
+        if (d2 > rmax2)
+            rmax2 = d2;
+    }
+    if (!(rmax2 > 0))
+        return 0;
+    double inv_r0 = (double)m->l * m->l / sqrt(rmax2);
+    /* plane axes in the scan frame: e = R^T e' so that e . d = e' . (R d) */
+    size_t used = 0;
+    for (int pl = 0; pl < rows; pl++) {
+        double e1[3], e2[3];
+        for (int b = 0; b < 3; b++) {
+            e1[b] = m->planes[pl].e1[0] * r[0][b] + m->planes[pl].e1[1] * r[1][b]
+                    + m->planes[pl].e1[2] * r[2][b];
+            e2[b] = m->planes[pl].e2[0] * r[0][b] + m->planes[pl].e2[1] * r[1][b]
+                    + m->planes[pl].e2[2] * r[2][b];
+        }
+        double *row = a + (size_t)pl * cols;
+        used = 0;
+        for (size_t k = 0; k < n; k += stride, used++) {
+            double d[3] = {xyzi[4 * k] - c[0], xyzi[4 * k + 1] - c[1], xyzi[4 * k + 2] - c[2]};
+            double u = e1[0] * d[0] + e1[1] * d[1] + e1[2] * d[2];
+            double v = e2[0] * d[0] + e2[1] * d[1] + e2[2] * d[2];
+            int ring = (int)sqrt(sqrt(u * u + v * v) * inv_r0);
+            if (ring >= m->l)
+                ring = m->l - 1;
+            row[ring * m->t + m2dp_sector(m, u, v)] += 1;
+        }
+    }
+    return used;
+}
+
+/* Leading singular pair of A (rows x cols, destroyed) into sig = [u1; v1],
+ * signs fixed so that sum(v1) >= 0.  Returns -1 when LAPACKE fails. */
+static int m2dp_svd(double *a, int rows, int cols, double *sig)
+{
+    int kmin = rows < cols ? rows : cols;
+    double *s = malloc(sizeof *s * (size_t)kmin);
+    double *u = malloc(sizeof *u * (size_t)rows * (size_t)kmin);
+    double *vt = malloc(sizeof *vt * (size_t)kmin * (size_t)cols);
+    double *sup = malloc(sizeof *sup * (size_t)kmin);
+    int rc = -1;
+    if (!s || !u || !vt || !sup)
+        goto out;
+    if (LAPACKE_dgesvd(LAPACK_ROW_MAJOR, 'S', 'S', rows, cols, a, cols, s, u, kmin,
+                       vt, cols, sup) != 0)
+        goto out;
+    double sum = 0;
+    for (int j = 0; j < cols; j++)
+        sum += vt[j];
+    double sign = sum < 0 ? -1.0 : 1.0;
+    for (int i = 0; i < rows; i++)
+        sig[i] = sign * u[(size_t)i * kmin];
+    for (int j = 0; j < cols; j++)
+        sig[rows + j] = sign * vt[j];
+    rc = 0;
+out:
+    free(s);
+    free(u);
+    free(vt);
+    free(sup);
+    return rc;
+}
+
+/* The whole signature in double precision; sig holds p*q + l*t values.
+ * A scan with fewer than 3 points or no extent gives all zeros.
+ * When a_out is not NULL it receives a copy of A.  Returns an rv_status. */
+static int m2dp_signature(const struct m2dp *m, const float *xyzi, size_t n, double *sig,
+                          double *a_out, char *msg, size_t msg_len)
+{
+    int rows = m->p * m->q, cols = m->l * m->t;
+    double *a = malloc(sizeof *a * (size_t)rows * (size_t)cols);
+    if (!a)
+        return snprintf(msg, msg_len, "out of memory"), RV_ERR_NOMEM;
+    memset(sig, 0, sizeof *sig * (size_t)(rows + cols));
+    size_t used = m2dp_matrix(m, xyzi, n, a);
+    if (a_out)
+        memcpy(a_out, a, sizeof *a * (size_t)rows * (size_t)cols);
+    int rc = RV_OK;
+    if (used && m2dp_svd(a, rows, cols, sig)) {
+        snprintf(msg, msg_len, "singular value decomposition did not converge on %zu points", n);
+        rc = RV_ERR_INTERNAL;
+    }
+    free(a);
+    return rc;
+}
+
+static int m2dp_describe(void *inst, const struct rv_scan *scan, float *desc, float *key,
+                         char *msg, size_t msg_len)
+{
+    const struct m2dp *m = inst;
+    size_t dim = (size_t)(m->p * m->q + m->l * m->t);
+    double *sig = malloc(sizeof *sig * dim);
+    (void)key;
+    if (!sig)
+        return snprintf(msg, msg_len, "out of memory"), RV_ERR_NOMEM;
+    int rc = m2dp_signature(m, scan->xyzi, scan->n, sig, NULL, msg, msg_len);
+    for (size_t k = 0; k < dim; k++)
+        desc[k] = (float)sig[k];
+    free(sig);
+    return rc;
+}
+
+static const struct rv_method m2dp_method = {
+    RV_ABI_VERSION, sizeof m2dp_method, "m2dp", "1.0",
+    "multiview 2D projection signature (He, Wang & Zhang, IROS 2016)",
+    m2dp_settings, SET_COUNT, RV_DIST_L2, RV_FLAG_THREAD_SAFE,
+    m2dp_new, m2dp_describe, m2dp_free, NULL, NULL};
+
+RV_EXPORT const struct rv_method *rv_method_entry(void)
+{
+    return &m2dp_method;
+}
