@@ -1,0 +1,59 @@
+/* external.h: descriptor methods as separate programs, in any language.
+ *
+ * The host starts the program with its settings as arguments ("key=value"),
+ * connected by one socket pair as its stdin and stdout (stderr is left to
+ * the terminal), and speaks the binary protocol documented byte by byte in
+ * DEVELOPERS.md "External program protocol".  All integers and floats are
+ * little-endian.
+ *
+ *   program -> host  hello      "RVH1" u32 dim, u32 distance (0 L2, 1 cosine),
+ *                               u32 name_len, name bytes
+ *   host -> program  scan       "RVS1" u32 index, f64 stamp, u32 n, n x 4 f32 (x y z i)
+ *   program -> host  descriptor "RVD1" u32 index, u32 count, count x f32
+ *                 or error      "RVE1" u32 len, len bytes of message
+ *   host closes the socket at the end; the program exits 0.
+ *
+ * Every wait is bounded by timeout_s (for the hello and for each scan); a
+ * program that exits, hangs or answers garbage is stopped and the error
+ * names it, the scan, and what was wrong.
+ *
+ *     struct external *x;
+ *     if (external_start(&x, "./range_height.py", args, nargs, 10, e)) return -1;
+ *     if (external_describe(x, &scan, desc, e)) ...
+ *     external_stop(x);
+ *
+ * One program answers one scan at a time: not thread-safe.
+ */
+#ifndef RV_EXTERNAL_H
+#define RV_EXTERNAL_H
+
+#include <stdint.h>
+#include <sys/types.h>
+#include "harness/err.h"
+#include "harness/revisit_plugin.h"
+
+#define EXTERNAL_MAX_DIM (1u << 22)
+
+struct external {
+    pid_t pid;
+    int fd;                 /* host end of the socket pair */
+    char prog[4096];
+    char name[64];          /* from the hello */
+    uint32_t dim;
+    enum rv_distance distance;  /* RV_DIST_L2 or RV_DIST_COSINE */
+    double timeout_s;
+};
+
+/* Start prog, read and check its hello.  0, or -1 with e set (nothing left
+ * running). */
+int external_start(struct external **x, const char *prog, const char *const *args, int nargs,
+                   double timeout_s, struct err *e);
+
+/* Send one scan, read dim floats into desc.  0 or -1 (the program is then
+ * stopped; later calls fail at once). */
+int external_describe(struct external *x, const struct rv_scan *s, float *desc, struct err *e);
+
+/* Close the socket, wait up to timeout_s for the exit, then kill.  Accepts NULL. */
+void external_stop(struct external *x);
+
+#endif

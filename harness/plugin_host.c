@@ -1,0 +1,472 @@
+/* plugin_host.c: find, load, configure and check descriptor methods. */
+#include "harness/plugin_host.h"
+
+#include <dirent.h>
+#include <dlfcn.h>
+#include <math.h>
+#include <signal.h>
+#include <stdio.h>
+#include <stdlib.h>
+#include <string.h>
+#include <sys/stat.h>
+#include <unistd.h>
+
+#include "harness/external.h"
+#include "harness/opt.h"
+#include "harness/progress.h"
+
+#define PLUGIN_GUARD 8   /* guard words after each output buffer */
+
+/* The two platform helpers.  plugin_dl_open loads a shared object with every
+ * symbol resolved now and nothing exported to later loads; plugin_dl_sym
+ * finds one symbol.  Both return NULL and put the dlerror() text, prefixed
+ * with the path, into e. */
+static void *plugin_dl_open(const char *path, struct err *e)
+{
+    void *h = dlopen(path, RTLD_NOW | RTLD_LOCAL);
+    if (!h) err_set(e, "%s: cannot load plugin: %s", path, dlerror());
+    return h;
+}
+
+static void *plugin_dl_sym(void *h, const char *path, const char *sym, struct err *e)
+{
+    dlerror();
+    void *f = dlsym(h, sym);
+    const char *why = dlerror();
+    if (why || !f)
+        err_set(e, "%s: no entry function '%s', expected a plugin built against revisit_plugin.h (%s)",
+                path, sym, why ? why : "symbol is NULL");
+    return why ? NULL : f;
+}
+
+void plugin_unload(void *so)
+{
+    if (so) dlclose(so);
+}
+
+static int plugin_check_settings(const char *path, const struct rv_method *m, struct err *e)
+{
+    if (m->n_settings > PLUGIN_MAX_SETTINGS || (m->n_settings && !m->settings))
+        return err_set(e, "%s: method '%s' declares %u settings, expected at most %d",
+                       path, m->name, m->n_settings, PLUGIN_MAX_SETTINGS);
+    for (uint32_t k = 0; k < m->n_settings; k++) {
+        const struct rv_setting *s = &m->settings[k];
+        if (!s->key || !*s->key || s->type > RV_SET_CHOICE || !(s->min <= s->def && s->def <= s->max) ||
+            (s->type == RV_SET_CHOICE && !s->choices))
+            return err_set(e, "%s: method '%s' has a bad setting %u (key, type, default within range)",
+                           path, m->name, k);
+    }
+    return 0;
+}
+
+int plugin_load_table(const char *path, void **so, const struct rv_method **m, struct err *e)
+{
+    *so = NULL;
+    *m = NULL;
+    void *h = plugin_dl_open(path, e);
+    if (!h) return -1;
+    rv_entry_fn entry;
+    void *sym = plugin_dl_sym(h, path, RV_ENTRY, e);
+    if (!sym) goto fail;
+    memcpy(&entry, &sym, sizeof entry);
+    const struct rv_method *t = entry();
+    if (!t) { err_set(e, "%s: %s() returned NULL, expected a method table", path, RV_ENTRY); goto fail; }
+    if (t->abi_version != RV_ABI_VERSION) {
+        err_set(e, "%s: plugin ABI version %u, expected %u (rebuild it against this revisit_plugin.h)",
+                path, t->abi_version, RV_ABI_VERSION);
+        goto fail;
+    }
+    if (t->struct_size < offsetof(struct rv_method, distance_fn)) {
+        err_set(e, "%s: method table of %u bytes, expected at least %zu", path, t->struct_size,
+                offsetof(struct rv_method, distance_fn));
+        goto fail;
+    }
+    if (!t->name || !*t->name || strlen(t->name) >= 64 || strpbrk(t->name, " :/\t") || !t->create ||
+        !t->describe || !t->destroy || t->distance > RV_DIST_CUSTOM) {
+        err_set(e, "%s: method table lacks a name, create, describe or destroy, or has an unknown distance", path);
+        goto fail;
+    }
+    if (t->distance == RV_DIST_CUSTOM &&
+        (t->struct_size < offsetof(struct rv_method, reset) || !t->distance_fn)) {
+        err_set(e, "%s: method '%s' declares a custom distance but gives no distance function", path, t->name);
+        goto fail;
+    }
+    if (plugin_check_settings(path, t, e)) goto fail;
+    *so = h;
+    *m = t;
+    return 0;
+fail:
+    dlclose(h);
+    return -1;
+}
+
+/* Split the search order into out (folders joined by ':'). */
+static void plugin_search_order(const char *search_path, char *out, size_t n)
+{
+    const char *env = getenv("REVISIT_PLUGIN_PATH");
+    snprintf(out, n, "%s:%s:%s", search_path ? search_path : "", env ? env : "", RV_PLUGIN_DIR);
+}
+
+int plugin_find(const char *name, const char *search_path, char *out, size_t n, struct err *e)
+{
+    char order[8192];
+    plugin_search_order(search_path, order, sizeof order);
+    for (char *save = NULL, *dir = strtok_r(order, ":", &save); dir; dir = strtok_r(NULL, ":", &save)) {
+        snprintf(out, n, "%s/%s.so", dir, name);
+        if (access(out, R_OK) == 0) return 0;
+    }
+    plugin_search_order(search_path, order, sizeof order);
+    return err_set(e, "method '%s' not found: no %s.so in the plugin search path '%s' "
+                   "(see --plugin-path and REVISIT_PLUGIN_PATH; 'revisit methods' lists what is found)",
+                   name, name, order);
+}
+
+static int plugin_info_cmp(const void *a, const void *b)
+{
+    return strcmp(((const struct plugin_info *)a)->name, ((const struct plugin_info *)b)->name);
+}
+
+static int plugin_list_add(struct plugin_info **out, size_t *n, size_t *cap, const char *dir,
+                           const char *file)
+{
+    size_t len = strlen(file);
+    if (len < 4 || strcmp(file + len - 3, ".so") || len - 3 >= 64) return 0;
+    for (size_t k = 0; k < *n; k++)
+        if (strlen((*out)[k].name) == len - 3 && !strncmp((*out)[k].name, file, len - 3)) return 0;
+    if (*n == *cap) {
+        size_t c = *cap ? 2 * *cap : 16;
+        struct plugin_info *g = realloc(*out, c * sizeof *g);
+        if (!g) return -1;
+        *out = g;
+        *cap = c;
+    }
+    struct plugin_info *p = &(*out)[(*n)++];
+    memcpy(p->name, file, len - 3);
+    p->name[len - 3] = 0;
+    snprintf(p->path, sizeof p->path, "%s/%s", dir, file);
+    return 0;
+}
+
+int plugin_list(const char *search_path, struct plugin_info **out, size_t *n, struct err *e)
+{
+    char order[8192];
+    size_t cap = 0;
+    *out = NULL;
+    *n = 0;
+    plugin_search_order(search_path, order, sizeof order);
+    for (char *save = NULL, *dir = strtok_r(order, ":", &save); dir; dir = strtok_r(NULL, ":", &save)) {
+        DIR *d = opendir(dir);
+        if (!d) continue;
+        struct dirent *de;
+        int bad = 0;
+        while (!bad && (de = readdir(d))) bad = plugin_list_add(out, n, &cap, dir, de->d_name);
+        closedir(d);
+        if (bad) {
+            free(*out);
+            *out = NULL;
+            *n = 0;
+            return err_set(e, "out of memory listing plugins");
+        }
+    }
+    if (*n) qsort(*out, *n, sizeof **out, plugin_info_cmp);
+    return 0;
+}
+
+void plugin_setting_text(const struct rv_setting *s, double v, char *out, size_t n)
+{
+    if (s->type == RV_SET_BOOL) {
+        snprintf(out, n, "%s", v != 0 ? "true" : "false");
+    } else if (s->type == RV_SET_CHOICE) {
+        const char *c = s->choices;
+        for (int k = 0; k < (int)v && c; k++) {
+            c = strchr(c, '|');
+            if (c) c++;
+        }
+        size_t len = c ? strcspn(c, "|") : 0;
+        snprintf(out, n, "%.*s", (int)len, c ? c : "");
+    } else {
+        snprintf(out, n, "%.10g", v);
+    }
+}
+
+/* Index of word in a '|'-separated list, or -1. */
+static int plugin_choice(const char *choices, const char *word)
+{
+    int k = 0;
+    for (const char *c = choices; c; k++) {
+        size_t len = strcspn(c, "|");
+        if (len == strlen(word) && !strncmp(c, word, len)) return k;
+        c = strchr(c, '|');
+        if (c) c++;
+    }
+    return -1;
+}
+
+static int plugin_parse_value(const struct rv_method *m, const struct rv_setting *s, const char *val,
+                              double *out, struct err *e)
+{
+    static const char *const bools[] = {"false", "true", "0", "1", "no", "yes", NULL};
+    if (s->type == RV_SET_BOOL) {
+        for (int k = 0; bools[k]; k++)
+            if (!strcmp(bools[k], val)) return *out = k % 2, 0;
+        return err_set(e, "method '%s': setting '%s' expects true or false, got '%s'", m->name, s->key, val);
+    }
+    if (s->type == RV_SET_CHOICE) {
+        int k = plugin_choice(s->choices, val);
+        if (k < 0)
+            return err_set(e, "method '%s': setting '%s' expects one of %s, got '%s'", m->name, s->key,
+                           s->choices, val);
+        return *out = k, 0;
+    }
+    double v;
+    if (opt_to_double(val, &v) || !isfinite(v) || (s->type == RV_SET_INT && v != floor(v)))
+        return err_set(e, "method '%s': setting '%s' expects a %s number, got '%s'", m->name, s->key,
+                       s->type == RV_SET_INT ? "whole" : "real", val);
+    if (v < s->min || v > s->max)
+        return err_set(e, "method '%s': setting '%s' is %s, expected a value from %g to %g", m->name,
+                       s->key, val, s->min, s->max);
+    *out = v;
+    return 0;
+}
+
+/* Apply "key=value,key=value" to values (pre-filled with defaults). */
+static int plugin_apply_settings(const struct rv_method *m, const char *text, double *values,
+                                 struct err *e)
+{
+    char buf[2048];
+    if (strlen(text) >= sizeof buf) return err_set(e, "method '%s': settings too long", m->name);
+    strcpy(buf, text);
+    for (char *save = NULL, *kv = strtok_r(buf, ",", &save); kv; kv = strtok_r(NULL, ",", &save)) {
+        char *eq = strchr(kv, '=');
+        if (!eq) return err_set(e, "method '%s': setting '%s' lacks '=value'", m->name, kv);
+        *eq = 0;
+        uint32_t k = 0;
+        while (k < m->n_settings && strcmp(m->settings[k].key, kv)) k++;
+        if (k == m->n_settings) {
+            char keys[512] = "";
+            for (uint32_t j = 0; j < m->n_settings; j++)
+                snprintf(keys + strlen(keys), sizeof keys - strlen(keys), "%s%s", j ? ", " : "",
+                         m->settings[j].key);
+            return err_set(e, "method '%s' has no setting '%s', expected one of: %s", m->name, kv,
+                           m->n_settings ? keys : "(none)");
+        }
+        if (plugin_parse_value(m, &m->settings[k], eq + 1, &values[k], e)) return -1;
+    }
+    return 0;
+}
+
+static void plugin_make_label(struct plugin *p)
+{
+    size_t used = (size_t)snprintf(p->label, sizeof p->label, "%s", p->name);
+    for (uint32_t k = 0; k < p->m->n_settings && used < sizeof p->label; k++) {
+        char v[128];
+        plugin_setting_text(&p->m->settings[k], p->values[k], v, sizeof v);
+        used += (size_t)snprintf(p->label + used, sizeof p->label - used, "%c%s=%s", k ? ',' : ':',
+                                 p->m->settings[k].key, v);
+    }
+}
+
+static int plugin_open_so(struct plugin *p, const char *settings, struct err *e)
+{
+    if (plugin_load_table(p->path, &p->so, &p->m, e)) return -1;
+    const struct rv_method *m = p->m;
+    snprintf(p->name, sizeof p->name, "%s", m->name);
+    snprintf(p->version, sizeof p->version, "%s", m->version ? m->version : "");
+    for (uint32_t k = 0; k < m->n_settings; k++) p->values[k] = m->settings[k].def;
+    if (settings && plugin_apply_settings(m, settings, p->values, e)) return -1;
+    char msg[256] = "";
+    int rc = m->create(p->values, &p->inst, &p->dim, &p->key_dim, msg, sizeof msg);
+    msg[sizeof msg - 1] = 0;
+    if (rc != RV_OK)
+        return err_set(e, "method '%s': cannot create an instance: %s", m->name, msg[0] ? msg : "no reason given");
+    if (p->dim == 0 || p->dim > PLUGIN_MAX_DIM || p->key_dim > PLUGIN_MAX_DIM)
+        return err_set(e, "method '%s': declared dimension %u (key %u), expected 1 to %u", m->name, p->dim,
+                       p->key_dim, PLUGIN_MAX_DIM);
+    if (m->distance != RV_DIST_CUSTOM) p->key_dim = 0;  /* keys only serve a custom distance */
+    p->distance = m->distance;
+    p->flags = m->flags;
+    plugin_make_label(p);
+    return 0;
+}
+
+/* External program: settings become "key=value" arguments. */
+static int plugin_open_external(struct plugin *p, const char *settings, struct err *e)
+{
+    char buf[2048] = "";
+    const char *args[64];
+    int nargs = 0;
+    if (settings) snprintf(buf, sizeof buf, "%s", settings);
+    for (char *save = NULL, *kv = strtok_r(buf, ",", &save); kv && nargs < 64; kv = strtok_r(NULL, ",", &save))
+        args[nargs++] = kv;
+    if (external_start(&p->ext, p->path, args, nargs, 10.0, e)) return -1;
+    snprintf(p->name, sizeof p->name, "%s", p->ext->name);
+    snprintf(p->version, sizeof p->version, "external");
+    p->dim = p->ext->dim;
+    p->key_dim = 0;
+    p->distance = p->ext->distance;
+    p->flags = 0;
+    snprintf(p->label, sizeof p->label, "%s%s%s", p->name, settings && *settings ? ":" : "",
+             settings ? settings : "");
+    return 0;
+}
+
+int plugin_open(struct plugin *p, const char *spec, const char *search_path, struct err *e)
+{
+    memset(p, 0, sizeof *p);
+    p->time_limit_s = PLUGIN_TIME_LIMIT_S;
+    char head[4096];
+    const char *slash = strrchr(spec, '/');
+    const char *colon = strchr(slash ? slash : spec, ':');
+    size_t hl = colon ? (size_t)(colon - spec) : strlen(spec);
+    if (hl == 0 || hl >= sizeof head) return err_set(e, "method '%s': expected NAME[:key=value,...]", spec);
+    memcpy(head, spec, hl);
+    head[hl] = 0;
+    const char *settings = colon ? colon + 1 : NULL;
+    int rc;
+    if (!slash) {
+        if (plugin_find(head, search_path, p->path, sizeof p->path, e)) return -1;
+        rc = plugin_open_so(p, settings, e);
+    } else {
+        snprintf(p->path, sizeof p->path, "%s", head);
+        struct stat st;
+        if (stat(head, &st)) return err_set(e, "method '%s': no such file", head);
+        if (hl > 3 && !strcmp(head + hl - 3, ".so")) rc = plugin_open_so(p, settings, e);
+        else if (access(head, X_OK) == 0) rc = plugin_open_external(p, settings, e);
+        else return err_set(e, "method '%s': not a .so plugin and not an executable program", head);
+    }
+    if (rc) plugin_close(p);
+    return rc;
+}
+
+static const uint32_t plugin_canary = 0x7fa5c3e1u;  /* a NaN bit pattern no arithmetic writes */
+
+static void plugin_guard_fill(float *g)
+{
+    for (int k = 0; k < PLUGIN_GUARD; k++) memcpy(&g[k], &plugin_canary, sizeof plugin_canary);
+}
+
+static int plugin_guard_ok(const float *g)
+{
+    for (int k = 0; k < PLUGIN_GUARD; k++)
+        if (memcmp(&g[k], &plugin_canary, sizeof plugin_canary)) return 0;
+    return 1;
+}
+
+/* First non-finite entry, or n. */
+static size_t plugin_first_bad(const float *v, size_t n)
+{
+    for (size_t k = 0; k < n; k++)
+        if (!isfinite(v[k])) return k;
+    return n;
+}
+
+/* Check a described buffer (with guards after desc and key); 0 or -1. */
+static int plugin_check_output(const struct plugin *p, const struct rv_scan *s, const float *d,
+                               const float *k, struct err *e)
+{
+    if (!plugin_guard_ok(d + p->dim) || (p->key_dim && !plugin_guard_ok(k + p->key_dim)))
+        return err_set(e, "method '%s' on scan %u: wrote past its declared dimension %u (key %u), "
+                       "expected exactly that many floats", p->name, s->index, p->dim, p->key_dim);
+    size_t bad = plugin_first_bad(d, p->dim);
+    if (bad < p->dim)
+        return err_set(e, "method '%s' on scan %u: descriptor entry %zu is %g, expected a finite number",
+                       p->name, s->index, bad, (double)d[bad]);
+    bad = plugin_first_bad(k, p->key_dim);
+    if (bad < p->key_dim)
+        return err_set(e, "method '%s' on scan %u: key entry %zu is %g, expected a finite number",
+                       p->name, s->index, bad, (double)k[bad]);
+    return 0;
+}
+
+int plugin_describe(struct plugin *p, const struct rv_scan *s, float *desc, float *key, struct err *e)
+{
+    if (p->ext) {
+        if (external_describe(p->ext, s, desc, e)) return -1;
+        size_t bad = plugin_first_bad(desc, p->dim);
+        if (bad < p->dim)
+            return err_set(e, "method '%s' on scan %u: descriptor entry %zu is %g, expected a finite number",
+                           p->name, s->index, bad, (double)desc[bad]);
+        return 0;
+    }
+    size_t nd = (size_t)p->dim + PLUGIN_GUARD, nk = (size_t)p->key_dim + PLUGIN_GUARD;
+    float *buf = malloc((nd + nk) * sizeof *buf);
+    if (!buf) return err_set(e, "method '%s' on scan %u: out of memory", p->name, s->index);
+    float *d = buf, *k = buf + nd;
+    for (size_t j = 0; j < nd + nk; j++) d[j] = 0;
+    plugin_guard_fill(d + p->dim);
+    plugin_guard_fill(k + p->key_dim);
+    char msg[256] = "";
+    double t0 = progress_now();
+    int rc = p->m->describe(p->inst, s, d, p->key_dim ? k : NULL, msg, sizeof msg);
+    double took = progress_now() - t0;
+    msg[sizeof msg - 1] = 0;
+    int fail = -1;
+    if (rc != RV_OK)
+        err_set(e, "method '%s' on scan %u: describe failed (status %d): %s", p->name, s->index, rc,
+                msg[0] ? msg : "no reason given");
+    else if (p->time_limit_s > 0 && took > p->time_limit_s)
+        err_set(e, "method '%s' on scan %u: took %.3f s, expected at most %g s per scan", p->name, s->index,
+                took, p->time_limit_s);
+    else if (!plugin_check_output(p, s, d, k, e))
+        fail = 0;
+    if (!fail) {
+        memcpy(desc, d, p->dim * sizeof *d);
+        if (p->key_dim && key) memcpy(key, k, p->key_dim * sizeof *k);
+    }
+    free(buf);
+    return fail;
+}
+
+double plugin_distance(const struct plugin *p, const float *a, const float *b, int32_t *aux)
+{
+    double d = p->m->distance_fn(p->inst, a, b, aux);
+    return isfinite(d) && d >= 0 ? d : INFINITY;
+}
+
+void plugin_reset(struct plugin *p)
+{
+    if (p->m && (p->flags & RV_FLAG_SEQUENTIAL) && p->m->struct_size >= sizeof *p->m && p->m->reset)
+        p->m->reset(p->inst);
+}
+
+void plugin_close(struct plugin *p)
+{
+    if (p->m && p->inst) p->m->destroy(p->inst);
+    p->inst = NULL;
+    p->m = NULL;
+    plugin_unload(p->so);
+    p->so = NULL;
+    external_stop(p->ext);
+    p->ext = NULL;
+}
+
+/* Process-wide by nature: a fatal signal handler cannot take a context.
+ * Written once before describing starts; never part of any result. */
+static char plugin_crash_text[256];
+static volatile sig_atomic_t plugin_crash_len;
+
+static void plugin_crash_handler(int sig)
+{
+    if (plugin_crash_len > 0) {
+        ssize_t w = write(2, plugin_crash_text, (size_t)plugin_crash_len);
+        (void)w;
+    }
+    signal(sig, SIG_DFL);
+    raise(sig);
+}
+
+void plugin_crash_notice(const struct plugin *p)
+{
+    static const int sigs[] = {SIGSEGV, SIGBUS, SIGFPE, SIGILL};
+    int n = snprintf(plugin_crash_text, sizeof plugin_crash_text,
+                     "revisit: method '%s' (%s) crashed with a fatal signal while running; "
+                     "the run stopped and nothing half-written was kept\n", p->name, p->path);
+    plugin_crash_len = n < 0 ? 0 : n >= (int)sizeof plugin_crash_text ? (int)sizeof plugin_crash_text - 1 : n;
+    for (size_t k = 0; k < sizeof sigs / sizeof *sigs; k++) {
+        struct sigaction sa;
+        memset(&sa, 0, sizeof sa);
+        sa.sa_handler = plugin_crash_handler;
+        sigemptyset(&sa.sa_mask);
+        sigaction(sigs[k], &sa, NULL);
+    }
+}

@@ -1,0 +1,100 @@
+/* plugin_host.h: load a descriptor method and run it under checks.
+ *
+ * A method spec is "NAME[:key=value,...]" or "PATH[:key=value,...]".
+ * NAME is looked up as NAME.so in, in this order: the folders of
+ * search_path (':'-separated, from --plugin-path), the folders of the
+ * environment variable REVISIT_PLUGIN_PATH, then the install folder
+ * RV_PLUGIN_DIR.  A PATH (anything with a '/') ending in ".so" is loaded
+ * as a plugin; any other PATH is started as an external program speaking
+ * the protocol of harness/external.h (its settings become its arguments).
+ *
+ *     struct plugin p;
+ *     if (plugin_open(&p, "scan-context:rings=20", NULL, e)) return -1;
+ *     float *d = malloc(p.dim * sizeof *d), *k = malloc(p.key_dim * sizeof *k);
+ *     if (plugin_describe(&p, &scan, d, k, e)) ...   // e names method and scan
+ *     plugin_close(&p);
+ *
+ * Every output is checked: the plugin must write exactly dim (key_dim)
+ * floats (guard words after the buffers catch overruns), all finite, and a
+ * scan must take at most time_limit_s seconds.  plugin_describe is safe to
+ * call from several threads only when (p.flags & RV_FLAG_THREAD_SAFE) and
+ * the method is not external; otherwise the caller serialises.
+ */
+#ifndef RV_PLUGIN_HOST_H
+#define RV_PLUGIN_HOST_H
+
+#include <stddef.h>
+#include <stdint.h>
+#include "harness/err.h"
+#include "harness/revisit_plugin.h"
+
+#define PLUGIN_MAX_SETTINGS 32
+#define PLUGIN_MAX_DIM (1u << 22)   /* refuse descriptors larger than this */
+#define PLUGIN_TIME_LIMIT_S 60.0    /* default per-scan limit */
+
+struct external;
+
+struct plugin {
+    char name[64];          /* method name (table or hello) */
+    char version[32];
+    char label[1024];       /* "name:key=value,..." with every setting spelled out */
+    char path[4096];        /* the .so or the program */
+    const struct rv_method *m;   /* NULL for an external program */
+    void *so;               /* dlopen handle or NULL */
+    struct external *ext;   /* external program or NULL */
+    void *inst;
+    double values[PLUGIN_MAX_SETTINGS];
+    uint32_t dim, key_dim;
+    enum rv_distance distance;
+    uint32_t flags;
+    double time_limit_s;    /* per scan, 0 = no limit */
+};
+
+/* Find, load, validate and instantiate.  0, or -1 with e set and p left
+ * closed (nothing to free). */
+int plugin_open(struct plugin *p, const char *spec, const char *search_path, struct err *e);
+
+/* Describe one scan into desc (dim floats) and key (key_dim floats; may be
+ * NULL when key_dim is 0).  On -1, e reads
+ * "method 'NAME' on scan 12: ..." and desc/key are unspecified. */
+int plugin_describe(struct plugin *p, const struct rv_scan *s, float *desc, float *key,
+                    struct err *e);
+
+/* Custom distance (RV_DIST_CUSTOM only).  Cannot fail; a non-finite or
+ * negative value from the plugin is returned as +inf. */
+double plugin_distance(const struct plugin *p, const float *a, const float *b, int32_t *aux);
+
+/* Sequential methods: forget carried state.  No-op for others. */
+void plugin_reset(struct plugin *p);
+
+/* Destroy the instance, unload / stop.  Accepts a closed plugin. */
+void plugin_close(struct plugin *p);
+
+/* Resolve NAME to a .so path through the search order above.  0 or -1. */
+int plugin_find(const char *name, const char *search_path, char *out, size_t n, struct err *e);
+
+/* One method found on the search path, for `revisit methods`. */
+struct plugin_info {
+    char name[64];
+    char path[4096];
+};
+
+/* Every NAME.so in the search order (first of each name wins), sorted by
+ * name.  *out is malloc'ed; the caller frees.  0 or -1. */
+int plugin_list(const char *search_path, struct plugin_info **out, size_t *n, struct err *e);
+
+/* Load a .so and return its checked table without creating an instance;
+ * *so must be closed with plugin_unload.  0 or -1. */
+int plugin_load_table(const char *path, void **so, const struct rv_method **m, struct err *e);
+void plugin_unload(void *so);
+
+/* The text of a setting's default or value ("20", "0.5", "true", "cosine")
+ * into out. */
+void plugin_setting_text(const struct rv_setting *s, double v, char *out, size_t n);
+
+/* Install handlers that, if the process dies of SIGSEGV/SIGBUS/SIGFPE/SIGILL,
+ * print "revisit: method 'NAME' crashed (signal ...)" before dying.  Call
+ * after plugin_open; NOT thread-safe (process-wide, last call wins). */
+void plugin_crash_notice(const struct plugin *p);
+
+#endif
