@@ -1,0 +1,182 @@
+/* test_plan_load.c: the scenario loader expands the grid and names the JSON
+ * path of every bad value. */
+#include <stdlib.h>
+#include "harness/plan.h"
+#include "tests/check.h"
+
+static const char good[] =
+    "{\"format\": \"revisit-sweep-1\", \"name\": \"t\",\n"
+    " \"recordings\": {\"map\": \"rec\"},\n"
+    " \"protocol\": {\"radius_m\": 4, \"exclude_s\": 20, \"counting\": \"lenient\", \"top_k\": 10},\n"
+    " \"bootstrap\": {\"resamples\": 50, \"seed\": 9},\n"
+    " \"methods\": [{\"name\": \"scan-context\", \"variants\": [{\"rings\": 20}, {\"rings\": 40, \"sectors\": 60}]},\n"
+    "              {\"name\": \"m2dp\"}],\n"
+    " \"seeds\": 2,\n"
+    " \"conditions\": [{\"name\": \"clean\"},\n"
+    "   {\"name\": \"sector\", \"chain\": \"yaw:deg=random\", \"on\": \"query\",\n"
+    "    \"axis\": {\"stage\": \"sector\", \"key\": \"width\", \"values\": [0, 90, 180]}},\n"
+    "   {\"name\": \"drop\", \"chain\": \"dropout:p=0.3\", \"seeds\": [7]}],\n"
+    " \"criteria\": [{\"metric\": \"f1max\", \"method\": \"m2dp\", \"condition\": \"sector\", \"value\": 90,\n"
+    "                \"target\": \"diff_lo\", \"baseline\": \"clean\", \"comparator\": \">=\", \"threshold\": -0.1}]}\n";
+
+/* Parse text, expect failure, return the message. */
+static const char *bad(const char *text)
+{
+    static struct err e;
+    struct plan p;
+    e.msg[0] = 0;
+    if (!plan_parse(&p, text, strlen(text), "sw.json", &e)) {
+        plan_free(&p);
+        return "(accepted)";
+    }
+    return e.msg;
+}
+
+#define HEAD "{\"format\": \"revisit-sweep-1\", \"recordings\": {\"map\": \"r\"}, "
+#define M1 "\"methods\": [{\"name\": \"m\"}], "
+#define C1 "\"conditions\": [{\"name\": \"c\"}]"
+
+static void check_good(void)
+{
+    struct plan p;
+    struct err e;
+    int rc = plan_parse(&p, good, strlen(good), "dir/sw.json", &e);
+    CHECK(rc == 0, "a good scenario loads");
+    if (rc) { fprintf(stderr, "%s\n", e.msg); return; }
+    CHECK(p.n_methods == 3, "two variants and one plain method give three methods");
+    CHECK(!strcmp(p.methods[1].label, "scan-context:rings=40,sectors=60"), "variant settings form the label");
+    CHECK(p.n_conds == 3, "three conditions");
+    /* cells: 3 methods x (clean 1 seed + sector 3 values x 2 seeds + drop 1 seed) = 3 x 8 */
+    CHECK(p.n_cells == 24, "grid is methods x (values x seeds) per condition");
+    CHECK(p.conds[0].n_seeds == 1, "a condition with nothing random runs one seed");
+    CHECK(p.conds[2].seeds[0] == 7, "a condition's own seed list wins");
+    CHECK(!strcmp(p.cells[0].id, "scan-context_rings-20__clean__s1"), "cell id of the first cell");
+    CHECK(!strcmp(p.cells[3].id, "scan-context_rings-20__sector_width-90__s1"), "cell id of an axis cell");
+    CHECK(p.cells[3].chain && !strcmp(p.cells[3].chain, "yaw:deg=random+sector:width=90"),
+          "the axis stage is appended to the chain");
+    CHECK(p.cells[0].chain == NULL, "a clean cell has no chain");
+    CHECK(!strcmp(p.map_rec, "dir/rec"), "the recording resolves against the scenario's folder");
+    CHECK(p.protocol.r_pos_m == 4 && p.protocol.r_neg_m == 4, "radius_m sets both radii");
+    CHECK(p.protocol.counting == PROTOCOL_LENIENT && p.protocol.top_k == 10, "protocol keys read");
+    CHECK(p.bootstrap == 50 && p.bootstrap_seed == 9, "bootstrap keys read");
+    CHECK(p.n_criteria == 1 && p.criteria[0].method == 2 && p.criteria[0].baseline == 0,
+          "criterion selects method and baseline by name");
+    CHECK(p.criteria[0].target == PLAN_DIFF_LO && p.criteria[0].has_value && p.criteria[0].value == 90,
+          "criterion target and axis value read");
+    CHECK(strlen(p.hash) == 16, "the scenario hash has 16 hex digits");
+    CHECK(plan_find_cell(&p, "m2dp__drop__s7") == 23, "find a cell by id");
+    int shard_total = 0;
+    for (int i = 0; i < 3; i++)
+        for (size_t k = 0; k < p.n_cells; k++) shard_total += plan_in_shard(k, i, 3);
+    CHECK(shard_total == 24, "three shards cover every cell exactly once");
+    plan_free(&p);
+}
+
+static void check_chain_axis(void)
+{
+    const char *t = HEAD M1 "\"conditions\": [{\"name\": \"s\", \"chain\": \"sector:width=30,at=180+noise:sigma=0.02\","
+                    " \"axis\": {\"stage\": \"sector\", \"key\": \"width\", \"values\": [45.5]}}]}";
+    struct plan p;
+    struct err e;
+    CHECK(!plan_parse(&p, t, strlen(t), "sw.json", &e), "axis over a stage already in the chain loads");
+    CHECK(!strcmp(p.cells[0].chain, "sector:width=45.5,at=180+noise:sigma=0.02"),
+          "the axis value replaces the key in the existing stage");
+    CHECK(!strcmp(p.cells[0].id, "m__s_width-45.5__s1"), "axis value appears in the id");
+    plan_free(&p);
+}
+
+static void check_bad(void)
+{
+    CHECK_MSG(bad(HEAD M1 "\"conditions\": [{\"name\": \"a\"}, {\"name\": \"b\"}, {\"name\": \"c\", "
+                  "\"axis\": {\"stage\": \"sector\", \"key\": \"width\", \"values\": [0, 30, 60, \"x\"]}}]}"),
+              "sw.json: conditions[2].axis.values[3]: expected a number", "a bad axis value names its path");
+    CHECK_MSG(bad(HEAD M1 C1 ", \"seedz\": 3}"), "sw.json: seedz: unknown key, expected one of format",
+              "an unknown top-level key is refused");
+    CHECK_MSG(bad(HEAD "\"methods\": [{\"name\": \"m\", \"variant\": []}], " C1 "}"),
+              "methods[0].variant: unknown key", "an unknown method key is refused");
+    CHECK_MSG(bad(HEAD M1 "\"conditions\": [{\"name\": \"c\", \"on\": \"maps\"}]}"),
+              "conditions[0].on: 'maps' is not known, expected one of query, map, both", "bad 'on' names choices");
+    CHECK_MSG(bad("{\"format\": \"revisit-sweep-2\"}"), "format: 'revisit-sweep-2' is not known",
+              "an unknown format is refused");
+    CHECK_MSG(bad("{\"format\": \"revisit-sweep-1\",\n \"methods\": [,]}"), "sw.json:2:",
+              "a JSON syntax error gives line and column");
+    CHECK_MSG(bad("{\"format\": \"revisit-sweep-1\", " M1 C1 "}"), "recordings: missing",
+              "the map recording is required");
+    CHECK_MSG(bad(HEAD "\"methods\": [], " C1 "}"), "methods: expected a non-empty list", "no methods refused");
+    CHECK_MSG(bad(HEAD M1 "\"conditions\": [{\"name\": \"c\"}, {\"name\": \"c\"}]}"),
+              "conditions[1].name: condition 'c' given twice", "duplicate condition refused");
+    CHECK_MSG(bad(HEAD M1 "\"conditions\": [{\"name\": \"a b\"}]}"), "conditions[0].name: 'a b' expected a plain name",
+              "a condition name with a space is refused");
+    CHECK_MSG(bad(HEAD "\"protocol\": {\"radius_m\": -1}, " M1 C1 "}"), "protocol.radius_m: -1 is out of range",
+              "a negative radius is refused");
+    CHECK_MSG(bad(HEAD "\"protocol\": {\"mode\": \"reloc\"}, " M1 C1 "}"), "protocol.mode: 'reloc' needs recordings.query",
+              "reloc without a query recording is refused");
+    CHECK_MSG(bad(HEAD "\"protocol\": {\"top_k\": 2.5}, " M1 C1 "}"), "protocol.top_k: expected a whole number",
+              "a fractional top_k is refused");
+    CHECK_MSG(bad(HEAD "\"protocol\": {\"planar\": 1}, " M1 C1 "}"), "protocol.planar: expected true or false",
+              "planar must be a boolean");
+    CHECK_MSG(bad(HEAD M1 C1 ", \"seeds\": [1, 2, 1]}"), "seeds[2]: seed 1 given twice", "a repeated seed is refused");
+    CHECK_MSG(bad(HEAD M1 C1 ", \"seeds\": 0}"), "seeds: 0 is out of range", "zero seeds refused");
+    CHECK_MSG(bad(HEAD "\"methods\": [{\"name\": \"m:rings=3\"}], " C1 "}"), "methods[0].name: 'm:rings=3' holds settings",
+              "settings in a method name are refused");
+    CHECK_MSG(bad(HEAD "\"methods\": [{\"name\": \"m\", \"variants\": [{\"a\": [1]}]}], " C1 "}"),
+              "methods[0].variants[0].a: expected a number", "a list as a setting value is refused");
+    CHECK_MSG(bad(HEAD "\"methods\": [{\"name\": \"m\"}, {\"name\": \"m\"}], " C1 "}"),
+              "methods[1].name: method 'm' given twice", "a repeated method is refused");
+    CHECK_MSG(bad(HEAD M1 "\"conditions\": [{\"name\": \"c\", \"axis\": {\"stage\": \"sector\", \"values\": [1]}}]}"),
+              "conditions[0].axis.key: missing, expected a string", "an axis needs its key");
+    CHECK_MSG(bad(HEAD M1 "\"conditions\": [{\"name\": \"c\", \"axis\": {\"stage\": \"s\", \"key\": \"w\", \"values\": [1, 1]}}]}"),
+              "conditions[0].axis.values[1]: value 1 given twice", "a repeated axis value is refused");
+    CHECK_MSG(bad(HEAD M1 "\"conditions\": [{\"name\": \"c\", \"chain\": \"\"}]}"),
+              "conditions[0].chain: expected a non-empty string", "an empty chain is refused");
+    CHECK_MSG(bad(HEAD M1 C1 ", \"bootstrap\": {\"resamples\": -5}}"), "bootstrap.resamples: -5 is out of range",
+              "negative resamples refused");
+}
+
+#define CRIT(x) HEAD M1 "\"conditions\": [{\"name\": \"c\"}, {\"name\": \"s\", \"axis\": {\"stage\": \"sector\", " \
+    "\"key\": \"width\", \"values\": [30, 60]}}], \"criteria\": [" x "]}"
+
+static void check_bad_criteria(void)
+{
+    CHECK_MSG(bad(CRIT("{\"metric\": \"f2\", \"condition\": \"c\", \"comparator\": \">=\", \"threshold\": 1}")),
+              "criteria[0].metric: 'f2' is not known", "an unknown metric is refused");
+    CHECK_MSG(bad(CRIT("{\"metric\": \"f1max\", \"condition\": \"x\", \"comparator\": \">=\", \"threshold\": 1}")),
+              "criteria[0].condition: no condition named 'x'", "an unknown condition is refused");
+    CHECK_MSG(bad(CRIT("{\"metric\": \"f1max\", \"condition\": \"c\", \"comparator\": \"=>\", \"threshold\": 1}")),
+              "criteria[0].comparator: '=>' is not known, expected one of >=, >, <=, <", "a bad comparator is refused");
+    CHECK_MSG(bad(CRIT("{\"metric\": \"f1max\", \"condition\": \"c\", \"comparator\": \">=\"}")),
+              "criteria[0].threshold: missing, expected a number", "a threshold is required");
+    CHECK_MSG(bad(CRIT("{\"metric\": \"f1max\", \"condition\": \"s\", \"comparator\": \">=\", \"threshold\": 1}")),
+              "criteria[0].value: missing, condition 's' sweeps sector.width", "an axis condition needs a value");
+    CHECK_MSG(bad(CRIT("{\"metric\": \"f1max\", \"condition\": \"s\", \"value\": 45, \"comparator\": \">=\", \"threshold\": 1}")),
+              "criteria[0].value: 45 is not among the values of condition 's'", "an axis value not swept is refused");
+    CHECK_MSG(bad(CRIT("{\"metric\": \"f1max\", \"condition\": \"c\", \"target\": \"diff\", \"comparator\": \">=\", \"threshold\": 1}")),
+              "criteria[0].baseline: missing", "a paired difference needs a baseline");
+    CHECK_MSG(bad(CRIT("{\"metric\": \"f1max\", \"condition\": \"c\", \"baseline\": \"c\", \"comparator\": \">=\", \"threshold\": 1}")),
+              "criteria[0].baseline: only used with target diff", "a baseline without diff is refused");
+    CHECK_MSG(bad(CRIT("{\"metric\": \"f1max\", \"condition\": \"c\", \"method\": \"sop\", \"comparator\": \">=\", \"threshold\": 1}")),
+              "criteria[0].method: no method 'sop' in methods", "an unknown method is refused");
+    CHECK_MSG(bad(CRIT("{\"metric\": \"recall_at_0\", \"condition\": \"c\", \"comparator\": \">=\", \"threshold\": 1}")),
+              "criteria[0].metric: 'recall_at_0' is not known", "recall at zero candidates is refused");
+    CHECK_MSG(bad(CRIT("{\"metric\": \"ap\", \"condition\": \"c\", \"comparator\": \">=\", \"threshold\": 1, \"why\": 1}")),
+              "criteria[0].why: unknown key", "an unknown criterion key is refused");
+    CHECK(!strcmp(bad(CRIT("{\"metric\": \"recall_at_5\", \"condition\": \"c\", \"comparator\": \"<\", \"threshold\": 1}")),
+                  "(accepted)"), "recall_at_K is a known metric");
+}
+
+int main(void)
+{
+    check_good();
+    check_chain_axis();
+    check_bad();
+    check_bad_criteria();
+    char num[64];
+    plan_format_number(num, sizeof num, 0.1);
+    CHECK(!strcmp(num, "0.1"), "numbers print in their shortest form");
+    int i, n;
+    struct err e;
+    CHECK(!plan_parse_shard("2/3", &i, &n, &e) && i == 2 && n == 3, "shard 2/3 parses");
+    CHECK(plan_parse_shard("3/3", &i, &n, &e) == -1, "shard 3/3 is refused");
+    CHECK_MSG(e.msg, "shard '3/3' is not valid, expected I/N", "shard message names the form");
+    return check_done();
+}
