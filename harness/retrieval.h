@@ -1,0 +1,82 @@
+/* retrieval.h: the top-K candidates of every query under the protocol.
+ *
+ * Descriptor matrices are row-major float32, one scan per row:
+ *
+ *     v:  | d(0,0) ... d(0,dim-1) | d(1,0) ... | ...    (n rows of dim floats)
+ *
+ * Dense retrieval (L2 or cosine) multiplies blocks of queries by blocks of
+ * map rows with one OpenBLAS sgemm per block pair and feeds each score into
+ * a bounded max-heap per query, so memory is O(block^2 + n_query * K), never
+ * n_query x n_map: a map of 100,000 scans needs no N x N matrix.  The heap
+ * keeps 2K + 8 candidates by the float score; their distances are then
+ * recomputed in double and the best K kept, so reported distances carry no
+ * cancellation error from |q|^2 + |m|^2 - 2 q.m.
+ *
+ * Custom distances: with keys, the top-C candidates by key L2 (the dense
+ * path) are re-ranked by the distance function; without keys, every
+ * candidate is.  Either way the K best are kept.
+ *
+ * Candidates (the same rule as metrics/gt.h): in loop mode query i and map
+ * scan j index one recording and j is a candidate when j < i and
+ * t_j <= t_i - exclusion_s, or j <= i - exclusion_scans with an index
+ * window; in reloc mode every map scan is.  Ranking is by distance, ties by
+ * the lower index.  Cosine distance is 1 - cos; a zero vector is at 1 from
+ * everything.
+ *
+ *     struct retrieval_out r;
+ *     if (retrieval_dense(&map, &query, RV_DIST_L2, &rule, 25, &r, e)) return -1;
+ *     r.idx[i * r.k + n], r.dist[...] for n < r.count[i];  retrieval_out_free(&r);
+ */
+#ifndef RV_RETRIEVAL_H
+#define RV_RETRIEVAL_H
+
+#include <stddef.h>
+#include <stdint.h>
+#include "harness/err.h"
+#include "harness/revisit_plugin.h"
+
+struct retrieval_mat {
+    const float *v;   /* n x dim, row-major */
+    size_t n;
+    uint32_t dim;
+};
+
+struct retrieval_rule {
+    int loop;              /* 1: loop mode */
+    const double *t;       /* loop with a time exclusion: one stamp per scan */
+    double exclusion_s;
+    long exclusion_scans;  /* >= 0: index window instead of time */
+};
+
+struct retrieval_out {
+    size_t n_query;
+    int k;
+    int32_t *idx;     /* n_query x k map indices, best first; -1 past count */
+    double *dist;     /* n_query x k distances */
+    int *count;       /* candidates kept per query (<= k) */
+};
+
+/* Distance of one pair, computed in double (the reference of the dense path). */
+double retrieval_pair(const float *a, const float *b, uint32_t dim, enum rv_distance kind);
+
+/* 1 when map scan j is a candidate of query i. */
+int retrieval_is_candidate(const struct retrieval_rule *r, size_t i, size_t j);
+
+/* L2 / cosine top-K.  0 or -1 (bad sizes, out of memory); out is then empty. */
+int retrieval_dense(const struct retrieval_mat *map, const struct retrieval_mat *query,
+                    enum rv_distance kind, const struct retrieval_rule *rule, int k,
+                    struct retrieval_out *out, struct err *e);
+
+/* Custom distance: fn(ctx, a, b) >= 0 compares two descriptors; keys may be
+ * NULL (no prefilter).  top_c >= k candidates survive the key prefilter.
+ * jobs threads (<= 0: all cores) share the queries.  0 or -1. */
+typedef double (*retrieval_fn)(const void *ctx, const float *a, const float *b);
+int retrieval_custom(const struct retrieval_mat *map, const struct retrieval_mat *query,
+                     const struct retrieval_mat *map_key, const struct retrieval_mat *query_key,
+                     retrieval_fn fn, const void *ctx, const struct retrieval_rule *rule, int k,
+                     int top_c, int jobs, struct retrieval_out *out, struct err *e);
+
+/* Free the arrays; accepts an emptied struct. */
+void retrieval_out_free(struct retrieval_out *o);
+
+#endif
