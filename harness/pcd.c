@@ -1,0 +1,369 @@
+/* pcd.c: PCD v0.7 reader (ascii, binary) and writers.
+ *
+ * The file layout follows the PCD v0.7 file-format description: a text
+ * header of keyword lines, then DATA and the body; a binary body holds the
+ * points one after another, each the fields in header order, each field
+ * COUNT values of SIZE bytes, little-endian.
+ */
+#include "harness/pcd.h"
+
+#include <ctype.h>
+#include <errno.h>
+#include <math.h>
+#include <stdint.h>
+#include <stdio.h>
+#include <stdlib.h>
+#include <string.h>
+
+#include "harness/fileio.h"
+#include "harness/scan_io.h"
+
+#define PCD_MAX_FIELDS 64
+#define PCD_HEADER_MAX 65536
+/* A scan file is at most the point bound times a generous record size. */
+#define PCD_FILE_MAX ((size_t)CLOUD_MAX_POINTS * 64)
+
+enum pcd_data { PCD_NONE = 0, PCD_ASCII, PCD_BINARY };
+
+struct pcd_field {
+    char name[32];
+    char type;       /* I U F */
+    int size;        /* bytes */
+    int count;
+    size_t offset;   /* bytes from the start of a binary point */
+    int value0;      /* index of its first value in an ascii line */
+};
+
+struct pcd_header {
+    struct pcd_field f[PCD_MAX_FIELDS];
+    int nf, have_size, have_type, have_count, have_width;
+    size_t width, height, points;
+    int have_points;
+    enum pcd_data data;
+    size_t point_size;   /* binary bytes per point */
+    int n_values;        /* ascii numbers per point */
+    int ix, iy, iz, ii, ir, it;  /* field indices or -1 */
+    size_t body;         /* byte offset of the body */
+    long body_line;      /* line number of the first body line */
+};
+
+/* Next whitespace-separated word of s (advanced); NULL at the end. */
+static char *pcd_word(char **s)
+{
+    char *p = *s;
+    while (*p == ' ' || *p == '\t' || *p == '\r') p++;
+    if (!*p) { *s = p; return NULL; }
+    char *w = p;
+    while (*p && *p != ' ' && *p != '\t' && *p != '\r') p++;
+    if (*p) *p++ = 0;
+    *s = p;
+    return w;
+}
+
+static int pcd_size_t(const char *w, size_t *out)
+{
+    if (!w || !isdigit((unsigned char)w[0])) return -1;
+    char *end;
+    errno = 0;
+    unsigned long long v = strtoull(w, &end, 10);
+    if (*end || errno) return -1;
+    *out = (size_t)v;
+    return 0;
+}
+
+/* FIELDS / SIZE / TYPE / COUNT: one entry per field. */
+static int pcd_field_line(struct pcd_header *h, const char *key, char *rest, const char *path,
+                          long line, struct err *e)
+{
+    int k = 0;
+    for (char *w; (w = pcd_word(&rest)); k++) {
+        if (k >= PCD_MAX_FIELDS)
+            return err_at(e, path, line, "more than %d fields, expected fewer", PCD_MAX_FIELDS);
+        struct pcd_field *f = &h->f[k];
+        size_t v = 0;
+        if (!strcmp(key, "FIELDS")) {
+            snprintf(f->name, sizeof f->name, "%s", w);
+            f->count = 1;
+        } else if (!strcmp(key, "TYPE")) {
+            if (strlen(w) != 1 || !strchr("IUF", w[0]))
+                return err_at(e, path, line, "unknown field type '%s' for field %d, expected I, U or F", w, k + 1);
+            f->type = w[0];
+        } else if (pcd_size_t(w, &v) || v == 0 || v > 8) {
+            return err_at(e, path, line, "%s entry %d is '%s', expected a whole number %s", key, k + 1, w,
+                          !strcmp(key, "SIZE") ? "1, 2, 4 or 8" : "from 1 to 8");
+        } else if (!strcmp(key, "SIZE")) {
+            f->size = (int)v;
+        } else {
+            f->count = (int)v;
+        }
+    }
+    if (!strcmp(key, "FIELDS")) { h->nf = k; return k ? 0 : err_at(e, path, line, "FIELDS names no field, expected x y z ..."); }
+    if (k != h->nf)
+        return err_at(e, path, line, "%s has %d entries, expected %d (one per field)", key, k, h->nf);
+    return 0;
+}
+
+static int pcd_header_line(struct pcd_header *h, char *s, const char *path, long line, struct err *e)
+{
+    char *key = pcd_word(&s);
+    if (!key) return 0;
+    if (!strcmp(key, "VERSION") || !strcmp(key, "VIEWPOINT")) return 0;
+    int is_field_key = !strcmp(key, "SIZE") || !strcmp(key, "TYPE") || !strcmp(key, "COUNT");
+    if (is_field_key && h->nf == 0) return err_at(e, path, line, "%s before FIELDS, expected FIELDS first", key);
+    if (!strcmp(key, "FIELDS") || is_field_key) {
+        if (pcd_field_line(h, key, s, path, line, e)) return -1;
+        h->have_size |= !strcmp(key, "SIZE");
+        h->have_type |= !strcmp(key, "TYPE");
+        return 0;
+    }
+    size_t *dst = !strcmp(key, "WIDTH") ? &h->width : !strcmp(key, "HEIGHT") ? &h->height
+                : !strcmp(key, "POINTS") ? &h->points : NULL;
+    if (dst) {
+        char *w = pcd_word(&s);
+        if (pcd_size_t(w, dst)) return err_at(e, path, line, "%s is '%s', expected a whole number", key, w ? w : "");
+        h->have_width |= dst == &h->width;
+        h->have_points |= dst == &h->points;
+        return 0;
+    }
+    if (!strcmp(key, "DATA")) {
+        char *w = pcd_word(&s);
+        if (w && !strcmp(w, "ascii")) h->data = PCD_ASCII;
+        else if (w && !strcmp(w, "binary")) h->data = PCD_BINARY;
+        else if (w && !strcmp(w, "binary_compressed"))
+            return err_at(e, path, line, "DATA binary_compressed is not supported, expected ascii or binary "
+                          "(convert the file first)");
+        else return err_at(e, path, line, "DATA '%s', expected ascii or binary", w ? w : "");
+        return 0;
+    }
+    return err_at(e, path, line, "unknown header keyword '%s', expected VERSION, FIELDS, SIZE, TYPE, COUNT, "
+                  "WIDTH, HEIGHT, VIEWPOINT, POINTS or DATA", key);
+}
+
+/* Check types against sizes, find x y z and the optional fields, lay out a point. */
+static int pcd_header_finish(struct pcd_header *h, const char *path, struct err *e)
+{
+    if (!h->nf || !h->have_size || !h->have_type || !h->have_width)
+        return err_at(e, path, 0, "header lacks %s, expected FIELDS, SIZE, TYPE, WIDTH and DATA",
+                      !h->nf ? "FIELDS" : !h->have_size ? "SIZE" : !h->have_type ? "TYPE" : "WIDTH");
+    if (!h->have_points) h->points = h->width * h->height;
+    if (h->height == 0 || h->points != h->width * h->height)
+        return err_at(e, path, 0, "POINTS %zu does not equal WIDTH %zu x HEIGHT %zu", h->points, h->width, h->height);
+    if (h->points > CLOUD_MAX_POINTS)
+        return err_at(e, path, 0, "POINTS %zu is more than the limit of %zu", h->points, (size_t)CLOUD_MAX_POINTS);
+    h->ix = h->iy = h->iz = h->ii = h->ir = h->it = -1;
+    size_t off = 0;
+    int nv = 0;
+    for (int k = 0; k < h->nf; k++) {
+        struct pcd_field *f = &h->f[k];
+        int ok = f->type == 'F' ? (f->size == 4 || f->size == 8) : (f->size == 1 || f->size == 2 || f->size == 4);
+        if (!ok)
+            return err_at(e, path, 0, "field '%s' has TYPE %c with SIZE %d, expected %s", f->name, f->type, f->size,
+                          f->type == 'F' ? "SIZE 4 or 8" : "SIZE 1, 2 or 4");
+        f->offset = off;
+        f->value0 = nv;
+        off += (size_t)f->size * (size_t)f->count;
+        nv += f->count;
+        int *slot = !strcmp(f->name, "x") ? &h->ix : !strcmp(f->name, "y") ? &h->iy : !strcmp(f->name, "z") ? &h->iz
+                  : !strcmp(f->name, "intensity") ? &h->ii : !strcmp(f->name, "ring") ? &h->ir
+                  : (!strcmp(f->name, "time") || !strcmp(f->name, "t")) ? &h->it : NULL;
+        if (slot && *slot < 0) *slot = k;
+    }
+    if (h->ix < 0 || h->iy < 0 || h->iz < 0)
+        return err_at(e, path, 0, "fields lack %s, expected x, y and z", h->ix < 0 ? "x" : h->iy < 0 ? "y" : "z");
+    h->point_size = off;
+    h->n_values = nv;
+    return 0;
+}
+
+static int pcd_parse_header(const unsigned char *buf, size_t len, const char *path,
+                            struct pcd_header *h, struct err *e)
+{
+    memset(h, 0, sizeof *h);
+    h->height = 1;
+    size_t pos = 0;
+    long line = 0;
+    char tmp[4096];
+    while (h->data == PCD_NONE) {
+        if (pos >= len || pos > PCD_HEADER_MAX)
+            return err_at(e, path, line, "header has no DATA line, expected DATA ascii or DATA binary");
+        const unsigned char *nl = memchr(buf + pos, '\n', len - pos);
+        size_t ll = nl ? (size_t)(nl - (buf + pos)) : len - pos;
+        line++;
+        if (ll >= sizeof tmp) return err_at(e, path, line, "header line longer than %zu bytes", sizeof tmp - 1);
+        memcpy(tmp, buf + pos, ll);
+        tmp[ll] = 0;
+        pos += ll + (nl ? 1 : 0);
+        if (tmp[0] == '#') continue;
+        if (pcd_header_line(h, tmp, path, line, e)) return -1;
+    }
+    h->body = pos;
+    h->body_line = line + 1;
+    return pcd_header_finish(h, path, e);
+}
+
+/* One value of a binary field, as double. */
+static double pcd_value(const unsigned char *p, char type, int size)
+{
+    switch (size) {
+    case 1: return type == 'I' ? (double)(int8_t)p[0] : (double)p[0];
+    case 2: {
+        uint16_t u = (uint16_t)(p[0] | p[1] << 8);
+        return type == 'I' ? (double)(int16_t)u : (double)u;
+    }
+    case 4: {
+        uint32_t u = (uint32_t)p[0] | (uint32_t)p[1] << 8 | (uint32_t)p[2] << 16 | (uint32_t)p[3] << 24;
+        if (type == 'F') { float f; memcpy(&f, &u, 4); return f; }
+        return type == 'I' ? (double)(int32_t)u : (double)u;
+    }
+    default: {
+        uint64_t u = 0;
+        for (int k = 7; k >= 0; k--) u = u << 8 | p[k];
+        double d;
+        memcpy(&d, &u, 8);
+        return d;
+    }
+    }
+}
+
+static int pcd_prepare(struct cloud *c, const struct pcd_header *h)
+{
+    free(c->ring);
+    free(c->time);
+    c->ring = NULL;
+    c->time = NULL;
+    c->n = 0;
+    if (cloud_reserve(c, h->points)) return -1;
+    if (h->ir >= 0 && cloud_enable_ring(c)) return -1;
+    if (h->it >= 0 && cloud_enable_time(c)) return -1;
+    return 0;
+}
+
+static uint16_t pcd_ring(double v)
+{
+    if (!(v >= 0)) return 0;
+    return v > 65535 ? 65535 : (uint16_t)v;
+}
+
+/* Store point k from its values in field order (v[field] = first value). */
+static void pcd_store(struct cloud *c, size_t k, const struct pcd_header *h, const double *v)
+{
+    float *p = c->pts + 4 * k;
+    p[0] = (float)v[h->ix];
+    p[1] = (float)v[h->iy];
+    p[2] = (float)v[h->iz];
+    p[3] = h->ii >= 0 ? (float)v[h->ii] : 0.0f;
+    if (c->ring) c->ring[k] = pcd_ring(v[h->ir]);
+    if (c->time) c->time[k] = (float)v[h->it];
+}
+
+static int pcd_body_binary(const unsigned char *buf, size_t len, const char *path,
+                           const struct pcd_header *h, struct cloud *c, struct err *e)
+{
+    size_t have = len - h->body;
+    if (h->point_size == 0 || have / h->point_size < h->points)
+        return err_at(e, path, 0, "binary body is %zu bytes, POINTS %zu needs %zu (%zu bytes per point): "
+                      "file truncated at point %zu", have, h->points, h->points * h->point_size,
+                      h->point_size, h->point_size ? have / h->point_size : 0);
+    if (pcd_prepare(c, h)) return err_at(e, path, 0, "out of memory for %zu points", h->points);
+    double v[PCD_MAX_FIELDS];
+    const unsigned char *p = buf + h->body;
+    for (size_t k = 0; k < h->points; k++, p += h->point_size) {
+        for (int f = 0; f < h->nf; f++) v[f] = pcd_value(p + h->f[f].offset, h->f[f].type, h->f[f].size);
+        pcd_store(c, k, h, v);
+    }
+    c->n = h->points;
+    return 0;
+}
+
+static int pcd_body_ascii(const unsigned char *buf, size_t len, const char *path,
+                          const struct pcd_header *h, struct cloud *c, struct err *e)
+{
+    /* Each value needs at least one digit and one separator. */
+    if ((len - h->body) / 2 / (size_t)h->n_values < h->points)
+        return err_at(e, path, 0, "body is %zu bytes, too short for POINTS %zu of %d values",
+                      len - h->body, h->points, h->n_values);
+    if (pcd_prepare(c, h)) return err_at(e, path, 0, "out of memory for %zu points", h->points);
+    const char *s = (const char *)buf + h->body;
+    long line = h->body_line;
+    double v[PCD_MAX_FIELDS];
+    for (size_t k = 0; k < h->points; k++, line++) {
+        while (*s == '\n' || *s == '\r') { if (*s == '\n') line++; s++; }
+        if (!*s) return err_at(e, path, line, "file ends after %zu points, POINTS declares %zu", k, h->points);
+        int f = 0, vi = 0;
+        for (int j = 0; j < h->n_values; j++) {
+            while (*s == ' ' || *s == '\t') s++;
+            char *end;
+            double d = strtod(s, &end);
+            if (end == s || (*end && !strchr(" \t\r\n", *end)))
+                return err_at(e, path, line, "value %d is not a number, expected %d values per point", j + 1, h->n_values);
+            if (f < h->nf && j == h->f[f].value0) v[f] = d;
+            if (f < h->nf && ++vi == h->f[f].count) { f++; vi = 0; }
+            s = end;
+        }
+        while (*s == ' ' || *s == '\t' || *s == '\r') s++;
+        if (*s && *s != '\n')
+            return err_at(e, path, line, "more than %d values on the line, expected %d", h->n_values, h->n_values);
+        pcd_store(c, k, h, v);
+        c->n = k + 1;
+    }
+    return 0;
+}
+
+int pcd_read(const char *path, struct cloud *c, struct err *e)
+{
+    unsigned char *buf;
+    size_t len;
+    c->n = 0;
+    if (scan_slurp(path, PCD_FILE_MAX, &buf, &len, e)) return -1;
+    struct pcd_header h;
+    int rc = pcd_parse_header(buf, len, path, &h, e);
+    if (!rc) rc = h.data == PCD_BINARY ? pcd_body_binary(buf, len, path, &h, c, e)
+                                       : pcd_body_ascii(buf, len, path, &h, c, e);
+    free(buf);
+    if (rc) c->n = 0;
+    return rc;
+}
+
+static void pcd_write_header(FILE *f, const struct cloud *c, const char *data)
+{
+    fprintf(f, "# .PCD v0.7 - written by revisit\nVERSION 0.7\nFIELDS x y z intensity%s%s\n",
+            c->ring ? " ring" : "", c->time ? " time" : "");
+    fprintf(f, "SIZE 4 4 4 4%s%s\nTYPE F F F F%s%s\nCOUNT 1 1 1 1%s%s\n",
+            c->ring ? " 2" : "", c->time ? " 4" : "", c->ring ? " U" : "", c->time ? " F" : "",
+            c->ring ? " 1" : "", c->time ? " 1" : "");
+    fprintf(f, "WIDTH %zu\nHEIGHT 1\nVIEWPOINT 0 0 0 1 0 0 0\nPOINTS %zu\nDATA %s\n", c->n, c->n, data);
+}
+
+int pcd_write_binary(const char *path, const struct cloud *c, struct err *e)
+{
+    struct afile a;
+    if (afile_open(&a, path, e)) return -1;
+    pcd_write_header(a.f, c, "binary");
+    if (!c->ring && !c->time) {
+        if (c->n) fwrite(c->pts, 16, c->n, a.f);
+    } else {
+        unsigned char rec[22];
+        for (size_t k = 0; k < c->n; k++) {
+            size_t o = 16;
+            memcpy(rec, c->pts + 4 * k, 16);
+            if (c->ring) { rec[o] = (unsigned char)(c->ring[k] & 0xff); rec[o + 1] = (unsigned char)(c->ring[k] >> 8); o += 2; }
+            if (c->time) { memcpy(rec + o, c->time + k, 4); o += 4; }
+            fwrite(rec, 1, o, a.f);
+        }
+    }
+    return afile_commit(&a, e);
+}
+
+int pcd_write_ascii(const char *path, const struct cloud *c, struct err *e)
+{
+    struct afile a;
+    if (afile_open(&a, path, e)) return -1;
+    pcd_write_header(a.f, c, "ascii");
+    for (size_t k = 0; k < c->n; k++) {
+        fprintf(a.f, "%.9g %.9g %.9g %.9g", CLOUD_X(c, k), CLOUD_Y(c, k), CLOUD_Z(c, k), CLOUD_I(c, k));
+        if (c->ring) fprintf(a.f, " %u", (unsigned)c->ring[k]);
+        if (c->time) fprintf(a.f, " %.9g", c->time[k]);
+        fputc('\n', a.f);
+    }
+    return afile_commit(&a, e);
+}

@@ -1,0 +1,302 @@
+/* scan_io.c: raw and text scans, layout names, dispatch to PCD / PLY. */
+#include "harness/scan_io.h"
+
+#include <ctype.h>
+#include <errno.h>
+#include <fcntl.h>
+#include <stdio.h>
+#include <stdlib.h>
+#include <string.h>
+#include <strings.h>
+#include <sys/stat.h>
+#include <unistd.h>
+
+#include "harness/fileio.h"
+#include "harness/pcd.h"
+#include "harness/ply.h"
+
+#define SCAN_RAW_RECORD 16
+#define SCAN_TEXT_LINE_MAX 4096
+
+static const struct {
+    enum scan_layout layout;
+    const char *name, *ext;
+} scan_layouts[] = {
+    {SCAN_AUTO, "auto", ""},
+    {SCAN_RAW, "raw", ".bin"},
+    {SCAN_PCD, "pcd", ".pcd"},
+    {SCAN_PLY, "ply", ".ply"},
+    {SCAN_TEXT, "text", ".txt"},
+};
+#define SCAN_N_LAYOUTS (sizeof scan_layouts / sizeof scan_layouts[0])
+
+int scan_layout_parse(const char *name, enum scan_layout *out, struct err *e)
+{
+    for (size_t k = 0; k < SCAN_N_LAYOUTS; k++)
+        if (!strcmp(name, scan_layouts[k].name)) {
+            *out = scan_layouts[k].layout;
+            return 0;
+        }
+    return err_set(e, "unknown scan layout '%s', expected auto, raw, pcd, ply or text", name);
+}
+
+const char *scan_layout_name(enum scan_layout layout)
+{
+    for (size_t k = 0; k < SCAN_N_LAYOUTS; k++)
+        if (scan_layouts[k].layout == layout) return scan_layouts[k].name;
+    return "?";
+}
+
+const char *scan_layout_ext(enum scan_layout layout)
+{
+    for (size_t k = 0; k < SCAN_N_LAYOUTS; k++)
+        if (scan_layouts[k].layout == layout) return scan_layouts[k].ext;
+    return "";
+}
+
+enum scan_layout scan_layout_from_path(const char *path)
+{
+    const char *slash = strrchr(path, '/');
+    const char *dot = strrchr(slash ? slash : path, '.');
+    if (!dot) return SCAN_AUTO;
+    if (!strcasecmp(dot, ".bin")) return SCAN_RAW;
+    if (!strcasecmp(dot, ".pcd")) return SCAN_PCD;
+    if (!strcasecmp(dot, ".ply")) return SCAN_PLY;
+    if (!strcasecmp(dot, ".txt") || !strcasecmp(dot, ".xyz") || !strcasecmp(dot, ".csv"))
+        return SCAN_TEXT;
+    return SCAN_AUTO;
+}
+
+/* Byte order: files are little-endian; swap on a big-endian host. */
+static void scan_le_floats(float *v, size_t n)
+{
+#if defined(__BYTE_ORDER__) && __BYTE_ORDER__ == __ORDER_BIG_ENDIAN__
+    for (size_t k = 0; k < n; k++) {
+        uint32_t u;
+        memcpy(&u, v + k, 4);
+        u = __builtin_bswap32(u);
+        memcpy(v + k, &u, 4);
+    }
+#else
+    (void)v;
+    (void)n;
+#endif
+}
+
+/* Read exactly len bytes from fd into buf. */
+static int scan_read_full(int fd, void *buf, size_t len, const char *path, struct err *e)
+{
+    unsigned char *p = buf;
+    size_t got = 0;
+    while (got < len) {
+        ssize_t r = read(fd, p + got, len - got);
+        if (r < 0 && errno == EINTR) continue;
+        if (r < 0) return err_at(e, path, 0, "read failed: %s", strerror(errno));
+        if (r == 0) return err_at(e, path, 0, "file ended after %zu of %zu bytes", got, len);
+        got += (size_t)r;
+    }
+    return 0;
+}
+
+/* The regular-file size of an open descriptor. */
+static int scan_fd_size(int fd, const char *path, size_t *size, struct err *e)
+{
+    struct stat st;
+    if (fstat(fd, &st)) return err_at(e, path, 0, "cannot stat: %s", strerror(errno));
+    if (!S_ISREG(st.st_mode)) return err_at(e, path, 0, "not a regular file, expected a scan file");
+    *size = (size_t)st.st_size;
+    return 0;
+}
+
+static int scan_read_raw(const char *path, struct cloud *c, struct err *e)
+{
+    int fd = open(path, O_RDONLY);
+    if (fd < 0) return err_at(e, path, 0, "cannot open: %s", strerror(errno));
+    size_t size;
+    int rc = -1;
+    if (scan_fd_size(fd, path, &size, e)) goto done;
+    if (size == 0) {
+        err_at(e, path, 0, "file is empty, expected 16-byte float32 x y z i records");
+        goto done;
+    }
+    if (size % SCAN_RAW_RECORD) {
+        err_at(e, path, 0, "size %zu bytes is not a multiple of 16, expected float32 x y z i "
+               "records (%zu bytes left over)", size, size % SCAN_RAW_RECORD);
+        goto done;
+    }
+    size_t n = size / SCAN_RAW_RECORD;
+    if (n > CLOUD_MAX_POINTS) {
+        err_at(e, path, 0, "%zu points is more than the limit of %zu", n, (size_t)CLOUD_MAX_POINTS);
+        goto done;
+    }
+    free(c->ring);
+    free(c->time);
+    c->ring = NULL;
+    c->time = NULL;
+    if (cloud_reserve(c, n)) {
+        err_at(e, path, 0, "out of memory for %zu points", n);
+        goto done;
+    }
+    if (scan_read_full(fd, c->pts, size, path, e)) goto done;
+    scan_le_floats(c->pts, 4 * n);
+    c->n = n;
+    rc = 0;
+done:
+    close(fd);
+    return rc;
+}
+
+/* Split one text line into numbers; returns the count (up to max+1), or -1
+ * when a field is not a number (field index in *bad). */
+static int scan_text_fields(char *line, double *v, int max, int *bad)
+{
+    int n = 0;
+    char *s = line;
+    for (;;) {
+        while (*s == ' ' || *s == '\t' || *s == ',' || *s == '\r' || *s == '\n') s++;
+        if (!*s || *s == '#') return n;
+        char *end;
+        double d = strtod(s, &end);
+        if (end == s || (*end && !strchr(" \t,\r\n#", *end))) {
+            *bad = n + 1;
+            return -1;
+        }
+        if (n < max + 1) v[n] = d;
+        if (n <= max) n++;
+        s = end;
+    }
+}
+
+static int scan_read_text_stream(FILE *f, const char *path, struct cloud *c, struct err *e)
+{
+    char line[SCAN_TEXT_LINE_MAX];
+    long lineno = 0;
+    while (fgets(line, sizeof line, f)) {
+        lineno++;
+        size_t len = strlen(line);
+        if (len == sizeof line - 1 && line[len - 1] != '\n')
+            return err_at(e, path, lineno, "line longer than %d bytes, expected x y z [i]",
+                          SCAN_TEXT_LINE_MAX - 2);
+        double v[5];
+        int bad = 0;
+        int k = scan_text_fields(line, v, 4, &bad);
+        if (k < 0) return err_at(e, path, lineno, "field %d is not a number, expected x y z [i]", bad);
+        if (k == 0) continue;
+        if (k != 3 && k != 4)
+            return err_at(e, path, lineno, "found %s%d numbers, expected 3 (x y z) or 4 (x y z i)",
+                          k > 4 ? "more than " : "", k > 4 ? 4 : k);
+        if (c->n >= CLOUD_MAX_POINTS)
+            return err_at(e, path, lineno, "more than %zu points", (size_t)CLOUD_MAX_POINTS);
+        if (cloud_push(c, (float)v[0], (float)v[1], (float)v[2], k == 4 ? (float)v[3] : 0.0f))
+            return err_at(e, path, lineno, "out of memory");
+    }
+    if (ferror(f)) return err_at(e, path, 0, "read failed: %s", strerror(errno));
+    if (lineno == 0) return err_at(e, path, 0, "file is empty, expected lines of x y z [i]");
+    return 0;
+}
+
+static int scan_read_text(const char *path, struct cloud *c, struct err *e)
+{
+    FILE *f = fopen(path, "r");
+    if (!f) return err_at(e, path, 0, "cannot open: %s", strerror(errno));
+    free(c->ring);
+    free(c->time);
+    c->ring = NULL;
+    c->time = NULL;
+    int rc = scan_read_text_stream(f, path, c, e);
+    fclose(f);
+    return rc;
+}
+
+int scan_read(const char *path, enum scan_layout layout, struct cloud *c, struct err *e)
+{
+    c->n = 0;
+    if (layout == SCAN_AUTO) layout = scan_layout_from_path(path);
+    int rc;
+    switch (layout) {
+    case SCAN_RAW: rc = scan_read_raw(path, c, e); break;
+    case SCAN_PCD: rc = pcd_read(path, c, e); break;
+    case SCAN_PLY: rc = ply_read(path, c, e); break;
+    case SCAN_TEXT: rc = scan_read_text(path, c, e); break;
+    default:
+        return err_at(e, path, 0, "unknown scan file extension, expected .bin, .pcd, .ply, "
+                      ".txt, .xyz or .csv (or name the layout)");
+    }
+    if (rc) c->n = 0;
+    return rc;
+}
+
+int scan_slurp(const char *path, size_t max_bytes, unsigned char **buf, size_t *len,
+               struct err *e)
+{
+    *buf = NULL;
+    *len = 0;
+    int fd = open(path, O_RDONLY);
+    if (fd < 0) return err_at(e, path, 0, "cannot open: %s", strerror(errno));
+    size_t size;
+    int rc = -1;
+    unsigned char *b = NULL;
+    if (scan_fd_size(fd, path, &size, e)) goto done;
+    if (size == 0) { err_at(e, path, 0, "file is empty, expected a scan"); goto done; }
+    if (size > max_bytes) {
+        err_at(e, path, 0, "file is %zu bytes, more than the limit of %zu for a scan", size, max_bytes);
+        goto done;
+    }
+    b = malloc(size + 1);
+    if (!b) { err_at(e, path, 0, "out of memory for %zu bytes", size); goto done; }
+    if (scan_read_full(fd, b, size, path, e)) goto done;
+    b[size] = 0;
+    *buf = b;
+    *len = size;
+    b = NULL;
+    rc = 0;
+done:
+    free(b);
+    close(fd);
+    return rc;
+}
+
+int scan_write_raw(const char *path, const struct cloud *c, struct err *e)
+{
+    if (c->n == 0)
+        return err_at(e, path, 0, "cannot write an empty scan in the raw layout "
+                      "(a 0-byte file reads as an error), expected the pcd layout for empty scans");
+    struct afile a;
+    if (afile_open(&a, path, e)) return -1;
+    size_t n = 4 * c->n;
+#if defined(__BYTE_ORDER__) && __BYTE_ORDER__ == __ORDER_BIG_ENDIAN__
+    for (size_t k = 0; k < n; k++) {
+        float v = c->pts[k];
+        scan_le_floats(&v, 1);
+        fwrite(&v, 4, 1, a.f);
+    }
+#else
+    if (fwrite(c->pts, sizeof(float), n, a.f) != n) {
+        afile_abort(&a);
+        return err_at(e, path, 0, "write failed: %s", strerror(errno));
+    }
+#endif
+    return afile_commit(&a, e);
+}
+
+int scan_write_text(const char *path, const struct cloud *c, struct err *e)
+{
+    struct afile a;
+    if (afile_open(&a, path, e)) return -1;
+    for (size_t k = 0; k < c->n; k++)
+        fprintf(a.f, "%.9g %.9g %.9g %.9g\n", CLOUD_X(c, k), CLOUD_Y(c, k), CLOUD_Z(c, k),
+                CLOUD_I(c, k));
+    return afile_commit(&a, e);
+}
+
+int scan_write(const char *path, enum scan_layout layout, const struct cloud *c, struct err *e)
+{
+    switch (layout) {
+    case SCAN_RAW: return scan_write_raw(path, c, e);
+    case SCAN_PCD: return pcd_write_binary(path, c, e);
+    case SCAN_PLY: return ply_write_binary(path, c, e);
+    case SCAN_TEXT: return scan_write_text(path, c, e);
+    default: return err_at(e, path, 0, "no writer for layout '%s', expected raw, pcd, ply or text",
+                           scan_layout_name(layout));
+    }
+}
