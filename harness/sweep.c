@@ -1,0 +1,360 @@
+/* sweep.c: run a plan's cells on the pool into atomic cell folders. */
+#include "harness/sweep.h"
+
+#include <cjson/cJSON.h>
+#include <dirent.h>
+#include <errno.h>
+#include <stdio.h>
+#include <stdlib.h>
+#include <string.h>
+#include <sys/stat.h>
+#include <unistd.h>
+
+#include "harness/fileio.h"
+#include "harness/pool.h"
+#include "harness/progress.h"
+
+#define SW_PATH 4096
+#define SW_SCENARIO_MAX ((size_t)4 << 20)
+
+void sweep_opts_defaults(struct sweep_opts *o)
+{
+    memset(o, 0, sizeof *o);
+    o->shard_n = 1;
+    o->cell_jobs = 1;
+}
+
+int sweep_cell_done(const char *out_dir, const char *id)
+{
+    char path[SW_PATH];
+    struct stat st;
+    snprintf(path, sizeof path, "%s/cells/%s/result.json", out_dir, id);
+    return !stat(path, &st) && S_ISREG(st.st_mode);
+}
+
+/* Remove a folder and what it holds (no symbolic links are followed). 0 or -1. */
+static int sw_remove_tree(const char *path, struct err *e)
+{
+    DIR *d = opendir(path);
+    if (!d) return errno == ENOENT ? 0 : err_at(e, path, 0, "cannot open folder: %s", strerror(errno));
+    struct dirent *de;
+    int rc = 0;
+    while (!rc && (de = readdir(d))) {
+        if (!strcmp(de->d_name, ".") || !strcmp(de->d_name, "..")) continue;
+        char sub[SW_PATH];
+        struct stat st;
+        snprintf(sub, sizeof sub, "%s/%s", path, de->d_name);
+        if (lstat(sub, &st)) continue;
+        if (S_ISDIR(st.st_mode)) rc = sw_remove_tree(sub, e);
+        else if (unlink(sub)) rc = err_at(e, sub, 0, "cannot remove: %s", strerror(errno));
+    }
+    closedir(d);
+    if (!rc && rmdir(path)) rc = err_at(e, path, 0, "cannot remove folder: %s", strerror(errno));
+    return rc;
+}
+
+int sweep_prepare(const struct plan *p, const char *out_dir, struct err *e)
+{
+    char path[SW_PATH], hash[17];
+    char *text = NULL;
+    size_t len;
+    snprintf(path, sizeof path, "%s/cells", out_dir);
+    if (fileio_mkdirs(path, e)) return -1;
+    snprintf(path, sizeof path, "%s/cache", out_dir);
+    if (fileio_mkdirs(path, e)) return -1;
+    snprintf(path, sizeof path, "%s/scenario.json", out_dir);
+    if (!access(path, F_OK)) {
+        if (fileio_read(path, SW_SCENARIO_MAX, &text, &len, e)) return -1;
+        plan_hash_hex(text, len, hash);
+        free(text);
+        if (strcmp(hash, p->hash))
+            return err_at(e, path, 0, "made by another scenario file (hash %s), expected hash %s of %s; "
+                          "use a new --out folder", hash, p->hash, p->path);
+        return 0;
+    }
+    if (fileio_read(p->path, SW_SCENARIO_MAX, &text, &len, e)) return -1;
+    plan_hash_hex(text, len, hash);
+    int rc = strcmp(hash, p->hash)
+                 ? err_at(e, p->path, 0, "changed while the sweep started, expected hash %s", p->hash)
+                 : fileio_write(path, text, len, e);
+    free(text);
+    return rc;
+}
+
+void sweep_cell_spec(const struct plan *p, size_t k, const struct sweep_opts *o,
+                     const char *cell_dir, const char *cache_dir, struct eval_spec *s)
+{
+    const struct plan_cell *c = &p->cells[k];
+    const struct plan_cond *d = &p->conds[c->cond];
+    memset(s, 0, sizeof *s);
+    s->map_rec = p->map_rec;
+    s->query_rec = p->query_rec;
+    s->method = p->methods[c->method].label;
+    s->plugin_path = o->plugin_path;
+    s->chain = c->chain;
+    s->on = d->on;
+    s->seed = c->seed;
+    s->protocol = p->protocol;
+    s->out_dir = cell_dir;
+    s->cache_dir = cache_dir;
+    s->condition = d->name;
+    s->scenario_hash = p->hash;
+    s->bootstrap = p->bootstrap;
+    s->bootstrap_seed = p->bootstrap_seed;
+    s->jobs = o->cell_jobs > 0 ? o->cell_jobs : 1;
+    s->quiet = 1;
+    s->isolate = o->isolate;
+}
+
+/* The condition object shared by cell.json and a failed result.json. */
+static cJSON *sw_condition_json(const struct plan *p, size_t k)
+{
+    const struct plan_cell *c = &p->cells[k];
+    const struct plan_cond *d = &p->conds[c->cond];
+    cJSON *o = cJSON_CreateObject();
+    cJSON_AddStringToObject(o, "name", d->name);
+    if (c->chain) cJSON_AddStringToObject(o, "chain", c->chain);
+    else cJSON_AddNullToObject(o, "chain");
+    if (d->on) cJSON_AddStringToObject(o, "on", d->on);
+    else cJSON_AddNullToObject(o, "on");
+    cJSON_AddNumberToObject(o, "seed", (double)c->seed);
+    if (c->has_axis) {
+        cJSON *a = cJSON_AddObjectToObject(o, "axis");
+        cJSON_AddStringToObject(a, "stage", d->axis_stage);
+        cJSON_AddStringToObject(a, "key", d->axis_key);
+        cJSON_AddNumberToObject(a, "value", c->axis_value);
+    }
+    return o;
+}
+
+static int sw_write_json(const char *path, cJSON *root, struct err *e)
+{
+    char *text = root ? cJSON_Print(root) : NULL;
+    cJSON_Delete(root);
+    if (!text) return err_at(e, path, 0, "out of memory");
+    size_t n = strlen(text);
+    text[n] = '\n';  /* replaces the NUL; length n + 1 written below */
+    int rc = fileio_write(path, text, n + 1, e);
+    free(text);
+    return rc;
+}
+
+/* DIR/cells/.part-ID/cell.json: what the cell is, written before it runs. */
+static int sw_write_cell(const struct plan *p, size_t k, const char *part, struct err *e)
+{
+    char path[SW_PATH];
+    snprintf(path, sizeof path, "%s/cell.json", part);
+    cJSON *o = cJSON_CreateObject();
+    cJSON_AddStringToObject(o, "format", "revisit-cell-1");
+    cJSON_AddStringToObject(o, "id", p->cells[k].id);
+    cJSON_AddNumberToObject(o, "index", (double)k);
+    cJSON_AddStringToObject(o, "scenario_hash", p->hash);
+    cJSON_AddStringToObject(o, "method", p->methods[p->cells[k].method].label);
+    cJSON_AddItemToObject(o, "condition", sw_condition_json(p, k));
+    return sw_write_json(path, o, e);
+}
+
+/* result.json for a cell whose method failed (status "failed", no metrics). */
+static int sw_write_failed(const struct plan *p, size_t k, const char *part, const char *msg, struct err *e)
+{
+    char path[SW_PATH];
+    snprintf(path, sizeof path, "%s/result.json", part);
+    const char *label = p->methods[p->cells[k].method].label;
+    const char *colon = strchr(label, ':');
+    cJSON *o = cJSON_CreateObject();
+    cJSON_AddStringToObject(o, "format", "revisit-result-1");
+    cJSON_AddStringToObject(o, "software", "revisit " RV_VERSION);
+    cJSON_AddStringToObject(o, "scenario_hash", p->hash);
+    cJSON *m = cJSON_AddObjectToObject(o, "method");
+    char name[512];
+    snprintf(name, sizeof name, "%.*s", colon ? (int)(colon - label) : (int)strlen(label), label);
+    cJSON_AddStringToObject(m, "name", name);
+    cJSON_AddStringToObject(m, "label", label);
+    cJSON_AddItemToObject(o, "condition", sw_condition_json(p, k));
+    cJSON_AddStringToObject(o, "status", "failed");
+    cJSON_AddStringToObject(o, "error", msg);
+    return sw_write_json(path, o, e);
+}
+
+/* ---- running ------------------------------------------------------------ */
+
+enum { SW_TODO, SW_OK, SW_FAILED, SW_LEFT };
+
+struct sw_ctx {
+    const struct plan *p;
+    const struct sweep_opts *o;
+    const size_t *todo;   /* cell indices in run order */
+    unsigned char *state; /* per todo entry */
+    char cache[SW_PATH];
+    struct progress prog;
+};
+
+/* Run one cell into its .part folder and move it into place.  Returns -1
+ * only for trouble with the sweep folder itself; a failing method is a
+ * failed cell, and a cell cut short by a hard stop is dropped. */
+static int sw_cell(void *arg, size_t task, int worker, struct err *e)
+{
+    (void)worker;
+    struct sw_ctx *c = arg;
+    size_t k = c->todo[task];
+    const char *id = c->p->cells[k].id;
+    if (c->o->stop && *c->o->stop) { c->state[task] = SW_LEFT; return 0; }
+    char part[SW_PATH], done[SW_PATH];
+    snprintf(part, sizeof part, "%s/cells/.part-%s", c->o->out_dir, id);
+    snprintf(done, sizeof done, "%s/cells/%s", c->o->out_dir, id);
+    if (sw_remove_tree(part, e) || fileio_mkdirs(part, e) || sw_write_cell(c->p, k, part, e)) return -1;
+    struct eval_spec s;
+    struct eval_summary sum;
+    struct err ce;
+    ce.msg[0] = 0;
+    sweep_cell_spec(c->p, k, c->o, part, c->cache, &s);
+    int rc = c->o->run(&s, &sum, &ce);
+    if (rc && pool_stop_requested()) {           /* hard stop: the cell did not finish */
+        c->state[task] = SW_LEFT;
+        return sw_remove_tree(part, e);
+    }
+    if (rc && sw_write_failed(c->p, k, part, ce.msg[0] ? ce.msg : "method failed", e)) return -1;
+    if (rename(part, done)) {
+        int saved = errno;
+        if (sweep_cell_done(c->o->out_dir, id)) return sw_remove_tree(part, e);  /* another shard won */
+        return err_at(e, done, 0, "cannot move the finished cell into place: %s", strerror(saved));
+    }
+    c->state[task] = rc ? SW_FAILED : SW_OK;
+    progress_add(&c->prog, 1);
+    return 0;
+}
+
+/* Remove DIR/cells/.part-* left by a run that was killed. */
+static int sw_clear_parts(const char *out_dir, struct err *e)
+{
+    char cells[SW_PATH];
+    snprintf(cells, sizeof cells, "%s/cells", out_dir);
+    DIR *d = opendir(cells);
+    if (!d) return err_at(e, cells, 0, "cannot open folder: %s", strerror(errno));
+    struct dirent *de;
+    int rc = 0;
+    while (!rc && (de = readdir(d))) {
+        if (strncmp(de->d_name, ".part-", 6)) continue;
+        char sub[SW_PATH];
+        snprintf(sub, sizeof sub, "%s/%s", cells, de->d_name);
+        rc = sw_remove_tree(sub, e);
+    }
+    closedir(d);
+    return rc;
+}
+
+/* Order the cells to run: the first cell of each method first (so the
+ * unperturbed map is described once per method before the rest share the
+ * cache), then the others in plan order.  Returns the count, or -1 when out
+ * of memory; *n_lead gets the number of leading cells. */
+static long sw_order(const struct plan *p, const struct sweep_opts *o, size_t *todo,
+                     size_t *n_lead, struct sweep_stats *st)
+{
+    unsigned char *seen = calloc(p->n_methods + 1, 1), *lead = calloc(p->n_cells + 1, 1);
+    long n = -1;
+    if (!seen || !lead) goto out;
+    n = 0;
+    for (size_t k = 0; k < p->n_cells; k++) {
+        if (!plan_in_shard(k, o->shard_i, o->shard_n)) continue;
+        st->in_shard++;
+        if (sweep_cell_done(o->out_dir, p->cells[k].id)) { st->skipped++; lead[k] = 2; continue; }
+        size_t m = p->cells[k].method;
+        if (!seen[m]) { seen[m] = 1; lead[k] = 1; todo[n++] = k; }
+    }
+    *n_lead = (size_t)n;
+    for (size_t k = 0; k < p->n_cells; k++)
+        if (plan_in_shard(k, o->shard_i, o->shard_n) && !lead[k]) todo[n++] = k;
+out:
+    free(seen);
+    free(lead);
+    return n;
+}
+
+int sweep_run(const struct plan *p, const struct sweep_opts *o, struct sweep_stats *st, struct err *e)
+{
+    memset(st, 0, sizeof *st);
+    st->total = p->n_cells;
+    if (!o->run) return err_set(e, "sweep: no cell runner given");
+    if (sweep_prepare(p, o->out_dir, e) || sw_clear_parts(o->out_dir, e)) return -1;
+    struct sw_ctx c = {.p = p, .o = o};
+    snprintf(c.cache, sizeof c.cache, "%s/cache", o->out_dir);
+    size_t *todo = malloc((p->n_cells + 1) * sizeof *todo);
+    c.state = calloc(p->n_cells + 1, 1);
+    size_t n_lead = 0;
+    long n = todo && c.state ? sw_order(p, o, todo, &n_lead, st) : -1;
+    if (n < 0) {
+        free(todo);
+        free(c.state);
+        return err_set(e, "sweep: out of memory for %zu cells", p->n_cells);
+    }
+    c.todo = todo;
+    progress_start(&c.prog, "sweep", (size_t)n, o->quiet);
+    int rc = pool_run(n_lead, o->jobs, sw_cell, &c, e);
+    c.todo = todo + n_lead;
+    c.state += n_lead;
+    if (!rc) rc = pool_run((size_t)n - n_lead, o->jobs, sw_cell, &c, e);
+    c.state -= n_lead;
+    progress_end(&c.prog);
+    if (rc && pool_stop_requested()) rc = 0;   /* cells not started are counted below */
+    for (long t = 0; t < n; t++) {
+        if (c.state[t] == SW_OK || c.state[t] == SW_FAILED) st->ran++;
+        if (c.state[t] == SW_FAILED) st->failed++;
+        if (c.state[t] == SW_LEFT || c.state[t] == SW_TODO) st->left++;
+    }
+    st->interrupted = st->left > 0 && ((o->stop && *o->stop) || pool_stop_requested());
+    free(todo);
+    free(c.state);
+    return rc;
+}
+
+/* ---- the plan as text --------------------------------------------------- */
+
+/* Scan descriptions a cell needs, split into perturbed ones and unperturbed
+ * sets that the cache shares per method (bit 1: map, bit 2: query). */
+static size_t sw_cell_work(const struct plan *p, size_t k, size_t n_map, size_t n_query, unsigned *shared)
+{
+    const struct plan_cell *c = &p->cells[k];
+    const char *on = p->conds[c->cond].on;
+    int reloc = p->query_rec != NULL;
+    if (!on) on = reloc ? "query" : "both";
+    size_t q = reloc ? n_query : n_map;
+    *shared = 0;
+    if (!c->chain) { *shared = reloc ? 3 : 1; return 0; }
+    if (!strcmp(on, "both")) return n_map + (reloc ? n_query : 0);
+    if (!strcmp(on, "query")) { *shared = 1; return q; }
+    *shared = reloc ? 2 : 1;  /* map only: the queries stay unperturbed */
+    return n_map;
+}
+
+void sweep_print_plan(FILE *f, const struct plan *p, const struct sweep_opts *o,
+                      size_t n_map, size_t n_query)
+{
+    size_t mine = 0, done = 0, perturbed = 0, shared = 0;
+    unsigned *seen = calloc(p->n_methods + 1, sizeof *seen);
+    fprintf(f, "scenario %s (hash %s)%s%s\n", p->path, p->hash, p->name ? ": " : "", p->name ? p->name : "");
+    fprintf(f, "%-52s %-8s %s\n", "cell", "state", "chain (on)");
+    for (size_t k = 0; k < p->n_cells; k++) {
+        if (!plan_in_shard(k, o->shard_i, o->shard_n)) continue;
+        const struct plan_cell *c = &p->cells[k];
+        int is_done = o->out_dir && sweep_cell_done(o->out_dir, c->id);
+        mine++;
+        done += is_done;
+        fprintf(f, "%-52s %-8s %s (%s)\n", c->id, is_done ? "done" : "to run", c->chain ? c->chain : "-",
+                p->conds[c->cond].on ? p->conds[c->cond].on : "default");
+        if (is_done) continue;
+        unsigned sh;
+        perturbed += sw_cell_work(p, k, n_map, n_query, &sh);
+        if (seen && (sh & 1) && !(seen[c->method] & 1)) shared += n_map;
+        if (seen && (sh & 2) && !(seen[c->method] & 2)) shared += n_query;
+        if (seen) seen[c->method] |= sh;
+    }
+    free(seen);
+    fprintf(f, "\n%zu of %zu cells in shard %d/%d, %zu done, %zu to run", mine, p->n_cells,
+            o->shard_i, o->shard_n, done, mine - done);
+    fprintf(f, " (%zu methods x %zu conditions)\n", p->n_methods, p->n_conds);
+    if (n_map)
+        fprintf(f, "estimated work: %zu scan descriptions (%zu perturbed, %zu unperturbed shared per method)\n",
+                perturbed + shared, perturbed, shared);
+    else
+        fprintf(f, "estimated work: scan counts unknown (recording not readable)\n");
+}
