@@ -1,0 +1,164 @@
+/* chain_run.c: the normalised chain text, scratch memory and chain_apply. */
+#include "perturb/chain.h"
+
+#include <stdarg.h>
+#include <stdio.h>
+#include <stdlib.h>
+#include <string.h>
+
+#include "perturb/stage.h"
+
+/* ---- normalised text ---------------------------------------------------- */
+
+struct sbuf {
+    char *buf;
+    size_t n, len;
+};
+
+static void put(struct sbuf *b, const char *fmt, ...) __attribute__((format(printf, 2, 3)));
+static void put(struct sbuf *b, const char *fmt, ...)
+{
+    va_list ap;
+    va_start(ap, fmt);
+    size_t room = b->len < b->n ? b->n - b->len : 0;
+    int k = vsnprintf(room ? b->buf + b->len : NULL, room, fmt, ap);
+    va_end(ap);
+    if (k > 0) b->len += (size_t)k;
+}
+
+/* Shortest %g form that reads back as the same double. */
+static void put_number(struct sbuf *b, double v)
+{
+    char tmp[40];
+    for (int prec = 1; prec <= 17; prec++) {
+        snprintf(tmp, sizeof tmp, "%.*g", prec, v);
+        if (strtod(tmp, NULL) == v) break;
+    }
+    put(b, "%s", tmp);
+}
+
+static int list_empty(const uint64_t *l)
+{
+    return !(l[0] | l[1] | l[2] | l[3]);
+}
+
+static void put_value(struct sbuf *b, const struct stage *st, size_t k)
+{
+    const struct chain_param_info *pi = &st->def->info.params[k];
+    if (pi->kind == CHAIN_LIST) {
+        const char *sep = "";
+        for (int v = 0; v < 256; v++)
+            if (st->list[v / 64] >> (v % 64) & 1) {
+                put(b, "%s%d", sep, v);
+                sep = "/";
+            }
+    } else if (pi->kind == CHAIN_CHOICE) {
+        const char *c = pi->choices;
+        for (int idx = 0; idx < (int)st->v[k] && strchr(c, '|'); idx++) c = strchr(c, '|') + 1;
+        put(b, "%.*s", (int)strcspn(c, "|"), c);
+    } else if (st->random >> k & 1) {
+        put(b, "random");
+    } else {
+        put_number(b, st->v[k]);
+    }
+}
+
+static int is_default(const struct stage *st, size_t k)
+{
+    const struct chain_param_info *pi = &st->def->info.params[k];
+    if (pi->kind == CHAIN_LIST) return list_empty(st->list);
+    int rnd = (int)(st->random >> k & 1);
+    if (rnd != pi->def_random) return 0;
+    return rnd || st->v[k] == pi->def;
+}
+
+size_t chain_format(const struct chain *ch, char *buf, size_t n)
+{
+    struct sbuf b = {buf, n, 0};
+    if (n) buf[0] = 0;
+    for (size_t i = 0; i < ch->n; i++) {
+        const struct stage *st = &ch->st[i];
+        put(&b, "%s%s", i ? "+" : "", st->def->info.name);
+        char sep = ':';
+        for (size_t k = 0; k < st->def->info.n_params; k++) {
+            if (is_default(st, k)) continue;
+            put(&b, "%c%s=", sep, st->def->info.params[k].key);
+            put_value(&b, st, k);
+            sep = ',';
+        }
+    }
+    return b.len;
+}
+
+/* ---- scratch and stats -------------------------------------------------- */
+
+void chain_scratch_init(struct chain_scratch *s)
+{
+    cloud_init(&s->tmp);
+    s->buf = NULL;
+    s->buf_bytes = 0;
+}
+
+void chain_scratch_free(struct chain_scratch *s)
+{
+    cloud_free(&s->tmp);
+    free(s->buf);
+    s->buf = NULL;
+    s->buf_bytes = 0;
+}
+
+void chain_stats_add(struct chain_stats *dst, const struct chain_stats *src)
+{
+    if (src->n_stages > dst->n_stages) dst->n_stages = src->n_stages;
+    for (size_t i = 0; i < src->n_stages && i < CHAIN_MAX_STAGES; i++) {
+        dst->in[i] += src->in[i];
+        dst->out[i] += src->out[i];
+    }
+    dst->dropped_nonfinite += src->dropped_nonfinite;
+}
+
+/* ---- apply -------------------------------------------------------------- */
+
+int chain_apply(const struct chain *ch, struct cloud *c, uint64_t run_seed, uint32_t scan_index,
+                struct chain_scratch *s, struct chain_stats *stats, struct err *e)
+{
+    size_t dropped = cloud_drop_nonfinite(c);
+    if (stats) {
+        memset(stats, 0, sizeof *stats);
+        stats->n_stages = ch->n;
+        stats->dropped_nonfinite = dropped;
+    }
+    for (size_t i = 0; i < ch->n; i++) {
+        const struct stage *st = &ch->st[i];
+        struct rng r;
+        rng_seed(&r, run_seed, st->per_recording ? RNG_RECORDING : (uint64_t)scan_index, i);
+        size_t in = c->n;
+        if (st->def->apply(st, c, &r, s, e))
+            return err_wrap(e, "chain stage %zu (%s)", i + 1, st->def->info.name);
+        if (stats) {
+            stats->in[i] = in;
+            stats->out[i] = c->n;
+        }
+    }
+    return 0;
+}
+
+/* ---- helpers for the stage files ---------------------------------------- */
+
+double stage_value(const struct stage *st, int k, struct rng *r, double lo, double hi)
+{
+    if (!(st->random >> k & 1)) return st->v[k];
+    return lo + (hi - lo) * rng_uniform(r);
+}
+
+void *stage_buf(struct chain_scratch *s, size_t bytes)
+{
+    if (bytes <= s->buf_bytes) return s->buf;
+    size_t want = s->buf_bytes ? s->buf_bytes : 4096;
+    while (want < bytes) want *= 2;
+    void *p = realloc(s->buf, want);
+    if (!p) return NULL;
+    s->buf = p;
+    s->buf_bytes = want;
+    return p;
+}
