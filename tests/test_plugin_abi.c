@@ -1,0 +1,175 @@
+/* test_plugin_abi.c: plugins built out of the tree from the installed header
+ * alone load and run; each broken plugin gets its own clear error. */
+#include <signal.h>
+#include <stdio.h>
+#include <stdlib.h>
+#include <string.h>
+#include <sys/wait.h>
+#include <unistd.h>
+
+#include "harness/plugin_host.h"
+#include "tests/check.h"
+
+/* One plugin source; -D flags make the broken variants. */
+static const char plugin_src[] =
+    "#include <math.h>\n#include <stdlib.h>\n#include <unistd.h>\n#include \"revisit_plugin.h\"\n"
+    "static const struct rv_setting set[] = {\n"
+    "  {\"bins\", RV_SET_INT, 4, 1, 64, NULL, \"bins\"},\n"
+    "  {\"scale\", RV_SET_FLOAT, 1, 0, 10, NULL, \"scale\"},\n"
+    "  {\"mode\", RV_SET_CHOICE, 0, 0, 1, \"sum|max\", \"mode\"},\n"
+    "  {\"flip\", RV_SET_BOOL, 0, 0, 1, NULL, \"flip\"}};\n"
+    "struct st { int bins; double scale; };\n"
+    "static int mk(const double *v, void **inst, uint32_t *dim, uint32_t *kd, char *m, size_t l) {\n"
+    "  (void)m; (void)l; struct st *s = malloc(sizeof *s); s->bins = (int)v[0]; s->scale = v[1];\n"
+    "  *inst = s; *dim = (uint32_t)s->bins; *kd = 0; return RV_OK; }\n"
+    "static int run(void *inst, const struct rv_scan *sc, float *d, float *k, char *m, size_t l) {\n"
+    "  (void)k; (void)m; (void)l; struct st *s = inst; int n = s->bins;\n"
+    "#ifdef WRONGDIM\n  n += 1;\n#endif\n"
+    "  for (int b = 0; b < n; b++) d[b] = (float)(s->scale * (double)sc->n * (b + 1));\n"
+    "#ifdef NANOUT\n  d[1] = NAN;\n#endif\n"
+    "#ifdef CRASH\n  if (sc->index == 3) { volatile int *p = NULL; *p = 1; }\n#endif\n"
+    "#ifdef SLOW\n  usleep(30000);\n#endif\n"
+    "  return RV_OK; }\n"
+    "static void rm(void *inst) { free(inst); }\n"
+    "static const struct rv_method m = {\n"
+    "#ifdef BADABI\n  99,\n#else\n  RV_ABI_VERSION,\n#endif\n"
+    "  sizeof m, \"outside\", \"1.0\", \"test plugin\", set, 4, RV_DIST_L2,\n"
+    "  RV_FLAG_THREAD_SAFE, mk, run, rm, NULL, NULL};\n"
+    "#ifdef NOENTRY\nRV_EXPORT const struct rv_method *other_name(void) { return &m; }\n"
+    "#else\nRV_EXPORT const struct rv_method *rv_method_entry(void) { return &m; }\n#endif\n";
+
+/* Build variant NAME.so with the given -D flag (or "") in the cwd. */
+static int build(const char *name, const char *flag)
+{
+    char cmd[1024];
+    snprintf(cmd, sizeof cmd, "cc -std=c11 -Wall -Werror -O1 -D_DEFAULT_SOURCE -shared -fPIC -Iinclude/revisit %s -o %s.so outside.c -lm",
+             flag, name);
+    return system(cmd);
+}
+
+static void setup(void)
+{
+    const char *root = getenv("REVISIT_ROOT");
+    char cmd[1024];
+    /* "installed header": only revisit_plugin.h, copied out of the tree */
+    snprintf(cmd, sizeof cmd, "mkdir -p include/revisit && cp %s/harness/revisit_plugin.h include/revisit/",
+             root ? root : ".");
+    CHECK(system(cmd) == 0, "the public header copies out of the tree");
+    FILE *f = fopen("outside.c", "w");
+    fputs(plugin_src, f);
+    fclose(f);
+    CHECK(build("good", "") == 0, "a plugin compiles from the public header alone");
+    CHECK(build("badabi", "-DBADABI") == 0, "the wrong-ABI variant compiles");
+    CHECK(build("noentry", "-DNOENTRY") == 0, "the no-entry variant compiles");
+    CHECK(build("nanout", "-DNANOUT") == 0, "the NaN variant compiles");
+    CHECK(build("wrongdim", "-DWRONGDIM") == 0, "the wrong-dimension variant compiles");
+    CHECK(build("crash", "-DCRASH") == 0, "the crashing variant compiles");
+    CHECK(build("slow", "-DSLOW") == 0, "the slow variant compiles");
+}
+
+static int describe_once(struct plugin *p, uint32_t index, float *d, struct err *e)
+{
+    float pts[8] = {1, 2, 3, 0, 4, 5, 6, 0};
+    struct rv_scan s = {2, pts, NULL, NULL, 0.0, index, 0};
+    return plugin_describe(p, &s, d, NULL, e);
+}
+
+static void test_good(void)
+{
+    struct plugin p;
+    struct err e = {{0}};
+    float d[16];
+    CHECK(plugin_open(&p, "./good.so", NULL, &e) == 0, "the out-of-tree plugin loads by path");
+    CHECK(p.dim == 4 && !strcmp(p.name, "outside"), "its table gives name and dimension");
+    CHECK(!strcmp(p.label, "outside:bins=4,scale=1,mode=sum,flip=false"), "the label spells out every default");
+    CHECK(describe_once(&p, 0, d, &e) == 0 && d[0] == 2 && d[3] == 8, "it describes a scan");
+    plugin_close(&p);
+    CHECK(plugin_open(&p, "good:bins=6,scale=0.5,mode=max,flip=true", ".", &e) == 0,
+          "found by name on --plugin-path, settings applied");
+    CHECK(p.dim == 6 && !strcmp(p.label, "outside:bins=6,scale=0.5,mode=max,flip=true"), "settings reach create");
+    CHECK(describe_once(&p, 0, d, &e) == 0 && d[5] == 6, "a setting changes the output");
+    plugin_close(&p);
+    CHECK(plugin_open(&p, "good:bins=100", ".", &e) == -1, "a setting out of range is refused");
+    CHECK_MSG(e.msg, "setting 'bins' is 100, expected a value from 1 to 64", "the range error names key and range");
+    CHECK(plugin_open(&p, "good:bisn=3", ".", &e) == -1, "an unknown setting is refused");
+    CHECK_MSG(e.msg, "has no setting 'bisn', expected one of: bins, scale, mode, flip", "unknown key lists keys");
+    CHECK(plugin_open(&p, "good:mode=avg", ".", &e) == -1, "an unknown choice is refused");
+    CHECK_MSG(e.msg, "expects one of sum|max, got 'avg'", "choice error lists the words");
+    CHECK(plugin_open(&p, "good:bins=2.5", ".", &e) == -1, "a fraction for a whole number is refused");
+    CHECK_MSG(e.msg, "expects a whole number, got '2.5'", "integer error");
+    CHECK(plugin_open(&p, "good:flip=maybe", ".", &e) == -1, "a bad boolean is refused");
+    CHECK_MSG(e.msg, "expects true or false, got 'maybe'", "boolean error");
+    CHECK(plugin_open(&p, "nosuch", ".", &e) == -1, "a missing method is refused");
+    CHECK_MSG(e.msg, "method 'nosuch' not found: no nosuch.so in the plugin search path", "missing names the path");
+    struct plugin_info *list;
+    size_t n;
+    CHECK(plugin_list(".", &list, &n, &e) == 0, "listing the search path works");
+    int seen = 0;
+    for (size_t k = 0; k < n; k++) seen += !strcmp(list[k].name, "good");
+    CHECK(seen == 1, "the listing holds the plugin once");
+    free(list);
+}
+
+static void test_broken(void)
+{
+    struct plugin p;
+    struct err e = {{0}};
+    float d[16];
+    CHECK(plugin_open(&p, "./badabi.so", NULL, &e) == -1, "a wrong ABI version is refused");
+    CHECK_MSG(e.msg, "plugin ABI version 99, expected 1", "the ABI error gives both versions");
+    CHECK(plugin_open(&p, "./noentry.so", NULL, &e) == -1, "a plugin without the entry function is refused");
+    CHECK_MSG(e.msg, "no entry function 'rv_method_entry'", "the missing entry is named");
+    CHECK(plugin_open(&p, "./nanout.so", NULL, &e) == 0, "the NaN plugin loads");
+    CHECK(describe_once(&p, 7, d, &e) == -1, "a NaN in the output is refused");
+    CHECK_MSG(e.msg, "method 'outside' on scan 7: descriptor entry 1 is nan, expected a finite number",
+              "the NaN error names method, scan and entry");
+    plugin_close(&p);
+    CHECK(plugin_open(&p, "./wrongdim.so", NULL, &e) == 0, "the wrong-dimension plugin loads");
+    CHECK(describe_once(&p, 2, d, &e) == -1, "writing past the declared dimension is refused");
+    CHECK_MSG(e.msg, "method 'outside' on scan 2: wrote past its declared dimension 4",
+              "the dimension error names method and scan");
+    plugin_close(&p);
+    int ok = plugin_open(&p, "./slow.so", NULL, &e) == 0;
+    CHECK(ok, "the slow plugin loads");
+    p.time_limit_s = 0.005;
+    CHECK(ok && describe_once(&p, 1, d, &e) == -1, "a scan over the time limit is refused");
+    CHECK_MSG(e.msg, "expected at most 0.005 s per scan", "the time error gives the limit");
+    plugin_close(&p);
+}
+
+/* The crash runs in a child: it must die, after printing which method crashed. */
+static void test_crash(void)
+{
+    int fds[2];
+    CHECK(pipe(fds) == 0, "pipe for the child's stderr");
+    pid_t pid = fork();
+    if (pid == 0) {
+        dup2(fds[1], 2);
+        struct plugin p;
+        struct err e;
+        float d[16];
+        if (plugin_open(&p, "./crash.so", NULL, &e)) _exit(3);
+        plugin_crash_notice(&p);
+        for (uint32_t i = 0; i < 5; i++) describe_once(&p, i, d, &e);
+        _exit(0);
+    }
+    close(fds[1]);
+    char buf[1024] = "";
+    ssize_t got = 0, r;
+    while ((r = read(fds[0], buf + got, sizeof buf - 1 - (size_t)got)) > 0) got += r;
+    buf[got > 0 ? got : 0] = 0;
+    close(fds[0]);
+    int st = 0;
+    waitpid(pid, &st, 0);
+    CHECK(WIFSIGNALED(st) && WTERMSIG(st) == SIGSEGV, "a crashing plugin still ends the process by its signal");
+    CHECK_MSG(buf, "revisit: method 'outside' (./crash.so) crashed with a fatal signal", "the crash names the method");
+}
+
+int main(void)
+{
+    setup();
+    test_good();
+    test_broken();
+    test_crash();
+    return check_done();
+}
