@@ -303,6 +303,7 @@ static int pcd_body_ascii(const unsigned char *buf, size_t len, const char *path
         while (*s == ' ' || *s == '\t' || *s == '\r') s++;
         if (*s && *s != '\n')
             return err_at(e, path, line, "more than %d values on the line, expected %d", h->n_values, h->n_values);
+        if (*s == '\n') s++;
         pcd_store(c, k, h, v);
         c->n = k + 1;
     }
