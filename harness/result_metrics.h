@@ -1,0 +1,45 @@
+/* result_metrics.h: the "counts", "metrics" and "curve" objects of
+ * result.json (DEVELOPERS.md "Results folder"), written the same way by
+ * `revisit metrics --json` and `revisit eval`.
+ *
+ *   "counts":  {"queries": 1500, "revisits": 420}
+ *   "metrics": {"f1max": {"value": 0.81, "lo": 0.77, "hi": 0.84, "threshold": 0.31},
+ *               "r100p": {"value": .., "lo": .., "hi": .., "threshold": ..},
+ *               "p_r0": {"value": .., "lo": .., "hi": ..}, "ep", "ap",
+ *               "recall_at_1", "recall_at_5", "recall_at_10", "recall_at_25",
+ *               "recall_at_1pct": the same three keys}
+ *   "curve":   {"threshold": [..], "precision": [..], "recall": [..]}
+ *
+ * "lo"/"hi" are null without a bootstrap; a threshold is null when it is
+ * undefined (F1max 0, or no FP-free point).  Numbers carry 17 significant
+ * digits (cJSON's printing), so a reader gets the same doubles back.
+ *
+ *     cJSON *root = cJSON_CreateObject();
+ *     if (result_metrics_add(root, &point, ci_or_NULL, curve, n, revisits, e)) ...
+ *
+ * Failure contract: 0, or -1 with e set (out of memory); root may then hold
+ * some of the keys and is still the caller's to delete.  Thread-safe.
+ */
+#ifndef RV_RESULT_METRICS_H
+#define RV_RESULT_METRICS_H
+
+#include <stddef.h>
+#include <cJSON.h>
+
+#include "harness/err.h"
+#include "metrics/boot.h"
+#include "metrics/pr.h"
+
+/* Add "counts", "metrics" and "curve" to root (an object).  ci may be NULL
+ * (no intervals), curve may be NULL (no "curve" key). */
+int result_metrics_add(cJSON *root, const struct pr_scalars *point, const struct boot_result *ci,
+                       const struct pr_curve *curve, size_t queries, size_t revisits,
+                       struct err *e);
+
+/* Read the "metrics" object back (values; thresholds NaN when null).  Keys it
+ * does not know are ignored.  -1 with e set when a metric is missing or not a
+ * number; lo/hi may be NULL. */
+int result_metrics_read(const cJSON *root, struct pr_scalars *value, double *lo, double *hi,
+                        struct err *e);
+
+#endif
