@@ -52,6 +52,7 @@ struct boot_job {
     int nsets, resamples, threads, worker;
     uint64_t seed;
     double *vals;
+    const struct boot_tick *tick;
     int failed;
 };
 
@@ -69,6 +70,7 @@ static void *boot_worker(void *arg)
             memcpy(j->vals + ((size_t)b * (size_t)j->nsets + (size_t)k) * PR_N_METRICS,
                    sc.v, sizeof sc.v);
         }
+        if (j->tick && j->tick->fn) j->tick->fn(j->tick->ctx, 1);
     }
     free(w);
     return NULL;
@@ -76,7 +78,8 @@ static void *boot_worker(void *arg)
 
 /* Run every resample into vals.  0 or -1 with e set. */
 static int boot_run(const struct pr_set *a, const struct pr_set *b, int resamples,
-                    uint64_t seed, int threads, double *vals, struct err *e)
+                    uint64_t seed, int threads, const struct boot_tick *tick, double *vals,
+                    struct err *e)
 {
     if (threads < 1) threads = 1;
     if (threads > BOOT_MAX_THREADS) threads = BOOT_MAX_THREADS;
@@ -85,7 +88,7 @@ static int boot_run(const struct pr_set *a, const struct pr_set *b, int resample
     pthread_t tid[BOOT_MAX_THREADS];
     int started = 0, failed = 0;
     for (int t = 0; t < threads; t++) {
-        jobs[t] = (struct boot_job){{a, b}, b ? 2 : 1, resamples, threads, t, seed, vals, 0};
+        jobs[t] = (struct boot_job){{a, b}, b ? 2 : 1, resamples, threads, t, seed, vals, tick, 0};
         if (t == 0) continue;   /* worker 0 runs on this thread */
         if (pthread_create(&tid[t], NULL, boot_worker, &jobs[t])) { failed = 1; break; }
         started = t;
@@ -138,6 +141,13 @@ static int boot_args(int resamples, double level, struct err *e)
 int boot_percentile(const struct pr_set *s, int resamples, uint64_t seed, double level,
                     int threads, struct boot_result *out, struct err *e)
 {
+    return boot_percentile_ticked(s, resamples, seed, level, threads, NULL, out, e);
+}
+
+int boot_percentile_ticked(const struct pr_set *s, int resamples, uint64_t seed, double level,
+                           int threads, const struct boot_tick *tick, struct boot_result *out,
+                           struct err *e)
+{
     if (boot_args(resamples, level, e)) return -1;
     double *vals = malloc((size_t)resamples * PR_N_METRICS * sizeof *vals);
     double *col = malloc((size_t)resamples * sizeof *col);
@@ -145,7 +155,7 @@ int boot_percentile(const struct pr_set *s, int resamples, uint64_t seed, double
         free(vals); free(col);
         return boot_fail(e, "bootstrap: out of memory for %d resamples", resamples);
     }
-    if (boot_run(s, NULL, resamples, seed, threads, vals, e)) { free(vals); free(col); return -1; }
+    if (boot_run(s, NULL, resamples, seed, threads, tick, vals, e)) { free(vals); free(col); return -1; }
     struct boot_result r;
     pr_scalars_compute(s, NULL, &r.point);
     r.resamples = resamples;
@@ -192,7 +202,7 @@ int boot_paired_diff(const struct pr_set *a, const struct pr_set *b, int resampl
         free(vals); free(col);
         return boot_fail(e, "bootstrap: out of memory for %d resamples", resamples);
     }
-    if (boot_run(a, b, resamples, seed, threads, vals, e)) { free(vals); free(col); return -1; }
+    if (boot_run(a, b, resamples, seed, threads, NULL, vals, e)) { free(vals); free(col); return -1; }
     struct boot_paired r;
     struct pr_scalars pa, pb;
     pr_scalars_compute(a, NULL, &pa);

@@ -47,6 +47,16 @@ struct boot_spread {
 int boot_percentile(const struct pr_set *s, int resamples, uint64_t seed, double level,
                     int threads, struct boot_result *out, struct err *e);
 
+/* The same, calling tick->fn(tick->ctx, 1) after each resample from the
+ * worker threads (so fn must be thread-safe), e.g. to draw a progress bar. */
+struct boot_tick {
+    void (*fn)(void *ctx, size_t done);
+    void *ctx;
+};
+int boot_percentile_ticked(const struct pr_set *s, int resamples, uint64_t seed, double level,
+                           int threads, const struct boot_tick *tick, struct boot_result *out,
+                           struct err *e);
+
 /* Paired bootstrap of a - b: the same resampled queries enter both sets.
  * a and b must score the same queries (same n, same query per slot). */
 int boot_paired_diff(const struct pr_set *a, const struct pr_set *b, int resamples,

@@ -57,6 +57,11 @@ static int same_result(const struct boot_result *a, const struct boot_result *b)
     return 1;
 }
 
+static void count_tick(void *ctx, size_t done)
+{
+    *(size_t *)ctx += done;
+}
+
 static void determinism(void)
 {
     struct lcg r = {5};
@@ -72,6 +77,10 @@ static void determinism(void)
     CHECK(inside && a.lo[PR_F1MAX] > 0 && a.lo[PR_F1MAX] < a.point.v[PR_F1MAX] &&
           a.point.v[PR_F1MAX] < a.hi[PR_F1MAX], "intervals are ordered and bracket F1max");
     CHECK(a.resamples == 300, "resample count recorded");
+    size_t ticks = 0;
+    struct boot_tick tk = {count_tick, &ticks};
+    CHECK(boot_percentile_ticked(s, 300, 9, 0.95, 1, &tk, &c, NULL) == 0 && same_result(&a, &c) && ticks == 300,
+          "the ticked form calls back once per resample and gives the same interval");
     pr_set_free(s);
 }
 
