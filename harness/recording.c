@@ -241,7 +241,7 @@ static void rec_sort_names(struct rec_name *v, size_t n, struct recording *rec)
 {
     int numeric = n > 0;
     for (size_t k = 0; k < n && numeric; k++) numeric = !isnan(v[k].num);
-    qsort(v, n, sizeof *v, numeric ? rec_name_cmp_num : rec_name_cmp_str);
+    if (n) qsort(v, n, sizeof *v, numeric ? rec_name_cmp_num : rec_name_cmp_str);
     for (size_t k = 0; k < n; k++) rec->scan_paths[k] = v[k].path;
     rec->n = n;
 }
