@@ -23,5 +23,19 @@ enum { CMD_OK = 0, CMD_FAIL = 1, CMD_ERROR = 2, CMD_INTERRUPTED = 130 };
 /* Print "revisit: <msg>" to stderr and return CMD_ERROR. */
 int cmd_report(const struct err *e);
 
+/* revisit report DIR: Markdown and HTML report of a results folder (reports/). */
+int cmd_report_main(int argc, char **argv);
+
+/* revisit sweep SCENARIO --out DIR: run a scenario's grid of cells (harness/sweep.h). */
+int cmd_sweep(int argc, char **argv);
+/* revisit merge --out DIR SHARD...: join shard folders of one scenario. */
+int cmd_merge(int argc, char **argv);
+/* revisit check SCENARIO DIR: judge the acceptance criteria (harness/summary.h). */
+int cmd_check(int argc, char **argv);
+/* revisit eval --map REC --method SPEC --out DIR: one evaluation (harness/eval.h). */
+int cmd_eval(int argc, char **argv);
+/* revisit methods [NAME]: the methods on the plugin search path (harness/plugin_host.h). */
+int cmd_methods(int argc, char **argv);
+
 
 #endif

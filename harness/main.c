@@ -11,6 +11,11 @@ struct cmd_row {
 };
 
 static const struct cmd_row commands[] = {
+    {"eval", cmd_eval, "one evaluation: describe, retrieve, score against poses, write a results folder"},
+    {"methods", cmd_methods, "list the descriptor methods found and their settings"},
+    {"merge", cmd_merge, "join the folders of a sharded sweep"},
+    {"check", cmd_check, "judge a sweep against the scenario's acceptance criteria (JUnit XML too)"},
+    {"report", cmd_report_main, "Markdown and HTML report of a results folder: tables, plots, verdicts"},
     {NULL, NULL, NULL},
 };
 

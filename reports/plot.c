@@ -1,0 +1,178 @@
+/* plot.c: palette, script frame, running gnuplot, checking its images. */
+#include "reports/plot.h"
+
+#include <errno.h>
+#include <fcntl.h>
+#include <stdlib.h>
+#include <string.h>
+#include <sys/stat.h>
+#include <sys/wait.h>
+#include <unistd.h>
+
+#include "reports/esc.h"
+#include "reports/plot_int.h"
+
+/* Palette (our own): six colours whose lightness rises step by step from a
+ * deep indigo to a pale straw, alternating cool and warm hues.  The steady
+ * lightness ramp keeps every line apart when printed in grey; the hues sit
+ * on the blue-orange axis, which the common red-green colour vision
+ * deficiencies leave distinct.  Dash patterns and point shapes vary with
+ * the colour, so no reader depends on colour alone. */
+static const char *const palette[PLOT_NCOLOURS] = {
+    "#1b1f4b", "#a34a0c", "#2a7ab0", "#e08a2c", "#8fc1e3", "#f3d46b",
+};
+static const char *const dashes[PLOT_NCOLOURS] = {
+    "solid", "(10,5)", "(3,4)", "(12,4,3,4)", "(6,3,2,3,2,3)", "(2,2)",
+};
+static const int points[PLOT_NCOLOURS] = {7, 5, 9, 13, 6, 4};
+
+static const char *const kind_names[PLOT_NKIND] = {
+    "degradation curve", "PR curves", "trajectory top view", "distance matrix", "top-1 distance distributions",
+};
+
+const char *plot_colour(size_t k) { return palette[k % PLOT_NCOLOURS]; }
+const char *plot_kind_name(enum plot_kind k) { return kind_names[k]; }
+
+void plot_find_gnuplot(const char *path_env, char *out, size_t n)
+{
+    out[0] = 0;
+    const char *p = path_env ? path_env : getenv("PATH");
+    if (!p) return;
+    while (*p) {
+        const char *c = strchr(p, ':');
+        size_t len = c ? (size_t)(c - p) : strlen(p);
+        char cand[4096];
+        if (len && len < sizeof cand - 16) {
+            snprintf(cand, sizeof cand, "%.*s/gnuplot", (int)len, p);
+            struct stat st;
+            if (!stat(cand, &st) && S_ISREG(st.st_mode) && !access(cand, X_OK)) {
+                snprintf(out, n, "%s", cand);
+                return;
+            }
+        }
+        if (!c) break;
+        p = c + 1;
+    }
+}
+
+void plot_set_init(struct plot_set *ps, const char *dir)
+{
+    memset(ps, 0, sizeof *ps);
+    snprintf(ps->dir, sizeof ps->dir, "%s", dir);
+    plot_find_gnuplot(NULL, ps->gnuplot, sizeof ps->gnuplot);
+}
+
+void plot_set_free(struct plot_set *ps)
+{
+    free(ps->items);
+    ps->items = NULL;
+    ps->n = ps->cap = 0;
+}
+
+int plot_open(struct plot_set *ps, struct afile *a, const char *name, const char *ext, struct err *e)
+{
+    char path[4300];
+    snprintf(path, sizeof path, "%s/%s.%s", ps->dir, name, ext);
+    return afile_open(a, path, e);
+}
+
+int plot_commit(struct afile *a, struct err *e)
+{
+    if (ferror(a->f)) {
+        afile_abort(a);
+        return err_at(e, a->path, 0, "write failed");
+    }
+    return afile_commit(a, e);
+}
+
+void plot_head(FILE *f, const char *name, const char *title)
+{
+    fprintf(f, "# %s.gp: written by revisit report beside %s.dat.\n"
+               "# Redraw with `gnuplot %s.gp` in this folder after restyling.\n"
+               "set encoding utf8\n"
+               "set terminal pngcairo noenhanced size 960,600 font 'Sans,11'\n"
+               "set output '%s.png'\n"
+               "set title ", name, name, name, name);
+    esc_gp(f, title);
+    fputs("\nset key outside right top box opaque\nset grid lc rgb '#d0d0d0'\n", f);
+    for (size_t k = 0; k < PLOT_NCOLOURS; k++)
+        fprintf(f, "set style line %zu lc rgb '%s' lw 2 dt %s pt %d ps 0.9\n",
+                k + 1, palette[k], dashes[k], points[k]);
+}
+
+void plot_tail(FILE *f, const char *name)
+{
+    fprintf(f, "set terminal svg noenhanced size 960,600 font 'Sans,11'\n"
+               "set output '%s.svg'\nreplot\nunset output\n", name);
+}
+
+int plot_png_ok(const char *path, unsigned *w, unsigned *h)
+{
+    static const unsigned char sig[8] = {0x89, 'P', 'N', 'G', '\r', '\n', 0x1a, '\n'};
+    unsigned char b[24];
+    FILE *f = fopen(path, "rb");
+    if (!f) return 0;
+    size_t got = fread(b, 1, sizeof b, f);
+    fclose(f);
+    if (got != sizeof b || memcmp(b, sig, 8) || memcmp(b + 12, "IHDR", 4)) return 0;
+    *w = (unsigned)b[16] << 24 | (unsigned)b[17] << 16 | (unsigned)b[18] << 8 | b[19];
+    *h = (unsigned)b[20] << 24 | (unsigned)b[21] << 16 | (unsigned)b[22] << 8 | b[23];
+    return *w > 0 && *h > 0;
+}
+
+static int gnuplot_exec(const struct plot_set *ps, const char *name, struct err *e)
+{
+    char script[80], log[4300];
+    snprintf(script, sizeof script, "%s.gp", name);
+    snprintf(log, sizeof log, "%s/%s.log", ps->dir, name);
+    pid_t pid = fork();
+    if (pid < 0) return err_set(e, "cannot start gnuplot: %s", strerror(errno));
+    if (pid == 0) {
+        int in = open("/dev/null", O_RDONLY);
+        int out = open(log, O_WRONLY | O_CREAT | O_TRUNC, 0644);
+        if (in < 0 || out < 0 || chdir(ps->dir)) _exit(127);
+        dup2(in, 0);
+        dup2(out, 1);
+        dup2(out, 2);
+        execl(ps->gnuplot, "gnuplot", script, (char *)NULL);
+        _exit(127);
+    }
+    int st;
+    while (waitpid(pid, &st, 0) < 0)
+        if (errno != EINTR) return err_set(e, "waiting for gnuplot: %s", strerror(errno));
+    if (!WIFEXITED(st) || WEXITSTATUS(st))
+        return err_set(e, "%s/%s.gp: gnuplot failed (status %d), expected a drawn plot; see %s",
+                       ps->dir, name, WIFEXITED(st) ? WEXITSTATUS(st) : -1, log);
+    return 0;
+}
+
+/* Record the plot and draw it when gnuplot is present. */
+int plot_finish(struct plot_set *ps, const char *name, const char *title, enum plot_kind kind,
+                struct err *e)
+{
+    if (ps->n == ps->cap) {
+        size_t cap = ps->cap ? 2 * ps->cap : 16;
+        struct plot_item *g = realloc(ps->items, cap * sizeof *g);
+        if (!g) return err_set(e, "out of memory for the plot list");
+        ps->items = g;
+        ps->cap = cap;
+    }
+    struct plot_item *it = &ps->items[ps->n++];
+    memset(it, 0, sizeof *it);
+    snprintf(it->name, sizeof it->name, "%s", name);
+    snprintf(it->caption, sizeof it->caption, "%s", title);
+    it->kind = kind;
+    if (!ps->gnuplot[0]) return 0;
+    if (gnuplot_exec(ps, name, e)) return -1;
+    char png[4300], svg[4300];
+    snprintf(png, sizeof png, "%s/%s.png", ps->dir, name);
+    snprintf(svg, sizeof svg, "%s/%s.svg", ps->dir, name);
+    unsigned w, h;
+    struct stat st;
+    if (!plot_png_ok(png, &w, &h))
+        return err_at(e, png, 0, "not a valid PNG after gnuplot, expected a drawn image");
+    if (stat(svg, &st) || st.st_size == 0)
+        return err_at(e, svg, 0, "missing or empty after gnuplot, expected an SVG image");
+    it->drawn = 1;
+    return 0;
+}

@@ -1,0 +1,83 @@
+/* plot.h: the report's plots, as gnuplot scripts and data files written
+ * side by side in one folder, then drawn by gnuplot when it is installed.
+ *
+ * Every plot NAME leaves NAME.dat (numbers only, never user text), NAME.gp
+ * (the script; it writes NAME.png with the pngcairo terminal and NAME.svg
+ * with the svg terminal) and, once drawn, NAME.png, NAME.svg and NAME.log.
+ * A reviewer can edit NAME.gp and run `gnuplot NAME.gp` in that folder.
+ * Labels from user input go through esc_gp, and the terminals are
+ * `noenhanced`, so a label is drawn literally and cannot run a command.
+ *
+ *     struct plot_set ps; plot_set_init(&ps, "out/plots");
+ *     plot_pr(&ps, "pr-c0", title, names, curves, n, e);  // writes .dat + .gp, draws
+ *     ... ps.items[k].drawn ...
+ *     plot_set_free(&ps);
+ *
+ * Failure contract: a plot function returns -1 when a file cannot be
+ * written or gnuplot fails on our script (e names NAME.gp and NAME.log);
+ * without gnuplot it returns 0 and marks the item not drawn.
+ */
+#ifndef RV_PLOT_H
+#define RV_PLOT_H
+
+#include <stdio.h>
+#include "harness/err.h"
+#include "reports/rstat.h"
+
+enum plot_kind { PLOT_DEGRADATION, PLOT_PR, PLOT_TRAJ, PLOT_MATRIX, PLOT_HIST, PLOT_NKIND };
+
+struct plot_item {
+    char name[64];               /* file stem in the plot folder */
+    char caption[768];           /* raw text: writers escape it */
+    enum plot_kind kind;
+    int drawn;                   /* NAME.png and NAME.svg exist and are valid */
+};
+
+struct plot_set {
+    char dir[4096];
+    char gnuplot[4096];          /* path of the gnuplot program, "" when absent */
+    size_t n, cap;
+    struct plot_item *items;
+};
+
+/* The palette: PLOT_NCOLOURS line colours, dark to light (see plot.c). */
+#define PLOT_NCOLOURS 6
+const char *plot_colour(size_t k);
+
+/* Find gnuplot on PATH (the folder list in path_env, NULL: $PATH).
+ * Fills out (size n) with its path, or "" when absent. */
+void plot_find_gnuplot(const char *path_env, char *out, size_t n);
+
+void plot_set_init(struct plot_set *ps, const char *dir);
+void plot_set_free(struct plot_set *ps);
+
+/* Kind names for the skipped-plots list ("degradation curve", ...). */
+const char *plot_kind_name(enum plot_kind k);
+
+/* One series of a plot: a name (user text) and n points of up to four columns. */
+struct plot_series {
+    const char *name;
+    size_t n;
+    const double *x, *y, *lo, *hi;  /* lo, hi may be NULL */
+};
+
+/* 1. metric against a swept parameter, one line per series with a band. */
+int plot_degradation(struct plot_set *ps, const char *name, const char *title, const char *xlabel,
+                     const char *ylabel, const struct plot_series *s, size_t n, struct err *e);
+/* 2. precision against recall, one line per series (x = recall, y = precision). */
+int plot_pr(struct plot_set *ps, const char *name, const char *title,
+            const struct plot_series *s, size_t n, struct err *e);
+/* 3. top view: the path, correct, wrong (with segments) and missed queries. */
+int plot_traj(struct plot_set *ps, const char *name, const char *title, const struct rdata_poses *p,
+              const struct rstat_outcomes *o, struct err *e);
+/* 4. the distance matrix as an image; true marks rows x cols (1 = true revisit). */
+int plot_matrix(struct plot_set *ps, const char *name, const char *title,
+                const struct rdata_matrix *m, const unsigned char *truth, struct err *e);
+/* 5. top-1 distance histograms with the two thresholds marked (NaN: not drawn). */
+int plot_hist(struct plot_set *ps, const char *name, const char *title, const struct rstat_hist *h,
+              double tau_f1, double tau_r100, struct err *e);
+
+/* 1 when path holds a PNG signature and an IHDR chunk of non-zero size. */
+int plot_png_ok(const char *path, unsigned *w, unsigned *h);
+
+#endif

@@ -1,0 +1,251 @@
+/* plot_kinds.c: the five plot kinds, each a data file and a script. */
+#include <math.h>
+#include <string.h>
+
+#include "reports/esc.h"
+#include "reports/plot_int.h"
+
+static double or_y(const double *v, size_t i, double y)
+{
+    return v && isfinite(v[i]) ? v[i] : y;
+}
+
+static int series_data(struct plot_set *ps, const char *name, const struct plot_series *s, size_t n,
+                       struct err *e)
+{
+    struct afile a;
+    if (plot_open(ps, &a, name, "dat", e)) return -1;
+    fprintf(a.f, "# %s.dat: one block per series (x y lo hi), blocks apart by two blank lines\n", name);
+    for (size_t k = 0; k < n; k++) {
+        fprintf(a.f, "# series %zu\n", k);
+        for (size_t i = 0; i < s[k].n; i++)
+            fprintf(a.f, "%.9g %.9g %.9g %.9g\n", s[k].x[i], s[k].y[i], or_y(s[k].lo, i, s[k].y[i]),
+                    or_y(s[k].hi, i, s[k].y[i]));
+        fputs(k + 1 < n ? "\n\n" : "\n", a.f);
+    }
+    return plot_commit(&a, e);
+}
+
+/* The `plot` clause of series k: the line, titled with the escaped name. */
+static void series_line(FILE *f, const char *name, size_t k, const char *with, const struct plot_series *s)
+{
+    fprintf(f, "%s'%s.dat' index %zu using 1:2 with %s ls %zu title ", k ? ", \\\n     " : "plot ",
+            name, k, with, k % PLOT_NCOLOURS + 1);
+    esc_gp(f, s[k].name);
+}
+
+int plot_degradation(struct plot_set *ps, const char *name, const char *title, const char *xlabel,
+                     const char *ylabel, const struct plot_series *s, size_t n, struct err *e)
+{
+    if (series_data(ps, name, s, n, e)) return -1;
+    struct afile a;
+    if (plot_open(ps, &a, name, "gp", e)) return -1;
+    FILE *f = a.f;
+    plot_head(f, name, title);
+    fputs("set xlabel ", f); esc_gp(f, xlabel);
+    fputs("\nset ylabel ", f); esc_gp(f, ylabel);
+    fputs("\nset yrange [0:1.05]\nset offsets graph 0.03, graph 0.03, 0, 0\n"
+          "set style fill transparent solid 0.18 noborder\n", f);
+    for (size_t k = 0; k < n; k++)
+        fprintf(f, "%s'%s.dat' index %zu using 1:3:4 with filledcurves lc rgb '%s' notitle",
+                k ? ", \\\n     " : "plot ", name, k, plot_colour(k));
+    for (size_t k = 0; k < n; k++) {
+        fputs(", \\\n     ", f);
+        fprintf(f, "'%s.dat' index %zu using 1:2 with linespoints ls %zu title ", name, k, k % PLOT_NCOLOURS + 1);
+        esc_gp(f, s[k].name);
+    }
+    fputc('\n', f);
+    plot_tail(f, name);
+    if (plot_commit(&a, e)) return -1;
+    return plot_finish(ps, name, title, PLOT_DEGRADATION, e);
+}
+
+int plot_pr(struct plot_set *ps, const char *name, const char *title,
+            const struct plot_series *s, size_t n, struct err *e)
+{
+    if (series_data(ps, name, s, n, e)) return -1;
+    struct afile a;
+    if (plot_open(ps, &a, name, "gp", e)) return -1;
+    FILE *f = a.f;
+    plot_head(f, name, title);
+    fputs("set xlabel 'recall'\nset ylabel 'precision'\nset xrange [0:1]\nset yrange [0:1.05]\n", f);
+    for (size_t k = 0; k < n; k++) series_line(f, name, k, "lines", s);
+    fputc('\n', f);
+    plot_tail(f, name);
+    if (plot_commit(&a, e)) return -1;
+    return plot_finish(ps, name, title, PLOT_PR, e);
+}
+
+static void track_rows(FILE *f, const struct rdata_track *t)
+{
+    long prev = -2;
+    for (size_t i = 0; i < t->n; i++) {
+        if (!t->has[i]) continue;
+        if (prev >= 0 && (long)i != prev + 1) fputc('\n', f);
+        fprintf(f, "%.9g %.9g %zu\n", t->x[i], t->y[i], i);
+        prev = (long)i;
+    }
+}
+
+/* One data file per layer, NAME-LAYER.dat, so no layer is an empty block. */
+static const char *const traj_layers[5] = {"map", "query", "correct", "wrong", "missed"};
+
+static int traj_data(struct plot_set *ps, const char *name, const struct rdata_poses *p,
+                     const struct rstat_outcomes *o, struct err *e)
+{
+    static const enum rstat_class cls[5] = {0, 0, RSTAT_CORRECT, RSTAT_WRONG, RSTAT_MISSED};
+    for (int b = 0; b < 5; b++) {
+        char stem[128];
+        snprintf(stem, sizeof stem, "%s-%s", name, traj_layers[b]);
+        struct afile a;
+        if (plot_open(ps, &a, stem, "dat", e)) return -1;
+        fprintf(a.f, "# %s.dat: %s\n", stem, b < 2 ? "path: x y scan" : b == 3 ?
+                "accepted wrong: x y dx dy query cand" : "x y query");
+        if (b < 2) track_rows(a.f, b ? &p->query : &p->map);
+        for (size_t k = 0; b >= 2 && k < o->n; k++) {
+            const struct rstat_outcome *r = &o->o[k];
+            if (r->cls != cls[b]) continue;
+            if (b == 3)
+                fprintf(a.f, "%.9g %.9g %.9g %.9g %ld %ld\n", r->qx, r->qy, r->cx - r->qx, r->cy - r->qy,
+                        r->query, r->cand);
+            else
+                fprintf(a.f, "%.9g %.9g %ld\n", r->qx, r->qy, r->query);
+        }
+        if (plot_commit(&a, e)) return -1;
+    }
+    return 0;
+}
+
+int plot_traj(struct plot_set *ps, const char *name, const char *title, const struct rdata_poses *p,
+              const struct rstat_outcomes *o, struct err *e)
+{
+    if (traj_data(ps, name, p, o, e)) return -1;
+    struct afile a;
+    if (plot_open(ps, &a, name, "gp", e)) return -1;
+    FILE *f = a.f;
+    plot_head(f, name, title);
+    /* Shapes as well as colours tell the outcomes apart: filled circles,
+     * filled triangles with dashed segments, open squares. */
+    fputs("set size ratio -1\nset xlabel 'x (m)'\nset ylabel 'y (m)'\n", f);
+    const char *sep = "plot ", *next = ", \\\n     ";
+    if (p->map.n) {
+        fprintf(f, "%s'%s-map.dat' using 1:2 with lines lc rgb '#9a9a9a' lw 1 title 'map path'", sep, name);
+        sep = next;
+    }
+    if (p->query.n) {
+        fprintf(f, "%s'%s-query.dat' using 1:2 with lines lc rgb '#c8c8c8' lw 1 dt (4,3) title 'query path'",
+                sep, name);
+        sep = next;
+    }
+    if (o->by_class[RSTAT_WRONG]) {
+        fprintf(f, "%s'%s-wrong.dat' using 1:2:3:4 with vectors nohead lc rgb '%s' lw 1 dt (6,3) notitle, "
+                   "'' using 1:2 with points pt 9 ps 1.1 lc rgb '%s' title 'accepted wrong'",
+                sep, name, plot_colour(1), plot_colour(1));
+        sep = next;
+    }
+    if (o->by_class[RSTAT_CORRECT]) {
+        fprintf(f, "%s'%s-correct.dat' using 1:2 with points pt 7 ps 0.7 lc rgb '%s' title 'accepted correct'",
+                sep, name, plot_colour(2));
+        sep = next;
+    }
+    if (o->by_class[RSTAT_MISSED])
+        fprintf(f, "%s'%s-missed.dat' using 1:2 with points pt 4 ps 0.9 lw 1.5 lc rgb '%s' title 'missed revisit'",
+                sep, name, plot_colour(0));
+    fputc('\n', f);
+    plot_tail(f, name);
+    if (plot_commit(&a, e)) return -1;
+    return plot_finish(ps, name, title, PLOT_TRAJ, e);
+}
+
+static int matrix_data(struct plot_set *ps, const char *name, const struct rdata_matrix *m,
+                       const unsigned char *truth, size_t *n_true, struct err *e)
+{
+    struct afile a;
+    if (plot_open(ps, &a, name, "dat", e)) return -1;
+    fprintf(a.f, "# %s.dat: block 0 column row distance (positions in matrix.csv), block 1 true revisits\n", name);
+    for (size_t r = 0; r < m->rows; r++) {
+        for (size_t c = 0; c < m->cols; c++) fprintf(a.f, "%zu %zu %.9g\n", c, r, m->d[r * m->cols + c]);
+        fputc('\n', a.f);
+    }
+    fputc('\n', a.f);
+    *n_true = 0;
+    for (size_t r = 0; r < m->rows; r++)
+        for (size_t c = 0; c < m->cols; c++)
+            if (truth[r * m->cols + c]) { fprintf(a.f, "%zu %zu\n", c, r); (*n_true)++; }
+    return plot_commit(&a, e);
+}
+
+/* About eight tics labelled with the scan indices the positions stand for. */
+static void index_tics(FILE *f, const char *axis, const long *idx, size_t n)
+{
+    size_t step = n > 8 ? (n + 7) / 8 : 1;
+    fprintf(f, "set %stics (", axis);
+    for (size_t k = 0; k < n; k += step) fprintf(f, "%s\"%ld\" %zu", k ? ", " : "", idx[k], k);
+    fputs(")\n", f);
+}
+
+int plot_matrix(struct plot_set *ps, const char *name, const char *title,
+                const struct rdata_matrix *m, const unsigned char *truth, struct err *e)
+{
+    size_t n_true;
+    if (matrix_data(ps, name, m, truth, &n_true, e)) return -1;
+    struct afile a;
+    if (plot_open(ps, &a, name, "gp", e)) return -1;
+    FILE *f = a.f;
+    plot_head(f, name, title);
+    /* A lightness ramp in the palette's own colours: near (small distance)
+     * is dark, far is light, so the image reads the same in grey.  True
+     * revisits are rings drawn twice, black under white, visible on both. */
+    fprintf(f, "set palette defined (0 '%s', 0.35 '%s', 0.7 '%s', 1 '%s')\n", plot_colour(0),
+            plot_colour(2), plot_colour(3), plot_colour(5));
+    fputs("set size ratio -1\nset xlabel 'map scan'\nset ylabel 'query scan'\n"
+          "set cblabel 'descriptor distance'\nset yrange [*:*] reverse\nset autoscale fix\n"
+          "set key outside right bottom\n", f);
+    index_tics(f, "x", m->col_idx, m->cols);
+    index_tics(f, "y", m->row_idx, m->rows);
+    fprintf(f, "plot '%s.dat' index 0 using 1:2:3 with image notitle", name);
+    if (n_true)
+        fprintf(f, ", \\\n     '' index 1 using 1:2 with points pt 6 ps 0.7 lw 3 lc rgb 'black' title 'true revisit'"
+                   ", \\\n     '' index 1 using 1:2 with points pt 6 ps 0.7 lw 1 lc rgb 'white' notitle");
+    fputc('\n', f);
+    plot_tail(f, name);
+    if (plot_commit(&a, e)) return -1;
+    return plot_finish(ps, name, title, PLOT_MATRIX, e);
+}
+
+static void threshold_mark(FILE *f, int k, double tau, const char *text, const char *colour, double at)
+{
+    if (!isfinite(tau)) return;
+    fprintf(f, "set arrow %d from %.9g, graph 0 to %.9g, graph 1 nohead lw 2 dt (8,4) lc rgb '%s' front\n",
+            k, tau, tau, colour);
+    fprintf(f, "set label %d '%s' at %.9g, graph %.2f left offset 0.5,0 front\n", k, text, tau, at);
+}
+
+int plot_hist(struct plot_set *ps, const char *name, const char *title, const struct rstat_hist *h,
+              double tau_f1, double tau_r100, struct err *e)
+{
+    double w = h->nbins > 1 ? (h->hi - h->lo) / (double)h->nbins : fmax(fabs(h->lo) * 0.1, 0.05);
+    struct afile a;
+    if (plot_open(ps, &a, name, "dat", e)) return -1;
+    fprintf(a.f, "# %s.dat: bin_lo bin_hi correct wrong (top-1 descriptor distance)\n", name);
+    for (size_t b = 0; b < h->nbins; b++)
+        fprintf(a.f, "%.9g %.9g %zu %zu\n", h->lo + (double)b * w, h->lo + (double)(b + 1) * w,
+                h->correct[b], h->wrong[b]);
+    if (plot_commit(&a, e)) return -1;
+    if (plot_open(ps, &a, name, "gp", e)) return -1;
+    FILE *f = a.f;
+    plot_head(f, name, title);
+    fprintf(f, "set xlabel 'top-1 descriptor distance'\nset ylabel 'queries'\nset yrange [0:*]\n"
+               "set boxwidth %.9g absolute\n", w / 2);
+    threshold_mark(f, 1, tau_f1, "F1max threshold", plot_colour(0), 0.95);
+    threshold_mark(f, 2, tau_r100, "R@100P threshold", plot_colour(3), 0.85);
+    /* Side by side, solid against hatched, so grey print keeps them apart. */
+    fprintf(f, "plot '%s.dat' using (($1+$2)/2 - %.9g):3 with boxes fs solid 0.75 border lt -1 "
+               "lc rgb '%s' title 'correct top-1 (within r_pos)', \\\n"
+               "     '' using (($1+$2)/2 + %.9g):4 with boxes fs pattern 4 border lt -1 "
+               "lc rgb '%s' title 'wrong top-1 (beyond r_neg)'\n",
+            name, w / 4, plot_colour(2), w / 4, plot_colour(1));
+    plot_tail(f, name);
+    if (plot_commit(&a, e)) return -1;
+    return plot_finish(ps, name, title, PLOT_HIST, e);
+}

@@ -1,0 +1,310 @@
+/* rdata.c: read result.json files and the folder around them. */
+#include "reports/rdata.h"
+
+#include <cjson/cJSON.h>
+#include <dirent.h>
+#include <math.h>
+#include <stdlib.h>
+#include <string.h>
+#include <sys/stat.h>
+
+#include "harness/fileio.h"
+
+#define RDATA_JSON_MAX ((size_t)256 << 20)
+
+static const char *const metric_names[RDATA_NMETRIC] = {"F1max", "R@100P", "EP", "AP", "recall@1"};
+static const char *const metric_keys[RDATA_NMETRIC] = {"f1max", "r100p", "ep", "ap", "recall_at_1"};
+
+const char *rdata_metric_name(int k) { return metric_names[k]; }
+const char *rdata_metric_key(int k) { return metric_keys[k]; }
+
+static void json_str(const cJSON *o, const char *key, char *out, size_t n)
+{
+    const cJSON *v = cJSON_GetObjectItemCaseSensitive(o, key);
+    if (cJSON_IsString(v) && v->valuestring) snprintf(out, n, "%s", v->valuestring);
+}
+
+static double json_num(const cJSON *o, const char *key, double dflt)
+{
+    const cJSON *v = cJSON_GetObjectItemCaseSensitive(o, key);
+    return cJSON_IsNumber(v) ? v->valuedouble : dflt;
+}
+
+/* Parse text as JSON; on failure the message names line and column. */
+static cJSON *json_parse(const char *text, const char *path, struct err *e)
+{
+    const char *end = NULL;
+    cJSON *root = cJSON_ParseWithLengthOpts(text, strlen(text), &end, 0);
+    if (!root) {
+        long line, col;
+        err_line_col(text, end ? (size_t)(end - text) : 0, &line, &col);
+        err_set(e, "%s:%ld:%ld: not valid JSON, expected an object", path, line, col);
+        return NULL;
+    }
+    if (!cJSON_IsObject(root)) {
+        cJSON_Delete(root);
+        err_set(e, "%s:1:1: top level is not an object, expected an object", path);
+        return NULL;
+    }
+    return root;
+}
+
+static void cell_protocol(const cJSON *p, struct protocol *pr)
+{
+    protocol_defaults(pr);
+    if (!cJSON_IsObject(p)) return;
+    char mode[16] = "", counting[16] = "";
+    json_str(p, "mode", mode, sizeof mode);
+    json_str(p, "counting", counting, sizeof counting);
+    if (!strcmp(mode, "reloc")) pr->mode = PROTOCOL_RELOC;
+    if (!strcmp(counting, "lenient")) pr->counting = PROTOCOL_LENIENT;
+    pr->r_pos_m = json_num(p, "r_pos_m", pr->r_pos_m);
+    pr->r_neg_m = json_num(p, "r_neg_m", pr->r_pos_m);
+    pr->exclusion_s = json_num(p, "exclusion_s", pr->exclusion_s);
+    pr->exclusion_scans = (long)json_num(p, "exclusion_scans", -1);
+    pr->top_k = (int)json_num(p, "top_k", pr->top_k);
+    pr->planar = cJSON_IsTrue(cJSON_GetObjectItemCaseSensitive(p, "planar"));
+}
+
+static void cell_condition(const cJSON *c, struct rdata_cell *cell)
+{
+    if (!cJSON_IsObject(c)) return;
+    json_str(c, "name", cell->cond, sizeof cell->cond);
+    json_str(c, "chain", cell->chain, sizeof cell->chain);
+    json_str(c, "on", cell->on, sizeof cell->on);
+    cell->seed = (unsigned long long)json_num(c, "seed", 0);
+    const cJSON *ax = cJSON_GetObjectItemCaseSensitive(c, "axis");
+    if (cJSON_IsObject(ax) && cJSON_IsNumber(cJSON_GetObjectItemCaseSensitive(ax, "value"))) {
+        cell->has_axis = 1;
+        json_str(ax, "stage", cell->axis_stage, sizeof cell->axis_stage);
+        json_str(ax, "key", cell->axis_key, sizeof cell->axis_key);
+        cell->axis_value = json_num(ax, "value", NAN);
+    }
+}
+
+static void cell_metrics(const cJSON *m, struct rdata_cell *cell)
+{
+    for (int k = 0; k < RDATA_NMETRIC; k++) {
+        const cJSON *o = cJSON_GetObjectItemCaseSensitive(m, metric_keys[k]);
+        struct rdata_metric *r = &cell->m[k];
+        r->present = cJSON_IsObject(o) && cJSON_IsNumber(cJSON_GetObjectItemCaseSensitive(o, "value"));
+        r->value = r->present ? json_num(o, "value", NAN) : NAN;
+        r->lo = r->present ? json_num(o, "lo", NAN) : NAN;
+        r->hi = r->present ? json_num(o, "hi", NAN) : NAN;
+        r->threshold = r->present ? json_num(o, "threshold", NAN) : NAN;
+    }
+}
+
+/* curve: three equally long numeric arrays.  0 or -1. */
+static int cell_curve(const cJSON *cv, const char *path, struct rdata_cell *cell, struct err *e)
+{
+    if (!cJSON_IsObject(cv)) return 0;
+    const char *keys[3] = {"threshold", "precision", "recall"};
+    double **dst[3] = {&cell->curve_t, &cell->curve_p, &cell->curve_r};
+    const cJSON *a[3];
+    for (int k = 0; k < 3; k++) {
+        a[k] = cJSON_GetObjectItemCaseSensitive(cv, keys[k]);
+        if (!cJSON_IsArray(a[k]))
+            return err_at(e, path, 0, "curve.%s is not an array, expected a list of numbers", keys[k]);
+    }
+    size_t n = (size_t)cJSON_GetArraySize(a[0]);
+    if ((size_t)cJSON_GetArraySize(a[1]) != n || (size_t)cJSON_GetArraySize(a[2]) != n)
+        return err_at(e, path, 0, "curve arrays differ in length, expected threshold, precision "
+                      "and recall of equal length");
+    for (int k = 0; k < 3; k++) {
+        *dst[k] = malloc((n ? n : 1) * sizeof(double));
+        if (!*dst[k]) return err_at(e, path, 0, "out of memory for a curve of %zu points", n);
+        size_t i = 0;
+        for (const cJSON *v = a[k]->child; v; v = v->next, i++) {
+            if (!cJSON_IsNumber(v))
+                return err_at(e, path, 0, "curve.%s[%zu] is not a number, expected a number", keys[k], i);
+            (*dst[k])[i] = v->valuedouble;
+        }
+    }
+    cell->curve_n = n;
+    return 0;
+}
+
+void rdata_cell_free(struct rdata_cell *c)
+{
+    free(c->curve_t);
+    free(c->curve_p);
+    free(c->curve_r);
+    c->curve_t = c->curve_p = c->curve_r = NULL;
+    c->curve_n = 0;
+}
+
+static void cell_header(const cJSON *root, struct rdata_cell *c)
+{
+    json_str(root, "software", c->software, sizeof c->software);
+    json_str(root, "command", c->command, sizeof c->command);
+    json_str(root, "scenario_hash", c->scenario_hash, sizeof c->scenario_hash);
+    const cJSON *m = cJSON_GetObjectItemCaseSensitive(root, "method");
+    json_str(m, "name", c->method, sizeof c->method);
+    json_str(m, "label", c->label, sizeof c->label);
+    if (!c->label[0]) snprintf(c->label, sizeof c->label, "%s", c->method);
+    const cJSON *rec = cJSON_GetObjectItemCaseSensitive(root, "recordings");
+    json_str(rec, "map", c->rec_map, sizeof c->rec_map);
+    json_str(rec, "query", c->rec_query, sizeof c->rec_query);
+    const cJSON *cnt = cJSON_GetObjectItemCaseSensitive(root, "counts");
+    c->queries = (size_t)json_num(cnt, "queries", 0);
+    c->revisits = (size_t)json_num(cnt, "revisits", 0);
+    char status[16] = "ok";
+    json_str(root, "status", status, sizeof status);
+    c->ok = !strcmp(status, "ok");
+    json_str(root, "error", c->error, sizeof c->error);
+}
+
+int rdata_cell_parse(const char *text, const char *path, struct rdata_cell *c, struct err *e)
+{
+    cJSON *root = json_parse(text, path, e);
+    if (!root) return -1;
+    char format[64] = "";
+    json_str(root, "format", format, sizeof format);
+    if (strcmp(format, "revisit-result-1")) {
+        cJSON_Delete(root);
+        return err_at(e, path, 0, "format is '%s', expected 'revisit-result-1'", format);
+    }
+    if (!cJSON_IsObject(cJSON_GetObjectItemCaseSensitive(root, "method"))) {
+        cJSON_Delete(root);
+        return err_at(e, path, 0, "no method object, expected \"method\": {\"name\": ...}");
+    }
+    cell_header(root, c);
+    cell_condition(cJSON_GetObjectItemCaseSensitive(root, "condition"), c);
+    cell_protocol(cJSON_GetObjectItemCaseSensitive(root, "protocol"), &c->proto);
+    cell_metrics(cJSON_GetObjectItemCaseSensitive(root, "metrics"), c);
+    int rc = cell_curve(cJSON_GetObjectItemCaseSensitive(root, "curve"), path, c, e);
+    cJSON_Delete(root);
+    if (rc) rdata_cell_free(c);
+    return rc;
+}
+
+static int cell_read(const char *dir, const char *id, struct rdata_cell *c, struct err *e)
+{
+    memset(c, 0, sizeof *c);
+    snprintf(c->id, sizeof c->id, "%s", id);
+    snprintf(c->dir, sizeof c->dir, "%s", dir);
+    char path[4200], *text;
+    size_t len;
+    fileio_join(path, sizeof path, dir, "result.json");
+    if (fileio_read(path, RDATA_JSON_MAX, &text, &len, e)) return -1;
+    int rc = rdata_cell_parse(text, path, c, e);
+    free(text);
+    return rc;
+}
+
+static int is_dir(const char *p)
+{
+    struct stat st;
+    return !stat(p, &st) && S_ISDIR(st.st_mode);
+}
+
+static int is_file(const char *p)
+{
+    struct stat st;
+    return !stat(p, &st) && S_ISREG(st.st_mode);
+}
+
+static int name_cmp(const void *a, const void *b)
+{
+    return strcmp(*(char *const *)a, *(char *const *)b);
+}
+
+/* The sorted names of the subfolders of cells/ that hold a result.json. */
+static int cell_names(const char *cells, char ***names, size_t *n, struct err *e)
+{
+    *names = NULL;
+    *n = 0;
+    DIR *d = opendir(cells);
+    if (!d) return err_at(e, cells, 0, "cannot open folder, expected a readable cells/ folder");
+    size_t cap = 0;
+    struct dirent *de;
+    int rc = 0;
+    while ((de = readdir(d))) {
+        if (de->d_name[0] == '.') continue;
+        char p[4400];
+        snprintf(p, sizeof p, "%s/%s/result.json", cells, de->d_name);
+        if (!is_file(p)) continue;
+        if (*n == cap) {
+            cap = cap ? 2 * cap : 16;
+            char **g = realloc(*names, cap * sizeof *g);
+            if (!g) { rc = err_at(e, cells, 0, "out of memory listing cells"); break; }
+            *names = g;
+        }
+        if (!((*names)[*n] = strdup(de->d_name))) { rc = err_at(e, cells, 0, "out of memory"); break; }
+        (*n)++;
+    }
+    closedir(d);
+    if (!rc) qsort(*names, *n, sizeof **names, name_cmp);
+    return rc;
+}
+
+static int sweep_cells(struct rdata_set *s, struct err *e)
+{
+    char cells[4200];
+    fileio_join(cells, sizeof cells, s->root, "cells");
+    char **names;
+    size_t n;
+    int rc = cell_names(cells, &names, &n, e);
+    if (!rc && n == 0)
+        rc = err_at(e, cells, 0, "no cell holds a result.json, expected cells/ID/result.json");
+    if (!rc && !(s->cells = calloc(n, sizeof *s->cells)))
+        rc = err_at(e, cells, 0, "out of memory for %zu cells", n);
+    for (size_t k = 0; !rc && k < n; k++) {
+        char dir[4500];
+        snprintf(dir, sizeof dir, "%s/%s", cells, names[k]);
+        rc = cell_read(dir, names[k], &s->cells[k], e);
+        if (!rc) s->n++;
+    }
+    for (size_t k = 0; k < n; k++) free(names[k]);
+    free(names);
+    return rc;
+}
+
+static void sweep_scenario(struct rdata_set *s)
+{
+    char path[4200], *text;
+    size_t len;
+    fileio_join(path, sizeof path, s->root, "scenario.json");
+    if (fileio_read(path, RDATA_JSON_MAX, &text, &len, NULL)) return;
+    cJSON *root = cJSON_Parse(text);
+    free(text);
+    json_str(root, "name", s->scenario_name, sizeof s->scenario_name);
+    cJSON_Delete(root);
+}
+
+int rdata_load(const char *dir, struct rdata_set *s, struct err *e)
+{
+    memset(s, 0, sizeof *s);
+    snprintf(s->root, sizeof s->root, "%s", dir);
+    char p1[4200], p2[4200];
+    fileio_join(p1, sizeof p1, dir, "result.json");
+    fileio_join(p2, sizeof p2, dir, "cells");
+    int rc;
+    if (!is_dir(dir)) {
+        return err_at(e, dir, 0, "no such folder, expected a results folder");
+    } else if (is_file(p1)) {
+        rc = (s->cells = calloc(1, sizeof *s->cells)) ? 0 : err_set(e, "out of memory");
+        if (!rc) rc = cell_read(dir, ".", &s->cells[0], e);
+        if (!rc) s->n = 1;
+    } else if (is_dir(p2)) {
+        s->is_sweep = 1;
+        rc = sweep_cells(s, e);
+        if (!rc) sweep_scenario(s);
+    } else {
+        return err_at(e, dir, 0, "not a results folder, expected result.json or cells/");
+    }
+    if (!rc) rc = rdata_verdicts_read(s, e);
+    if (rc) rdata_free(s);
+    return rc;
+}
+
+void rdata_free(struct rdata_set *s)
+{
+    for (size_t k = 0; k < s->n; k++) rdata_cell_free(&s->cells[k]);
+    free(s->cells);
+    free(s->verdicts);
+    s->cells = NULL;
+    s->verdicts = NULL;
+    s->n = s->n_verdicts = 0;
+}

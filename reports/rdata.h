@@ -1,0 +1,127 @@
+/* rdata.h: the results folder as the report writer sees it.
+ *
+ * A results folder is either one `revisit eval --out DIR` output (result.json,
+ * queries.csv, poses.csv, matrix.csv) or a sweep folder (scenario.json,
+ * cells/ID/ each such an output).  rdata_load reads every result.json into
+ * cells; the large per-cell files are read on demand by the three
+ * rdata_*_load functions, one cell at a time.  See DEVELOPERS.md "Results
+ * folder" for the schema.
+ *
+ *     struct rdata_set s;
+ *     if (rdata_load("runs/sweep1", &s, e)) return -1;   // s untouched on -1
+ *     ... s.cells[k].m[RDATA_F1MAX].value ...
+ *     rdata_free(&s);
+ *
+ * Ownership: every *_load fills a struct the caller releases with the
+ * matching *_free, which accepts a zeroed struct.  On -1 nothing is left
+ * allocated.  Unknown keys are ignored; missing optional keys read as absent.
+ */
+#ifndef RV_RDATA_H
+#define RV_RDATA_H
+
+#include <stddef.h>
+#include "harness/err.h"
+#include "metrics/protocol.h"
+
+/* The scalars the tables show, in table order. */
+enum { RDATA_F1MAX, RDATA_R100P, RDATA_EP, RDATA_AP, RDATA_R1, RDATA_NMETRIC };
+
+struct rdata_metric {
+    int present;          /* 0 when result.json lacks it */
+    double value, lo, hi; /* lo, hi NaN when no interval was computed */
+    double threshold;     /* descriptor distance; NaN when absent */
+};
+
+struct rdata_cell {
+    char id[256];              /* folder name under cells/, or "." */
+    char dir[4096];            /* folder holding result.json */
+    char method[256], label[256];
+    char cond[256], chain[512], on[32];
+    unsigned long long seed;
+    int has_axis;              /* condition.axis present */
+    char axis_stage[64], axis_key[64];
+    double axis_value;
+    char software[128], command[2048], scenario_hash[128];
+    char rec_map[1024], rec_query[1024];
+    struct protocol proto;
+    size_t queries, revisits;
+    int ok;                    /* status "ok" */
+    char error[512];           /* status "failed": the message */
+    struct rdata_metric m[RDATA_NMETRIC];
+    size_t curve_n;            /* PR curve points (0 when absent) */
+    double *curve_t, *curve_p, *curve_r;
+};
+
+/* One acceptance criterion result (see rdata_load for the file read). */
+struct rdata_verdict {
+    char text[512], metric[64], method[256], cond[256], cmp[8];
+    double value, lo, hi, threshold;
+    int pass;
+};
+
+struct rdata_set {
+    int is_sweep;
+    char root[4096];
+    char scenario_name[256];
+    char verdict_file[64];     /* file the verdicts came from, "" when none */
+    size_t n;                  /* cells, sorted by id */
+    struct rdata_cell *cells;
+    size_t n_verdicts;
+    struct rdata_verdict *verdicts;
+};
+
+/* The display name and the result.json key of metric k. */
+const char *rdata_metric_name(int k);
+const char *rdata_metric_key(int k);
+
+/* Read a results folder.  0 or -1 ("DIR: not a results folder, expected
+ * result.json or cells/"; JSON errors as "FILE:LINE:COL: ...").  Criteria
+ * results are read from DIR/verdicts.json when present. */
+int rdata_load(const char *dir, struct rdata_set *s, struct err *e);
+void rdata_free(struct rdata_set *s);
+
+/* Read s->root/verdicts.json (called by rdata_load).  No file: 0 and no
+ * verdicts.  A bad file: -1 with its position. */
+int rdata_verdicts_read(struct rdata_set *s, struct err *e);
+
+/* Parse one result.json text (path is used in messages only). 0 or -1. */
+int rdata_cell_parse(const char *text, const char *path, struct rdata_cell *c, struct err *e);
+void rdata_cell_free(struct rdata_cell *c);
+
+/* poses.csv: `set,index,t,x,y,z`.  Each set is indexed by scan index;
+ * has[i] is 0 for an index that no row gave. */
+struct rdata_track {
+    size_t n;                  /* largest index + 1 */
+    unsigned char *has;
+    double *t, *x, *y, *z;
+};
+struct rdata_poses {
+    struct rdata_track map, query;
+};
+int rdata_poses_load(const char *path, struct rdata_poses *p, struct err *e);
+void rdata_poses_free(struct rdata_poses *p);
+
+/* queries.csv: one row per query; only the top candidate is kept
+ * (cand -1 when the row has none). */
+struct rdata_top1 {
+    long query, cand;
+    double dist;
+};
+struct rdata_queries {
+    size_t n;
+    struct rdata_top1 *q;
+};
+int rdata_queries_load(const char *path, struct rdata_queries *q, struct err *e);
+void rdata_queries_free(struct rdata_queries *q);
+
+/* matrix.csv: `#rows` line, `#cols` line, then rows of distances
+ * (an empty or non-numeric-free "nan" entry reads as NaN). */
+struct rdata_matrix {
+    size_t rows, cols;
+    long *row_idx, *col_idx;
+    double *d;                 /* rows * cols, row-major */
+};
+int rdata_matrix_load(const char *path, struct rdata_matrix *m, struct err *e);
+void rdata_matrix_free(struct rdata_matrix *m);
+
+#endif

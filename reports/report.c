@@ -1,0 +1,243 @@
+/* report.c: gather tables and plots for a results folder, then write them. */
+#include "reports/report_int.h"
+
+#include <math.h>
+#include <stdarg.h>
+#include <stdlib.h>
+#include <string.h>
+
+#include "harness/fileio.h"
+#include "harness/progress.h"
+
+void report_opts_defaults(struct report_opts *o)
+{
+    memset(o, 0, sizeof *o);
+    o->md = o->html = 1;
+}
+
+int report_formats(const char *list, struct report_opts *o, struct err *e)
+{
+    o->md = o->html = 0;
+    const char *p = list;
+    while (1) {
+        size_t len = strcspn(p, ",");
+        if (len == 2 && !strncmp(p, "md", 2)) o->md = 1;
+        else if (len == 4 && !strncmp(p, "html", 4)) o->html = 1;
+        else
+            return err_set(e, "revisit report: option '--format' got '%.*s', expected md, html or md,html",
+                           (int)len, p);
+        if (!p[len]) break;
+        p += len + 1;
+    }
+    return 0;
+}
+
+void report_note(struct report_doc *d, const char *fmt, ...)
+{
+    if (d->n_notes >= REPORT_NOTES_MAX) return;
+    va_list ap;
+    va_start(ap, fmt);
+    vsnprintf(d->notes[d->n_notes++], sizeof d->notes[0], fmt, ap);
+    va_end(ap);
+}
+
+long report_ok_cell(const struct rdata_set *s, const struct rstat_table *t, size_t m, size_t c)
+{
+    for (size_t i = 0; i < s->n; i++)
+        if (s->cells[i].ok && !strcmp(s->cells[i].label, t->methods[m]) &&
+            !strcmp(s->cells[i].cond, t->conds[c]))
+            return (long)i;
+    return -1;
+}
+
+/* Degradation curves: one plot per swept axis and per metric. */
+static int plots_degradation(struct report_doc *d, struct plot_set *ps, struct progress *pg, struct err *e)
+{
+    const struct rdata_set *s = d->set;
+    const struct rstat_table *t = d->table;
+    static const int metrics[2] = {RDATA_F1MAX, RDATA_R100P};
+    size_t n = t->n_conds, n_axes = 0;
+    double *buf = malloc((4 * n + 1) * sizeof *buf * (t->n_methods + 1));
+    struct plot_series *sr = malloc((t->n_methods + 1) * sizeof *sr);
+    int rc = (!buf || !sr) ? err_set(e, "out of memory for degradation curves") : 0;
+    for (size_t c0 = 0; !rc && c0 < n; c0++) {
+        const struct rdata_cell *a = &s->cells[t->cond_cell[c0]];
+        if (!a->has_axis) continue;
+        int seen = 0;  /* axis already drawn from an earlier condition */
+        for (size_t c1 = 0; c1 < c0 && !seen; c1++) {
+            const struct rdata_cell *b = &s->cells[t->cond_cell[c1]];
+            seen = b->has_axis && !strcmp(a->axis_stage, b->axis_stage) && !strcmp(a->axis_key, b->axis_key);
+        }
+        if (seen) continue;
+        for (int mk = 0; !rc && mk < 2; mk++) {
+            size_t ns = 0;
+            for (size_t m = 0; m < t->n_methods; m++) {
+                double *x = buf + (4 * n + 1) * m, *y = x + n, *lo = y + n, *hi = lo + n;
+                size_t k = 0;
+                for (size_t c = c0; c < n; c++) {
+                    const struct rdata_cell *b = &s->cells[t->cond_cell[c]];
+                    const struct rstat_group *g = rstat_find(t, m, c);
+                    if (!b->has_axis || strcmp(a->axis_stage, b->axis_stage) || strcmp(a->axis_key, b->axis_key) ||
+                        !g || !g->n_seeds || isnan(g->mean[metrics[mk]]))
+                        continue;
+                    x[k] = b->axis_value; y[k] = g->mean[metrics[mk]];
+                    lo[k] = g->lo[metrics[mk]]; hi[k] = g->hi[metrics[mk]];
+                    k++;
+                }
+                if (k) sr[ns++] = (struct plot_series){t->methods[m], k, x, y, lo, hi};
+            }
+            if (!ns) continue;
+            char name[64], title[512], xl[200];
+            snprintf(name, sizeof name, "degradation-%zu-%s", n_axes, rdata_metric_key(metrics[mk]));
+            snprintf(title, sizeof title, "%s against %s %s (mean over seeds, band: 95%% interval)",
+                     rdata_metric_name(metrics[mk]), a->axis_stage, a->axis_key);
+            snprintf(xl, sizeof xl, "%s %s", a->axis_stage, a->axis_key);
+            rc = plot_degradation(ps, name, title, xl, rdata_metric_name(metrics[mk]), sr, ns, e);
+            progress_add(pg, 1);
+        }
+        n_axes++;
+    }
+    free(buf);
+    free(sr);
+    return rc;
+}
+
+static int plots_pr(struct report_doc *d, struct plot_set *ps, struct progress *pg, struct err *e)
+{
+    const struct rstat_table *t = d->table;
+    struct plot_series *sr = malloc((t->n_methods + 1) * sizeof *sr);
+    if (!sr) return err_set(e, "out of memory for PR curves");
+    int rc = 0;
+    for (size_t c = 0; !rc && c < t->n_conds; c++) {
+        size_t ns = 0;
+        for (size_t m = 0; m < t->n_methods; m++) {
+            long i = report_ok_cell(d->set, t, m, c);
+            if (i < 0 || !d->set->cells[i].curve_n) continue;
+            const struct rdata_cell *cl = &d->set->cells[i];
+            sr[ns++] = (struct plot_series){t->methods[m], cl->curve_n, cl->curve_r, cl->curve_p, NULL, NULL};
+        }
+        if (!ns) { report_note(d, "PR curves for condition %s: no cell holds a curve", report_cond_name(t, c)); continue; }
+        char name[64], title[600];
+        snprintf(name, sizeof name, "pr-%zu", c);
+        snprintf(title, sizeof title, "PR curves, condition %s (first seed)", report_cond_name(t, c));
+        rc = plot_pr(ps, name, title, sr, ns, e);
+        progress_add(pg, 1);
+    }
+    free(sr);
+    return rc;
+}
+
+/* RFC 4180 quoting: a field with a comma, quote or line break is quoted and
+ * its quotes doubled. */
+static void csv_field(FILE *f, const char *s)
+{
+    if (!strpbrk(s, ",\"\r\n")) { fputs(s, f); return; }
+    fputc('"', f);
+    for (; *s; s++) {
+        if (*s == '"') fputc('"', f);
+        fputc(*s, f);
+    }
+    fputc('"', f);
+}
+
+static int write_scalars(const struct report_doc *d, const char *path, struct err *e)
+{
+    const struct rstat_table *t = d->table;
+    struct afile a;
+    if (afile_open(&a, path, e)) return -1;
+    fputs("method,condition,chain,axis,axis_value,seeds,failed,metric,mean,lo,hi,sd\n", a.f);
+    for (size_t k = 0; k < t->n_groups; k++) {
+        const struct rstat_group *g = &t->groups[k];
+        const struct rdata_cell *c = &d->set->cells[t->cond_cell[g->cond]];
+        for (int mk = 0; mk < RDATA_NMETRIC; mk++) {
+            csv_field(a.f, t->methods[g->method]);
+            fputc(',', a.f);
+            csv_field(a.f, t->conds[g->cond]);
+            fputc(',', a.f);
+            csv_field(a.f, c->chain);
+            fputc(',', a.f);
+            if (c->has_axis) {
+                char ax[200];
+                snprintf(ax, sizeof ax, "%s:%s", c->axis_stage, c->axis_key);
+                csv_field(a.f, ax);
+                fprintf(a.f, ",%.9g", c->axis_value);
+            } else {
+                fputc(',', a.f);
+            }
+            fprintf(a.f, ",%zu,%zu,%s,%.9g,%.9g,%.9g,%.9g\n", g->n_seeds, g->n_failed, rdata_metric_key(mk),
+                    g->mean[mk], g->lo[mk], g->hi[mk], g->sd[mk]);
+        }
+    }
+    if (ferror(a.f)) { afile_abort(&a); return err_at(e, path, 0, "write failed"); }
+    return afile_commit(&a, e);
+}
+
+static void doc_title(struct report_doc *d, const struct report_opts *o)
+{
+    if (o->title) snprintf(d->title, sizeof d->title, "%s", o->title);
+    else if (d->set->scenario_name[0])
+        snprintf(d->title, sizeof d->title, "Robustness report: %s", d->set->scenario_name);
+    else
+        snprintf(d->title, sizeof d->title, "Robustness report: %s", d->set->cells[0].label);
+}
+
+static int draw_all(struct report_doc *d, struct plot_set *ps, int quiet, struct err *e)
+{
+    struct progress pg;
+    progress_start(&pg, "plots", 2 * d->table->n_conds + d->table->n_conds + 3 * d->table->n_methods, quiet);
+    int rc = plots_degradation(d, ps, &pg, e);
+    if (!rc) rc = plots_pr(d, ps, &pg, e);
+    if (!rc) rc = report_cell_plots(d, ps, &pg, e);
+    progress_end(&pg);
+    return rc;
+}
+
+static int write_docs(struct report_doc *d, const char *out, struct err *e)
+{
+    char path[4200];
+    fileio_join(path, sizeof path, out, "scalars.csv");
+    if (write_scalars(d, path, e)) return -1;
+    fileio_join(path, sizeof path, out, "report.md");
+    if (d->opts->md && report_md_write(d, path, e)) return -1;
+    fileio_join(path, sizeof path, out, "report.html");
+    if (d->opts->html && report_html_write(d, path, e)) return -1;
+    return 0;
+}
+
+int report_run(const struct report_opts *o, struct report_result *r, struct err *e)
+{
+    memset(r, 0, sizeof *r);
+    struct rdata_set s;
+    struct rstat_table t;
+    if (rdata_load(o->in_dir, &s, e)) return -1;
+    if (rstat_table_build(&s, &t, e)) { rdata_free(&s); return -1; }
+    if (o->out_dir) snprintf(r->out_dir, sizeof r->out_dir, "%s", o->out_dir);
+    else fileio_join(r->out_dir, sizeof r->out_dir, o->in_dir, "report");
+    char plots[4200];
+    fileio_join(plots, sizeof plots, r->out_dir, "plots");
+    struct plot_set ps;
+    plot_set_init(&ps, plots);
+    struct report_doc *d = calloc(1, sizeof *d);
+    int rc = d ? fileio_mkdirs(plots, e) : err_set(e, "out of memory for the report");
+    if (!rc) {
+        d->opts = o;
+        d->set = &s;
+        d->table = &t;
+        d->plots = &ps;
+        doc_title(d, o);
+        rc = draw_all(d, &ps, o->quiet, e);
+    }
+    if (!rc) {
+        report_findings(d);
+        rc = write_docs(d, r->out_dir, e);
+    }
+    r->cells = s.n;
+    r->plots = ps.n;
+    for (size_t k = 0; k < ps.n; k++) r->drawn += (size_t)ps.items[k].drawn;
+    r->have_gnuplot = ps.gnuplot[0] != 0;
+    free(d);
+    plot_set_free(&ps);
+    rstat_table_free(&t);
+    rdata_free(&s);
+    return rc;
+}

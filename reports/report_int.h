@@ -1,0 +1,61 @@
+/* report_int.h: what report.c gathers and the two writers read. */
+#ifndef RV_REPORT_INT_H
+#define RV_REPORT_INT_H
+
+#include "reports/plot.h"
+#include "reports/rdata.h"
+#include "reports/report.h"
+#include "reports/rstat.h"
+
+#define REPORT_NOTES_MAX 64
+#define REPORT_FINDINGS_MAX 64
+
+/* The recording as seen through the reference cell's poses.csv. */
+struct report_overview {
+    int have;
+    char cell_id[256];
+    size_t map_scans, query_scans, queries, revisits;
+    double map_len_m, map_dur_s, query_len_m, query_dur_s;
+    size_t kinds[RSTAT_NKIND];
+};
+
+struct report_doc {
+    const struct report_opts *opts;
+    char title[512];
+    const struct rdata_set *set;
+    const struct rstat_table *table;
+    const struct plot_set *plots;
+    struct report_overview ov;
+    size_t n_findings, n_notes;
+    char findings[REPORT_FINDINGS_MAX][1024];  /* raw text; writers escape */
+    char notes[REPORT_NOTES_MAX][1024];        /* plots not made and why; raw */
+};
+
+/* Headline findings into d->findings (raw text).  Cannot fail. */
+void report_findings(struct report_doc *d);
+/* "0.812 [0.770, 0.840]" (plus " sd 0.012" over several seeds) into out. */
+void report_cell_text(const struct rstat_group *g, int metric, char *out, size_t n);
+/* Condition label: "name" or "none" for the unperturbed one. */
+const char *report_cond_name(const struct rstat_table *t, size_t c);
+/* Distinct non-empty values of the char array at offset in each cell
+ * (e.g. offsetof(struct rdata_cell, command)), first-seen order, at most max. */
+size_t report_distinct(const struct rdata_set *s, size_t offset, const char **out, size_t max);
+/* Distinct perturbation seeds, first-seen order, at most max. */
+size_t report_seeds(const struct rdata_set *s, unsigned long long *out, size_t max);
+#define REPORT_LIST_MAX 32
+/* The caution every report carries (plain text, no markup). */
+extern const char report_caution[];
+
+/* Add a note (printf format) about a plot not made; dropped past the limit. */
+void report_note(struct report_doc *d, const char *fmt, ...) __attribute__((format(printf, 2, 3)));
+/* The first cell of (method m, condition c) that finished, or -1. */
+long report_ok_cell(const struct rdata_set *s, const struct rstat_table *t, size_t m, size_t c);
+/* Trajectory, matrix and histogram plots of each method's reference cell,
+ * and the overview from the first of them.  0 or -1. */
+struct progress;
+int report_cell_plots(struct report_doc *d, struct plot_set *ps, struct progress *pg, struct err *e);
+
+int report_md_write(const struct report_doc *d, const char *path, struct err *e);
+int report_html_write(const struct report_doc *d, const char *path, struct err *e);
+
+#endif

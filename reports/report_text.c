@@ -1,0 +1,156 @@
+/* report_text.c: the text both writers share: findings, cell values, caution. */
+#include "reports/report_int.h"
+
+#include <math.h>
+#include <stdarg.h>
+#include <stdio.h>
+#include <string.h>
+
+const char report_caution[] =
+    "Results on recorded or synthetic data do not show that a vehicle is safe. Loop closure "
+    "feeds navigation: acceptance decisions follow the organisation's safety process, local "
+    "regulations and the standards that apply (for road vehicles, e.g. ISO 26262 and ISO 21448), "
+    "signed off by qualified safety engineers. A verdict of this tool is evidence for that "
+    "process, never a substitute for it.";
+
+const char *report_cond_name(const struct rstat_table *t, size_t c)
+{
+    return t->conds[c][0] ? t->conds[c] : "none";
+}
+
+void report_cell_text(const struct rstat_group *g, int metric, char *out, size_t n)
+{
+    if (!g) { snprintf(out, n, "-"); return; }
+    if (!g->n_seeds) { snprintf(out, n, "failed"); return; }
+    if (!g->present[metric] || isnan(g->mean[metric])) { snprintf(out, n, "-"); return; }
+    size_t k = 0;
+    if (isfinite(g->lo[metric]) && isfinite(g->hi[metric]))
+        k = (size_t)snprintf(out, n, "%.3f [%.3f, %.3f]", g->mean[metric], g->lo[metric], g->hi[metric]);
+    else
+        k = (size_t)snprintf(out, n, "%.3f", g->mean[metric]);
+    if (k < n && g->n_seeds > 1 && isfinite(g->sd[metric]))
+        snprintf(out + k, n - k, " sd %.3f", g->sd[metric]);
+}
+
+static void add(struct report_doc *d, const char *fmt, ...) __attribute__((format(printf, 2, 3)));
+static void add(struct report_doc *d, const char *fmt, ...)
+{
+    if (d->n_findings >= REPORT_FINDINGS_MAX) return;
+    va_list ap;
+    va_start(ap, fmt);
+    vsnprintf(d->findings[d->n_findings++], sizeof d->findings[0], fmt, ap);
+    va_end(ap);
+}
+
+static double f1(const struct rstat_table *t, size_t m, size_t c)
+{
+    const struct rstat_group *g = rstat_find(t, m, c);
+    return g && g->n_seeds ? g->mean[RDATA_F1MAX] : NAN;
+}
+
+/* Per method, the condition with the largest F1max drop from its reference. */
+static void find_worst(struct report_doc *d)
+{
+    const struct rstat_table *t = d->table;
+    for (size_t m = 0; m < t->n_methods; m++) {
+        size_t ref = t->ref_cond[m], worst = ref;
+        double fr = f1(t, m, ref), drop = -INFINITY;
+        for (size_t c = 0; c < t->n_conds; c++) {
+            double fc = f1(t, m, c);
+            if (c != ref && !isnan(fc) && fr - fc > drop) { drop = fr - fc; worst = c; }
+        }
+        if (worst == ref || isnan(fr)) continue;
+        add(d, "%s is hurt most by condition %s: F1max %.3f against %.3f under %s (change %+.3f).",
+            t->methods[m], report_cond_name(t, worst), f1(t, m, worst), fr, report_cond_name(t, ref), -drop);
+    }
+}
+
+static void family_of(const struct rdata_cell *c, char *out, size_t n)
+{
+    if (c->has_axis) snprintf(out, n, "%s %s", c->axis_stage, c->axis_key);
+    else if (c->chain[0]) snprintf(out, n, "%.*s", (int)strcspn(c->chain, ":+"), c->chain);
+    else snprintf(out, n, "unperturbed");
+}
+
+/* Per condition family (swept axis, or first stage of the chain), the
+ * method with the best mean F1max over the family's conditions. */
+static void find_best(struct report_doc *d)
+{
+    const struct rstat_table *t = d->table;
+    for (size_t c0 = 0; c0 < t->n_conds; c0++) {
+        char fam[200], other[200];
+        family_of(&d->set->cells[t->cond_cell[c0]], fam, sizeof fam);
+        int seen = 0;
+        for (size_t c1 = 0; c1 < c0 && !seen; c1++) {
+            family_of(&d->set->cells[t->cond_cell[c1]], other, sizeof other);
+            seen = !strcmp(fam, other);
+        }
+        if (seen || t->n_methods < 2) continue;
+        double best = -INFINITY, second = -INFINITY;
+        size_t bm = 0, nc = 0;
+        for (size_t m = 0; m < t->n_methods; m++) {
+            double sum = 0;
+            size_t k = 0;
+            for (size_t c = c0; c < t->n_conds; c++) {
+                family_of(&d->set->cells[t->cond_cell[c]], other, sizeof other);
+                double v = f1(t, m, c);
+                if (!strcmp(fam, other) && !isnan(v)) { sum += v; k++; }
+            }
+            if (!k) continue;
+            double mean = sum / (double)k;
+            if (mean > best) { second = best; best = mean; bm = m; nc = k; }
+            else if (mean > second) second = mean;
+        }
+        if (isinf(best)) continue;
+        char tail[64] = ".";
+        if (isfinite(second)) snprintf(tail, sizeof tail, ", ahead of the next by %.3f.", best - second);
+        add(d, "Under %s conditions the best method is %s: mean F1max %.3f over %zu condition%s%s", fam,
+            t->methods[bm], best, nc, nc == 1 ? "" : "s", tail);
+    }
+}
+
+static void find_criterion(struct report_doc *d)
+{
+    const struct rdata_set *s = d->set;
+    if (!s->n_verdicts) return;
+    size_t best = 0;
+    double bm = INFINITY;
+    for (size_t k = 0; k < s->n_verdicts; k++) {
+        double m = fabs(s->verdicts[k].value - s->verdicts[k].threshold);
+        if (m < bm) { bm = m; best = k; }
+    }
+    const struct rdata_verdict *v = &s->verdicts[best];
+    add(d, "Criterion \"%s\" is nearest its threshold: %.3f %s %.3f (margin %.3f), %s.", v->text, v->value,
+        v->cmp, v->threshold, bm, v->pass ? "passed" : "failed");
+}
+
+void report_findings(struct report_doc *d)
+{
+    find_worst(d);
+    find_best(d);
+    find_criterion(d);
+}
+
+size_t report_distinct(const struct rdata_set *s, size_t offset, const char **out, size_t max)
+{
+    size_t n = 0;
+    for (size_t i = 0; i < s->n && n < max; i++) {
+        const char *v = (const char *)&s->cells[i] + offset;
+        if (!v[0]) continue;
+        size_t k = 0;
+        while (k < n && strcmp(out[k], v)) k++;
+        if (k == n) out[n++] = v;
+    }
+    return n;
+}
+
+size_t report_seeds(const struct rdata_set *s, unsigned long long *out, size_t max)
+{
+    size_t n = 0;
+    for (size_t i = 0; i < s->n && n < max; i++) {
+        size_t k = 0;
+        while (k < n && out[k] != s->cells[i].seed) k++;
+        if (k == n) out[n++] = s->cells[i].seed;
+    }
+    return n;
+}
