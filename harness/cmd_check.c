@@ -1,0 +1,122 @@
+/* cmd_check.c: `revisit check SCENARIO DIR`: judge the acceptance criteria. */
+#include <math.h>
+#include <stdio.h>
+#include <stdlib.h>
+#include <string.h>
+
+#include "harness/cmd.h"
+#include "harness/fileio.h"
+#include "harness/junit.h"
+#include "harness/opt.h"
+#include "harness/plan.h"
+#include "harness/summary.h"
+
+static const char usage[] =
+    "usage: revisit check SCENARIO DIR [--junit FILE]\n\n"
+    "Judge the scenario's acceptance criteria on the finished sweep in DIR: one\n"
+    "line per criterion and method with the measured value, its interval and\n"
+    "PASS or FAIL; DIR/verdicts.json holds the same.  Exit 0 when every\n"
+    "criterion passes, 1 when one fails, 2 on an error or an incomplete sweep.\n"
+    "A verdict is evidence for a safety process, never a substitute for it.\n\n";
+
+static void check_fmt(char *out, size_t n, double v)
+{
+    if (isfinite(v)) snprintf(out, n, "%.4f", v);
+    else snprintf(out, n, "-");
+}
+
+/* One line of the table, and its failure message into msg. */
+static void check_line(FILE *f, const struct plan *p, const struct summary_verdict *v, char *msg, size_t n)
+{
+    const struct plan_criterion *r = &p->criteria[v->criterion];
+    char val[32], lo[32], hi[32], meas[32];
+    check_fmt(val, sizeof val, v->value);
+    check_fmt(lo, sizeof lo, v->lo);
+    check_fmt(hi, sizeof hi, v->hi);
+    check_fmt(meas, sizeof meas, v->measured);
+    fprintf(f, "%-4s  %-44.44s %-26.26s %-8s %8s  [%s, %s]  %s %g\n", v->pass ? "PASS" : "FAIL", r->text,
+            p->methods[v->method].label, plan_target_name(r->target), meas, lo, hi, plan_cmp_name(r->cmp),
+            r->threshold);
+    snprintf(msg, n, "%s %s of %s on %s is %s, expected %s %g", plan_target_name(r->target), r->metric,
+             p->methods[v->method].label, p->conds[r->cond].name, meas, plan_cmp_name(r->cmp), r->threshold);
+}
+
+static int check_junit(const char *path, const struct plan *p, const struct summary_verdict *v, size_t n,
+                       const char *table_msgs, struct err *e)
+{
+    struct junit_case *c = calloc(n + 1, sizeof *c);
+    char (*names)[512] = calloc(n + 1, sizeof *names);
+    char classname[300];
+    int rc = c && names ? 0 : err_set(e, "out of memory");
+    snprintf(classname, sizeof classname, "revisit.%s", p->name ? p->name : "scenario");
+    for (size_t k = 0; !rc && k < n; k++) {
+        snprintf(names[k], sizeof names[k], "%s [%s]", p->criteria[v[k].criterion].text, p->methods[v[k].method].label);
+        c[k] = (struct junit_case){names[k], classname, v[k].pass, v[k].pass ? NULL : table_msgs + 512 * k};
+    }
+    if (!rc) rc = junit_write(path, "revisit check", c, n, e);
+    free(c);
+    free(names);
+    return rc;
+}
+
+static int check_run(const char *scen, const char *dir, const char *junit, struct err *e)
+{
+    struct plan p;
+    struct summary s;
+    struct summary_verdict *v = NULL;
+    size_t n = 0;
+    char path[4200], *text, hash[17];
+    size_t len;
+    if (plan_load(&p, scen, e)) return CMD_ERROR;
+    int rc = CMD_ERROR;
+    snprintf(path, sizeof path, "%s/scenario.json", dir);
+    if (fileio_read(path, (size_t)4 << 20, &text, &len, e)) { err_wrap(e, "%s is not a sweep folder", dir); goto out; }
+    plan_hash_hex(text, len, hash);
+    free(text);
+    if (strcmp(hash, p.hash)) { err_at(e, path, 0, "made by another scenario file (hash %s), expected %s of %s", hash, p.hash, scen); goto out; }
+    if (!p.n_criteria) { err_at(e, scen, 0, "criteria: none given, expected at least one criterion to check"); goto out; }
+    if (summary_load(&s, &p, dir, e)) goto out;
+    if (!summary_judge(&s, &v, &n, e)) {
+        char *msgs = calloc(n + 1, 512);
+        size_t fails = 0;
+        printf("%-4s  %-44s %-26s %-8s %8s  %-18s %s\n", "", "criterion", "method", "target", "measured", "interval", "rule");
+        for (size_t k = 0; msgs && k < n; k++) {
+            check_line(stdout, &p, &v[k], msgs + 512 * k, 512);
+            fails += !v[k].pass;
+        }
+        printf("\n%zu of %zu verdicts pass\n", n - fails, n);
+        int wrc = !msgs ? err_set(e, "out of memory") : summary_write_verdicts(&s, v, n, e);
+        if (!wrc && junit) wrc = check_junit(junit, &p, v, n, msgs, e);
+        rc = wrc ? CMD_ERROR : fails ? CMD_FAIL : CMD_OK;
+        free(msgs);
+        summary_verdicts_free(v, n);
+    }
+    summary_free(&s);
+out:
+    plan_free(&p);
+    return rc;
+}
+
+int cmd_check(int argc, char **argv)
+{
+    const char *junit = NULL;
+    const struct opt opts[] = {
+        {"--junit", OPT_STR, &junit, "FILE", "also write the verdicts as JUnit XML"},
+        {0}};
+    struct opt_args a;
+    struct err e;
+    if (opt_parse("check", argc, argv, opts, &a, &e)) return cmd_report(&e);
+    if (a.help) {
+        fputs(usage, stdout);
+        opt_print_help(stdout, opts);
+        return CMD_OK;
+    }
+    if (a.n != 2) {
+        err_set(&e, "revisit check: expected SCENARIO and DIR, got %d arguments", a.n);
+        return cmd_report(&e);
+    }
+    e.msg[0] = 0;
+    int rc = check_run(a.v[0], a.v[1], junit, &e);
+    if (rc == CMD_ERROR) return cmd_report(&e);
+    return rc;
+}

@@ -1,0 +1,140 @@
+/* cmd_sweep.c: `revisit sweep SCENARIO --out DIR`: run a scenario's grid. */
+#include <signal.h>
+#include <stdio.h>
+#include <string.h>
+
+#include "harness/cmd.h"
+#include "harness/eval.h"
+#include "harness/opt.h"
+#include "harness/plan.h"
+#include "harness/pool.h"
+#include "harness/recording.h"
+#include "harness/summary.h"
+#include "harness/sweep.h"
+#include "perturb/chain.h"
+
+static const char usage[] =
+    "usage: revisit sweep SCENARIO --out DIR [options]\n\n"
+    "Expand a scenario file (methods x setting variants x conditions x axis values\n"
+    "x seeds) into cells and run them, each cell written atomically into\n"
+    "DIR/cells/ID/.  A rerun skips finished cells, so an interrupted sweep loses\n"
+    "only the cells in flight.  Ctrl-C lets running cells finish and exits 130\n"
+    "(a second Ctrl-C drops them).  At the end DIR/summary.csv, summary_seeds.csv\n"
+    "and summary.json cover every finished cell.  Exit 2 when a cell failed.\n\n";
+
+/* The one piece of state a signal handler may touch. */
+static volatile sig_atomic_t sweep_stop;
+
+static void sweep_on_sigint(int sig)
+{
+    (void)sig;
+    if (sweep_stop) pool_request_stop();
+    sweep_stop = 1;
+}
+
+/* Every cell's chain must parse before any cell runs. */
+static int sweep_check_chains(const struct plan *p, struct err *e)
+{
+    for (size_t k = 0; k < p->n_cells; k++) {
+        const struct plan_cell *c = &p->cells[k];
+        if (!c->chain || (k && p->cells[k - 1].chain && !strcmp(p->cells[k - 1].chain, c->chain))) continue;
+        struct chain *ch = NULL;
+        if (chain_parse(c->chain, &ch, e)) {
+            size_t ci = c->cond;
+            return err_wrap(e, "%s: conditions[%zu]: chain '%s'", p->path, ci, c->chain);
+        }
+        chain_free(ch);
+    }
+    return 0;
+}
+
+static size_t sweep_scans(const char *path)
+{
+    struct recording r;
+    struct err e;
+    if (!path || recording_load(path, 1, &r, &e)) return 0;
+    size_t n = r.n;
+    recording_free(&r);
+    return n;
+}
+
+static int sweep_finish(const struct plan *p, const struct sweep_opts *o, const struct sweep_stats *st,
+                        struct err *e)
+{
+    struct summary s;
+    if (summary_load(&s, p, o->out_dir, e)) return cmd_report(e);
+    int rc = summary_write(&s, e);
+    size_t failed = 0;
+    for (size_t k = 0; k < p->n_cells; k++)
+        failed += plan_in_shard(k, o->shard_i, o->shard_n) && s.cells[k].done && !s.cells[k].ok;
+    summary_free(&s);
+    if (rc) return cmd_report(e);
+    if (!o->quiet)
+        fprintf(stderr, "revisit sweep: %zu cells in this shard: %zu run now, %zu done before, %zu failed, %zu left\n",
+                st->in_shard, st->ran, st->skipped, failed, st->left);
+    if (st->interrupted) {
+        fprintf(stderr, "revisit sweep: interrupted; finished cells are kept, run the same command to go on\n");
+        return CMD_INTERRUPTED;
+    }
+    if (failed) {
+        fprintf(stderr, "revisit: sweep: %zu cells failed (status and message in %s/summary.csv)\n", failed, o->out_dir);
+        return CMD_ERROR;
+    }
+    return CMD_OK;
+}
+
+int cmd_sweep(int argc, char **argv)
+{
+    struct sweep_opts o;
+    sweep_opts_defaults(&o);
+    const char *shard = NULL;
+    long jobs = 0, cell_jobs = 1;
+    int dry = 0;
+    const struct opt opts[] = {
+        {"--out", OPT_STR, &o.out_dir, "DIR", "sweep folder (cells, summary); required"},
+        {"--shard", OPT_STR, &shard, "I/N", "run only cells k with k mod N = I (0 <= I < N)"},
+        {"--jobs", OPT_INT, &jobs, "N", "cells run at once (default: online cores)"},
+        {"--cell-jobs", OPT_INT, &cell_jobs, "N", "threads inside each cell (default 1)"},
+        {"--plugin-path", OPT_STR, &o.plugin_path, "DIRS", "extra plugin folders, ':'-separated"},
+        {"--isolate", OPT_FLAG, &o.isolate, NULL, "run each method in a child process"},
+        {"--dry-run", OPT_FLAG, &dry, NULL, "print the cells and the estimated work, run nothing"},
+        {"--quiet", OPT_FLAG, &o.quiet, NULL, "no progress bar or totals"},
+        {0}};
+    struct opt_args a;
+    struct err e;
+    if (opt_parse("sweep", argc, argv, opts, &a, &e)) return cmd_report(&e);
+    if (a.help) {
+        fputs(usage, stdout);
+        opt_print_help(stdout, opts);
+        return CMD_OK;
+    }
+    if (a.n != 1) return err_set(&e, "revisit sweep: expected one scenario file, got %d arguments", a.n), cmd_report(&e);
+    if (!o.out_dir && !dry) return err_set(&e, "revisit sweep: option '--out' is required"), cmd_report(&e);
+    if (shard && plan_parse_shard(shard, &o.shard_i, &o.shard_n, &e)) return err_wrap(&e, "revisit sweep: --shard"), cmd_report(&e);
+    if (jobs < 0 || jobs > 256 || cell_jobs < 1 || cell_jobs > 256)
+        return err_set(&e, "revisit sweep: --jobs and --cell-jobs expect 1 to 256"), cmd_report(&e);
+    o.jobs = (int)jobs;
+    o.cell_jobs = (int)cell_jobs;
+    o.run = eval_run;
+    o.stop = &sweep_stop;
+    struct plan p;
+    if (plan_load(&p, a.v[0], &e) || sweep_check_chains(&p, &e)) {
+        plan_free(&p);
+        return cmd_report(&e);
+    }
+    if (dry) {
+        sweep_print_plan(stdout, &p, &o, sweep_scans(p.map_rec), sweep_scans(p.query_rec));
+        plan_free(&p);
+        return CMD_OK;
+    }
+    struct sigaction sa, old;
+    memset(&sa, 0, sizeof sa);
+    sa.sa_handler = sweep_on_sigint;
+    sigemptyset(&sa.sa_mask);
+    sigaction(SIGINT, &sa, &old);
+    struct sweep_stats st;
+    int rc = sweep_run(&p, &o, &st, &e) ? cmd_report(&e) : sweep_finish(&p, &o, &st, &e);
+    sigaction(SIGINT, &old, NULL);
+    plan_free(&p);
+    return rc;
+}

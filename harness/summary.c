@@ -1,0 +1,288 @@
+/* summary.c: read every cell of a sweep folder and write the summary tables. */
+#include "harness/summary.h"
+
+#include <cjson/cJSON.h>
+#include <math.h>
+#include <stdio.h>
+#include <stdlib.h>
+#include <string.h>
+
+#include "harness/fileio.h"
+#include "harness/sweep.h"
+#include "metrics/boot.h"
+
+#define SM_RESULT_MAX ((size_t)64 << 20)
+
+/* Metrics in the tables, in result.json's key names. */
+static const char *const sm_metrics[] = {"f1max", "r100p", "p_r0", "ep", "ap", "recall_at_1",
+                                         "recall_at_5", "recall_at_10", "recall_at_25",
+                                         "recall_at_1pct", NULL};
+
+static int sm_load_cell(struct summary *s, size_t k, struct err *e)
+{
+    const char *id = s->p->cells[k].id;
+    struct summary_cell *c = &s->cells[k];
+    if (!sweep_cell_done(s->dir, id)) return 0;
+    char path[4200], *text;
+    size_t len;
+    snprintf(path, sizeof path, "%s/cells/%s/result.json", s->dir, id);
+    if (fileio_read(path, SM_RESULT_MAX, &text, &len, e)) return -1;
+    c->result = cJSON_ParseWithLength(text, len);
+    free(text);
+    if (!c->result || !cJSON_IsObject(c->result)) return err_at(e, path, 0, "not valid JSON, expected a result object");
+    const cJSON *h = cJSON_GetObjectItemCaseSensitive(c->result, "scenario_hash");
+    if (cJSON_IsString(h) && strcmp(h->valuestring, s->p->hash))
+        return err_at(e, path, 0, "scenario_hash %s, expected %s (a cell of another scenario file)",
+                      h->valuestring, s->p->hash);
+    const cJSON *st = cJSON_GetObjectItemCaseSensitive(c->result, "status");
+    c->done = 1;
+    c->ok = cJSON_IsString(st) && !strcmp(st->valuestring, "ok");
+    s->n_done++;
+    if (c->ok) s->n_ok++;
+    else s->n_failed++;
+    return 0;
+}
+
+int summary_load(struct summary *s, const struct plan *p, const char *dir, struct err *e)
+{
+    memset(s, 0, sizeof *s);
+    s->p = p;
+    snprintf(s->dir, sizeof s->dir, "%s", dir);
+    if (!(s->cells = calloc(p->n_cells + 1, sizeof *s->cells))) return err_set(e, "out of memory");
+    for (size_t k = 0; k < p->n_cells; k++)
+        if (sm_load_cell(s, k, e)) {
+            summary_free(s);
+            return -1;
+        }
+    return 0;
+}
+
+void summary_free(struct summary *s)
+{
+    if (!s || !s->cells) return;
+    for (size_t k = 0; k < s->p->n_cells; k++) cJSON_Delete(s->cells[k].result);
+    free(s->cells);
+    s->cells = NULL;
+}
+
+int summary_metric(const struct summary *s, size_t k, const char *metric, double *value, double *lo, double *hi)
+{
+    const struct summary_cell *c = &s->cells[k];
+    if (!c->ok) return -1;
+    const cJSON *m = cJSON_GetObjectItemCaseSensitive(cJSON_GetObjectItemCaseSensitive(c->result, "metrics"), metric);
+    const cJSON *v = cJSON_GetObjectItemCaseSensitive(m, "value");
+    if (!cJSON_IsNumber(v)) return -1;
+    const cJSON *l = cJSON_GetObjectItemCaseSensitive(m, "lo"), *h = cJSON_GetObjectItemCaseSensitive(m, "hi");
+    *value = v->valuedouble;
+    *lo = cJSON_IsNumber(l) ? l->valuedouble : NAN;
+    *hi = cJSON_IsNumber(h) ? h->valuedouble : NAN;
+    return 0;
+}
+
+int summary_compare(enum plan_cmp c, double value, double threshold)
+{
+    if (isnan(value)) return 0;
+    switch (c) {
+    case PLAN_GE: return value >= threshold;
+    case PLAN_GT: return value > threshold;
+    case PLAN_LE: return value <= threshold;
+    case PLAN_LT: return value < threshold;
+    }
+    return 0;
+}
+
+/* ---- tables ------------------------------------------------------------- */
+
+static void sm_num(FILE *f, double v)
+{
+    if (isnan(v)) fputs(",", f);
+    else fprintf(f, ",%.9g", v);
+}
+
+/* method, condition, axis_stage, axis_key, axis_value (CSV, no newline) */
+static void sm_keys(FILE *f, const struct plan *p, size_t k)
+{
+    const struct plan_cell *c = &p->cells[k];
+    const struct plan_cond *d = &p->conds[c->cond];
+    fprintf(f, "\"%s\",%s,%s,%s", p->methods[c->method].label, d->name,
+            c->has_axis ? d->axis_stage : "", c->has_axis ? d->axis_key : "");
+    if (c->has_axis) sm_num(f, c->axis_value);
+    else fputs(",", f);
+}
+
+static long sm_count(const cJSON *res, const char *key)
+{
+    const cJSON *v = cJSON_GetObjectItemCaseSensitive(cJSON_GetObjectItemCaseSensitive(res, "counts"), key);
+    return cJSON_IsNumber(v) ? (long)v->valuedouble : -1;
+}
+
+static int sm_write_cells_csv(const struct summary *s, struct err *e)
+{
+    char path[4200];
+    struct afile a;
+    snprintf(path, sizeof path, "%s/summary.csv", s->dir);
+    if (afile_open(&a, path, e)) return -1;
+    fputs("cell,method,condition,axis_stage,axis_key,axis_value,seed,status,queries,revisits", a.f);
+    for (int m = 0; sm_metrics[m]; m++) fprintf(a.f, ",%s,%s_lo,%s_hi", sm_metrics[m], sm_metrics[m], sm_metrics[m]);
+    fputc('\n', a.f);
+    for (size_t k = 0; k < s->p->n_cells; k++) {
+        const struct summary_cell *c = &s->cells[k];
+        fprintf(a.f, "%s,", s->p->cells[k].id);
+        sm_keys(a.f, s->p, k);
+        fprintf(a.f, ",%llu,%s", (unsigned long long)s->p->cells[k].seed,
+                !c->done ? "missing" : c->ok ? "ok" : "failed");
+        long q = c->ok ? sm_count(c->result, "queries") : -1, r = c->ok ? sm_count(c->result, "revisits") : -1;
+        sm_num(a.f, q < 0 ? NAN : (double)q);
+        sm_num(a.f, r < 0 ? NAN : (double)r);
+        for (int m = 0; sm_metrics[m]; m++) {
+            double v = NAN, lo = NAN, hi = NAN;
+            summary_metric(s, k, sm_metrics[m], &v, &lo, &hi);
+            sm_num(a.f, v);
+            sm_num(a.f, lo);
+            sm_num(a.f, hi);
+        }
+        fputc('\n', a.f);
+    }
+    return afile_commit(&a, e);
+}
+
+/* The group of cell k: the run of cells with its method, condition and axis
+ * value (seeds vary innermost in plan order).  Returns one past its end. */
+static size_t sm_group_end(const struct plan *p, size_t k)
+{
+    size_t j = k + 1;
+    while (j < p->n_cells && p->cells[j].method == p->cells[k].method && p->cells[j].cond == p->cells[k].cond &&
+           p->cells[j].has_axis == p->cells[k].has_axis &&
+           (!p->cells[k].has_axis || p->cells[j].axis_value == p->cells[k].axis_value))
+        j++;
+    return j;
+}
+
+/* Spread of one metric over cells [k, end); n = 0 when no cell has it. */
+static void sm_spread(const struct summary *s, size_t k, size_t end, const char *metric, struct boot_spread *out)
+{
+    double *v = malloc((end - k) * sizeof *v), lo, hi;
+    size_t n = 0;
+    memset(out, 0, sizeof *out);
+    for (size_t j = k; v && j < end; j++)
+        if (!summary_metric(s, j, metric, &v[n], &lo, &hi)) n++;
+    if (!n || boot_spread_of(v, n, out, NULL)) out->n = 0;
+    free(v);
+}
+
+static int sm_write_groups_csv(const struct summary *s, struct err *e)
+{
+    char path[4200];
+    struct afile a;
+    snprintf(path, sizeof path, "%s/summary_seeds.csv", s->dir);
+    if (afile_open(&a, path, e)) return -1;
+    fputs("method,condition,axis_stage,axis_key,axis_value,seeds,ok", a.f);
+    for (int m = 0; sm_metrics[m]; m++)
+        fprintf(a.f, ",%s_mean,%s_sd,%s_min,%s_max", sm_metrics[m], sm_metrics[m], sm_metrics[m], sm_metrics[m]);
+    fputc('\n', a.f);
+    for (size_t k = 0, end; k < s->p->n_cells; k = end) {
+        end = sm_group_end(s->p, k);
+        size_t ok = 0;
+        for (size_t j = k; j < end; j++) ok += (size_t)s->cells[j].ok;
+        sm_keys(a.f, s->p, k);
+        fprintf(a.f, ",%zu,%zu", end - k, ok);
+        for (int m = 0; sm_metrics[m]; m++) {
+            struct boot_spread sp;
+            sm_spread(s, k, end, sm_metrics[m], &sp);
+            sm_num(a.f, sp.n ? sp.mean : NAN);
+            sm_num(a.f, sp.n ? sp.sd : NAN);
+            sm_num(a.f, sp.n ? sp.min : NAN);
+            sm_num(a.f, sp.n ? sp.max : NAN);
+        }
+        fputc('\n', a.f);
+    }
+    return afile_commit(&a, e);
+}
+
+/* {"method", "condition", "axis": {...}} shared by cells and groups. */
+static cJSON *sm_keys_json(const struct plan *p, size_t k)
+{
+    const struct plan_cell *c = &p->cells[k];
+    const struct plan_cond *d = &p->conds[c->cond];
+    cJSON *o = cJSON_CreateObject();
+    cJSON_AddStringToObject(o, "method", p->methods[c->method].label);
+    cJSON_AddStringToObject(o, "condition", d->name);
+    if (c->has_axis) {
+        cJSON *a = cJSON_AddObjectToObject(o, "axis");
+        cJSON_AddStringToObject(a, "stage", d->axis_stage);
+        cJSON_AddStringToObject(a, "key", d->axis_key);
+        cJSON_AddNumberToObject(a, "value", c->axis_value);
+    }
+    return o;
+}
+
+static cJSON *sm_cell_json(const struct summary *s, size_t k)
+{
+    const struct summary_cell *c = &s->cells[k];
+    cJSON *o = sm_keys_json(s->p, k);
+    cJSON_AddStringToObject(o, "cell", s->p->cells[k].id);
+    cJSON_AddNumberToObject(o, "seed", (double)s->p->cells[k].seed);
+    cJSON_AddStringToObject(o, "status", !c->done ? "missing" : c->ok ? "ok" : "failed");
+    const cJSON *m = cJSON_GetObjectItemCaseSensitive(c->result, "metrics");
+    if (c->ok && m) cJSON_AddItemToObject(o, "metrics", cJSON_Duplicate(m, 1));
+    const cJSON *err = cJSON_GetObjectItemCaseSensitive(c->result, "error");
+    if (c->done && !c->ok && cJSON_IsString(err)) cJSON_AddStringToObject(o, "error", err->valuestring);
+    return o;
+}
+
+static cJSON *sm_group_json(const struct summary *s, size_t k, size_t end)
+{
+    cJSON *o = sm_keys_json(s->p, k);
+    size_t ok = 0;
+    for (size_t j = k; j < end; j++) ok += (size_t)s->cells[j].ok;
+    cJSON_AddNumberToObject(o, "seeds", (double)(end - k));
+    cJSON_AddNumberToObject(o, "ok", (double)ok);
+    cJSON *ms = cJSON_AddObjectToObject(o, "metrics");
+    for (int m = 0; sm_metrics[m]; m++) {
+        struct boot_spread sp;
+        sm_spread(s, k, end, sm_metrics[m], &sp);
+        if (!sp.n) continue;
+        cJSON *x = cJSON_AddObjectToObject(ms, sm_metrics[m]);
+        cJSON_AddNumberToObject(x, "mean", sp.mean);
+        cJSON_AddNumberToObject(x, "sd", sp.sd);
+        cJSON_AddNumberToObject(x, "min", sp.min);
+        cJSON_AddNumberToObject(x, "max", sp.max);
+    }
+    return o;
+}
+
+static int sm_write_cjson(const char *path, cJSON *root, struct err *e)
+{
+    char *text = cJSON_Print(root);
+    cJSON_Delete(root);
+    if (!text) return err_at(e, path, 0, "out of memory");
+    size_t n = strlen(text);
+    text[n] = '\n';
+    int rc = fileio_write(path, text, n + 1, e);
+    free(text);
+    return rc;
+}
+
+static int sm_write_json(const struct summary *s, struct err *e)
+{
+    char path[4200];
+    snprintf(path, sizeof path, "%s/summary.json", s->dir);
+    cJSON *root = cJSON_CreateObject();
+    cJSON_AddStringToObject(root, "format", "revisit-summary-1");
+    cJSON_AddStringToObject(root, "scenario_hash", s->p->hash);
+    cJSON_AddNumberToObject(root, "cells_total", (double)s->p->n_cells);
+    cJSON_AddNumberToObject(root, "cells_done", (double)s->n_done);
+    cJSON_AddNumberToObject(root, "cells_failed", (double)s->n_failed);
+    cJSON *cells = cJSON_AddArrayToObject(root, "cells"), *groups = cJSON_AddArrayToObject(root, "groups");
+    for (size_t k = 0; k < s->p->n_cells; k++) cJSON_AddItemToArray(cells, sm_cell_json(s, k));
+    for (size_t k = 0, end; k < s->p->n_cells; k = end) {
+        end = sm_group_end(s->p, k);
+        cJSON_AddItemToArray(groups, sm_group_json(s, k, end));
+    }
+    return sm_write_cjson(path, root, e);
+}
+
+int summary_write(const struct summary *s, struct err *e)
+{
+    return sm_write_cells_csv(s, e) || sm_write_groups_csv(s, e) || sm_write_json(s, e) ? -1 : 0;
+}

@@ -1,0 +1,344 @@
+/* summary_verdict.c: judge acceptance criteria on a sweep folder; paired
+ * differences are bootstrapped on the queries both cells share. */
+#include "harness/summary.h"
+
+#include <cjson/cJSON.h>
+#include <math.h>
+#include <stdio.h>
+#include <stdlib.h>
+#include <string.h>
+
+#include "harness/fileio.h"
+#include "metrics/boot.h"
+#include "metrics/gt.h"
+#include "metrics/pr.h"
+
+#define SV_FILE_MAX ((size_t)1 << 30)
+
+/* ---- reading a cell's poses.csv and queries.csv ------------------------- */
+
+struct sv_poses {
+    size_t n[2];          /* 0: map, 1: query */
+    double *xyz[2], *t[2];
+};
+
+static void sv_poses_free(struct sv_poses *ps)
+{
+    for (int s = 0; s < 2; s++) { free(ps->xyz[s]); free(ps->t[s]); }
+}
+
+/* "set,index,t,x,y,z" rows; index must run 0, 1, ... within each set. */
+static int sv_read_poses(const char *dir, struct sv_poses *ps, struct err *e)
+{
+    char path[4200], *text, *save = NULL;
+    size_t len, cap[2] = {0, 0}, line = 0;
+    memset(ps, 0, sizeof *ps);
+    snprintf(path, sizeof path, "%s/poses.csv", dir);
+    if (fileio_read(path, SV_FILE_MAX, &text, &len, e)) return -1;
+    int rc = 0;
+    for (char *l = strtok_r(text, "\n", &save); l && !rc; l = strtok_r(NULL, "\n", &save)) {
+        line++;
+        char set[16];
+        long idx;
+        double t, x, y, z;
+        if (l[0] == '#' || !strncmp(l, "set,", 4)) continue;
+        if (sscanf(l, "%15[^,],%ld,%lf,%lf,%lf,%lf", set, &idx, &t, &x, &y, &z) != 6) {
+            rc = err_at(e, path, (long)line, "expected set,index,t,x,y,z");
+            break;
+        }
+        int s = !strcmp(set, "query");
+        if (!s && strcmp(set, "map")) { rc = err_at(e, path, (long)line, "set '%s', expected map or query", set); break; }
+        if (idx != (long)ps->n[s]) { rc = err_at(e, path, (long)line, "index %ld, expected %zu", idx, ps->n[s]); break; }
+        if (ps->n[s] == cap[s]) {
+            cap[s] = cap[s] ? 2 * cap[s] : 256;
+            double *a = realloc(ps->xyz[s], 3 * cap[s] * sizeof *a), *b = a ? realloc(ps->t[s], cap[s] * sizeof *b) : NULL;
+            if (a) ps->xyz[s] = a;
+            if (b) ps->t[s] = b;
+            if (!a || !b) { rc = err_at(e, path, (long)line, "out of memory"); break; }
+        }
+        double *p = ps->xyz[s] + 3 * ps->n[s];
+        p[0] = x; p[1] = y; p[2] = z;
+        ps->t[s][ps->n[s]++] = t;
+    }
+    free(text);
+    if (rc) sv_poses_free(ps);
+    return rc;
+}
+
+struct sv_lists {
+    size_t *off;
+    struct pr_cand *c;
+};
+
+/* queries.csv into rows indexed by query (queries without a row stay empty). */
+static int sv_read_queries(const char *dir, size_t n_query, struct sv_lists *out, struct err *e)
+{
+    char path[4200], *text, *save = NULL;
+    size_t len, line = 0, n = 0, cap = 1024;
+    snprintf(path, sizeof path, "%s/queries.csv", dir);
+    if (fileio_read(path, SV_FILE_MAX, &text, &len, e)) return -1;
+    size_t *cnt = calloc(n_query + 1, sizeof *cnt), *start = calloc(n_query + 1, sizeof *start);
+    struct pr_cand *tmp = malloc(cap * sizeof *tmp);
+    int rc = cnt && start && tmp ? 0 : err_at(e, path, 0, "out of memory");
+    for (char *l = rc ? NULL : strtok_r(text, "\n", &save); l && !rc; l = strtok_r(NULL, "\n", &save)) {
+        line++;
+        if (l[0] == '#' || !strncmp(l, "query", 5)) continue;
+        char *s = l, *end;
+        long q = strtol(s, &end, 10);
+        if (end == s || q < 0 || (size_t)q >= n_query || cnt[q]) { rc = err_at(e, path, (long)line, "bad or repeated query index, expected 0 to %zu once", n_query - 1); break; }
+        start[q] = n;
+        for (s = end; *s == ',' && !rc;) {
+            long j = strtol(s + 1, &end, 10);
+            if (*end != ',') { rc = err_at(e, path, (long)line, "expected candidate,distance pairs"); break; }
+            double d = strtod(end + 1, &s);
+            if (n == cap) {
+                struct pr_cand *g = realloc(tmp, 2 * cap * sizeof *g);
+                if (!g) { rc = err_at(e, path, (long)line, "out of memory"); break; }
+                tmp = g;
+                cap *= 2;
+            }
+            tmp[n].idx = j;
+            tmp[n++].dist = d;
+            cnt[q]++;
+        }
+        if (!rc && *s && *s != '\r') rc = err_at(e, path, (long)line, "unexpected text, expected numbers");
+    }
+    free(text);
+    out->off = rc ? NULL : malloc((n_query + 1) * sizeof *out->off);
+    out->c = rc ? NULL : malloc((n ? n : 1) * sizeof *out->c);
+    if (!rc && (!out->off || !out->c)) rc = err_at(e, path, 0, "out of memory");
+    for (size_t q = 0, o = 0; !rc && q < n_query; q++) {
+        out->off[q] = o;
+        memcpy(out->c + o, tmp + start[q], cnt[q] * sizeof *tmp);
+        o += cnt[q];
+        out->off[q + 1] = o;
+    }
+    free(cnt); free(start); free(tmp);
+    if (rc) { free(out->off); free(out->c); out->off = NULL; out->c = NULL; }
+    return rc;
+}
+
+/* The scored query set of one cell, rebuilt from its folder. */
+static int sv_cell_set(const struct summary *s, size_t k, struct pr_set **out, struct err *e)
+{
+    char dir[4200];
+    snprintf(dir, sizeof dir, "%s/cells/%s", s->dir, s->p->cells[k].id);
+    struct sv_poses ps;
+    if (sv_read_poses(dir, &ps, e)) return -1;
+    int reloc = s->p->protocol.mode == PROTOCOL_RELOC;
+    int ms = ps.n[0] ? 0 : 1;   /* loop mode may list the one recording as either set */
+    struct gt_poses map = {ps.xyz[ms], ps.t[ms], ps.n[ms]}, query = {ps.xyz[1], ps.t[1], ps.n[1]};
+    struct gt *g = NULL;
+    struct sv_lists l = {NULL, NULL};
+    int rc = gt_build(&s->p->protocol, &map, reloc ? &query : NULL, NULL, 0, &g, e);
+    if (!rc) rc = sv_read_queries(dir, g->n_query, &l, e);
+    if (!rc) {
+        struct pr_lists pl = {g->n_query, l.off, l.c};
+        rc = pr_set_build(g, &pl, out, e);
+    }
+    if (rc) err_wrap(e, "cell %s", s->p->cells[k].id);
+    free(l.off);
+    free(l.c);
+    gt_free(g);
+    sv_poses_free(&ps);
+    return rc;
+}
+
+static int sv_metric_index(const char *name)
+{
+    for (int m = 0; m < PR_N_METRICS; m++)
+        if (!strcmp(pr_metric_name((enum pr_metric)m), name)) return m;
+    return -1;
+}
+
+/* Cells of method m, condition cond, at the axis value when has: indices
+ * into *out (malloc'ed), count returned; (size_t)-1 when out of memory. */
+static size_t sv_group(const struct plan *p, size_t m, size_t cond, int has, double value, size_t **out)
+{
+    size_t n = 0;
+    *out = malloc((p->n_cells + 1) * sizeof **out);
+    if (!*out) return (size_t)-1;
+    for (size_t k = 0; k < p->n_cells; k++) {
+        const struct plan_cell *c = &p->cells[k];
+        if (c->method == m && c->cond == cond && (!has || c->axis_value == value)) (*out)[n++] = k;
+    }
+    return n;
+}
+
+/* Every cell of the group must be done and ok. */
+static int sv_ready(const struct summary *s, const size_t *g, size_t n, struct err *e)
+{
+    for (size_t j = 0; j < n; j++) {
+        const struct summary_cell *c = &s->cells[g[j]];
+        if (!c->done)
+            return err_at(e, s->dir, 0, "incomplete sweep: cell %s has no result, expected a finished sweep "
+                          "(run 'revisit sweep' again, or merge the shards)", s->p->cells[g[j]].id);
+        if (!c->ok) {
+            const cJSON *m = cJSON_GetObjectItemCaseSensitive(c->result, "error");
+            return err_at(e, s->dir, 0, "cell %s failed (%s), expected a result to judge", s->p->cells[g[j]].id,
+                          cJSON_IsString(m) ? m->valuestring : "no message");
+        }
+    }
+    return 0;
+}
+
+/* Mean over seeds and the cautious interval of a plain metric. */
+static int sv_plain(const struct summary *s, const struct plan_criterion *r, const size_t *g, size_t n,
+                    struct summary_verdict *v, struct err *e)
+{
+    double sum = 0, lo = INFINITY, hi = -INFINITY;
+    for (size_t j = 0; j < n; j++) {
+        double x, l, h;
+        if (summary_metric(s, g[j], r->metric, &x, &l, &h))
+            return err_at(e, s->dir, 0, "cell %s has no metric '%s'", s->p->cells[g[j]].id, r->metric);
+        sum += x;
+        lo = fmin(lo, isnan(l) ? x : l);
+        hi = fmax(hi, isnan(h) ? x : h);
+    }
+    v->value = sum / (double)n;
+    v->lo = lo;
+    v->hi = hi;
+    return 0;
+}
+
+/* Paired difference of one cell against its baseline cell. */
+static int sv_pair(const struct summary *s, size_t a, size_t b, int m, double *d, double *lo, double *hi,
+                   struct err *e)
+{
+    struct pr_set *sa = NULL, *sb = NULL;
+    int rc = sv_cell_set(s, a, &sa, e) || sv_cell_set(s, b, &sb, e) ? -1 : 0;
+    if (!rc && s->p->bootstrap > 0) {
+        struct boot_paired bp;
+        rc = boot_paired_diff(sa, sb, s->p->bootstrap, s->p->bootstrap_seed, 0.95, 1, &bp, e);
+        if (rc) err_wrap(e, "cells %s and %s", s->p->cells[a].id, s->p->cells[b].id);
+        else { *d = bp.diff[m]; *lo = bp.lo[m]; *hi = bp.hi[m]; }
+    } else if (!rc) {
+        struct pr_scalars xa, xb;
+        pr_scalars_compute(sa, NULL, &xa);
+        pr_scalars_compute(sb, NULL, &xb);
+        *d = *lo = *hi = xa.v[m] - xb.v[m];
+    }
+    pr_set_free(sa);
+    pr_set_free(sb);
+    return rc;
+}
+
+static int sv_paired(const struct summary *s, const struct plan_criterion *r, const size_t *g, size_t n,
+                     const size_t *base, size_t nb, struct summary_verdict *v, struct err *e)
+{
+    int m = sv_metric_index(r->metric);
+    if (m < 0) return err_at(e, s->p->path, 0, "metric '%s' has no paired bootstrap, expected one of the result keys", r->metric);
+    double sum = 0, lo = INFINITY, hi = -INFINITY;
+    for (size_t j = 0; j < n; j++) {
+        size_t b = 0;
+        while (nb > 1 && b < nb && s->p->cells[base[b]].seed != s->p->cells[g[j]].seed) b++;
+        if (b == nb)
+            return err_at(e, s->p->path, 0, "baseline '%s' has no seed %llu to pair with cell %s",
+                          s->p->conds[r->baseline].name, (unsigned long long)s->p->cells[g[j]].seed,
+                          s->p->cells[g[j]].id);
+        double d, l, h;
+        if (sv_pair(s, g[j], base[b], m, &d, &l, &h, e)) return -1;
+        sum += d;
+        lo = fmin(lo, l);
+        hi = fmax(hi, h);
+    }
+    v->value = sum / (double)n;
+    v->lo = lo;
+    v->hi = hi;
+    return 0;
+}
+
+/* One verdict: criterion r for method m. */
+static int sv_judge_one(const struct summary *s, size_t ri, size_t m, struct summary_verdict *v, struct err *e)
+{
+    const struct plan_criterion *r = &s->p->criteria[ri];
+    size_t *g = NULL, *base = NULL;
+    size_t n = sv_group(s->p, m, r->cond, r->has_value, r->value, &g), nb = 0;
+    int rc = n == (size_t)-1 ? err_set(e, "out of memory") : 0;
+    if (!rc && r->baseline >= 0) {
+        nb = sv_group(s->p, m, (size_t)r->baseline, r->has_base_value, r->base_value, &base);
+        if (nb == (size_t)-1) rc = err_set(e, "out of memory");
+    }
+    if (!rc) rc = sv_ready(s, g, n, e) || sv_ready(s, base, nb, e) ? -1 : 0;
+    memset(v, 0, sizeof *v);
+    v->criterion = ri;
+    v->method = m;
+    v->seeds = n;
+    if (!rc) rc = r->baseline >= 0 ? sv_paired(s, r, g, n, base, nb, v, e) : sv_plain(s, r, g, n, v, e);
+    if (!rc) {
+        enum plan_target t = r->target;
+        v->measured = (t == PLAN_LO || t == PLAN_DIFF_LO) ? v->lo : (t == PLAN_HI || t == PLAN_DIFF_HI) ? v->hi : v->value;
+        v->pass = summary_compare(r->cmp, v->measured, r->threshold);
+    }
+    free(g);
+    free(base);
+    return rc;
+}
+
+int summary_judge(const struct summary *s, struct summary_verdict **out, size_t *n, struct err *e)
+{
+    const struct plan *p = s->p;
+    size_t cap = p->n_criteria * p->n_methods + 1, k = 0;
+    struct summary_verdict *v = calloc(cap, sizeof *v);
+    if (!v) return err_set(e, "out of memory");
+    for (size_t ri = 0; ri < p->n_criteria; ri++)
+        for (size_t m = 0; m < p->n_methods; m++) {
+            if (p->criteria[ri].method >= 0 && (size_t)p->criteria[ri].method != m) continue;
+            if (sv_judge_one(s, ri, m, &v[k], e)) {
+                free(v);
+                return err_wrap(e, "criteria[%zu]", ri);
+            }
+            k++;
+        }
+    *out = v;
+    *n = k;
+    return 0;
+}
+
+void summary_verdicts_free(struct summary_verdict *v, size_t n)
+{
+    (void)n;
+    free(v);
+}
+
+static void sv_add_num(cJSON *o, const char *key, double x)
+{
+    if (isfinite(x)) cJSON_AddNumberToObject(o, key, x);
+    else cJSON_AddNullToObject(o, key);
+}
+
+int summary_write_verdicts(const struct summary *s, const struct summary_verdict *v, size_t n, struct err *e)
+{
+    const struct plan *p = s->p;
+    cJSON *root = cJSON_CreateArray();
+    for (size_t k = 0; k < n; k++) {
+        const struct plan_criterion *r = &p->criteria[v[k].criterion];
+        cJSON *o = cJSON_CreateObject();
+        cJSON_AddStringToObject(o, "criterion", r->text);
+        cJSON_AddStringToObject(o, "metric", r->metric);
+        cJSON_AddStringToObject(o, "method", p->methods[v[k].method].label);
+        cJSON_AddStringToObject(o, "condition", p->conds[r->cond].name);
+        if (r->has_value) cJSON_AddNumberToObject(o, "axis_value", r->value);
+        if (r->baseline >= 0) cJSON_AddStringToObject(o, "baseline", p->conds[r->baseline].name);
+        if (r->has_base_value) cJSON_AddNumberToObject(o, "baseline_value", r->base_value);
+        sv_add_num(o, "value", v[k].value);
+        sv_add_num(o, "lo", v[k].lo);
+        sv_add_num(o, "hi", v[k].hi);
+        sv_add_num(o, "measured", v[k].measured);
+        cJSON_AddNumberToObject(o, "threshold", r->threshold);
+        cJSON_AddStringToObject(o, "comparator", plan_cmp_name(r->cmp));
+        cJSON_AddStringToObject(o, "target", plan_target_name(r->target));
+        cJSON_AddNumberToObject(o, "seeds", (double)v[k].seeds);
+        cJSON_AddBoolToObject(o, "pass", v[k].pass);
+        cJSON_AddItemToArray(root, o);
+    }
+    char path[4200], *text = cJSON_Print(root);
+    cJSON_Delete(root);
+    snprintf(path, sizeof path, "%s/verdicts.json", s->dir);
+    if (!text) return err_at(e, path, 0, "out of memory");
+    size_t len = strlen(text);
+    text[len] = '\n';
+    int rc = fileio_write(path, text, len + 1, e);
+    free(text);
+    return rc;
+}
