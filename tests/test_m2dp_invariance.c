@@ -120,5 +120,31 @@ int main(void)
     CHECK(l2(da, db, dim) > 0 && l2(da, db, dim) < 0.2, "max_points thins the scan");
     t->destroy(inst);
     t->destroy(NULL);
+
+    /* the sector search equals floor(atan2 / step) (C99 atan2, common
+     * practice, no source), also right beside every boundary */
+    for (int sectors = 2; sectors <= 256; sectors *= 4) {
+        def[SET_SECTORS] = sectors;
+        t->create(def, &inst, &dim, &kd, msg, sizeof msg);
+        const struct m2dp *mm = inst;
+        int bad = 0;
+        for (int k = 0; k < 200000; k++) {
+            double ang = k < 100000 ? 2 * M2DP_PI * k / 100000.0 + 1e-9 * (k % 7 - 3)
+                                    : 2 * M2DP_PI * (k % sectors) / sectors + 1e-7 * (k % 5 - 2);
+            double step = 2 * M2DP_PI / sectors, off = fmod(ang, step);
+            if (off < 1e-12 || step - off < 1e-12)
+                continue;  /* on a boundary: atan2 and any search may round either way */
+            double u = cos(ang) * (1 + k % 3), v = sin(ang) * (1 + k % 3);
+            double ref = atan2(v, u);
+            if (ref < 0)
+                ref += 2 * M2DP_PI;
+            int want = (int)floor(ref / (2 * M2DP_PI / sectors));
+            if (want >= sectors)
+                want = sectors - 1;
+            bad += m2dp_sector(mm, u, v) != want;
+        }
+        CHECK(bad == 0, "sector search agrees with atan2 everywhere");
+        t->destroy(inst);
+    }
     return check_done();
 }

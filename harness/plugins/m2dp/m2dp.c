@@ -61,6 +61,7 @@ struct m2dp {
     size_t max_points;
     struct m2dp_plane *planes;  /* p*q, row order i*q + j */
     double *bx, *by;            /* t+1 sector boundary directions */
+    double margin;              /* see m2dp_sector */
 };
 
 static void m2dp_cross(const double a[3], const double b[3], double out[3])
@@ -121,6 +122,7 @@ static int m2dp_new(const double *v, void **inst, uint32_t *dim, uint32_t *key_d
         for (int j = 0; j < m->q; j++)
             m2dp_plane_axes(i * M2DP_PI / m->p, j * M2DP_PI / (2.0 * m->q),
                             &m->planes[i * m->q + j]);
+    m->margin = 2 * 2.1e-4 * m->t / (2 * M2DP_PI);
     for (int s = 0; s <= m->t; s++) {
         m->bx[s] = cos(2.0 * M2DP_PI * s / m->t);
         m->by[s] = sin(2.0 * M2DP_PI * s / m->t);
@@ -169,31 +171,33 @@ static int m2dp_frame(const float *xyzi, size_t n, size_t stride, double c[3], d
     return 0;
 }
 
-/* atan2 mapped to [0, 2pi) by a polynomial, error below 1e-4 rad. */
+/* atan2 mapped to [0, 2pi) by a polynomial (largest error 2.03e-4 rad,
+ * measured on a fine grid of [0, 1] against atan); written
+ * with selects only, so the compiler needs no branch. */
 static double m2dp_fast_angle(double y, double x)
 {
     double ax = fabs(x), ay = fabs(y);
     double mx = ax > ay ? ax : ay, mn = ax > ay ? ay : ax;
-    if (mx == 0)
-        return 0;
-    double a = mn / mx, s = a * a;
+    double a = mn / (mx > 0 ? mx : 1), s = a * a;
     double r = ((-0.0464964749 * s + 0.15931422) * s - 0.327622764) * s * a + a;
-    if (ay > ax)
-        r = M2DP_PI / 2 - r;
-    if (x < 0)
-        r = M2DP_PI - r;
-    if (y < 0)
-        r = 2 * M2DP_PI - r;
-    return r;
+    r = ay > ax ? M2DP_PI / 2 - r : r;
+    r = x < 0 ? M2DP_PI - r : r;
+    return y < 0 ? 2 * M2DP_PI - r : r;
 }
 
 /* Sector of direction (u, v): the s with boundary s at or before it and
- * boundary s+1 after it, counter-clockwise. */
+ * boundary s+1 after it, counter-clockwise.  The polynomial angle decides
+ * unless it lies within `margin` (twice its error bound, in sectors) of a
+ * boundary; then cross products with the boundary directions decide. */
 static int m2dp_sector(const struct m2dp *m, double u, double v)
 {
-    int s = (int)(m2dp_fast_angle(v, u) * m->t / (2 * M2DP_PI));
+    double x = m2dp_fast_angle(v, u) * m->t / (2 * M2DP_PI);
+    int s = (int)x;
+    double f = x - s;
     if (s >= m->t)
         s = m->t - 1;
+    if (f > m->margin && f < 1 - m->margin)
+        return s;
     for (int guard = 0; guard < 4; guard++) {
         if (m->bx[s] * v - m->by[s] * u < 0)
             s = s == 0 ? m->t - 1 : s - 1;
@@ -205,19 +209,31 @@ static int m2dp_sector(const struct m2dp *m, double u, double v)
     return s;
 }
 
-/* Fill A (p*q rows, l*t columns, row-major) with the bin counts.
- * Returns the number of points used, 0 when the cloud has no extent. */
-static size_t m2dp_matrix(const struct m2dp *m, const float *xyzi, size_t n, double *a)
+/* Points to use: every stride-th, so that at most max_points remain. */
+static size_t m2dp_stride(const struct m2dp *m, size_t n)
 {
-    size_t stride = m->max_points && n > m->max_points
-                        ? (n + m->max_points - 1) / m->max_points : 1;
+    return m->max_points && n > m->max_points ? (n + m->max_points - 1) / m->max_points : 1;
+}
+
+/* Fill A (p*q rows, l*t columns, row-major) with the bin counts; q is
+ * scratch for 3 * ceil(n / stride) doubles (the points in the principal
+ * frame, stored as three arrays).  Returns the number of points used, 0
+ * when the cloud has no extent. */
+static size_t m2dp_matrix(const struct m2dp *m, const float *xyzi, size_t n, double *a, double *q)
+{
+    size_t stride = m2dp_stride(m, n), cnt = 0;
     int rows = m->p * m->q, cols = m->l * m->t;
     double c[3], r[3][3], rmax2 = 0;
     memset(a, 0, sizeof *a * (size_t)rows * (size_t)cols);
     if (n < 3 || m2dp_frame(xyzi, n, stride, c, r))
         return 0;
-    for (size_t k = 0; k < n; k += stride) {
+    size_t used = (n + stride - 1) / stride;
+    double *qx = q, *qy = q + used, *qz = q + 2 * used;
+    for (size_t k = 0; k < n; k += stride, cnt++) {
         double d[3] = {xyzi[4 * k] - c[0], xyzi[4 * k + 1] - c[1], xyzi[4 * k + 2] - c[2]};
+        qx[cnt] = r[0][0] * d[0] + r[0][1] * d[1] + r[0][2] * d[2];
+        qy[cnt] = r[1][0] * d[0] + r[1][1] * d[1] + r[1][2] * d[2];
+        qz[cnt] = r[2][0] * d[0] + r[2][1] * d[1] + r[2][2] * d[2];
         double d2 = d[0] * d[0] + d[1] * d[1] + d[2] * d[2];
         if (d2 > rmax2)
             rmax2 = d2;
@@ -225,22 +241,12 @@ static size_t m2dp_matrix(const struct m2dp *m, const float *xyzi, size_t n, dou
     if (!(rmax2 > 0))
         return 0;
     double inv_r0 = (double)m->l * m->l / sqrt(rmax2);
-    /* plane axes in the scan frame: e = R^T e' so that e . d = e' . (R d) */
-    size_t used = 0;
     for (int pl = 0; pl < rows; pl++) {
-        double e1[3], e2[3];
-        for (int b = 0; b < 3; b++) {
-            e1[b] = m->planes[pl].e1[0] * r[0][b] + m->planes[pl].e1[1] * r[1][b]
-                    + m->planes[pl].e1[2] * r[2][b];
-            e2[b] = m->planes[pl].e2[0] * r[0][b] + m->planes[pl].e2[1] * r[1][b]
-                    + m->planes[pl].e2[2] * r[2][b];
-        }
+        const double *e1 = m->planes[pl].e1, *e2 = m->planes[pl].e2;
         double *row = a + (size_t)pl * cols;
-        used = 0;
-        for (size_t k = 0; k < n; k += stride, used++) {
-            double d[3] = {xyzi[4 * k] - c[0], xyzi[4 * k + 1] - c[1], xyzi[4 * k + 2] - c[2]};
-            double u = e1[0] * d[0] + e1[1] * d[1] + e1[2] * d[2];
-            double v = e2[0] * d[0] + e2[1] * d[1] + e2[2] * d[2];
+        for (size_t k = 0; k < used; k++) {
+            double u = e1[0] * qx[k] + e1[1] * qy[k] + e1[2] * qz[k];
+            double v = e2[0] * qx[k] + e2[1] * qy[k] + e2[2] * qz[k];
             int ring = (int)sqrt(sqrt(u * u + v * v) * inv_r0);
             if (ring >= m->l)
                 ring = m->l - 1;
@@ -290,10 +296,15 @@ static int m2dp_signature(const struct m2dp *m, const float *xyzi, size_t n, dou
 {
     int rows = m->p * m->q, cols = m->l * m->t;
     double *a = malloc(sizeof *a * (size_t)rows * (size_t)cols);
-    if (!a)
+    double *q = malloc(sizeof *q * 3 * (n / m2dp_stride(m, n) + 1));
+    if (!a || !q) {
+        free(a);
+        free(q);
         return snprintf(msg, msg_len, "out of memory"), RV_ERR_NOMEM;
+    }
     memset(sig, 0, sizeof *sig * (size_t)(rows + cols));
-    size_t used = m2dp_matrix(m, xyzi, n, a);
+    size_t used = m2dp_matrix(m, xyzi, n, a, q);
+    free(q);
     if (a_out)
         memcpy(a_out, a, sizeof *a * (size_t)rows * (size_t)cols);
     int rc = RV_OK;
