@@ -1,0 +1,186 @@
+/* features.c: per-segment shape features F_a, centroid and hull vertices.
+ *
+ * F_a (D = 13 + hist_bins values), every one unchanged by a rotation about
+ * the vertical axis:
+ *   0..6   eigenvalue features of the 3D covariance (Weinmann et al., ISPRS
+ *          J. Photogramm. Remote Sens. 2015, formulas from memory) with
+ *          normalised eigenvalues e1 >= e2 >= e3, e_i = l_i / (l1 + l2 + l3):
+ *          linearity (e1-e2)/e1, planarity (e2-e3)/e1, scattering e3/e1,
+ *          omnivariance (e1 e2 e3)^(1/3), anisotropy (e1-e3)/e1,
+ *          eigenentropy -sum e_i ln e_i (divided by ln 3, its largest value),
+ *          change of curvature e3/(e1+e2+e3)
+ *   7, 8   extents along the major and minor horizontal principal axes,
+ *   9      vertical extent, all three divided by extent_scale_m
+ *   10..12 mean height above the ground plane, standard deviation of z and
+ *          top height above the ground plane, divided by height_scale_m
+ *   13..   vertical occupancy: the share of points in each of hist_bins
+ *          equal slices of the segment's own height range
+ * The eigenvalue features and the shares are unitless in [0, 1]; the two
+ * scales are the settings that standardise the metric ones.
+ *
+ * Hull vertices: the extreme point along each of the 26 directions of the
+ * 3x3x3 grid (duplicates removed).  They are true hull vertices, so GJK on
+ * them measures the distance between inner approximations of the hulls.
+ * We chose this over a full 3D hull (quickhull) because LiDAR segments are
+ * often flat or nearly collinear (walls, poles), where a hull builder needs
+ * careful handling of degenerate faces, while the extreme-point set is
+ * always defined, costs 26 dot products per point, and caps the vertex
+ * count at 26 so every GJK support query is a short scan.
+ */
+#include <lapacke.h>
+#include <math.h>
+#include <string.h>
+#include "harness/plugins/sop/sop.h"
+
+int feat_dim(const struct sop_params *p)
+{
+    return SOP_FA_FIXED + p->hist_bins;
+}
+
+void feat_eigen(const double l[3], double f[7])
+{
+    double sum = l[0] + l[1] + l[2];
+    if (!(sum > 0) || !(l[0] > 0)) {
+        memset(f, 0, sizeof(double[7]));
+        return;
+    }
+    double e[3];
+    for (int k = 0; k < 3; k++)
+        e[k] = l[k] > 0 ? l[k] / sum : 0;
+    f[0] = (e[0] - e[1]) / e[0];
+    f[1] = (e[1] - e[2]) / e[0];
+    f[2] = e[2] / e[0];
+    f[3] = cbrt(e[0] * e[1] * e[2]);
+    f[4] = (e[0] - e[2]) / e[0];
+    double h = 0;
+    for (int k = 0; k < 3; k++)
+        if (e[k] > 0)
+            h -= e[k] * log(e[k]);
+    f[5] = h / log(3.0);
+    f[6] = e[2] / (e[0] + e[1] + e[2]);
+}
+
+/* Descending eigenvalues of the covariance of the points (about c). */
+static void feat_cov_eigen(const float *xyzi, const uint32_t *idx, uint32_t cnt,
+                           const double c[3], double l[3])
+{
+    double s[9] = {0}, w[3];
+    for (uint32_t k = 0; k < cnt; k++) {
+        const float *q = xyzi + 4 * (size_t)idx[k];
+        double d[3] = {q[0] - c[0], q[1] - c[1], q[2] - c[2]};
+        for (int a = 0; a < 3; a++)
+            for (int b = a; b < 3; b++)
+                s[a * 3 + b] += d[a] * d[b];
+    }
+    for (int k = 0; k < 9; k++)
+        s[k] /= cnt;
+    if (LAPACKE_dsyev(LAPACK_ROW_MAJOR, 'N', 'U', 3, s, 3, w) != 0)
+        w[0] = w[1] = w[2] = 0;
+    for (int k = 0; k < 3; k++)  /* ascending from LAPACK; round-off may dip below 0 */
+        l[k] = w[2 - k] > 0 ? w[2 - k] : 0;
+}
+
+/* Extents along the horizontal principal axes (major first). */
+static void feat_horizontal(const float *xyzi, const uint32_t *idx, uint32_t cnt,
+                            const double c[3], double ext[2])
+{
+    double sxx = 0, syy = 0, sxy = 0;
+    for (uint32_t k = 0; k < cnt; k++) {
+        const float *q = xyzi + 4 * (size_t)idx[k];
+        double dx = q[0] - c[0], dy = q[1] - c[1];
+        sxx += dx * dx, syy += dy * dy, sxy += dx * dy;
+    }
+    double th = 0.5 * atan2(2 * sxy, sxx - syy), ux = cos(th), uy = sin(th);
+    double lo[2] = {INFINITY, INFINITY}, hi[2] = {-INFINITY, -INFINITY};
+    for (uint32_t k = 0; k < cnt; k++) {
+        const float *q = xyzi + 4 * (size_t)idx[k];
+        double dx = q[0] - c[0], dy = q[1] - c[1];
+        double a = ux * dx + uy * dy, b = -uy * dx + ux * dy;
+        lo[0] = fmin(lo[0], a), hi[0] = fmax(hi[0], a);
+        lo[1] = fmin(lo[1], b), hi[1] = fmax(hi[1], b);
+    }
+    ext[0] = hi[0] - lo[0], ext[1] = hi[1] - lo[1];
+    if (ext[1] > ext[0]) {
+        double t = ext[0];
+        ext[0] = ext[1], ext[1] = t;
+    }
+}
+
+/* Hull vertices and bounding radius (see the file comment). */
+static void feat_hull(const float *xyzi, const uint32_t *idx, uint32_t cnt, struct sop_seg *s)
+{
+    uint32_t best[SOP_HULL_DIRS] = {0};
+    double bd[SOP_HULL_DIRS];
+    int dir[SOP_HULL_DIRS][3], nd = 0;
+    for (int i = -1; i <= 1; i++)
+        for (int j = -1; j <= 1; j++)
+            for (int k = -1; k <= 1; k++)
+                if (i || j || k)
+                    dir[nd][0] = i, dir[nd][1] = j, dir[nd][2] = k, bd[nd++] = -INFINITY;
+    for (uint32_t m = 0; m < cnt; m++) {
+        const float *q = xyzi + 4 * (size_t)idx[m];
+        for (int d = 0; d < SOP_HULL_DIRS; d++) {
+            double v = dir[d][0] * (double)q[0] + dir[d][1] * (double)q[1] + dir[d][2] * (double)q[2];
+            if (v > bd[d])
+                bd[d] = v, best[d] = idx[m];
+        }
+    }
+    s->nv = 0;
+    s->radius = 0;
+    for (int d = 0; d < SOP_HULL_DIRS; d++) {
+        int dup = 0;
+        for (int e = 0; e < d; e++)
+            dup |= best[e] == best[d];
+        if (dup)
+            continue;
+        const float *q = xyzi + 4 * (size_t)best[d];
+        double *v = s->v + 3 * s->nv++;
+        v[0] = q[0], v[1] = q[1], v[2] = q[2];
+        double dx = v[0] - s->c[0], dy = v[1] - s->c[1], dz = v[2] - s->c[2];
+        s->radius = fmax(s->radius, sqrt(dx * dx + dy * dy + dz * dz));
+    }
+}
+
+/* Heights: mean above ground, std of z, top above ground, slice shares. */
+static void feat_heights(const struct sop_params *p, const float *xyzi, const uint32_t *idx,
+                         uint32_t cnt, const double plane[3], const double c[3], double *f)
+{
+    double zmin = INFINITY, zmax = -INFINITY, ss = 0;
+    for (uint32_t k = 0; k < cnt; k++) {
+        double z = xyzi[4 * (size_t)idx[k] + 2];
+        zmin = fmin(zmin, z), zmax = fmax(zmax, z), ss += (z - c[2]) * (z - c[2]);
+    }
+    double g = plane[0] * c[0] + plane[1] * c[1] + plane[2];
+    f[0] = (zmax - zmin) / p->extent_scale_m;
+    f[1] = (c[2] - g) / p->height_scale_m;
+    f[2] = sqrt(ss / cnt) / p->height_scale_m;
+    f[3] = (zmax - g) / p->height_scale_m;
+    double *hist = f + 4, span = zmax - zmin;
+    for (int b = 0; b < p->hist_bins; b++)
+        hist[b] = 0;
+    for (uint32_t k = 0; k < cnt; k++) {
+        double z = xyzi[4 * (size_t)idx[k] + 2];
+        int b = span > 0 ? (int)((z - zmin) / span * p->hist_bins) : 0;
+        hist[b < p->hist_bins ? b : p->hist_bins - 1] += 1.0 / cnt;
+    }
+}
+
+void feat_segment(const struct sop_params *p, const float *xyzi, const uint32_t *idx,
+                  uint32_t cnt, const double plane[3], struct sop_seg *out)
+{
+    double c[3] = {0, 0, 0}, l[3], f[SOP_FA_MAX];
+    for (uint32_t k = 0; k < cnt; k++)
+        for (int a = 0; a < 3; a++)
+            c[a] += xyzi[4 * (size_t)idx[k] + a];
+    for (int a = 0; a < 3; a++)
+        out->c[a] = c[a] /= cnt;
+    out->n = cnt;
+    feat_cov_eigen(xyzi, idx, cnt, c, l);
+    feat_eigen(l, f);
+    feat_horizontal(xyzi, idx, cnt, c, f + 7);
+    f[7] /= p->extent_scale_m, f[8] /= p->extent_scale_m;
+    feat_heights(p, xyzi, idx, cnt, plane, c, f + 9);
+    for (int k = 0; k < feat_dim(p); k++)
+        out->fa[k] = (float)f[k];
+    feat_hull(xyzi, idx, cnt, out);
+}

@@ -1,0 +1,231 @@
+/* segment.c: Euclidean clustering for sop as connected components of a voxel
+ * grid.  Non-ground points fall into voxels of voxel_m; two voxels that
+ * share a face, an edge or a corner belong to one segment, so two points
+ * join when they are closer than voxel_m and may join up to about
+ * 2·sqrt(3)·voxel_m apart.  A segment is kept when it has min_points to
+ * max_points points and its horizontal bounding box has a diagonal of at
+ * most max_extent_m.
+ *
+ * Voxels live in an open-addressing hash table keyed by their packed grid
+ * coordinates; components come from union-find over the 13 forward
+ * neighbours of each voxel.  Segment order is the order in which their
+ * first point appears in the scan.
+ */
+#include <math.h>
+#include <stdlib.h>
+#include <string.h>
+#include "harness/plugins/sop/sop.h"
+
+#define SEG_BIAS 1048576  /* 2^20: grid coordinates are stored as 21-bit fields */
+
+struct seg_grid {
+    uint64_t *keys;   /* hash slots, UINT64_MAX = empty */
+    uint32_t *slot_id;
+    size_t mask;
+    uint32_t *parent; /* union-find over voxel ids */
+    uint64_t *vkey;   /* voxel id -> key */
+    uint32_t nvox;
+};
+
+static uint64_t seg_key(int x, int y, int z)
+{
+    return ((uint64_t)(x + SEG_BIAS) << 42) | ((uint64_t)(y + SEG_BIAS) << 21)
+           | (uint64_t)(z + SEG_BIAS);
+}
+
+/* Voxel id of key, inserting it when add is set; UINT32_MAX when absent. */
+static uint32_t seg_lookup(struct seg_grid *g, uint64_t key, int add)
+{
+    size_t h = (size_t)((key * 0x9e3779b97f4a7c15u) >> 20) & g->mask;
+    while (g->keys[h] != UINT64_MAX) {
+        if (g->keys[h] == key)
+            return g->slot_id[h];
+        h = (h + 1) & g->mask;
+    }
+    if (!add)
+        return UINT32_MAX;
+    g->keys[h] = key;
+    g->slot_id[h] = g->nvox;
+    g->vkey[g->nvox] = key;
+    g->parent[g->nvox] = g->nvox;
+    return g->nvox++;
+}
+
+static uint32_t seg_find(uint32_t *parent, uint32_t a)
+{
+    while (parent[a] != a)
+        a = parent[a] = parent[parent[a]];
+    return a;
+}
+
+static void seg_union(uint32_t *parent, uint32_t a, uint32_t b)
+{
+    a = seg_find(parent, a), b = seg_find(parent, b);
+    if (a != b) /* the smaller id is the root: roots do not depend on join order */
+        parent[a > b ? a : b] = a > b ? b : a;
+}
+
+static void seg_grid_release(struct seg_grid *g)
+{
+    free(g->keys);
+    free(g->slot_id);
+    free(g->parent);
+    free(g->vkey);
+}
+
+/* Voxelise the kept points into g; vox[k] = voxel id of point k or UINT32_MAX. */
+static int seg_grid_build(const struct sop_params *p, const float *xyzi, size_t n,
+                          const uint8_t *ground, struct seg_grid *g, uint32_t *vox)
+{
+    size_t cap = 16;
+    while (cap < 2 * n + 16)
+        cap <<= 1;
+    memset(g, 0, sizeof *g);
+    g->keys = malloc(sizeof *g->keys * cap);
+    g->slot_id = malloc(sizeof *g->slot_id * cap);
+    g->parent = malloc(sizeof *g->parent * (n + 1));
+    g->vkey = malloc(sizeof *g->vkey * (n + 1));
+    if (!g->keys || !g->slot_id || !g->parent || !g->vkey)
+        return -1;
+    memset(g->keys, 0xff, sizeof *g->keys * cap);
+    g->mask = cap - 1;
+    double inv = 1.0 / p->voxel_m, lim = SEG_BIAS - 2;
+    for (size_t k = 0; k < n; k++) {
+        const float *q = xyzi + 4 * k;
+        double fx = floor(q[0] * inv), fy = floor(q[1] * inv), fz = floor(q[2] * inv);
+        vox[k] = UINT32_MAX;
+        if (ground[k] || !(fabs(fx) < lim && fabs(fy) < lim && fabs(fz) < lim))
+            continue;
+        vox[k] = seg_lookup(g, seg_key((int)fx, (int)fy, (int)fz), 1);
+    }
+    static const int off[13][3] = {{1, 0, 0}, {0, 1, 0}, {0, 0, 1}, {1, 1, 0}, {1, -1, 0},
+                                   {1, 0, 1}, {1, 0, -1}, {0, 1, 1}, {0, 1, -1}, {1, 1, 1},
+                                   {1, 1, -1}, {1, -1, 1}, {1, -1, -1}};
+    for (uint32_t v = 0; v < g->nvox; v++) {
+        uint64_t key = g->vkey[v];
+        int x = (int)(key >> 42) - SEG_BIAS, y = (int)((key >> 21) & 0x1fffff) - SEG_BIAS;
+        int z = (int)(key & 0x1fffff) - SEG_BIAS;
+        for (int o = 0; o < 13; o++) {
+            uint32_t w = seg_lookup(g, seg_key(x + off[o][0], y + off[o][1], z + off[o][2]), 0);
+            if (w != UINT32_MAX)
+                seg_union(g->parent, v, w);
+        }
+    }
+    return 0;
+}
+
+/* Segment id per voxel root: in first-point order, size limits applied.
+ * Returns the number of segments; id[root] = UINT32_MAX for dropped ones. */
+static size_t seg_number(const struct sop_params *p, const float *xyzi, size_t n,
+                         struct seg_grid *g, const uint32_t *vox, uint32_t *id, uint32_t *cnt)
+{
+    size_t ns = 0;
+    for (uint32_t v = 0; v < g->nvox; v++)
+        id[v] = UINT32_MAX, cnt[v] = 0;
+    for (size_t k = 0; k < n; k++)
+        if (vox[k] != UINT32_MAX)
+            cnt[seg_find(g->parent, vox[k])]++;
+    uint32_t pending = UINT32_MAX - 1;  /* counted but not yet numbered */
+    for (uint32_t v = 0; v < g->nvox; v++)
+        if (g->parent[v] == v && cnt[v] >= (uint32_t)p->min_points
+            && cnt[v] <= (uint32_t)p->max_points)
+            id[v] = pending;
+    for (size_t k = 0; k < n; k++) {
+        if (vox[k] == UINT32_MAX)
+            continue;
+        uint32_t r = seg_find(g->parent, vox[k]);
+        if (id[r] == pending)
+            id[r] = (uint32_t)ns++;
+    }
+    /* horizontal extent limit */
+    double *box = malloc(sizeof *box * 4 * (ns ? ns : 1));
+    if (!box)
+        return (size_t)-1;
+    for (size_t s = 0; s < ns; s++)
+        box[4 * s] = box[4 * s + 2] = INFINITY, box[4 * s + 1] = box[4 * s + 3] = -INFINITY;
+    for (size_t k = 0; k < n; k++) {
+        if (vox[k] == UINT32_MAX)
+            continue;
+        uint32_t s = id[seg_find(g->parent, vox[k])];
+        if (s == UINT32_MAX)
+            continue;
+        double x = xyzi[4 * k], y = xyzi[4 * k + 1];
+        box[4 * s] = fmin(box[4 * s], x), box[4 * s + 1] = fmax(box[4 * s + 1], x);
+        box[4 * s + 2] = fmin(box[4 * s + 2], y), box[4 * s + 3] = fmax(box[4 * s + 3], y);
+    }
+    uint32_t *remap = malloc(sizeof *remap * (ns ? ns : 1));
+    if (!remap)
+        return free(box), (size_t)-1;
+    size_t kept = 0;
+    for (size_t s = 0; s < ns; s++) {
+        double dx = box[4 * s + 1] - box[4 * s], dy = box[4 * s + 3] - box[4 * s + 2];
+        remap[s] = sqrt(dx * dx + dy * dy) <= p->max_extent_m ? (uint32_t)kept++ : UINT32_MAX;
+    }
+    for (uint32_t v = 0; v < g->nvox; v++)
+        if (g->parent[v] == v && id[v] != UINT32_MAX)
+            id[v] = remap[id[v]];
+    free(box);
+    free(remap);
+    return kept;
+}
+
+int seg_cluster(const struct sop_params *p, const float *xyzi, size_t n,
+                const uint8_t *ground, struct seg_set *out)
+{
+    struct seg_grid g;
+    int rc = -1;
+    uint32_t *vox = malloc(sizeof *vox * (n ? n : 1)), *id = NULL, *cnt = NULL;
+    out->n_seg = 0;
+    if (!vox || seg_grid_build(p, xyzi, n, ground, &g, vox))
+        goto out;
+    id = malloc(sizeof *id * (g.nvox + 1));
+    cnt = malloc(sizeof *cnt * (g.nvox + 1));
+    if (!id || !cnt)
+        goto out;
+    size_t ns = seg_number(p, xyzi, n, &g, vox, id, cnt);
+    if (ns == (size_t)-1)
+        goto out;
+    if (ns + 1 > out->cap_seg) {
+        uint32_t *t = realloc(out->start, sizeof *t * (ns + 1));
+        if (!t)
+            goto out;
+        out->start = t, out->cap_seg = ns + 1;
+    }
+    if (n > out->cap_pts) {
+        uint32_t *t = realloc(out->idx, sizeof *t * n);
+        if (!t)
+            goto out;
+        out->idx = t, out->cap_pts = n;
+    }
+    memset(out->start, 0, sizeof *out->start * (ns + 1));
+    for (size_t k = 0; k < n; k++)  /* the point's segment, reusing vox */
+        vox[k] = vox[k] == UINT32_MAX ? UINT32_MAX : id[seg_find(g.parent, vox[k])];
+    for (size_t k = 0; k < n; k++)
+        if (vox[k] != UINT32_MAX)
+            out->start[vox[k] + 1]++;
+    for (size_t s = 0; s < ns; s++)
+        out->start[s + 1] += out->start[s];
+    for (size_t s = 0; s <= ns; s++)
+        cnt[s] = out->start[s];  /* fill cursors (cnt has nvox+1 >= ns+1 slots) */
+    for (size_t k = 0; k < n; k++)
+        if (vox[k] != UINT32_MAX)
+            out->idx[cnt[vox[k]]++] = (uint32_t)k;
+    out->n_seg = ns;
+    rc = 0;
+out:
+    if (vox)
+        seg_grid_release(&g);
+    free(vox);
+    free(id);
+    free(cnt);
+    return rc;
+}
+
+void seg_set_release(struct seg_set *s)
+{
+    if (!s)
+        return;
+    free(s->start);
+    free(s->idx);
+    memset(s, 0, sizeof *s);
+}
