@@ -88,7 +88,7 @@ int plot_commit(struct afile *a, struct err *e)
 void plot_head(FILE *f, const char *name, const char *title)
 {
     fprintf(f, "# %s.gp: written by revisit report beside %s.dat.\n"
-               "# Redraw with `gnuplot %s.gp` in this folder after restyling.\n"
+               "# Redraw with: gnuplot %s.gp (in this folder) after restyling.\n"
                "set encoding utf8\n"
                "set terminal pngcairo noenhanced size 960,600 font 'Sans,11'\n"
                "set output '%s.png'\n"

@@ -1,0 +1,136 @@
+#!/usr/bin/env bash
+# e2e_report.sh: `revisit report` on hand-made results folders (reports/fixture.py
+# writes them in the schema of DEVELOPERS.md "Results folder"): every section,
+# valid images, literal labels for hostile method names, the report without
+# gnuplot, and the messages for bad input.
+. "$(dirname "$0")/lib_e2e.sh"
+PY=/usr/bin/python3
+FIX="$REVISIT_ROOT/reports/fixture.py"
+EVIL_GP="q'\"\`touch PWNED1\`\$(touch PWNED2) system(\"touch PWNED3\") @x {a_b^c}"
+EVIL_HTML='<script>alert(1)</script>'
+
+# images.py DIR: every PNG has the signature and an IHDR of non-zero size
+# (PNG specification, W3C 2003, sections 5.2 and 11.2.2); every SVG parses as
+# XML (Python xml.etree.ElementTree).  Prints the number checked.
+cat > "$T/images.py" <<'EOF'
+import glob, struct, sys, xml.etree.ElementTree as ET
+d = sys.argv[1]
+png = sorted(glob.glob(d + "/*.png")); svg = sorted(glob.glob(d + "/*.svg"))
+for p in png:
+    b = open(p, "rb").read(24)
+    assert b[:8] == b"\x89PNG\r\n\x1a\n", p + ": bad signature"
+    assert b[12:16] == b"IHDR", p + ": no IHDR first"
+    w, h = struct.unpack(">II", b[16:24])
+    assert w > 0 and h > 0, p + ": zero size"
+for s in svg:
+    ET.parse(s)
+print(len(png), len(svg))
+EOF
+# svgtext.py FILE TEXT: 1 when some SVG text element reads exactly TEXT.
+cat > "$T/svgtext.py" <<'EOF'
+import sys, xml.etree.ElementTree as ET
+want = sys.argv[2]
+texts = ["".join(e.itertext()) for e in ET.parse(sys.argv[1]).iter() if e.tag.endswith("text")]
+print(1 if want in texts else 0)
+EOF
+
+# --- a sweep with two ordinary methods ---------------------------------------
+$PY "$FIX" "$T/sweep" --seeds 2
+"$REVISIT_BIN" report "$T/sweep" --quiet 2>"$T/err"; rc=$?
+expect "[ $rc -eq 0 ]" "report on a sweep exits 0"
+R="$T/sweep/report"
+expect "[ -s $R/report.md ] && [ -s $R/report.html ] && [ -s $R/scalars.csv ]" "report.md, report.html and scalars.csv written under DIR/report"
+md=$(cat "$R/report.md")
+for h in "## At a glance" "### Acceptance verdicts" "### Findings" "## Scalars" "### F1max" "### R@100P" \
+         "### EP" "### AP" "### recall@1" "## Plots" "### Degradation curves" "### PR curves" \
+         "### Top views of the trajectory" "### Distance matrices" "### Top-1 distance distributions" \
+         "## Reproducibility"; do
+  expect_in "$md" "$h" "report.md has the section '$h'"
+done
+expect_in "$md" "never a substitute for it" "report.md carries the safety caution"
+expect_in "$md" "ISO 26262" "the caution names the road-vehicle standards"
+expect_in "$md" "Scenario hash: f00dfeed" "reproducibility names the scenario hash"
+expect_in "$md" "Perturbation seeds: 1, 2" "reproducibility lists the seeds"
+expect_in "$md" "revisit report $T/sweep --quiet" "reproducibility holds the exact report command"
+expect_in "$md" "is hurt most by condition sector-180" "a finding names the condition that hurts most"
+expect_in "$md" "sd " "tables show the spread over two seeds"
+expect_in "$md" "![" "report.md embeds plot images"
+n=$(ls "$R"/plots/*.gp | wc -l)
+expect "[ $n -eq 13 ]" "13 plot scripts: 2 degradation, 5 PR, 2 x (top view, distances, matrix) (got $n)"
+out=$($PY "$T/images.py" "$R/plots")
+expect "[ '$out' = '13 13' ]" "13 valid PNG and 13 SVG files that parse as XML (got '$out')"
+html=$(cat "$R/report.html")
+imgs=$(grep -o '<img ' "$R/report.html" | wc -l)
+expect "[ $imgs -eq 13 ]" "report.html inlines all 13 images (got $imgs)"
+expect "! grep -q 'src=\"plots/' '$R/report.html'" "report.html refers to no outside image file"
+expect_in "$html" "never a substitute for it" "report.html carries the safety caution"
+expect_in "$(head -n 1 "$R/scalars.csv")" "method,condition,chain,axis,axis_value,seeds" "scalars.csv has its header"
+(cd "$R/plots" && gnuplot pr-0.gp) >/dev/null 2>&1
+expect "[ \$? -eq 0 ] && [ -s $R/plots/pr-0.png ]" "a written script redraws its plot when run by hand"
+
+# --- hostile method names ----------------------------------------------------
+$PY "$FIX" "$T/evil" --method "$EVIL_GP" --method "$EVIL_HTML"
+(cd "$T" && "$REVISIT_BIN" report evil --out "$T/evil-out" --quiet); rc=$?
+expect "[ $rc -eq 0 ]" "report with quotes, backticks and system() in a method name exits 0"
+left=$(find "$T" -name 'PWNED*' | wc -l)
+expect "[ $left -eq 0 ]" "no command in a method name ran (found $left PWNED files)"
+expect "! grep -q '\`' $T/evil-out/plots/*.gp" "no backtick reaches a gnuplot script"
+expect "! grep -q 'system(\"' $T/evil-out/plots/*.gp && grep -q 'system(\\\\042touch' $T/evil-out/plots/pr-0.gp" "the quotes of system(\"...\") reach the script only as octal escapes inside a string"
+hit=$($PY "$T/svgtext.py" "$T/evil-out/plots/pr-0.svg" "$EVIL_GP")
+expect "[ '$hit' = 1 ]" "the hostile name is drawn literally in the PR curve legend"
+hit=$($PY "$T/svgtext.py" "$T/evil-out/plots/pr-0.svg" "$EVIL_HTML")
+expect "[ '$hit' = 1 ]" "<script> in a name is drawn literally in the legend"
+eh=$(cat "$T/evil-out/report.html")
+expect_in "$eh" "&lt;script&gt;alert(1)&lt;/script&gt;" "<script> in a method name shows as text in HTML"
+expect "! grep -q '<script' '$T/evil-out/report.html'" "report.html holds no script element"
+# Fenced code (the exact commands) is shown verbatim by every Markdown renderer; outside it, no raw tag.
+expect "! sed '/^\`\`\`*text\$/,/^\`\`\`*\$/d' '$T/evil-out/report.md' | grep -q '<script'" "report.md holds no raw <script> outside its code block"
+
+# --- a single eval folder, md only, own title ---------------------------------
+$PY "$FIX" "$T/one" --single
+"$REVISIT_BIN" report "$T/one" --format md --title 'Mount B review' --quiet; rc=$?
+expect "[ $rc -eq 0 ]" "report on one eval folder exits 0"
+expect "[ -s $T/one/report/report.md ] && [ ! -e $T/one/report/report.html ]" "--format md writes Markdown only"
+expect_in "$(head -n 1 "$T/one/report/report.md")" "# Mount B review" "--title sets the title"
+expect_in "$(cat "$T/one/report/report.md")" "One evaluation." "a single folder is described as one evaluation"
+
+# --- without gnuplot ----------------------------------------------------------
+env PATH="$T/nobin" "$REVISIT_BIN" report "$T/sweep" --out "$T/nogp" --quiet; rc=$?
+expect "[ $rc -eq 0 ]" "report without gnuplot on PATH exits 0"
+ng=$(cat "$T/nogp/report.md")
+expect_in "$ng" "## Skipped plots" "without gnuplot the report has a skipped-plots section"
+expect_in "$ng" '`trajectory-0.gp` (trajectory top view)' "the skipped list names each plot and its kind"
+expect_in "$ng" "gnuplot-nox" "the report says how to get the plots"
+expect "[ \$(ls $T/nogp/plots/*.png 2>/dev/null | wc -l) -eq 0 ] && [ \$(ls $T/nogp/plots/*.gp | wc -l) -eq 13 ]" "no images, but every script and data file is written"
+expect_in "$ng" "### F1max" "the tables are all there without gnuplot"
+expect "! grep -q '<img' $T/nogp/report.html" "the HTML has no broken image without gnuplot"
+
+# --- bad input ------------------------------------------------------------------
+"$REVISIT_BIN" report "$T/none" 2>"$T/err"; rc=$?
+expect "[ $rc -eq 2 ]" "a missing folder exits 2"
+expect_in "$(cat "$T/err")" "no such folder, expected a results folder" "a missing folder is named"
+mkdir -p "$T/empty"
+"$REVISIT_BIN" report "$T/empty" 2>"$T/err"; rc=$?
+expect "[ $rc -eq 2 ]" "a folder without results exits 2"
+expect_in "$(cat "$T/err")" "not a results folder, expected result.json or cells/" "a non-results folder is refused"
+"$REVISIT_BIN" report "$T/sweep" --format pdf 2>"$T/err"; rc=$?
+expect "[ $rc -eq 2 ]" "an unknown format exits 2"
+expect_in "$(cat "$T/err")" "option '--format' got 'pdf', expected md, html or md,html" "the bad format is named"
+"$REVISIT_BIN" report 2>"$T/err"; rc=$?
+expect "[ $rc -eq 2 ]" "no folder exits 2"
+expect_in "$(cat "$T/err")" "expected one results folder, got 0 arguments" "a missing argument is explained"
+mkdir -p "$T/bad"; printf '{\n  "format": "revisit-result-1",\n  "method": {,}\n}\n' > "$T/bad/result.json"
+"$REVISIT_BIN" report "$T/bad" 2>"$T/err"; rc=$?
+expect "[ $rc -eq 2 ]" "broken JSON exits 2"
+expect_in "$(cat "$T/err")" "result.json:3:" "broken JSON is placed by line and column"
+printf '{"format": "revisit-result-9", "method": {"name": "x"}}' > "$T/bad/result.json"
+"$REVISIT_BIN" report "$T/bad" 2>"$T/err"
+expect_in "$(cat "$T/err")" "format is 'revisit-result-9', expected 'revisit-result-1'" "a foreign format is refused"
+cp -r "$T/one" "$T/badq"; rm -rf "$T/badq/report"; printf '7,x,0.5\n' >> "$T/badq/queries.csv"
+"$REVISIT_BIN" report "$T/badq" --quiet 2>"$T/err"; rc=$?
+expect "[ $rc -eq 2 ]" "a bad queries.csv row exits 2"
+expect_in "$(cat "$T/err")" "queries.csv:" "a bad queries.csv row is placed by line"
+REVISIT_FAULT_WRITE_BYTES=100 "$REVISIT_BIN" report "$T/one" --out "$T/full" --quiet 2>"$T/err"; rc=$?
+expect "[ $rc -eq 2 ]" "a full disk exits 2"
+expect_in "$(cat "$T/err")" "write failed" "a full disk is reported"
+done_tests
