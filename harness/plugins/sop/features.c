@@ -19,7 +19,7 @@
  * scales are the settings that standardise the metric ones.
  *
  * Hull vertices: the extreme point along each of the 26 directions of the
- * 3x3x3 grid (duplicates removed).  They are true hull vertices, so GJK on
+ * 3x3x3 grid, turned to the horizontal principal axis (duplicates removed).  They are true hull vertices, so GJK on
  * them measures the distance between inner approximations of the hulls.
  * We chose this over a full 3D hull (quickhull) because LiDAR segments are
  * often flat or nearly collinear (walls, poles), where a hull builder needs
@@ -80,9 +80,10 @@ static void feat_cov_eigen(const float *xyzi, const uint32_t *idx, uint32_t cnt,
         l[k] = w[2 - k] > 0 ? w[2 - k] : 0;
 }
 
-/* Extents along the horizontal principal axes (major first). */
+/* Extents along the horizontal principal axes (major first); axis gets the
+ * unit direction of the first axis. */
 static void feat_horizontal(const float *xyzi, const uint32_t *idx, uint32_t cnt,
-                            const double c[3], double ext[2])
+                            const double c[3], double ext[2], double axis[2])
 {
     double sxx = 0, syy = 0, sxy = 0;
     for (uint32_t k = 0; k < cnt; k++) {
@@ -91,6 +92,7 @@ static void feat_horizontal(const float *xyzi, const uint32_t *idx, uint32_t cnt
         sxx += dx * dx, syy += dy * dy, sxy += dx * dy;
     }
     double th = 0.5 * atan2(2 * sxy, sxx - syy), ux = cos(th), uy = sin(th);
+    axis[0] = ux, axis[1] = uy;
     double lo[2] = {INFINITY, INFINITY}, hi[2] = {-INFINITY, -INFINITY};
     for (uint32_t k = 0; k < cnt; k++) {
         const float *q = xyzi + 4 * (size_t)idx[k];
@@ -106,17 +108,24 @@ static void feat_horizontal(const float *xyzi, const uint32_t *idx, uint32_t cnt
     }
 }
 
-/* Hull vertices and bounding radius (see the file comment). */
-static void feat_hull(const float *xyzi, const uint32_t *idx, uint32_t cnt, struct sop_seg *s)
+/* Hull vertices and bounding radius (see the file comment).  The 26
+ * directions are taken in the frame of the horizontal principal axis, so
+ * the chosen vertices turn with the segment when the sensor turns. */
+static void feat_hull(const float *xyzi, const uint32_t *idx, uint32_t cnt, const double axis[2],
+                      struct sop_seg *s)
 {
     uint32_t best[SOP_HULL_DIRS] = {0};
     double bd[SOP_HULL_DIRS];
-    int dir[SOP_HULL_DIRS][3], nd = 0;
+    double dir[SOP_HULL_DIRS][3];
+    int nd = 0;
     for (int i = -1; i <= 1; i++)
         for (int j = -1; j <= 1; j++)
             for (int k = -1; k <= 1; k++)
-                if (i || j || k)
-                    dir[nd][0] = i, dir[nd][1] = j, dir[nd][2] = k, bd[nd++] = -INFINITY;
+                if (i || j || k) {
+                    dir[nd][0] = i * axis[0] - j * axis[1];
+                    dir[nd][1] = i * axis[1] + j * axis[0];
+                    dir[nd][2] = k, bd[nd++] = -INFINITY;
+                }
     for (uint32_t m = 0; m < cnt; m++) {
         const float *q = xyzi + 4 * (size_t)idx[m];
         for (int d = 0; d < SOP_HULL_DIRS; d++) {
@@ -168,7 +177,7 @@ static void feat_heights(const struct sop_params *p, const float *xyzi, const ui
 void feat_segment(const struct sop_params *p, const float *xyzi, const uint32_t *idx,
                   uint32_t cnt, const double plane[3], struct sop_seg *out)
 {
-    double c[3] = {0, 0, 0}, l[3], f[SOP_FA_MAX];
+    double c[3] = {0, 0, 0}, l[3], f[SOP_FA_MAX], axis[2];
     for (uint32_t k = 0; k < cnt; k++)
         for (int a = 0; a < 3; a++)
             c[a] += xyzi[4 * (size_t)idx[k] + a];
@@ -177,10 +186,10 @@ void feat_segment(const struct sop_params *p, const float *xyzi, const uint32_t 
     out->n = cnt;
     feat_cov_eigen(xyzi, idx, cnt, c, l);
     feat_eigen(l, f);
-    feat_horizontal(xyzi, idx, cnt, c, f + 7);
+    feat_horizontal(xyzi, idx, cnt, c, f + 7, axis);
     f[7] /= p->extent_scale_m, f[8] /= p->extent_scale_m;
     feat_heights(p, xyzi, idx, cnt, plane, c, f + 9);
     for (int k = 0; k < feat_dim(p); k++)
         out->fa[k] = (float)f[k];
-    feat_hull(xyzi, idx, cnt, out);
+    feat_hull(xyzi, idx, cnt, axis, out);
 }
