@@ -32,10 +32,19 @@ int cmd_sweep(int argc, char **argv);
 int cmd_merge(int argc, char **argv);
 /* revisit check SCENARIO DIR: judge the acceptance criteria (harness/summary.h). */
 int cmd_check(int argc, char **argv);
+/* revisit metrics --results FILE: score a per-query results CSV (metrics/, harness/queries_csv.h). */
+int cmd_metrics(int argc, char **argv);
 /* revisit eval --map REC --method SPEC --out DIR: one evaluation (harness/eval.h). */
 int cmd_eval(int argc, char **argv);
 /* revisit methods [NAME]: the methods on the plugin search path (harness/plugin_host.h). */
 int cmd_methods(int argc, char **argv);
 
+/* revisit index DIR --poses FILE: write recording.json for a folder of scans (harness/recording.h). */
+int cmd_index(int argc, char **argv);
+/* revisit inspect REC: scan count, duration, points, path length, revisits, suspicious scans. */
+int cmd_inspect(int argc, char **argv);
+
+/* revisit synth --scenario NAME --out DIR: a synthetic recording (scenarios/synth.h). */
+int cmd_synth(int argc, char **argv);
 
 #endif

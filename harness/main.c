@@ -11,10 +11,14 @@ struct cmd_row {
 };
 
 static const struct cmd_row commands[] = {
+    {"index", cmd_index, "write recording.json for a folder of scans and a pose file"},
+    {"inspect", cmd_inspect, "scan count, duration, points, path length, revisits and suspicious scans of a recording"},
     {"eval", cmd_eval, "one evaluation: describe, retrieve, score against poses, write a results folder"},
+    {"metrics", cmd_metrics, "score a per-query results CSV from any program against poses"},
     {"methods", cmd_methods, "list the descriptor methods found and their settings"},
     {"merge", cmd_merge, "join the folders of a sharded sweep"},
     {"check", cmd_check, "judge a sweep against the scenario's acceptance criteria (JUnit XML too)"},
+    {"synth", cmd_synth, "make a synthetic recording of an invented district with every kind of revisit"},
     {"report", cmd_report_main, "Markdown and HTML report of a results folder: tables, plots, verdicts"},
     {NULL, NULL, NULL},
 };

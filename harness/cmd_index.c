@@ -1,0 +1,208 @@
+/* cmd_index.c: `revisit index DIR --poses FILE`: write recording.json for an
+ * existing folder of scans and a pose file, after checking they pair up. */
+#include <dirent.h>
+#include <errno.h>
+#include <limits.h>
+#include <stdio.h>
+#include <stdlib.h>
+#include <string.h>
+#include <sys/stat.h>
+#include <unistd.h>
+
+#include "harness/cmd.h"
+#include "harness/fileio.h"
+#include "harness/opt.h"
+#include "harness/poses_io.h"
+#include "harness/recording.h"
+
+static const char usage[] =
+    "usage: revisit index DIR --poses FILE [--times FILE] [--out DIR/recording.json]\n\n"
+    "Write a recording manifest for an existing folder of scans and a pose file,\n"
+    "so that no one writes one by hand.  The scans are the files in DIR with the\n"
+    "most common scan extension (.bin raw float32 x y z i, .pcd, .ply, .txt), or\n"
+    "those matching --pattern; they are taken in name order (numerically when\n"
+    "every name is a number).  The pose file is CSV with a header naming\n"
+    "t,x,y,z,qx,qy,qz,qw, lines of 't x y z qx qy qz qw', or rows of 12 numbers\n"
+    "(a 3x4 [R|t] matrix) with --times naming a file of one time per line; the\n"
+    "layout is detected unless --pose-layout names it.  Before anything is\n"
+    "written, the manifest is loaded back: scans and poses must pair up (one pose\n"
+    "per scan; scan names that are times must match the pose times within 1 ms),\n"
+    "the first scan must read, and the message says exactly where they do not.\n"
+    "Paths are stored relative to the manifest's folder.\n\n";
+
+struct index_opts {
+    const char *dir, *poses, *times, *out, *pose_layout, *scan_layout, *pattern, *notes;
+    long channels;
+    int allow_outside, quiet;
+};
+
+/* Count regular files in dir by known scan extension; pick the most common,
+ * leaving out the pose and times files themselves. */
+static int index_pick_pattern(const struct index_opts *o, char *pat, size_t n, struct err *e)
+{
+    static const char *const exts[] = {".bin", ".pcd", ".ply", ".txt", ".xyz", ".csv"};
+    size_t count[6] = {0};
+    char rp[PATH_MAX] = "", rt[PATH_MAX] = "";
+    if (!realpath(o->poses, rp)) rp[0] = 0;
+    if (o->times && !realpath(o->times, rt)) rt[0] = 0;
+    DIR *d = opendir(o->dir);
+    if (!d) return err_at(e, o->dir, 0, "cannot open folder: %s", strerror(errno));
+    for (struct dirent *de; (de = readdir(d)); ) {
+        const char *dot = strrchr(de->d_name, '.');
+        if (de->d_name[0] == '.' || !dot) continue;
+        char path[PATH_MAX], real[PATH_MAX];
+        fileio_join(path, sizeof path, o->dir, de->d_name);
+        if (realpath(path, real) && (!strcmp(real, rp) || !strcmp(real, rt))) continue;
+        for (int k = 0; k < 6; k++) count[k] += !strcmp(dot, exts[k]);
+    }
+    closedir(d);
+    int best = 0;
+    for (int k = 1; k < 6; k++) if (count[k] > count[best]) best = k;
+    if (!count[best])
+        return err_at(e, o->dir, 0, "no scan files found, expected files ending in .bin, .pcd, .ply, .txt, "
+                      ".xyz or .csv (or name them with --pattern)");
+    snprintf(pat, n, "*%s", exts[best]);
+    return 0;
+}
+
+/* path relative to base when inside it ("." for base itself); otherwise the
+ * real path when allowed, else an error naming both. */
+static int index_relative(const char *path, const char *base_real, int allow, const char *what, char *out,
+                          size_t n, struct err *e)
+{
+    char real[PATH_MAX];
+    if (!realpath(path, real)) return err_at(e, path, 0, "cannot open %s: %s", what, strerror(errno));
+    size_t bl = strlen(base_real);
+    if (!strcmp(real, base_real)) { snprintf(out, n, "."); return 0; }
+    if (!strncmp(real, base_real, bl) && real[bl] == '/') { snprintf(out, n, "%s", real + bl + 1); return 0; }
+    if (!allow)
+        return err_at(e, path, 0, "the %s is outside the manifest's folder %s, expected it inside "
+                      "(or pass --allow-outside; the recording then loads only with --allow-outside)",
+                      what, base_real);
+    snprintf(out, n, "%s", real);
+    return 0;
+}
+
+/* Channels from the first scan's ring field when not given. */
+static int index_channels(const struct index_opts *o, const struct recording *r, int *channels, struct err *e)
+{
+    struct cloud c;
+    cloud_init(&c);
+    size_t dropped;
+    int rc = recording_load_scan(r, 0, &c, &dropped, e);
+    if (!rc && o->channels <= 0) {
+        unsigned top = 0;
+        for (size_t k = 0; c.ring && k < c.n; k++) if (c.ring[k] > top) top = c.ring[k];
+        if (!c.ring || !c.n)
+            rc = err_set(e, "revisit index: the scans carry no ring field, expected --channels N "
+                         "(the number of sensor channels)");
+        else *channels = (int)top + 1;
+    }
+    cloud_free(&c);
+    return rc;
+}
+
+/* Write the manifest to path and load it back; the loaded recording stays in r. */
+static int index_try(const char *path, const struct recording_manifest *m, int allow, struct recording *r,
+                     struct err *e)
+{
+    if (recording_write_manifest(path, m, e)) return -1;
+    return recording_load(path, allow, r, e);
+}
+
+static int index_build(const struct index_opts *o, struct recording_manifest *m, struct recording_sensor *s,
+                       char paths[4][PATH_MAX], struct err *e)
+{
+    char outdir[PATH_MAX], base[PATH_MAX];
+    fileio_dirname(outdir, sizeof outdir, o->out);
+    if (fileio_mkdirs(outdir, e)) return -1;
+    if (!realpath(outdir, base)) return err_at(e, outdir, 0, "cannot resolve folder: %s", strerror(errno));
+    struct stat st;
+    if (stat(o->dir, &st) || !S_ISDIR(st.st_mode)) return err_at(e, o->dir, 0, "not a folder, expected the folder of scans");
+    if (o->pattern) snprintf(paths[3], PATH_MAX, "%s", o->pattern);
+    else if (index_pick_pattern(o, paths[3], PATH_MAX, e)) return -1;
+    if (index_relative(o->dir, base, o->allow_outside, "scan folder", paths[0], PATH_MAX, e) ||
+        index_relative(o->poses, base, o->allow_outside, "pose file", paths[1], PATH_MAX, e) ||
+        (o->times && index_relative(o->times, base, o->allow_outside, "times file", paths[2], PATH_MAX, e)))
+        return -1;
+    enum scan_layout sl = SCAN_AUTO;
+    if (o->scan_layout && scan_layout_parse(o->scan_layout, &sl, e)) return err_wrap(e, "revisit index: --scan-layout");
+    if (sl == SCAN_AUTO) sl = scan_layout_from_path(paths[3]);
+    enum poses_layout pl = POSES_AUTO;
+    if (o->pose_layout && poses_layout_parse(o->pose_layout, &pl, e)) return err_wrap(e, "revisit index: --pose-layout");
+    struct poses ps;
+    if (poses_read(o->poses, pl, o->times, &ps, e)) return -1;
+    pl = ps.layout;
+    poses_free(&ps);
+    recording_sensor_init(s);
+    s->channels = o->channels > 0 ? (int)o->channels : 1;
+    if (o->notes && !(s->notes = strdup(o->notes))) return err_set(e, "out of memory");
+    *m = (struct recording_manifest){.sensor = s, .scans_dir = paths[0], .scans_pattern = paths[3], .layout = sl,
+                                     .poses_file = paths[1], .poses_layout = poses_layout_name(pl),
+                                     .poses_times = o->times ? paths[2] : NULL};
+    return 0;
+}
+
+static int index_run(const struct index_opts *o, struct err *e)
+{
+    if (o->channels < 0 || o->channels > 65535)
+        return err_set(e, "revisit index: --channels %ld, expected 1 to 65535", o->channels);
+    struct recording_manifest m;
+    struct recording_sensor s;
+    char paths[4][PATH_MAX], check[PATH_MAX + 32];
+    if (index_build(o, &m, &s, paths, e)) { recording_sensor_free(&s); return -1; }
+    snprintf(check, sizeof check, "%s.index-check", o->out);
+    struct recording r;
+    int rc = index_try(check, &m, o->allow_outside, &r, e);
+    if (!rc) {
+        int ch = s.channels;
+        rc = index_channels(o, &r, &ch, e);
+        s.channels = ch;
+        recording_free(&r);
+    }
+    if (!rc) rc = index_try(check, &m, o->allow_outside, &r, e);
+    if (!rc && rename(check, o->out)) rc = err_at(e, o->out, 0, "cannot write: %s", strerror(errno));
+    unlink(check);
+    if (!rc) {
+        double dur = r.n > 1 ? r.poses[r.n - 1].t - r.poses[0].t : 0;
+        printf("wrote %s: %zu scans (%s, %s/%s), %zu poses (%s), %d channels, %.3f s\n", o->out, r.n,
+               scan_layout_name(r.layout), paths[0], paths[3], r.n, m.poses_layout, s.channels, dur);
+        recording_free(&r);
+    }
+    recording_sensor_free(&s);
+    return rc;
+}
+
+int cmd_index(int argc, char **argv)
+{
+    struct index_opts o = {0};
+    const struct opt opts[] = {
+        {"--poses", OPT_STR, &o.poses, "FILE", "pose file (CSV, text or 3x4 rows); required"},
+        {"--times", OPT_STR, &o.times, "FILE", "times file (one per line) for the 3x4 layout"},
+        {"--out", OPT_STR, &o.out, "FILE", "manifest to write (default DIR/recording.json)"},
+        {"--pose-layout", OPT_STR, &o.pose_layout, "auto|csv|text|matrix", "pose file layout (default: detect)"},
+        {"--scan-layout", OPT_STR, &o.scan_layout, "auto|raw|pcd|ply|text", "scan layout (default: by extension)"},
+        {"--pattern", OPT_STR, &o.pattern, "GLOB", "scan file names in DIR (default: the most common scan extension)"},
+        {"--channels", OPT_INT, &o.channels, "N", "sensor channels (default: from the ring field of the first scan)"},
+        {"--notes", OPT_STR, &o.notes, "TEXT", "free text stored in the sensor description"},
+        {"--allow-outside", OPT_FLAG, &o.allow_outside, NULL, "allow scans or poses outside the manifest's folder"},
+        {"--quiet", OPT_FLAG, &o.quiet, NULL, "no progress output"},
+        {0}};
+    struct opt_args a;
+    struct err e;
+    if (opt_parse("index", argc, argv, opts, &a, &e)) return cmd_report(&e);
+    if (a.help) {
+        fputs(usage, stdout);
+        opt_print_help(stdout, opts);
+        return CMD_OK;
+    }
+    if (a.n != 1) return err_set(&e, "revisit index: expected one folder of scans, got %d arguments", a.n), cmd_report(&e);
+    if (!o.poses) return err_set(&e, "revisit index: option '--poses' is required"), cmd_report(&e);
+    o.dir = a.v[0];
+    char out[PATH_MAX];
+    if (!o.out) {
+        fileio_join(out, sizeof out, o.dir, "recording.json");
+        o.out = out;
+    }
+    return index_run(&o, &e) ? cmd_report(&e) : CMD_OK;
+}
