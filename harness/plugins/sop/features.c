@@ -174,21 +174,32 @@ static void feat_heights(const struct sop_params *p, const float *xyzi, const ui
     }
 }
 
-void feat_segment(const struct sop_params *p, const float *xyzi, const uint32_t *idx,
-                  uint32_t cnt, const double plane[3], struct sop_seg *out)
+/* F_a in double precision into f (feat_dim values); c gets the centroid and
+ * axis the horizontal principal direction. */
+static void feat_compute(const struct sop_params *p, const float *xyzi, const uint32_t *idx,
+                         uint32_t cnt, const double plane[3], double c[3], double *f,
+                         double axis[2])
 {
-    double c[3] = {0, 0, 0}, l[3], f[SOP_FA_MAX], axis[2];
+    double l[3];
+    c[0] = c[1] = c[2] = 0;
     for (uint32_t k = 0; k < cnt; k++)
         for (int a = 0; a < 3; a++)
             c[a] += xyzi[4 * (size_t)idx[k] + a];
     for (int a = 0; a < 3; a++)
-        out->c[a] = c[a] /= cnt;
-    out->n = cnt;
+        c[a] /= cnt;
     feat_cov_eigen(xyzi, idx, cnt, c, l);
     feat_eigen(l, f);
     feat_horizontal(xyzi, idx, cnt, c, f + 7, axis);
     f[7] /= p->extent_scale_m, f[8] /= p->extent_scale_m;
     feat_heights(p, xyzi, idx, cnt, plane, c, f + 9);
+}
+
+void feat_segment(const struct sop_params *p, const float *xyzi, const uint32_t *idx,
+                  uint32_t cnt, const double plane[3], struct sop_seg *out)
+{
+    double f[SOP_FA_MAX], axis[2];
+    feat_compute(p, xyzi, idx, cnt, plane, out->c, f, axis);
+    out->n = cnt;
     for (int k = 0; k < feat_dim(p); k++)
         out->fa[k] = (float)f[k];
     feat_hull(xyzi, idx, cnt, axis, out);
