@@ -134,7 +134,6 @@ static int index_build(const struct index_opts *o, struct recording_manifest *m,
     if (poses_read(o->poses, pl, o->times, &ps, e)) return -1;
     pl = ps.layout;
     poses_free(&ps);
-    recording_sensor_init(s);
     s->channels = o->channels > 0 ? (int)o->channels : 1;
     if (o->notes && !(s->notes = strdup(o->notes))) return err_set(e, "out of memory");
     *m = (struct recording_manifest){.sensor = s, .scans_dir = paths[0], .scans_pattern = paths[3], .layout = sl,
@@ -150,6 +149,7 @@ static int index_run(const struct index_opts *o, struct err *e)
     struct recording_manifest m;
     struct recording_sensor s;
     char paths[4][PATH_MAX], check[PATH_MAX + 32];
+    recording_sensor_init(&s);
     if (index_build(o, &m, &s, paths, e)) { recording_sensor_free(&s); return -1; }
     snprintf(check, sizeof check, "%s.index-check", o->out);
     struct recording r;

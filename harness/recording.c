@@ -342,6 +342,7 @@ static int rec_scans(const struct rec_ctx *x, const cJSON *root, struct recordin
             return rec_bad(x, "$.scans.pattern", "contains '/'", "a file-name pattern such as *.bin", e);
         char path[RECORDING_PATH_MAX];
         if (rec_path(x, rec->dir, dir->valuestring, "$.scans.dir", path, sizeof path, e)) return -1;
+        if (!strcmp(dir->valuestring, ".")) snprintf(path, sizeof path, "%s", rec->dir);
         if (rec_list_dir(x, path, pat->valuestring, &v, &n, e)) return -1;
     }
     rec->scan_paths = calloc(n ? n : 1, sizeof *rec->scan_paths);

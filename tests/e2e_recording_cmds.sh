@@ -1,0 +1,106 @@
+#!/usr/bin/env bash
+# e2e_recording_cmds.sh: `revisit index` on a folder of raw scans with a pose
+# file in each layout, its refusals, and `revisit inspect` (text and --json).
+. "$(dirname "$0")/lib_e2e.sh"
+PY=${PYTHON:-/usr/bin/python3}
+
+# A route of two laps round a circle of radius 20 m, one scan a second:
+# lap two passes lap one's positions exactly 30 s later, so with a 3 m radius
+# and 30 s excluded, scans 30..59 are revisits and 0..29 are not (they have
+# no candidate; neighbouring scans are a 12-degree chord, 4.18 m, apart).  The scans
+# are random raw float32 records; scan 7 is small, scan 9 all NaN.
+$PY - "$T" <<'EOF'
+import os, sys
+import numpy as np
+from scipy.spatial.transform import Rotation
+d = sys.argv[1]
+rng = np.random.default_rng(5)
+n = 60
+t = 1000.0 + np.arange(n)
+ang = np.linspace(0, 4 * np.pi, n, endpoint=False)
+p = np.column_stack([20 * np.cos(ang), 20 * np.sin(ang), np.zeros(n)])
+rot = Rotation.from_euler("z", ang + np.pi / 2)
+q = rot.as_quat()
+os.makedirs(d + "/run/scans")
+for k in range(n):
+    pts = rng.normal(scale=10, size=(20 if k == 7 else 500, 4)).astype("<f4")
+    if k == 9:
+        pts[:] = np.nan
+    pts.tofile(d + "/run/scans/%06d.bin" % k)
+with open(d + "/run/poses.csv", "w") as f:
+    f.write("t,qx,qy,qz,qw,x,y,z\n")
+    for k in range(n):
+        f.write("%.17g,%.17g,%.17g,%.17g,%.17g,%.17g,%.17g,%.17g\n" % (t[k], *q[k], *p[k]))
+np.savetxt(d + "/run/poses.txt", np.column_stack([t, p, q]), fmt="%.17g")
+M = np.concatenate([rot.as_matrix(), p[:, :, None]], axis=2).reshape(n, 12)
+np.savetxt(d + "/run/poses_kx.txt", M, fmt="%.17g")
+np.savetxt(d + "/run/times.txt", t, fmt="%.17g")
+np.savetxt(d + "/run/short.txt", np.column_stack([t, p, q])[:58], fmt="%.17g")
+EOF
+
+R="$T/run"
+out=$("$REVISIT_BIN" index "$R/scans" --poses "$R/poses.csv" --channels 16 --out "$R/recording.json" 2>&1); rc=$?
+expect "[ $rc -eq 0 ]" "index writes a manifest for raw scans with CSV poses"
+expect_in "$out" "60 scans (raw, scans/*.bin), 60 poses (csv), 16 channels, 59.000 s" "index says what it found"
+expect "grep -q '\"layout\":.*\"csv\"' '$R/recording.json'" "the detected pose layout is recorded"
+"$REVISIT_BIN" index "$R/scans" --poses "$R/poses.txt" --channels 16 --out "$R/text.json" >/dev/null 2>&1
+expect "[ $? -eq 0 ] && grep -q '\"text\"' '$R/text.json'" "index accepts whitespace pose lines"
+"$REVISIT_BIN" index "$R/scans" --poses "$R/poses_kx.txt" --times "$R/times.txt" --channels 16 --out "$R/mat.json" >/dev/null 2>&1
+expect "[ $? -eq 0 ] && grep -q '\"matrix\"' '$R/mat.json' && grep -q 'times.txt' '$R/mat.json'" \
+  "index accepts 3x4 rows with a times file"
+
+err=$("$REVISIT_BIN" index "$R/scans" --poses "$R/short.txt" --channels 16 --out "$R/bad.json" 2>&1); rc=$?
+expect "[ $rc -eq 2 ]" "scans and poses that do not pair up exit 2"
+expect_in "$err" "60 scans but 58 poses, expected one pose per scan" "the mismatch gives both counts"
+expect "[ ! -e '$R/bad.json' ] && ! ls '$R' | grep -q index-check" "a refused index leaves no manifest behind"
+err=$("$REVISIT_BIN" index "$R/scans" --poses "$R/poses.csv" --out "$R/nochan.json" 2>&1); rc=$?
+expect "[ $rc -eq 2 ]" "raw scans without --channels are refused"
+expect_in "$err" "expected --channels N" "the message asks for --channels"
+mkdir -p "$T/elsewhere"
+err=$("$REVISIT_BIN" index "$R/scans" --poses "$R/poses.csv" --channels 16 --out "$T/elsewhere/r.json" 2>&1); rc=$?
+expect "[ $rc -eq 2 ]" "a manifest outside the scans' folder is refused"
+expect_in "$err" "outside the manifest's folder" "the message says the scans lie outside"
+"$REVISIT_BIN" index "$R/scans" --poses "$R/poses.csv" --channels 16 --out "$T/elsewhere/r.json" --allow-outside >/dev/null 2>&1
+expect "[ $? -eq 0 ]" "with --allow-outside the manifest is written"
+"$REVISIT_BIN" inspect "$T/elsewhere/r.json" --quiet >/dev/null 2>&1; rc=$?
+expect "[ $rc -eq 2 ]" "that manifest does not load without --allow-outside"
+printf 't,x,y,z,qx,qy,qz,qw\n0,0,0,0,0,0,0,1\n1,0,0,0,0,0,0\n' > "$T/p7.csv"
+err=$("$REVISIT_BIN" index "$R/scans" --poses "$T/p7.csv" --channels 16 --allow-outside 2>&1)
+expect_in "$err" "p7.csv:3: found 7 columns, expected 8" "a short pose line is named by file and line"
+
+out=$("$REVISIT_BIN" inspect "$R" --quiet); rc=$?
+expect "[ $rc -eq 0 ]" "inspect exits 0 when every scan reads"
+expect_in "$out" "scans        60 (raw layout)" "inspect counts the scans"
+expect_in "$out" "min 0 / median 500 / max 500" "inspect gives points per scan"
+expect_in "$out" "revisits     30 of 60 scans" "the second lap is 30 revisits at 3 m, 30 s excluded"
+expect_in "$out" "500 points dropped in 1 scans" "non-finite points are reported"
+expect_in "$out" "scan 7 (" "the small scan is listed"
+expect_in "$out" "under a tenth of the median" "with its reason"
+expect_in "$out" "scan 9 (" "the all-NaN scan is listed"
+expect_in "$out" "all points non-finite" "with its reason"
+json=$("$REVISIT_BIN" inspect "$R/recording.json" --json --quiet)
+chk=$(echo "$json" | $PY -c '
+import json, math, sys
+d = json.load(sys.stdin)
+# path length: 59 chords of a 20 m circle split in 30 steps (common practice, no source)
+chord = 2 * 20 * math.sin(math.pi / 30)
+ok = d["scans"] == 60 and d["revisits"]["count"] == 30 and abs(d["path_length_m"] - 59 * chord) < 1e-6
+ok = ok and [s["scan"] for s in d["suspicious"]] == [7, 9] and d["duration_s"] == 59
+print("ok" if ok else "bad %r" % d)')
+expect_in "$chk" "ok" "inspect --json agrees on counts, path length and suspicious scans"
+out=$("$REVISIT_BIN" inspect "$R" --quiet --radius 1.5)
+expect_in "$out" "revisits     30 of 60" "exact revisits stay revisits at 1.5 m"
+out=$("$REVISIT_BIN" inspect "$R" --quiet --exclude-s 0.5)
+expect_in "$out" "revisits     30 of 60" "with 0.5 s excluded the 4.18 m neighbours are still beyond 3 m"
+out=$("$REVISIT_BIN" inspect "$R" --quiet --exclude-s 0.5 --radius 4.5)
+expect_in "$out" "revisits     59 of 60" "at 4.5 m every scan but the first has its predecessor as a revisit"
+head -c 100 "$R/scans/000003.bin" > "$T/cut" && cp "$T/cut" "$R/scans/000003.bin"
+out=$("$REVISIT_BIN" inspect "$R" --quiet); rc=$?
+expect "[ $rc -eq 1 ]" "inspect exits 1 when a scan is unreadable"
+expect_in "$out" "scan 3: unreadable: scan 3: " "the unreadable scan is named"
+expect_in "$out" "not a multiple of 16" "with the reason"
+echo '{"format": "revisit-recording-2"}' > "$T/v2.json"
+err=$("$REVISIT_BIN" inspect "$T/v2.json" 2>&1); rc=$?
+expect "[ $rc -eq 2 ]" "a manifest of another format version exits 2"
+expect_in "$err" "v2.json: \$.format: 'revisit-recording-2' is not a format this version reads" "and says why"
+done_tests
