@@ -18,7 +18,7 @@
 #include <stdlib.h>
 #include <string.h>
 
-#define GT_LEAF 8
+#define GT_LEAF 32
 
 struct kd_node {
     double lo[3], hi[3];
@@ -32,6 +32,8 @@ struct kd_tree {
     const double *xyz;         /* map positions, 3 per scan */
     const double *t;           /* map times or NULL */
     size_t *perm;
+    double *pts;               /* positions in perm order, for locality */
+    double *tk;                /* times in perm order, or NULL */
     struct kd_node *nodes;
     size_t n_nodes;
 };
@@ -137,33 +139,43 @@ static int kd_build(struct kd_tree *t, const double *xyz, const double *times, s
     t->perm = malloc((n ? n : 1) * sizeof *t->perm);
     /* Leaves hold at least GT_LEAF/2 + 1 points, so n nodes always suffice. */
     t->nodes = malloc((n ? n : 1) * sizeof *t->nodes);
-    if (!t->perm || !t->nodes) return -1;
+    t->pts = malloc((n ? n : 1) * 3 * sizeof *t->pts);
+    if (!t->perm || !t->nodes || !t->pts) return -1;
     for (size_t j = 0; j < n; j++) t->perm[j] = j;
     if (n) kd_build_node(t, 0, n);
+    for (size_t k = 0; k < n; k++) memcpy(t->pts + 3 * k, xyz + 3 * t->perm[k], 3 * sizeof *xyz);
+    if (times) {
+        t->tk = malloc((n ? n : 1) * sizeof *t->tk);
+        if (!t->tk) return -1;
+        for (size_t k = 0; k < n; k++) t->tk[k] = times[t->perm[k]];
+    }
     return 0;
 }
 
 static void kd_free(struct kd_tree *t)
 {
     free(t->perm);
+    free(t->pts);
+    free(t->tk);
     free(t->nodes);
 }
 
 /* ---- tree queries -------------------------------------------------------- */
 
-/* Lower bound of the distance from x to the box; never above the computed
- * distance of a point inside (same operations, monotone rounding). */
-static double box_near(const struct kd_node *nd, const double *x)
+/* Squared distances to a box: box_near2 never exceeds the squared distance
+ * of a point inside, box_far2 is never below it (same operations, monotone
+ * rounding), so pruning on them is exact. */
+static double box_near2(const struct kd_node *nd, const double *x)
 {
     double s = 0;
     for (int d = 0; d < 3; d++) {
         double e = x[d] < nd->lo[d] ? nd->lo[d] - x[d] : x[d] > nd->hi[d] ? x[d] - nd->hi[d] : 0;
         s += e * e;
     }
-    return sqrt(s);
+    return s;
 }
 
-static double box_far(const struct kd_node *nd, const double *x)
+static double box_far2(const struct kd_node *nd, const double *x)
 {
     double s = 0;
     for (int d = 0; d < 3; d++) {
@@ -171,7 +183,13 @@ static double box_far(const struct kd_node *nd, const double *x)
         double e = a > b ? a : b;
         s += e * e;
     }
-    return sqrt(s);
+    return s;
+}
+
+static double dist2(const double *a, const double *b)
+{
+    double dx = a[0] - b[0], dy = a[1] - b[1], dz = a[2] - b[2];
+    return dx * dx + dy * dy + dz * dz;
 }
 
 static int node_none(const struct kd_node *nd, const struct gt_limits *lim)
@@ -184,51 +202,74 @@ static int node_all(const struct kd_node *nd, const struct gt_limits *lim)
     return nd->max_idx <= (size_t)lim->idx_max && nd->max_t <= lim->t_max;
 }
 
-static int point_ok(const struct kd_tree *t, size_t j, const struct gt_limits *lim)
+/* Tree slot k (map scan perm[k]) is a candidate. */
+static int point_ok(const struct kd_tree *t, size_t k, const struct gt_limits *lim)
 {
-    return (long)j <= lim->idx_max && (!t->t || t->t[j] <= lim->t_max);
+    return (long)t->perm[k] <= lim->idx_max && (!t->tk || t->tk[k] <= lim->t_max);
 }
 
 struct kd_best {
     long j;
-    double d;
+    double s;      /* squared distance */
 };
 
 static void kd_nearest(const struct kd_tree *t, long id, const double *x,
-                       const struct gt_limits *lim, struct kd_best *best)
+                       const struct gt_limits *lim, double box2, struct kd_best *best)
 {
     const struct kd_node *nd = &t->nodes[id];
-    if (node_none(nd, lim) || box_near(nd, x) > best->d) return;
+    if (box2 > best->s || node_none(nd, lim)) return;
     if (nd->left < 0) {
         for (size_t k = nd->begin; k < nd->end; k++) {
+            if (!point_ok(t, k, lim)) continue;
             size_t j = t->perm[k];
-            if (!point_ok(t, j, lim)) continue;
-            double d = dist3(t->xyz + 3 * j, x);
-            if (d < best->d || (d == best->d && (long)j < best->j)) {
-                best->d = d;
+            double s = dist2(t->pts + 3 * k, x);
+            if (s < best->s || (s == best->s && (long)j < best->j)) {
+                best->s = s;
                 best->j = (long)j;
             }
         }
         return;
     }
     long a = nd->left, b = nd->right;
-    if (box_near(&t->nodes[b], x) < box_near(&t->nodes[a], x)) { a = nd->right; b = nd->left; }
-    kd_nearest(t, a, x, lim, best);
-    kd_nearest(t, b, x, lim, best);
+    double da = box_near2(&t->nodes[a], x), db = box_near2(&t->nodes[b], x);
+    if (db < da) {
+        long tmp = a; a = b; b = tmp;
+        double td = da; da = db; db = td;
+    }
+    kd_nearest(t, a, x, lim, da, best);
+    kd_nearest(t, b, x, lim, db, best);
 }
 
-static size_t kd_count(const struct kd_tree *t, long id, const double *x, double r,
-                       const struct gt_limits *lim)
+/* Count candidates with sqrt(d2) <= r (the test gt_pair applies; r2 = r * r)
+ * and keep the nearest of those seen in best.  A node wholly inside the ball
+ * is counted without visiting its points; *skipped is then set, and best may
+ * miss the true nearest. */
+struct kd_ball {
+    const double *x;
+    double r, r2;
+    const struct gt_limits *lim;
+    struct kd_best best;
+    int skipped;
+};
+
+static size_t kd_count(const struct kd_tree *t, long id, struct kd_ball *b)
 {
     const struct kd_node *nd = &t->nodes[id];
-    if (node_none(nd, lim) || box_near(nd, x) > r) return 0;
-    if (node_all(nd, lim) && box_far(nd, x) <= r) return nd->end - nd->begin;
-    if (nd->left >= 0)
-        return kd_count(t, nd->left, x, r, lim) + kd_count(t, nd->right, x, r, lim);
+    /* margins keep the squared-space pruning on the safe side of sqrt() <= r */
+    if (node_none(nd, b->lim) || box_near2(nd, b->x) > b->r2 * (1 + 1e-12)) return 0;
+    if (node_all(nd, b->lim) && box_far2(nd, b->x) <= b->r2 * (1 - 1e-12)) {
+        b->skipped = 1;
+        return nd->end - nd->begin;
+    }
+    if (nd->left >= 0) return kd_count(t, nd->left, b) + kd_count(t, nd->right, b);
     size_t c = 0;
     for (size_t k = nd->begin; k < nd->end; k++) {
-        size_t j = t->perm[k];
-        if (point_ok(t, j, lim) && dist3(t->xyz + 3 * j, x) <= r) c++;
+        double s = dist2(t->pts + 3 * k, b->x);
+        if (s > b->r2 * (1 + 1e-12) || !point_ok(t, k, b->lim)) continue;
+        if (s > b->r2 * (1 - 1e-12) && !(sqrt(s) <= b->r)) continue;   /* sqrt only near the rim */
+        c++;
+        long j = (long)t->perm[k];
+        if (s < b->best.s || (s == b->best.s && j < b->best.j)) { b->best.s = s; b->best.j = j; }
     }
     return c;
 }
@@ -339,14 +380,17 @@ int gt_build(const struct protocol *p, const struct gt_poses *map,
     for (size_t i = 0; i < g->n_query; i++) {
         struct gt_query *q = &g->q[i];
         struct gt_limits lim = gt_limits_of(g, i);
-        struct kd_best best = {-1, INFINITY};
         const double *x = g->query_xyz + 3 * i;
+        struct kd_ball ball = {x, p->r_pos_m, p->r_pos_m * p->r_pos_m, &lim, {-1, INFINITY}, 0};
         if (g->n_map) {
-            kd_nearest(&tree, 0, x, &lim, &best);
-            q->n_within = kd_count(&tree, 0, x, p->r_pos_m, &lim);
+            /* The ball pass finds the nearest when it lies within r_pos;
+             * otherwise (or if a node was counted whole) search for it. */
+            q->n_within = kd_count(&tree, 0, &ball);
+            if (!q->n_within || ball.skipped)
+                kd_nearest(&tree, 0, x, &lim, box_near2(&tree.nodes[0], x), &ball.best);
         }
-        q->nearest = best.j;
-        q->nearest_m = best.d;
+        q->nearest = ball.best.j;
+        q->nearest_m = sqrt(ball.best.s);
         q->revisit = q->n_within > 0;
         if (q->used) {
             g->n_used++;

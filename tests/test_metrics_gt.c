@@ -108,6 +108,48 @@ static void loop_cases(void)
     free(t);
 }
 
+/* A long stop: hundreds of scans within centimetres, so whole tree nodes
+ * fall inside the r_pos ball and are counted without visiting their points. */
+static void stop_case(void)
+{
+    struct lcg r = {31};
+    size_t n = 700;
+    double *xyz = malloc(n * 3 * sizeof *xyz), *t = malloc(n * sizeof *t);
+    for (size_t i = 0; i < n; i++) {
+        int parked = i < 400 || i >= 600;
+        double a = (double)i * 0.05;
+        xyz[3 * i] = parked ? 0.01 * uni(&r) : 30 * sin(a);
+        xyz[3 * i + 1] = parked ? 0.01 * uni(&r) : 30 * (1 - cos(a));
+        xyz[3 * i + 2] = 0;
+        t[i] = 0.5 * (double)i;
+    }
+    struct gt_poses map = {xyz, t, n};
+    struct protocol p;
+    protocol_defaults(&p);
+    struct gt *g = NULL;
+    CHECK(gt_build(&p, &map, NULL, NULL, 0, &g, NULL) == 0, "stop-and-go ground truth builds");
+    if (g) {
+        CHECK(compare(&p, g, xyz, t, xyz, n, n) == 0, "whole-node counting equals brute force");
+        CHECK(g->q[399].n_within == 340 && g->q[650].n_within > 300, "a long stop: scans 0-339 lie before t - 30 s");
+        gt_free(g);
+    }
+    /* reloc against itself: every map scan is a candidate, so nodes inside
+     * the ball are counted whole and the nearest is searched separately */
+    p.mode = PROTOCOL_RELOC;
+    struct gt_poses qry = {xyz, NULL, n};
+    map.t = NULL;
+    g = NULL;
+    CHECK(gt_build(&p, &map, &qry, NULL, 0, &g, NULL) == 0, "stop-and-go reloc ground truth builds");
+    if (g) {
+        CHECK(compare(&p, g, xyz, t, xyz, n, n) == 0, "whole-node counting in reloc equals brute force");
+        CHECK(g->q[10].n_within >= 500 && g->q[10].nearest == 10 && g->q[10].nearest_m == 0,
+              "reloc: all 500 parked scans counted (the route passes by too), the nearest is the scan itself");
+        gt_free(g);
+    }
+    free(xyz);
+    free(t);
+}
+
 static void reloc_cases(void)
 {
     struct lcg r = {99};
@@ -190,6 +232,7 @@ static void bad_input(void)
 int main(void)
 {
     loop_cases();
+    stop_case();
     reloc_cases();
     bad_input();
     return check_done();
