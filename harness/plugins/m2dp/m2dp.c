@@ -62,6 +62,7 @@ struct m2dp {
     struct m2dp_plane *planes;  /* p*q, row order i*q + j */
     double *bx, *by;            /* t+1 sector boundary directions */
     double margin;              /* see m2dp_sector */
+    double sec_scale;           /* t / 2pi: radians to sectors */
 };
 
 static void m2dp_cross(const double a[3], const double b[3], double out[3])
@@ -123,6 +124,7 @@ static int m2dp_new(const double *v, void **inst, uint32_t *dim, uint32_t *key_d
             m2dp_plane_axes(i * M2DP_PI / m->p, j * M2DP_PI / (2.0 * m->q),
                             &m->planes[i * m->q + j]);
     m->margin = 2 * 2.1e-4 * m->t / (2 * M2DP_PI);
+    m->sec_scale = m->t / (2 * M2DP_PI);
     for (int s = 0; s <= m->t; s++) {
         m->bx[s] = cos(2.0 * M2DP_PI * s / m->t);
         m->by[s] = sin(2.0 * M2DP_PI * s / m->t);
@@ -191,7 +193,7 @@ static double m2dp_fast_angle(double y, double x)
  * boundary; then cross products with the boundary directions decide. */
 static int m2dp_sector(const struct m2dp *m, double u, double v)
 {
-    double x = m2dp_fast_angle(v, u) * m->t / (2 * M2DP_PI);
+    double x = m2dp_fast_angle(v, u) * m->sec_scale;
     int s = (int)x;
     double f = x - s;
     if (s >= m->t)

@@ -1,0 +1,164 @@
+/* bench_methods.c: describe speed of the M2DP and sop plugins on a cast
+ * 32-channel scan, sop's time per step, and GJK hull-pair throughput.
+ * One JSON line per figure on stdout; every time is the best of several
+ * rounds of thread CPU time, and each figure carries a ratio to a reference
+ * measured in the same run:
+ *   point pass   centroid and covariance of the scan, one read of every point
+ *   support pair the two support-point scans that one GJK iteration needs
+ * OpenBLAS is held to one thread, so figures are per core. */
+#include <time.h>
+#include "harness/plugins/sop/gjk.c"
+#include "harness/plugins/sop/ground.c"
+#include "harness/plugins/sop/segment.c"
+#include "harness/plugins/sop/features.c"
+#include "harness/plugins/sop/context.c"
+#include "harness/plugins/sop/pool.c"
+#include "harness/plugins/sop/sop.c"
+#define rv_method_entry m2dp_entry
+#include "harness/plugins/m2dp/m2dp.c"
+#undef rv_method_entry
+#include "tests/test_sop_scene.h"
+
+void openblas_set_num_threads(int);
+
+#define CAP (SCENE_CHANNELS * SCENE_AZIMUTHS)
+#define ROUNDS 7
+
+static double cpu_now(void)
+{
+    struct timespec ts;
+    clock_gettime(CLOCK_THREAD_CPUTIME_ID, &ts);
+    return (double)ts.tv_sec + 1e-9 * (double)ts.tv_nsec;
+}
+
+/* Reference: one pass over the points (centroid and covariance). */
+static double point_pass(const float *xyzi, size_t n, double *sink)
+{
+    double best = INFINITY;
+    for (int r = 0; r < ROUNDS; r++) {
+        double t0 = cpu_now(), s[9] = {0};
+        for (size_t k = 0; k < n; k++)
+            for (int a = 0; a < 3; a++)
+                for (int b = 0; b < 3; b++)
+                    s[a * 3 + b] += (double)xyzi[4 * k + a] * xyzi[4 * k + b];
+        best = fmin(best, cpu_now() - t0);
+        *sink += s[0] + s[4] + s[8];
+    }
+    return best;
+}
+
+static void bench_m2dp(const float *pts, size_t n, double ref)
+{
+    double v[SET_COUNT];
+    for (int k = 0; k < SET_COUNT; k++)
+        v[k] = m2dp_settings[k].def;
+    for (int all = 0; all < 2; all++) {
+        v[SET_MAXPTS] = all ? 0 : m2dp_settings[SET_MAXPTS].def;
+        void *inst;
+        uint32_t dim, kd;
+        char msg[256];
+        m2dp_new(v, &inst, &dim, &kd, msg, sizeof msg);
+        float *d = malloc(sizeof *d * dim);
+        struct rv_scan sc = {n, pts, NULL, NULL, 0, 0, 0};
+        double best = INFINITY;
+        for (int r = 0; r < ROUNDS; r++) {
+            double t0 = cpu_now();
+            m2dp_describe(inst, &sc, d, NULL, msg, sizeof msg);
+            best = fmin(best, cpu_now() - t0);
+        }
+        printf("{\"bench\":\"m2dp_describe\",\"points\":%zu,\"max_points\":%.0f,\"ms\":%.3f,"
+               "\"target_ms\":10,\"ratio_to_point_pass\":%.1f}\n",
+               n, v[SET_MAXPTS], best * 1e3, best / ref);
+        free(d);
+        m2dp_free(inst);
+    }
+}
+
+static void bench_sop(const struct scene *w, float *pts, double ref, size_t n0)
+{
+    double v[S_COUNT];
+    for (int k = 0; k < S_COUNT; k++)
+        v[k] = sop_settings[k].def;
+    void *inst;
+    uint32_t dim, kd;
+    char msg[256];
+    sop_new(v, &inst, &dim, &kd, msg, sizeof msg);
+    struct sop *s = inst;
+    float *d = malloc(sizeof *d * dim);
+    double best = INFINITY, steps[SOP_T_COUNT] = {0}, sum = 0;
+    size_t npts = 0;
+    for (int r = 0; r < ROUNDS; r++) {  /* a moving sensor, so the temporal context works */
+        struct rv_scan sc = {scene_scan(w, 1.5 * r, 0.2, 0.1, pts, CAP), pts, NULL, NULL, 0, (uint32_t)r, 0};
+        double t[SOP_T_COUNT] = {0}, t0 = cpu_now();
+        sop_run(s, &sc, d, t, msg, sizeof msg);
+        double el = cpu_now() - t0;
+        if (el < best) {
+            best = el, npts = sc.n;
+            memcpy(steps, t, sizeof t);
+        }
+    }
+    for (int k = 0; k < SOP_T_COUNT; k++)
+        sum += steps[k];
+    printf("{\"bench\":\"sop_describe\",\"points\":%zu,\"segments\":%zu,\"ms\":%.3f,\"target_ms\":40,"
+           "\"ratio_to_point_pass\":%.1f,\"share_ground\":%.3f,\"share_segment\":%.3f,"
+           "\"share_features\":%.3f,\"share_context\":%.3f,\"share_pool\":%.3f}\n",
+           npts, s->set.n_seg, best * 1e3, best / ref * (double)n0 / (double)npts,
+           steps[0] / sum, steps[1] / sum, steps[2] / sum, steps[3] / sum, steps[4] / sum);
+    free(d);
+    sop_free(s);
+}
+
+/* GJK on pairs of 30-vertex hulls (points on ellipsoids, all of them hull
+ * vertices), a quarter of the pairs overlapping. */
+static void bench_gjk(void)
+{
+    enum { HULLS = 512, NV = 30, PAIRS = 20000 };
+    static double v[HULLS][3 * NV];
+    unsigned s = 99;
+    for (int h = 0; h < HULLS; h++) {
+        double c[3], ax[3];
+        for (int a = 0; a < 3; a++)
+            c[a] = 40 * scene_rand(&s) - 20, ax[a] = 0.3 + 3 * scene_rand(&s);
+        for (int k = 0; k < NV; k++) {
+            double z = 2 * scene_rand(&s) - 1, ph = 2 * M_PI * scene_rand(&s), r = sqrt(1 - z * z);
+            v[h][3 * k] = c[0] + ax[0] * r * cos(ph);
+            v[h][3 * k + 1] = c[1] + ax[1] * r * sin(ph);
+            v[h][3 * k + 2] = c[2] + ax[2] * z;
+        }
+    }
+    double best = INFINITY, best_ref = INFINITY, sink = 0;
+    for (int r = 0; r < ROUNDS; r++) {
+        double t0 = cpu_now();
+        for (int p = 0; p < PAIRS; p++)
+            sink += gjk_distance(v[p % HULLS], NV, v[(p * 7 + 1) % HULLS], NV);
+        best = fmin(best, cpu_now() - t0);
+        t0 = cpu_now();
+        for (int p = 0; p < PAIRS; p++) {
+            double d[3] = {p % 3 - 1.0, p % 5 - 2.0, 0.5};
+            const double *a = gjk_support(v[p % HULLS], NV, d);
+            d[0] = -d[0], d[1] = -d[1], d[2] = -d[2];
+            sink += a[0] + gjk_support(v[(p * 7 + 1) % HULLS], NV, d)[1];
+        }
+        best_ref = fmin(best_ref, cpu_now() - t0);
+    }
+    printf("{\"bench\":\"gjk_pairs\",\"vertices\":%d,\"pairs_per_s\":%.0f,\"target_pairs_per_s\":1000000,"
+           "\"ratio_to_support_pair\":%.1f}\n", NV, PAIRS / best, best / best_ref);
+    if (sink == 12345.678)
+        fprintf(stderr, "unlikely\n");
+}
+
+int main(void)
+{
+    static struct scene w;
+    static float pts[4 * CAP];
+    double sink = 0;
+    openblas_set_num_threads(1);
+    scene_make(&w, 7);
+    size_t n = scene_scan(&w, 0, 0.2, 0.1, pts, CAP);
+    double ref = point_pass(pts, n, &sink);
+    printf("{\"bench\":\"point_pass\",\"points\":%zu,\"ms\":%.3f}\n", n, ref * 1e3);
+    bench_m2dp(pts, n, ref);
+    bench_sop(&w, pts, ref, n);
+    bench_gjk();
+    return sink == 0.5 ? 1 : 0;
+}
