@@ -34,6 +34,13 @@ struct eval_spec {
     int jobs;                  /* threads (default: online cores) */
     int quiet;                 /* no progress bar */
     int isolate;               /* run the method in a child process */
+    /* added with issue 6; zero means "not given" so a memset spec still works */
+    const char *command;       /* command line recorded in result.json, or NULL */
+    int top_c;                 /* custom distance: candidates kept by the key prefilter (0 = 50) */
+    int has_axis;              /* 1: condition.axis is written from the three below */
+    const char *axis_stage, *axis_key;
+    double axis_value;
+    int crash_notice;          /* 1: a crash in the method prints its name (one cell per process only) */
 };
 
 struct eval_summary {
@@ -41,6 +48,10 @@ struct eval_summary {
     size_t queries, revisits;
     double describe_s, retrieval_s, metrics_s;
     size_t described;          /* scans actually described (not read from cache) */
+    /* added with issue 6 */
+    double p_r0, recall1pct;
+    size_t cache_hits;         /* descriptor sets read from the cache */
+    size_t cache_rejected;     /* cache files found corrupt or not matching, rebuilt */
 };
 
 void eval_spec_defaults(struct eval_spec *s);

@@ -1,0 +1,123 @@
+/* cmd_eval.c: `revisit eval`: one evaluation, end to end, into a results folder. */
+#include <math.h>
+#include <stdio.h>
+#include <stdlib.h>
+#include <string.h>
+
+#include "harness/cmd.h"
+#include "harness/eval.h"
+#include "harness/opt.h"
+#include "harness/opt_protocol.h"
+
+static const char usage[] =
+    "usage: revisit eval --map REC [--query REC] --method NAME[:key=value,...] --out DIR\n"
+    "                    [--chain CHAIN --on query|map|both --seed S] [protocol options]\n\n"
+    "Describe every scan of REC (and of the query recording) with the method,\n"
+    "perturbed by CHAIN where asked, find each query's top-K candidates, score\n"
+    "them against the poses and write DIR/result.json (every scalar with its\n"
+    "bootstrap interval, the curve, settings, chain, seed, timings),\n"
+    "DIR/queries.csv (what 'revisit metrics' reads), DIR/poses.csv and\n"
+    "DIR/matrix.csv.  Loop mode by default; --query makes it reloc.  METHOD is a\n"
+    "plugin name ('revisit methods' lists them), a path to a .so, or a path to a\n"
+    "program speaking the external protocol.  --cache DIR keeps descriptors so a\n"
+    "repeated run (another protocol or threshold) does not describe again.\n\n";
+
+struct eval_opts {
+    const char *map, *query, *method, *out, *chain, *on, *plugin_path, *cache, *condition;
+    unsigned long long seed, boot_seed;
+    long boot, jobs, top_c;
+    int quiet;
+    struct opt_protocol op;
+};
+
+static int eval_finish_spec(struct eval_opts *o, struct eval_spec *s, struct err *e)
+{
+    if (!o->map || !o->method || !o->out)
+        return err_set(e, "revisit eval: --map, --method and --out are required (see 'revisit eval --help')");
+    if (o->query && !o->op.mode) o->op.mode = "reloc";
+    eval_spec_defaults(s);
+    if (opt_protocol_finish(&o->op, "eval", &s->protocol, e)) return -1;
+    if (o->boot < -1 || o->boot > 100000)
+        return err_set(e, "revisit eval: --bootstrap expects 0 to 100000 resamples, got %ld", o->boot);
+    if (o->top_c < -1 || o->top_c == 0 || o->top_c > 1000000)
+        return err_set(e, "revisit eval: --prefilter expects a whole number from 1 to 1000000, got %ld", o->top_c);
+    s->map_rec = o->map;
+    s->query_rec = o->query;
+    s->method = o->method;
+    s->plugin_path = o->plugin_path;
+    s->chain = o->chain;
+    s->on = o->on;
+    s->seed = o->seed;
+    s->out_dir = o->out;
+    s->cache_dir = o->cache;
+    s->condition = o->condition;
+    if (o->boot >= 0) s->bootstrap = (int)o->boot;
+    s->bootstrap_seed = o->boot_seed;
+    s->jobs = (int)o->jobs;
+    s->top_c = o->top_c > 0 ? (int)o->top_c : 0;
+    s->quiet = o->quiet;
+    s->crash_notice = 1;
+    return 0;
+}
+
+static void eval_print(const struct eval_spec *s, const struct eval_summary *m)
+{
+    printf("method     %s\n", s->method);
+    if (s->chain) printf("chain      %s (seed %llu)\n", s->chain, (unsigned long long)s->seed);
+    printf("queries    %zu, revisits %zu\n", m->queries, m->revisits);
+    printf("F1max      %.4f\nR@100P     %.4f\nEP         %.4f\nAP         %.4f\nrecall@1   %.4f\n", m->f1max,
+           m->r100p, m->ep, m->ap, m->recall1);
+    printf("time       describe %.2f s (%zu scans described, %zu sets from the cache), retrieval %.2f s, "
+           "metrics %.2f s\n", m->describe_s, m->described, m->cache_hits, m->retrieval_s, m->metrics_s);
+    if (m->cache_rejected) printf("cache      %zu damaged or stale file(s) rebuilt\n", m->cache_rejected);
+    printf("results    %s/result.json (intervals there)\n", s->out_dir);
+}
+
+int cmd_eval(int argc, char **argv)
+{
+    struct eval_opts o;
+    memset(&o, 0, sizeof o);
+    o.seed = 1;
+    o.boot_seed = 1;
+    o.boot = -1;
+    o.top_c = -1;
+    opt_protocol_init(&o.op);
+    const struct opt table[] = {
+        {"--map", OPT_STR, &o.map, "REC", "map recording (recording.json or its folder); loop mode uses it alone"},
+        {"--query", OPT_STR, &o.query, "REC", "query recording: reloc mode against the map"},
+        {"--method", OPT_STR, &o.method, "SPEC", "NAME[:key=value,...], a .so path, or an external program"},
+        {"--plugin-path", OPT_STR, &o.plugin_path, "DIRS", "':'-separated folders searched first for NAME.so"},
+        {"--chain", OPT_STR, &o.chain, "CHAIN", "perturbation chain, e.g. yaw:deg=random+sector:width=90"},
+        {"--on", OPT_STR, &o.on, "query|map|both", "where the chain applies (default: query in reloc, both in loop)"},
+        {"--seed", OPT_U64, &o.seed, "S", "perturbation seed (default 1)"},
+        OPT_PROTOCOL_ROWS(o.op),
+        {"--prefilter", OPT_INT, &o.top_c, "C", "custom distances: candidates kept by the key prefilter (default 50)"},
+        {"--bootstrap", OPT_INT, &o.boot, "N", "bootstrap resamples for intervals (default 1000; 0: none)"},
+        {"--bootstrap-seed", OPT_U64, &o.boot_seed, "S", "bootstrap seed (default 1)"},
+        {"--cache", OPT_STR, &o.cache, "DIR", "descriptor cache folder, shared between runs"},
+        {"--condition", OPT_STR, &o.condition, "NAME", "condition name recorded in result.json"},
+        {"--out", OPT_STR, &o.out, "DIR", "results folder (created)"},
+        {"--jobs", OPT_INT, &o.jobs, "N", "threads (default: all cores)"},
+        {"--quiet", OPT_FLAG, &o.quiet, NULL, "no progress bar"},
+        {0}};
+    struct opt_args args;
+    struct err e;
+    if (opt_parse("eval", argc, argv, table, &args, &e)) return cmd_report(&e);
+    if (args.help) {
+        fputs(usage, stdout);
+        opt_print_help(stdout, table);
+        return CMD_OK;
+    }
+    if (args.n) return err_set(&e, "revisit eval: unexpected argument '%s'", args.v[0]), cmd_report(&e);
+    struct eval_spec s;
+    if (eval_finish_spec(&o, &s, &e)) return cmd_report(&e);
+    char command[4096];
+    size_t used = 0;
+    for (int k = 0; k < argc && used < sizeof command; k++)
+        used += (size_t)snprintf(command + used, sizeof command - used, "%s%s", k ? " " : "revisit ", argv[k]);
+    s.command = command;
+    struct eval_summary sum;
+    if (eval_run(&s, &sum, &e)) return cmd_report(&e);
+    eval_print(&s, &sum);
+    return CMD_OK;
+}

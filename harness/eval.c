@@ -1,0 +1,519 @@
+/* eval.c: one evaluation cell: recording -> chain -> descriptors ->
+ * retrieval -> ground truth -> metrics -> results folder. */
+#include "harness/eval.h"
+
+#include <cjson/cJSON.h>
+#include <limits.h>
+#include <math.h>
+#include <stdio.h>
+#include <stdlib.h>
+#include <string.h>
+
+#include "harness/desc_cache.h"
+#include "harness/fileio.h"
+#include "harness/queries_csv.h"
+#include "harness/plugin_host.h"
+#include "harness/pool.h"
+#include "harness/progress.h"
+#include "harness/recording.h"
+#include "harness/retrieval.h"
+#include "metrics/boot.h"
+#include "metrics/gt.h"
+#include "metrics/pr.h"
+#include "perturb/chain.h"
+
+/* One set of scans and its descriptors (row-major, n x dim; keys n x key_dim). */
+struct ev_set {
+    const struct recording *rec;
+    const struct chain *chain;   /* NULL: unperturbed */
+    uint32_t seq;                /* 0 map, 1 query */
+    size_t n;
+    float *desc, *key;
+    double *xyz, *t;             /* sensor positions and times, for ground truth */
+};
+
+struct ev_ctx {
+    const struct eval_spec *s;
+    struct eval_summary sum;
+    struct plugin plug;
+    struct recording map, query;
+    int reloc, shared;           /* shared: the query set is the map set */
+    struct chain *chain;
+    char chain_text[2048];
+    enum chain_on on;
+    struct ev_set mset, qset;
+    struct retrieval_out r;
+    struct gt *g;
+    struct pr_set *ps;
+    struct boot_result br;
+    struct pr_curve *curve;
+};
+
+void eval_spec_defaults(struct eval_spec *s)
+{
+    memset(s, 0, sizeof *s);
+    protocol_defaults(&s->protocol);
+    s->seed = 1;
+    s->bootstrap = 1000;
+    s->bootstrap_seed = 1;
+    s->jobs = 0;
+}
+
+static void ev_set_free(struct ev_set *s)
+{
+    free(s->desc);
+    free(s->key);
+    free(s->xyz);
+    free(s->t);
+    s->desc = s->key = NULL;
+    s->xyz = s->t = NULL;
+}
+
+static void ev_free(struct ev_ctx *c)
+{
+    ev_set_free(&c->mset);
+    if (!c->shared) ev_set_free(&c->qset);
+    retrieval_out_free(&c->r);
+    pr_curve_free(c->curve);
+    pr_set_free(c->ps);
+    gt_free(c->g);
+    chain_free(c->chain);
+    plugin_close(&c->plug);
+    recording_free(&c->map);
+    if (c->reloc) recording_free(&c->query);
+}
+
+/* Per-worker state of the describe pool. */
+struct ev_desc {
+    struct ev_ctx *c;
+    struct ev_set *set;
+    struct cloud *clouds;
+    struct chain_scratch *scr;
+    struct progress prog;
+};
+
+static int ev_desc_task(void *arg, size_t i, int w, struct err *e)
+{
+    struct ev_desc *d = arg;
+    struct ev_ctx *c = d->c;
+    struct ev_set *set = d->set;
+    struct cloud *cl = &d->clouds[w];
+    if (recording_load_scan(set->rec, i, cl, NULL, e)) return -1;
+    if (set->chain && chain_apply(set->chain, cl, c->s->seed, (uint32_t)i, &d->scr[w], NULL, e))
+        return err_wrap(e, "scan %zu", i);
+    struct rv_scan s = {cl->n, cl->pts, cl->ring, cl->time, set->rec->poses[i].t, (uint32_t)i, set->seq};
+    float *key = c->plug.key_dim ? set->key + i * c->plug.key_dim : NULL;
+    if (plugin_describe(&c->plug, &s, set->desc + i * c->plug.dim, key, e)) return -1;
+    progress_add(&d->prog, 1);
+    return 0;
+}
+
+/* Describe every scan of set, on several threads when the method allows. */
+static int ev_describe_all(struct ev_ctx *c, struct ev_set *set, struct err *e)
+{
+    int par = (c->plug.flags & RV_FLAG_THREAD_SAFE) && !(c->plug.flags & RV_FLAG_SEQUENTIAL) && !c->plug.ext;
+    int threads = par ? pool_threads(c->s->jobs) : 1;
+    struct ev_desc d = {c, set, calloc((size_t)threads, sizeof *d.clouds),
+                        calloc((size_t)threads, sizeof *d.scr), {0}};
+    if (!d.clouds || !d.scr) {
+        free(d.clouds);
+        free(d.scr);
+        return err_set(e, "out of memory");
+    }
+    for (int k = 0; k < threads; k++) {
+        cloud_init(&d.clouds[k]);
+        chain_scratch_init(&d.scr[k]);
+    }
+    plugin_reset(&c->plug);
+    progress_start(&d.prog, set->seq ? "describe queries" : "describe map", set->n, c->s->quiet);
+    int rc = pool_run(set->n, threads, ev_desc_task, &d, e);
+    progress_end(&d.prog);
+    for (int k = 0; k < threads; k++) {
+        cloud_free(&d.clouds[k]);
+        chain_scratch_free(&d.scr[k]);
+    }
+    free(d.clouds);
+    free(d.scr);
+    if (rc && pool_stop_requested()) return err_set(e, "interrupted while describing");
+    return rc;
+}
+
+/* Fill set->desc/key from the cache or by describing (then store). */
+static int ev_describe_set(struct ev_ctx *c, struct ev_set *set, struct err *e)
+{
+    size_t nd = set->n * c->plug.dim, nk = set->n * c->plug.key_dim;
+    set->desc = malloc((nd ? nd : 1) * sizeof *set->desc);
+    set->key = malloc((nk ? nk : 1) * sizeof *set->key);
+    if (!set->desc || !set->key) return err_set(e, "out of memory for %zu descriptors of %u floats", set->n, c->plug.dim);
+    char src[PATH_MAX];
+    if (!realpath(set->rec->manifest, src)) snprintf(src, sizeof src, "%s", set->rec->manifest);
+    struct desc_cache_key k = {c->plug.label, c->plug.version, set->chain ? c->chain_text : "",
+                               set->chain ? c->s->seed : 0, src, c->plug.dim, c->plug.key_dim, set->n};
+    if (c->s->cache_dir) {
+        int rejected = 0;
+        int hit = desc_cache_load(c->s->cache_dir, &k, set->desc, set->key, &rejected, e);
+        if (hit < 0) return -1;
+        c->sum.cache_rejected += (size_t)rejected;
+        if (hit) {
+            c->sum.cache_hits++;
+            return 0;
+        }
+    }
+    double t0 = progress_now();
+    if (ev_describe_all(c, set, e)) return -1;
+    c->sum.describe_s += progress_now() - t0;
+    c->sum.described += set->n;
+    return c->s->cache_dir ? desc_cache_store(c->s->cache_dir, &k, set->desc, set->key, e) : 0;
+}
+
+/* Positions and times of a set's scans. */
+static int ev_set_poses(struct ev_set *set, struct err *e)
+{
+    set->xyz = malloc((set->n ? set->n : 1) * 3 * sizeof *set->xyz);
+    set->t = malloc((set->n ? set->n : 1) * sizeof *set->t);
+    if (!set->xyz || !set->t) return err_set(e, "out of memory");
+    for (size_t i = 0; i < set->n; i++) {
+        memcpy(set->xyz + 3 * i, set->rec->poses[i].p, 3 * sizeof *set->xyz);
+        set->t[i] = set->rec->poses[i].t;
+    }
+    return 0;
+}
+
+/* Recordings, chain, method; decide which sets need describing. */
+static int ev_setup(struct ev_ctx *c, struct err *e)
+{
+    const struct eval_spec *s = c->s;
+    if (s->isolate) return err_set(e, "running the method in a child process is not available in this build");
+    if (!s->map_rec || !s->method || !s->out_dir) return err_set(e, "eval: a map recording, a method and an output folder are needed");
+    c->reloc = s->query_rec != NULL;
+    if (c->reloc != (s->protocol.mode == PROTOCOL_RELOC))
+        return err_set(e, "eval: mode %s %s a query recording", c->reloc ? "loop" : "reloc",
+                       c->reloc ? "does not take" : "needs");
+    if (recording_load(s->map_rec, 0, &c->map, e)) return -1;
+    if (c->reloc && recording_load(s->query_rec, 0, &c->query, e)) {
+        c->reloc = 0;
+        return -1;
+    }
+    c->on = c->reloc ? CHAIN_ON_QUERY : CHAIN_ON_BOTH;
+    if (s->on && chain_on_parse(s->on, &c->on, e)) return -1;
+    if (s->chain && *s->chain) {
+        if (chain_parse(s->chain, &c->chain, e)) return -1;
+        chain_format(c->chain, c->chain_text, sizeof c->chain_text);
+    }
+    if (plugin_open(&c->plug, s->method, s->plugin_path, e)) return -1;
+    if (s->crash_notice) plugin_crash_notice(&c->plug);
+    const struct chain *mch = c->chain && chain_on_map(c->on) ? c->chain : NULL;
+    const struct chain *qch = c->chain && chain_on_query(c->on) ? c->chain : NULL;
+    c->mset = (struct ev_set){&c->map, mch, 0, c->map.n, NULL, NULL, NULL, NULL};
+    c->qset = (struct ev_set){c->reloc ? &c->query : &c->map, qch, 1, c->reloc ? c->query.n : c->map.n,
+                              NULL, NULL, NULL, NULL};
+    c->shared = !c->reloc && mch == qch;
+    if (c->shared) c->qset = c->mset;
+    if (ev_set_poses(&c->mset, e) || (!c->shared && ev_set_poses(&c->qset, e))) return -1;
+    if (c->shared) c->qset = c->mset;
+    return 0;
+}
+
+static double ev_custom(const void *ctx, const float *a, const float *b)
+{
+    return plugin_distance(ctx, a, b, NULL);
+}
+
+static int ev_retrieve(struct ev_ctx *c, struct err *e)
+{
+    const struct protocol *p = &c->s->protocol;
+    struct retrieval_rule rule = {!c->reloc, c->mset.t, p->exclusion_s, p->exclusion_scans};
+    struct retrieval_mat m = {c->mset.desc, c->mset.n, c->plug.dim}, q = {c->qset.desc, c->qset.n, c->plug.dim};
+    double t0 = progress_now();
+    int rc;
+    if (c->plug.distance == RV_DIST_CUSTOM) {
+        struct retrieval_mat mk = {c->mset.key, c->mset.n, c->plug.key_dim},
+                             qk = {c->qset.key, c->qset.n, c->plug.key_dim};
+        int top_c = c->s->top_c > 0 ? c->s->top_c : 50;
+        rc = retrieval_custom(&m, &q, c->plug.key_dim ? &mk : NULL, c->plug.key_dim ? &qk : NULL, ev_custom,
+                              &c->plug, &rule, p->top_k, top_c, c->s->jobs, &c->r, e);
+    } else {
+        rc = retrieval_dense(&m, &q, c->plug.distance, &rule, p->top_k, &c->r, e);
+    }
+    c->sum.retrieval_s = progress_now() - t0;
+    return rc;
+}
+
+/* Retrieval lists in the pr.h layout (caller frees *off and *cand). */
+static int ev_lists(const struct ev_ctx *c, size_t **off, struct pr_cand **cand, struct err *e)
+{
+    size_t n = c->r.n_query, total = 0;
+    for (size_t i = 0; i < n; i++) total += (size_t)c->r.count[i];
+    *off = malloc((n + 1) * sizeof **off);
+    *cand = malloc((total ? total : 1) * sizeof **cand);
+    if (!*off || !*cand) {
+        free(*off);
+        free(*cand);
+        return err_set(e, "out of memory");
+    }
+    size_t at = 0;
+    for (size_t i = 0; i < n; i++) {
+        (*off)[i] = at;
+        for (int k = 0; k < c->r.count[i]; k++)
+            (*cand)[at++] = (struct pr_cand){c->r.idx[i * c->r.k + k], c->r.dist[i * c->r.k + k]};
+    }
+    (*off)[n] = at;
+    return 0;
+}
+
+static int ev_metrics(struct ev_ctx *c, const struct pr_lists *l, struct err *e)
+{
+    double t0 = progress_now();
+    struct gt_poses mp = {c->mset.xyz, c->mset.t, c->mset.n}, qp = {c->qset.xyz, c->qset.t, c->qset.n};
+    if (gt_build(&c->s->protocol, &mp, c->reloc ? &qp : NULL, NULL, 0, &c->g, e)) return -1;
+    if (pr_set_build(c->g, l, &c->ps, e) || pr_curve_build(c->ps, &c->curve, e)) return -1;
+    if (c->s->bootstrap > 0) {
+        if (boot_percentile(c->ps, c->s->bootstrap, c->s->bootstrap_seed, 0.95, pool_threads(c->s->jobs),
+                            &c->br, e))
+            return -1;
+    } else {
+        pr_scalars_compute(c->ps, NULL, &c->br.point);
+        for (int m = 0; m < PR_N_METRICS; m++) c->br.lo[m] = c->br.hi[m] = NAN;
+    }
+    const double *v = c->br.point.v;
+    c->sum.f1max = v[PR_F1MAX];
+    c->sum.r100p = v[PR_R100P];
+    c->sum.ep = v[PR_EP];
+    c->sum.ap = v[PR_AP];
+    c->sum.recall1 = v[PR_RECALL_1];
+    c->sum.p_r0 = v[PR_P_R0];
+    c->sum.recall1pct = v[PR_RECALL_1PCT];
+    c->sum.queries = c->ps->n;
+    c->sum.revisits = c->g->n_revisits;
+    c->sum.metrics_s = progress_now() - t0;
+    return 0;
+}
+
+static int ev_write_poses(const struct ev_ctx *c, const char *path, struct err *e)
+{
+    struct afile a;
+    if (afile_open(&a, path, e)) return -1;
+    fprintf(a.f, "set,index,t,x,y,z\n");
+    const struct ev_set *sets[2] = {&c->mset, &c->qset};
+    static const char *const names[2] = {"map", "query"};
+    for (int k = 0; k < 2; k++)
+        for (size_t i = 0; i < sets[k]->n; i++) {
+            const double *p = sets[k]->xyz + 3 * i;
+            fprintf(a.f, "%s,%zu,%.17g,%.17g,%.17g,%.17g\n", names[k], i, sets[k]->t[i], p[0], p[1], p[2]);
+        }
+    return afile_commit(&a, e);
+}
+
+/* Up to `most` evenly spaced indices of 0..n-1 into idx; returns how many. */
+static size_t ev_spread(size_t n, size_t most, size_t *idx)
+{
+    size_t m = n < most ? n : most;
+    for (size_t k = 0; k < m; k++) idx[k] = m > 1 ? k * (n - 1) / (m - 1) : 0;
+    return m;
+}
+
+static double ev_pair(const struct ev_ctx *c, size_t i, size_t j)
+{
+    const float *a = c->qset.desc + i * c->plug.dim, *b = c->mset.desc + j * c->plug.dim;
+    return c->plug.distance == RV_DIST_CUSTOM ? plugin_distance(&c->plug, a, b, NULL)
+                                              : retrieval_pair(a, b, c->plug.dim, c->plug.distance);
+}
+
+/* matrix.csv: at most 400 x 400 (a custom distance, being slower, 60 x 60). */
+static int ev_write_matrix(const struct ev_ctx *c, const char *path, struct err *e)
+{
+    size_t most = c->plug.distance == RV_DIST_CUSTOM ? 60 : 400;
+    size_t ri[400], ci[400];
+    size_t nr = ev_spread(c->qset.n, most, ri), nc = ev_spread(c->mset.n, most, ci);
+    struct afile a;
+    if (afile_open(&a, path, e)) return -1;
+    fprintf(a.f, "#rows");
+    for (size_t k = 0; k < nr; k++) fprintf(a.f, ",%zu", ri[k]);
+    fprintf(a.f, "\n#cols");
+    for (size_t k = 0; k < nc; k++) fprintf(a.f, ",%zu", ci[k]);
+    fprintf(a.f, "\n");
+    for (size_t r = 0; r < nr; r++)
+        for (size_t k = 0; k < nc; k++)
+            fprintf(a.f, "%.6g%c", ev_pair(c, ri[r], ci[k]), k + 1 < nc ? ',' : '\n');
+    return afile_commit(&a, e);
+}
+
+static void ev_num(cJSON *o, const char *key, double v)
+{
+    if (isfinite(v)) cJSON_AddNumberToObject(o, key, v);
+    else cJSON_AddNullToObject(o, key);
+}
+
+static void ev_str(cJSON *o, const char *key, const char *v)
+{
+    if (v) cJSON_AddStringToObject(o, key, v);
+    else cJSON_AddNullToObject(o, key);
+}
+
+static cJSON *ev_method_json(const struct plugin *p)
+{
+    cJSON *m = cJSON_CreateObject();
+    cJSON_AddStringToObject(m, "name", p->name);
+    cJSON_AddStringToObject(m, "label", p->label);
+    cJSON_AddStringToObject(m, "version", p->version);
+    cJSON *set = cJSON_AddObjectToObject(m, "settings");
+    for (uint32_t k = 0; p->m && k < p->m->n_settings; k++) {
+        const struct rv_setting *st = &p->m->settings[k];
+        char txt[128];
+        plugin_setting_text(st, p->values[k], txt, sizeof txt);
+        if (st->type == RV_SET_BOOL) cJSON_AddBoolToObject(set, st->key, p->values[k] != 0);
+        else if (st->type == RV_SET_CHOICE) cJSON_AddStringToObject(set, st->key, txt);
+        else cJSON_AddNumberToObject(set, st->key, p->values[k]);
+    }
+    static const char *const kinds[] = {"l2", "cosine", "custom"};
+    cJSON_AddStringToObject(m, "distance", kinds[p->distance]);
+    return m;
+}
+
+static cJSON *ev_condition_json(const struct ev_ctx *c)
+{
+    const struct eval_spec *s = c->s;
+    cJSON *o = cJSON_CreateObject();
+    ev_str(o, "name", s->condition ? s->condition : c->chain ? c->chain_text : "none");
+    ev_str(o, "chain", c->chain ? c->chain_text : NULL);
+    ev_str(o, "on", c->chain ? chain_on_name(c->on) : NULL);
+    cJSON_AddNumberToObject(o, "seed", (double)s->seed);
+    if (s->has_axis) {
+        cJSON *a = cJSON_AddObjectToObject(o, "axis");
+        ev_str(a, "stage", s->axis_stage);
+        ev_str(a, "key", s->axis_key);
+        cJSON_AddNumberToObject(a, "value", s->axis_value);
+    }
+    return o;
+}
+
+static cJSON *ev_protocol_json(const struct ev_ctx *c)
+{
+    const struct protocol *p = &c->s->protocol;
+    cJSON *o = cJSON_CreateObject();
+    cJSON_AddStringToObject(o, "mode", p->mode == PROTOCOL_RELOC ? "reloc" : "loop");
+    cJSON_AddNumberToObject(o, "r_pos_m", p->r_pos_m);
+    cJSON_AddNumberToObject(o, "r_neg_m", p->r_neg_m);
+    cJSON_AddNumberToObject(o, "exclusion_s", p->exclusion_s);
+    if (p->exclusion_scans >= 0) cJSON_AddNumberToObject(o, "exclusion_scans", (double)p->exclusion_scans);
+    else cJSON_AddNullToObject(o, "exclusion_scans");
+    cJSON_AddBoolToObject(o, "planar", p->planar);
+    cJSON_AddStringToObject(o, "counting", p->counting == PROTOCOL_LENIENT ? "lenient" : "strict");
+    cJSON_AddNumberToObject(o, "top_k", p->top_k);
+    if (c->plug.distance == RV_DIST_CUSTOM && c->plug.key_dim)
+        cJSON_AddNumberToObject(o, "prefilter", c->s->top_c > 0 ? c->s->top_c : 50);
+    return o;
+}
+
+static cJSON *ev_metrics_json(const struct ev_ctx *c)
+{
+    cJSON *o = cJSON_CreateObject();
+    for (int m = 0; m < PR_N_METRICS; m++) {
+        cJSON *v = cJSON_AddObjectToObject(o, pr_metric_name((enum pr_metric)m));
+        ev_num(v, "value", c->br.point.v[m]);
+        ev_num(v, "lo", c->br.lo[m]);
+        ev_num(v, "hi", c->br.hi[m]);
+        if (m == PR_F1MAX) ev_num(v, "threshold", c->br.point.f1max_threshold);
+        if (m == PR_R100P) ev_num(v, "threshold", c->br.point.r100p_threshold);
+    }
+    if (c->s->bootstrap > 0) {
+        cJSON_AddNumberToObject(o, "bootstrap", c->s->bootstrap);
+        cJSON_AddNumberToObject(o, "level", 0.95);
+    }
+    return o;
+}
+
+static cJSON *ev_curve_json(const struct pr_curve *cv)
+{
+    cJSON *o = cJSON_CreateObject();
+    const double *cols[3] = {cv->threshold, cv->precision, cv->recall};
+    static const char *const names[3] = {"threshold", "precision", "recall"};
+    for (int k = 0; k < 3; k++) {
+        cJSON *a = cJSON_AddArrayToObject(o, names[k]);
+        for (size_t i = 0; i < cv->n; i++) cJSON_AddItemToArray(a, cJSON_CreateNumber(cols[k][i]));
+    }
+    return o;
+}
+
+static cJSON *ev_result_json(const struct ev_ctx *c)
+{
+    const struct eval_spec *s = c->s;
+    cJSON *o = cJSON_CreateObject();
+    cJSON_AddStringToObject(o, "format", "revisit-result-1");
+    cJSON_AddStringToObject(o, "software", "revisit " RV_VERSION);
+    ev_str(o, "command", s->command);
+    ev_str(o, "scenario_hash", s->scenario_hash);
+    cJSON_AddItemToObject(o, "method", ev_method_json(&c->plug));
+    cJSON_AddItemToObject(o, "condition", ev_condition_json(c));
+    cJSON_AddItemToObject(o, "protocol", ev_protocol_json(c));
+    cJSON *r = cJSON_AddObjectToObject(o, "recordings");
+    char real[PATH_MAX];
+    ev_str(r, "map", realpath(c->map.manifest, real) ? real : c->map.manifest);
+    ev_str(r, "query", !c->reloc ? NULL : realpath(c->query.manifest, real) ? real : c->query.manifest);
+    cJSON *n = cJSON_AddObjectToObject(o, "counts");
+    cJSON_AddNumberToObject(n, "queries", (double)c->sum.queries);
+    cJSON_AddNumberToObject(n, "revisits", (double)c->sum.revisits);
+    cJSON_AddNumberToObject(n, "map", (double)c->mset.n);
+    cJSON_AddItemToObject(o, "metrics", ev_metrics_json(c));
+    cJSON_AddItemToObject(o, "curve", ev_curve_json(c->curve));
+    cJSON *t = cJSON_AddObjectToObject(o, "timing");
+    cJSON_AddNumberToObject(t, "describe_s", c->sum.describe_s);
+    cJSON_AddNumberToObject(t, "retrieval_s", c->sum.retrieval_s);
+    cJSON_AddNumberToObject(t, "metrics_s", c->sum.metrics_s);
+    cJSON_AddNumberToObject(t, "described", (double)c->sum.described);
+    cJSON_AddNumberToObject(t, "cache_hits", (double)c->sum.cache_hits);
+    cJSON_AddNumberToObject(t, "cache_rejected", (double)c->sum.cache_rejected);
+    cJSON_AddStringToObject(o, "status", "ok");
+    return o;
+}
+
+static int ev_write_json(const char *path, cJSON *root, struct err *e)
+{
+    char *text = root ? cJSON_Print(root) : NULL;
+    cJSON_Delete(root);
+    if (!text) return err_at(e, path, 0, "out of memory");
+    size_t len = strlen(text);
+    text[len] = '\n';  /* replaces the NUL; len + 1 bytes written */
+    int rc = fileio_write(path, text, len + 1, e);
+    free(text);
+    return rc;
+}
+
+/* queries.csv, poses.csv, matrix.csv, then result.json last: a folder with a
+ * result.json is complete. */
+static int ev_write(const struct ev_ctx *c, const struct pr_lists *l, struct err *e)
+{
+    char path[4200];
+    if (fileio_mkdirs(c->s->out_dir, e)) return -1;
+    fileio_join(path, sizeof path, c->s->out_dir, "queries.csv");
+    if (queries_csv_write(path, l, e)) return -1;
+    fileio_join(path, sizeof path, c->s->out_dir, "poses.csv");
+    if (ev_write_poses(c, path, e)) return -1;
+    fileio_join(path, sizeof path, c->s->out_dir, "matrix.csv");
+    if (ev_write_matrix(c, path, e)) return -1;
+    fileio_join(path, sizeof path, c->s->out_dir, "result.json");
+    return ev_write_json(path, ev_result_json(c), e);
+}
+
+int eval_run(const struct eval_spec *s, struct eval_summary *out, struct err *e)
+{
+    struct ev_ctx c;
+    memset(&c, 0, sizeof c);
+    c.s = s;
+    size_t *off = NULL;
+    struct pr_cand *cand = NULL;
+    int rc = -1;
+    if (ev_setup(&c, e) || ev_describe_set(&c, &c.mset, e)) goto done;
+    if (c.shared) c.qset = c.mset;
+    else if (ev_describe_set(&c, &c.qset, e)) goto done;
+    if (ev_retrieve(&c, e) || ev_lists(&c, &off, &cand, e)) goto done;
+    struct pr_lists l = {c.r.n_query, off, cand};
+    if (ev_metrics(&c, &l, e) || ev_write(&c, &l, e)) goto done;
+    if (out) *out = c.sum;
+    rc = 0;
+done:
+    free(off);
+    free(cand);
+    ev_free(&c);
+    return rc;
+}
