@@ -1,6 +1,7 @@
 /* chain_run.c: the normalised chain text, scratch memory and chain_apply. */
 #include "perturb/chain.h"
 
+#include <math.h>
 #include <stdarg.h>
 #include <stdio.h>
 #include <stdlib.h>
@@ -30,6 +31,10 @@ static void put(struct sbuf *b, const char *fmt, ...)
 static void put_number(struct sbuf *b, double v)
 {
     char tmp[40];
+    if (v == floor(v) && fabs(v) < 1e15) {
+        put(b, "%.0f", v == 0 ? 0.0 : v);   /* whole numbers without an exponent, no -0 */
+        return;
+    }
     for (int prec = 1; prec <= 17; prec++) {
         snprintf(tmp, sizeof tmp, "%.*g", prec, v);
         if (strtod(tmp, NULL) == v) break;
@@ -133,8 +138,14 @@ int chain_apply(const struct chain *ch, struct cloud *c, uint64_t run_seed, uint
         struct rng r;
         rng_seed(&r, run_seed, st->per_recording ? RNG_RECORDING : (uint64_t)scan_index, i);
         size_t in = c->n;
-        if (st->def->apply(st, c, &r, s, e))
-            return err_wrap(e, "chain stage %zu (%s)", i + 1, st->def->info.name);
+        if (st->def->apply(st, c, &r, s, e)) {
+            if (e) {
+                char what[ERR_MSG_MAX];
+                snprintf(what, sizeof what, "%s", e->msg);
+                stage_fail(e, "chain stage %zu (%s): %s", i + 1, st->def->info.name, what);
+            }
+            return -1;
+        }
         if (stats) {
             stats->in[i] = in;
             stats->out[i] = c->n;
@@ -144,6 +155,16 @@ int chain_apply(const struct chain *ch, struct cloud *c, uint64_t run_seed, uint
 }
 
 /* ---- helpers for the stage files ---------------------------------------- */
+
+int stage_fail(struct err *e, const char *fmt, ...)
+{
+    if (!e) return -1;
+    va_list ap;
+    va_start(ap, fmt);
+    vsnprintf(e->msg, sizeof e->msg, fmt, ap);
+    va_end(ap);
+    return -1;
+}
 
 double stage_value(const struct stage *st, int k, struct rng *r, double lo, double hi)
 {

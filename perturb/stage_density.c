@@ -67,10 +67,10 @@ static int density_apply(const struct stage *st, struct cloud *c, struct rng *r,
     struct cloud *t = &s->tmp;
     if (!v || cloud_reserve(t, c->n) || (c->ring && cloud_enable_ring(t)) ||
         (c->time && cloud_enable_time(t)))
-        return err_set(e, "out of memory for voxels of %zu points", c->n);
+        return stage_fail(e, "out of memory for voxels of %zu points", c->n);
     for (size_t k = 0; k < c->n; k++) {
         if (voxel_key(c->pts + 4 * k, leaf, &v[k].key))
-            return err_set(e, "point %zu at (%g, %g, %g) is beyond %ld voxels of %g m, expected "
+            return stage_fail(e, "point %zu at (%g, %g, %g) is beyond %ld voxels of %g m, expected "
                            "a larger leaf", k, c->pts[4 * k], c->pts[4 * k + 1], c->pts[4 * k + 2],
                            DEN_HALF, leaf);
         v[k].idx = (uint32_t)k;

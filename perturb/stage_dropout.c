@@ -84,7 +84,7 @@ static int drop_bursts(struct cloud *c, double p, double mean, struct rng *r,
                        struct chain_scratch *s, struct err *e)
 {
     double *edge = stage_buf(s, (DROP_MAX_BLOCKS + 1) * sizeof *edge);
-    if (!edge) return err_set(e, "out of memory for %u dropout blocks", DROP_MAX_BLOCKS);
+    if (!edge) return stage_fail(e, "out of memory for %u dropout blocks", DROP_MAX_BLOCKS);
     double start = 360.0 * rng_uniform(r);
     int first;
     size_t m = drop_blocks(p, mean, r, edge, &first);
