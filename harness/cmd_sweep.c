@@ -77,7 +77,8 @@ static int sweep_finish(const struct plan *p, const struct sweep_opts *o, const 
         return CMD_INTERRUPTED;
     }
     if (failed) {
-        fprintf(stderr, "revisit: sweep: %zu cells failed (status and message in %s/summary.csv)\n", failed, o->out_dir);
+        fprintf(stderr, "revisit: sweep: %zu cells failed (status and message in %s/summary.csv); "
+                "once the cause is fixed, run again with --retry-failed\n", failed, o->out_dir);
         return CMD_ERROR;
     }
     return CMD_OK;
@@ -97,6 +98,7 @@ int cmd_sweep(int argc, char **argv)
         {"--cell-jobs", OPT_INT, &cell_jobs, "N", "threads inside each cell (default 1)"},
         {"--plugin-path", OPT_STR, &o.plugin_path, "DIRS", "extra plugin folders, ':'-separated"},
         {"--isolate", OPT_FLAG, &o.isolate, NULL, "run each method in a child process"},
+        {"--retry-failed", OPT_FLAG, &o.retry_failed, NULL, "run again the cells that failed before"},
         {"--dry-run", OPT_FLAG, &dry, NULL, "print the cells and the estimated work, run nothing"},
         {"--quiet", OPT_FLAG, &o.quiet, NULL, "no progress bar or totals"},
         {0}};

@@ -16,6 +16,7 @@ static const struct cmd_row commands[] = {
     {"eval", cmd_eval, "one evaluation: describe, retrieve, score against poses, write a results folder"},
     {"metrics", cmd_metrics, "score a per-query results CSV from any program against poses"},
     {"methods", cmd_methods, "list the descriptor methods found and their settings"},
+    {"sweep", cmd_sweep, "run a scenario file's grid of cells, resumably, in shards if asked"},
     {"merge", cmd_merge, "join the folders of a sharded sweep"},
     {"check", cmd_check, "judge a sweep against the scenario's acceptance criteria (JUnit XML too)"},
     {"synth", cmd_synth, "make a synthetic recording of an invented district with every kind of revisit"},

@@ -104,6 +104,10 @@ void sweep_cell_spec(const struct plan *p, size_t k, const struct sweep_opts *o,
     s->jobs = o->cell_jobs > 0 ? o->cell_jobs : 1;
     s->quiet = 1;
     s->isolate = o->isolate;
+    s->has_axis = c->has_axis;
+    s->axis_stage = c->has_axis ? d->axis_stage : NULL;
+    s->axis_key = c->has_axis ? d->axis_key : NULL;
+    s->axis_value = c->axis_value;
 }
 
 /* The condition object shared by cell.json and a failed result.json. */
@@ -202,7 +206,10 @@ static int sw_cell(void *arg, size_t task, int worker, struct err *e)
     char part[SW_PATH], done[SW_PATH];
     snprintf(part, sizeof part, "%s/cells/.part-%s", c->o->out_dir, id);
     snprintf(done, sizeof done, "%s/cells/%s", c->o->out_dir, id);
-    if (sw_remove_tree(part, e) || fileio_mkdirs(part, e) || sw_write_cell(c->p, k, part, e)) return -1;
+    /* A failed cell being retried leaves first; until the rerun ends it is not done. */
+    if (sw_remove_tree(part, e) || (c->o->retry_failed && sw_remove_tree(done, e)) ||
+        fileio_mkdirs(part, e) || sw_write_cell(c->p, k, part, e))
+        return -1;
     struct eval_spec s;
     struct eval_summary sum;
     struct err ce;
@@ -243,6 +250,21 @@ static int sw_clear_parts(const char *out_dir, struct err *e)
     return rc;
 }
 
+/* 1 when the done cell's result.json says "failed". */
+static int sw_cell_failed(const char *out_dir, const char *id)
+{
+    char path[SW_PATH], *text;
+    size_t len;
+    snprintf(path, sizeof path, "%s/cells/%s/result.json", out_dir, id);
+    if (fileio_read(path, (size_t)64 << 20, &text, &len, NULL)) return 0;
+    cJSON *r = cJSON_ParseWithLength(text, len);
+    free(text);
+    const cJSON *st = cJSON_GetObjectItemCaseSensitive(r, "status");
+    int failed = cJSON_IsString(st) && !strcmp(st->valuestring, "failed");
+    cJSON_Delete(r);
+    return failed;
+}
+
 /* Order the cells to run: the first cell of each method first (so the
  * unperturbed map is described once per method before the rest share the
  * cache), then the others in plan order.  Returns the count, or -1 when out
@@ -257,7 +279,12 @@ static long sw_order(const struct plan *p, const struct sweep_opts *o, size_t *t
     for (size_t k = 0; k < p->n_cells; k++) {
         if (!plan_in_shard(k, o->shard_i, o->shard_n)) continue;
         st->in_shard++;
-        if (sweep_cell_done(o->out_dir, p->cells[k].id)) { st->skipped++; lead[k] = 2; continue; }
+        if (sweep_cell_done(o->out_dir, p->cells[k].id) &&
+            !(o->retry_failed && sw_cell_failed(o->out_dir, p->cells[k].id))) {
+            st->skipped++;
+            lead[k] = 2;
+            continue;
+        }
         size_t m = p->cells[k].method;
         if (!seen[m]) { seen[m] = 1; lead[k] = 1; todo[n++] = k; }
     }

@@ -12,7 +12,8 @@
  * every file is written, so a cell is done iff DIR/cells/ID/result.json
  * exists, and a crash (even kill -9) loses only the cells in flight.  A rerun
  * skips done cells and clears stale .part-* folders.  A cell whose method
- * fails gets a result.json with "status": "failed" and the sweep goes on.
+ * fails gets a result.json with "status": "failed" and the sweep goes on;
+ * such a cell counts as done until a run with retry_failed set.
  *
  *     struct sweep_opts o; sweep_opts_defaults(&o);
  *     o.out_dir = "out"; o.run = eval_run;
@@ -40,6 +41,7 @@ struct sweep_opts {
     int cell_jobs;               /* threads inside one cell (default 1) */
     int quiet;
     int isolate;                 /* eval_spec.isolate */
+    int retry_failed;            /* run again the cells whose result says "failed" */
     const char *plugin_path;
     sweep_run_fn run;            /* eval_run in the command */
     volatile sig_atomic_t *stop; /* set (by a signal handler): start no new cell; may be NULL */
