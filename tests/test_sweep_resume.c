@@ -13,13 +13,14 @@
 
 static volatile sig_atomic_t stop_flag;
 static long calls, stop_after = -1;
+static int broken_fixed;
 
 /* Writes a result.json whose numbers depend only on the spec. */
 static int fake_run(const struct eval_spec *s, struct eval_summary *out, struct err *e)
 {
     (void)out;
     if (__atomic_add_fetch(&calls, 1, __ATOMIC_SEQ_CST) == stop_after) stop_flag = 1;
-    if (!strcmp(s->method, "broken")) return err_set(e, "plugin 'broken': describe returned NaN");
+    if (!strcmp(s->method, "broken") && !broken_fixed) return err_set(e, "plugin 'broken': describe returned NaN");
     unsigned h = 5381;
     for (const char *c = s->chain ? s->chain : ""; *c; c++) h = h * 33 + (unsigned char)*c;
     h += (unsigned)s->seed * 7 + (unsigned)strlen(s->method);
@@ -122,6 +123,23 @@ int main(void)
         CHECK(st.in_shard == 7 && st.ran == 7, "each of three shards runs its seven cells");
     }
     CHECK(same_cells(&p, "full", "sharded"), "three shards into one folder equal the unsharded run");
+
+    /* Failed cells count as done until a run asks to retry them. */
+    struct sweep_opts ro;
+    sweep_opts_defaults(&ro);
+    ro.out_dir = "retry";
+    ro.run = fake_run;
+    ro.quiet = 1;
+    CHECK(!sweep_run(&p, &ro, &st, &e) && st.failed == 7, "a first run with a broken method");
+    broken_fixed = 1;
+    CHECK(!sweep_run(&p, &ro, &st, &e) && st.ran == 0, "failed cells are skipped by a plain rerun");
+    ro.retry_failed = 1;
+    CHECK(!sweep_run(&p, &ro, &st, &e) && st.ran == 7 && st.failed == 0 && st.skipped == 14,
+          "--retry-failed runs exactly the failed cells again");
+    r = slurp("retry/cells/broken__clean__s1/result.json");
+    CHECK(r && strstr(r, "\"status\": \"ok\""), "the retried cell now holds a good result");
+    free(r);
+    broken_fixed = 0;
 
     /* Another scenario into the same folder is refused. */
     struct plan q;
