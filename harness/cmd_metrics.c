@@ -1,0 +1,374 @@
+/* cmd_metrics.c: `revisit metrics --results FILE ...`: score a per-query
+ * results CSV made by any program against ground truth from poses. */
+#include <ctype.h>
+#include <math.h>
+#include <stdio.h>
+#include <stdlib.h>
+#include <string.h>
+#include <sys/stat.h>
+
+#include <cJSON.h>
+
+#include "harness/cmd.h"
+#include "harness/fileio.h"
+#include "harness/opt.h"
+#include "harness/opt_protocol.h"
+#include "harness/pool.h"
+#include "harness/poses_io.h"
+#include "harness/progress.h"
+#include "harness/queries_csv.h"
+#include "harness/recording.h"
+#include "harness/result_metrics.h"
+#include "metrics/boot.h"
+
+#define MT_FILE_MAX ((size_t)1 << 32)
+
+static const char usage[] =
+    "usage: revisit metrics --results FILE [--poses FILE | --rec REC]\n"
+    "                       [--query-poses FILE | --query-rec REC] [protocol options]\n"
+    "                       [--only FILE] [--bootstrap N] [--seed S] [--json OUT]\n\n"
+    "Score retrieval results made by any program.  FILE is a per-query results CSV\n"
+    "(lines 'query,cand,dist,cand,dist,...', best first; '#' comments; see\n"
+    "DEVELOPERS.md \"Results folder\").  Ground truth comes from the poses: a pose\n"
+    "file (--poses) or a recording (--rec) for the map, and in reloc mode a second\n"
+    "one for the queries.  Without either, the poses.csv beside FILE (as a results\n"
+    "folder holds it: set,index,t,x,y,z) is used.  Prints every scalar with its 95%\n"
+    "percentile-bootstrap interval; --json writes them with the exact curve.\n\n";
+
+struct mt_set {
+    double *xyz, *t;
+    size_t n;
+};
+
+struct mt_opts {
+    const char *results, *poses, *rec, *qposes, *qrec, *only, *json;
+    long bootstrap, jobs;
+    unsigned long long seed;
+    int quiet;
+};
+
+static void mt_set_free(struct mt_set *s)
+{
+    free(s->xyz);
+    free(s->t);
+    memset(s, 0, sizeof *s);
+}
+
+static int mt_set_alloc(struct mt_set *s, size_t n, struct err *e)
+{
+    s->n = n;
+    s->xyz = malloc((n ? n : 1) * 3 * sizeof *s->xyz);
+    s->t = malloc((n ? n : 1) * sizeof *s->t);
+    if (!s->xyz || !s->t) return mt_set_free(s), err_set(e, "out of memory for %zu poses", n);
+    for (size_t i = 0; i < n; i++) s->t[i] = NAN;   /* "no row yet" for the folder reader */
+    return 0;
+}
+
+static int mt_from_poses(const struct pose *v, size_t n, struct mt_set *s, struct err *e)
+{
+    if (mt_set_alloc(s, n, e)) return -1;
+    for (size_t i = 0; i < n; i++) {
+        memcpy(s->xyz + 3 * i, v[i].p, sizeof v[i].p);
+        s->t[i] = v[i].t;
+    }
+    return 0;
+}
+
+/* A pose file (any layout poses_read knows) or a recording. */
+static int mt_load(const char *poses, const char *rec, struct mt_set *s, struct err *e)
+{
+    int rc;
+    if (poses) {
+        struct poses ps;
+        if (poses_read(poses, POSES_AUTO, NULL, &ps, e)) return -1;
+        rc = mt_from_poses(ps.v, ps.n, s, e);
+        poses_free(&ps);
+        return rc;
+    }
+    struct recording r;
+    if (recording_load(rec, 0, &r, e)) return -1;
+    rc = mt_from_poses(r.poses, r.n, s, e);
+    recording_free(&r);
+    return rc;
+}
+
+/* One "set,index,t,x,y,z" row into the map or query set. */
+static int mt_folder_row(char *line, const char *path, long ln, struct mt_set sets[2], struct err *e)
+{
+    char set[16];
+    unsigned long idx;
+    double v[4];
+    int used = 0;
+    if (sscanf(line, "%15[^,],%lu,%lf,%lf,%lf,%lf%n", set, &idx, &v[0], &v[1], &v[2], &v[3], &used) != 6 ||
+        line[used] != 0)
+        return err_at(e, path, ln, "expected 'set,index,t,x,y,z', got '%.60s'", line);
+    int k = !strcmp(set, "map") ? 0 : !strcmp(set, "query") ? 1 : -1;
+    if (k < 0) return err_at(e, path, ln, "set '%s', expected map or query", set);
+    if (idx >= sets[k].n) return err_at(e, path, ln, "%s index %lu out of order, expected indices 0, 1, 2, ...", set, idx);
+    sets[k].t[idx] = v[0];
+    memcpy(sets[k].xyz + 3 * idx, v + 1, 3 * sizeof *v);
+    return 0;
+}
+
+/* poses.csv of a results folder: count the rows of each set, then fill. */
+static int mt_load_folder(const char *path, struct mt_set *map, struct mt_set *qry, struct err *e)
+{
+    char *buf;
+    size_t len, count[2] = {0, 0};
+    if (fileio_read(path, MT_FILE_MAX, &buf, &len, e)) return -1;
+    for (char *p = buf; (p = strstr(p, "\nmap,")); p++) count[0]++;
+    for (char *p = buf; (p = strstr(p, "\nquery,")); p++) count[1]++;
+    struct mt_set sets[2] = {{0}, {0}};
+    int rc = mt_set_alloc(&sets[0], count[0], e) || mt_set_alloc(&sets[1], count[1], e) ? -1 : 0;
+    long ln = 0;
+    for (char *p = buf, *nl; !rc && p && *p; p = nl ? nl + 1 : NULL) {
+        nl = strchr(p, '\n');
+        if (nl) *nl = 0;
+        if (nl && nl > p && nl[-1] == '\r') nl[-1] = 0;
+        if (++ln == 1) {
+            if (strcmp(p, "set,index,t,x,y,z")) rc = err_at(e, path, 1, "expected the header 'set,index,t,x,y,z'");
+            continue;
+        }
+        if (*p && *p != '#') rc = mt_folder_row(p, path, ln, sets, e);
+    }
+    free(buf);
+    for (int k = 0; k < 2 && !rc; k++)
+        for (size_t i = 0; i < sets[k].n && !rc; i++)
+            if (isnan(sets[k].t[i]))
+                rc = err_at(e, path, 0, "%s scan %zu has no row, expected one row per scan", k ? "query" : "map", i);
+    if (rc) { mt_set_free(&sets[0]); mt_set_free(&sets[1]); return -1; }
+    *map = sets[0];
+    *qry = sets[1];
+    return 0;
+}
+
+/* --only FILE: query indices, one per line ('#' comments). */
+static int mt_load_only(const char *path, size_t **idx, size_t *n, struct err *e)
+{
+    char *buf;
+    size_t len, cap = 0;
+    if (fileio_read(path, MT_FILE_MAX, &buf, &len, e)) return -1;
+    *idx = NULL;
+    *n = 0;
+    long ln = 0;
+    int rc = 0;
+    for (char *p = buf, *nl; !rc && p && *p; p = nl ? nl + 1 : NULL) {
+        nl = strchr(p, '\n');
+        if (nl) *nl = 0;
+        ln++;
+        while (isspace((unsigned char)*p)) p++;
+        if (!*p || *p == '#') continue;
+        char *end;
+        long v = strtol(p, &end, 10);
+        while (isspace((unsigned char)*end)) end++;
+        if (!isdigit((unsigned char)*p) || *end || v < 0) {
+            rc = err_at(e, path, ln, "'%.40s' is not a query index, expected a whole number >= 0", p);
+            break;
+        }
+        if (*n == cap) {
+            size_t *g = realloc(*idx, (cap = cap ? 2 * cap : 64) * sizeof *g);
+            if (!g) { rc = err_at(e, path, ln, "out of memory"); break; }
+            *idx = g;
+        }
+        (*idx)[(*n)++] = (size_t)v;
+    }
+    free(buf);
+    if (rc) { free(*idx); *idx = NULL; }
+    return rc;
+}
+
+/* Everything one scoring run holds; mt_free releases it all. */
+struct mt_run {
+    struct mt_opts o;
+    struct protocol p;
+    struct mt_set map, qry;
+    size_t *only, n_only;
+    struct gt *g;
+    struct queries_csv csv;
+    size_t *off;
+    struct pr_cand *cand;
+    struct pr_set *set;
+    struct pr_curve *curve;
+    struct boot_result br;
+};
+
+static void mt_free(struct mt_run *r)
+{
+    mt_set_free(&r->map);
+    mt_set_free(&r->qry);
+    free(r->only);
+    gt_free(r->g);
+    queries_csv_free(&r->csv);
+    free(r->off);
+    free(r->cand);
+    pr_set_free(r->set);
+    pr_curve_free(r->curve);
+}
+
+static int mt_poses(struct mt_run *r, struct err *e)
+{
+    const struct mt_opts *o = &r->o;
+    int reloc = r->p.mode == PROTOCOL_RELOC;
+    if (o->poses && o->rec) return err_set(e, "revisit metrics: give --poses or --rec, not both");
+    if (o->qposes && o->qrec) return err_set(e, "revisit metrics: give --query-poses or --query-rec, not both");
+    if (!reloc && (o->qposes || o->qrec))
+        return err_set(e, "revisit metrics: query poses need --mode reloc (loop mode scores one recording)");
+    if (o->poses || o->rec) {
+        if (mt_load(o->poses, o->rec, &r->map, e)) return -1;
+        if (!reloc) return 0;
+        if (!o->qposes && !o->qrec)
+            return err_set(e, "revisit metrics: reloc mode needs --query-poses or --query-rec for the queries");
+        return mt_load(o->qposes, o->qrec, &r->qry, e);
+    }
+    char dir[4096], path[4200];
+    struct stat st;
+    fileio_dirname(dir, sizeof dir, o->results);
+    fileio_join(path, sizeof path, dir, "poses.csv");
+    if (stat(path, &st))
+        return err_set(e, "revisit metrics: no poses: give --poses FILE or --rec REC (no %s beside the results)", path);
+    return mt_load_folder(path, &r->map, &r->qry, e);
+}
+
+static void mt_tick(void *ctx, size_t done)
+{
+    progress_add(ctx, done);
+}
+
+static int mt_score(struct mt_run *r, struct err *e)
+{
+    struct gt_poses mp = {r->map.xyz, r->map.t, r->map.n}, qp = {r->qry.xyz, r->qry.t, r->qry.n};
+    int reloc = r->p.mode == PROTOCOL_RELOC;
+    if (reloc && !r->qry.n && !r->o.poses && !r->o.rec)
+        return err_set(e, "revisit metrics: reloc mode, but the results folder's poses.csv has no query rows");
+    if (r->o.only && mt_load_only(r->o.only, &r->only, &r->n_only, e)) return -1;
+    if (gt_build(&r->p, &mp, reloc ? &qp : NULL, r->only, r->n_only, &r->g, e))
+        return err_wrap(e, "revisit metrics: ground truth");
+    if (queries_csv_read(r->o.results, &r->csv, e) || queries_csv_lists(&r->csv, r->g, &r->off, &r->cand, e))
+        return -1;
+    struct pr_lists l = {r->g->n_query, r->off, r->cand};
+    if (pr_set_build(r->g, &l, &r->set, e) || pr_curve_build(r->set, &r->curve, e))
+        return err_wrap(e, "%s", r->o.results);
+    if (r->o.bootstrap <= 0) {
+        pr_scalars_compute(r->set, NULL, &r->br.point);
+        return 0;
+    }
+    struct progress pg;
+    progress_start(&pg, "bootstrap", (size_t)r->o.bootstrap, r->o.quiet);
+    struct boot_tick tk = {mt_tick, &pg};
+    int rc = boot_percentile_ticked(r->set, (int)r->o.bootstrap, r->o.seed, 0.95,
+                                    pool_threads((int)r->o.jobs), &tk, &r->br, e);
+    progress_end(&pg);
+    return rc;
+}
+
+static void mt_print(const struct mt_run *r)
+{
+    const struct boot_result *b = &r->br;
+    int ci = r->o.bootstrap > 0;
+    printf("queries %zu, revisits %zu, curve points %zu", r->set->n, r->g->n_revisits, r->curve->n);
+    if (r->set->n_excluded) printf(", %zu listed candidates inside the exclusion window ignored", r->set->n_excluded);
+    printf("\n%-16s %9s%s  threshold\n", "metric", "value", ci ? "  95% interval        " : "");
+    for (int m = 0; m < PR_N_METRICS; m++) {
+        char line[160];
+        int at = snprintf(line, sizeof line, "%-16s %9.4f", pr_metric_name((enum pr_metric)m), b->point.v[m]);
+        if (ci) at += snprintf(line + at, sizeof line - (size_t)at, "  [%8.4f, %8.4f]", b->lo[m], b->hi[m]);
+        if (m == PR_F1MAX || m == PR_R100P) {
+            double t = m == PR_F1MAX ? b->point.f1max_threshold : b->point.r100p_threshold;
+            if (isnan(t)) snprintf(line + at, sizeof line - (size_t)at, "  -");
+            else snprintf(line + at, sizeof line - (size_t)at, "  %.6g", t);
+        }
+        puts(line);
+    }
+}
+
+static cJSON *mt_protocol_json(const struct protocol *p)
+{
+    cJSON *o = cJSON_CreateObject();
+    cJSON_AddStringToObject(o, "mode", p->mode == PROTOCOL_RELOC ? "reloc" : "loop");
+    cJSON_AddNumberToObject(o, "r_pos_m", p->r_pos_m);
+    cJSON_AddNumberToObject(o, "r_neg_m", p->r_neg_m);
+    cJSON_AddNumberToObject(o, "exclusion_s", p->exclusion_s);
+    if (p->exclusion_scans >= 0) cJSON_AddNumberToObject(o, "exclusion_scans", (double)p->exclusion_scans);
+    else cJSON_AddNullToObject(o, "exclusion_scans");
+    cJSON_AddBoolToObject(o, "planar", p->planar);
+    cJSON_AddStringToObject(o, "counting", p->counting == PROTOCOL_LENIENT ? "lenient" : "strict");
+    cJSON_AddNumberToObject(o, "top_k", p->top_k);
+    return o;
+}
+
+static int mt_json(const struct mt_run *r, int argc, char **argv, struct err *e)
+{
+    char cmdline[4096] = "revisit";
+    for (int k = 0; k < argc; k++) {
+        size_t at = strlen(cmdline);
+        snprintf(cmdline + at, sizeof cmdline - at, " %s", argv[k]);
+    }
+    cJSON *root = cJSON_CreateObject();
+    cJSON_AddStringToObject(root, "format", "revisit-result-1");
+    cJSON_AddStringToObject(root, "software", "revisit " RV_VERSION);
+    cJSON_AddStringToObject(root, "command", cmdline);
+    cJSON_AddStringToObject(root, "results", r->o.results);
+    cJSON_AddItemToObject(root, "protocol", mt_protocol_json(&r->p));
+    cJSON *bs = cJSON_AddObjectToObject(root, "bootstrap");
+    cJSON_AddNumberToObject(bs, "resamples", r->o.bootstrap > 0 ? (double)r->o.bootstrap : 0);
+    cJSON_AddNumberToObject(bs, "seed", (double)r->o.seed);
+    cJSON_AddNumberToObject(bs, "level", 0.95);
+    cJSON_AddNumberToObject(root, "excluded_candidates", (double)r->set->n_excluded);
+    int rc = result_metrics_add(root, &r->br.point, r->o.bootstrap > 0 ? &r->br : NULL, r->curve,
+                                r->set->n, r->g->n_revisits, e);
+    cJSON_AddStringToObject(root, "status", "ok");
+    char *txt = rc ? NULL : cJSON_Print(root);
+    if (!rc && !txt) rc = err_set(e, "out of memory printing %s", r->o.json);
+    if (!rc) {
+        size_t len = strlen(txt);
+        txt[len] = '\n';   /* the NUL becomes the final newline */
+        rc = fileio_write(r->o.json, txt, len + 1, e);
+    }
+    free(txt);
+    cJSON_Delete(root);
+    return rc;
+}
+
+int cmd_metrics(int argc, char **argv)
+{
+    struct mt_run r;
+    memset(&r, 0, sizeof r);
+    r.o.bootstrap = 1000;
+    r.o.seed = 1;
+    r.o.jobs = 0;
+    struct opt_protocol op;
+    opt_protocol_init(&op);
+    const struct opt opts[] = {
+        {"--results", OPT_STR, &r.o.results, "FILE", "per-query results CSV to score; required"},
+        {"--poses", OPT_STR, &r.o.poses, "FILE", "pose file of the map (loop: the one recording)"},
+        {"--rec", OPT_STR, &r.o.rec, "REC", "recording (folder or recording.json) whose poses to use"},
+        {"--query-poses", OPT_STR, &r.o.qposes, "FILE", "reloc: pose file of the queries"},
+        {"--query-rec", OPT_STR, &r.o.qrec, "REC", "reloc: recording of the queries"},
+        OPT_PROTOCOL_ROWS(op),
+        {"--only", OPT_STR, &r.o.only, "FILE", "score only the query indices listed (one per line)"},
+        {"--bootstrap", OPT_INT, &r.o.bootstrap, "N", "bootstrap resamples for the intervals (default 1000; 0 = none)"},
+        {"--seed", OPT_U64, &r.o.seed, "S", "bootstrap seed (default 1)"},
+        {"--jobs", OPT_INT, &r.o.jobs, "N", "threads for the bootstrap (default: online cores)"},
+        {"--json", OPT_STR, &r.o.json, "OUT", "write counts, every scalar with its interval, and the curve"},
+        {"--quiet", OPT_FLAG, &r.o.quiet, NULL, "no progress bar"},
+        {0}};
+    struct opt_args a;
+    struct err e;
+    if (opt_parse("metrics", argc, argv, opts, &a, &e)) return cmd_report(&e);
+    if (a.help) {
+        fputs(usage, stdout);
+        opt_print_help(stdout, opts);
+        return CMD_OK;
+    }
+    if (a.n) return err_set(&e, "revisit metrics: unexpected argument '%s'", a.v[0]), cmd_report(&e);
+    if (!r.o.results) return err_set(&e, "revisit metrics: option '--results' is required"), cmd_report(&e);
+    if (r.o.bootstrap < 0 || r.o.bootstrap > 1000000)
+        return err_set(&e, "revisit metrics: --bootstrap expects 0 to 1000000 resamples, got %ld", r.o.bootstrap),
+               cmd_report(&e);
+    if (!op.mode && (r.o.qposes || r.o.qrec)) op.mode = "reloc";
+    int rc = opt_protocol_finish(&op, "metrics", &r.p, &e) || mt_poses(&r, &e) || mt_score(&r, &e) ||
+             (r.o.json && mt_json(&r, argc, argv, &e));
+    if (!rc) mt_print(&r);
+    mt_free(&r);
+    return rc ? cmd_report(&e) : CMD_OK;
+}
