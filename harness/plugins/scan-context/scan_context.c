@@ -2,14 +2,14 @@
  * Context: Egocentric Spatial Descriptor for Place Recognition within 3D
  * Point Cloud Map", IROS 2018) as a revisit plugin.
  *
- * Descriptor layout: rings x sectors floats, ring-major.  Cell (r, s) holds
- * the largest height z + lift of the points whose planar range falls in ring
- * r (equal widths up to max_range) and whose azimuth falls in sector s
- * (equal widths, counter-clockwise from -pi); an empty cell is 0.
+ * Descriptor layout: sectors x rings floats, sector-major, so one column
+ * (one sector, every ring) is contiguous for the distance.  Cell (r, s), at
+ * desc[s * rings + r], holds the largest height z + lift of the points
+ * whose planar range falls in ring r (equal widths up to max_range) and
+ * whose azimuth falls in sector s (equal widths, counter-clockwise from
+ * -pi); an empty cell is 0.
  *
- *         sector 0   1   2  ...  S-1
- *   ring 0  [ h   h   0  ...  h ]
- *   ring 1  [ ...               ]
+ *   desc: | s0: r0 r1 .. rR-1 | s1: r0 r1 .. | ... | sS-1: ... |
  *
  * Turning the scan by m sectors counter-clockwise moves column s to s + m.
  * The key (one float per ring, the mean of the ring's row) does not change
@@ -69,42 +69,56 @@ static int sc_describe(void *inst, const struct rv_scan *scan, float *desc, floa
         if (ring >= s->rings) ring = s->rings - 1;
         if (sec >= s->sectors) sec = s->sectors - 1;
         float h = (float)(p[2] + s->lift_m);
-        float *cell = &desc[(size_t)ring * s->sectors + sec];
+        float *cell = &desc[(size_t)sec * s->rings + ring];
         if (h > *cell) *cell = h;
     }
     for (size_t c = 0; c < cells; c++)
         if (desc[c] == -INFINITY) desc[c] = 0;
     for (int r = 0; r < s->rings; r++) {
         double sum = 0;
-        for (int c = 0; c < s->sectors; c++) sum += desc[(size_t)r * s->sectors + c];
+        for (int c = 0; c < s->sectors; c++) sum += desc[(size_t)c * s->rings + r];
         key[r] = (float)(sum / s->sectors);
     }
     return RV_OK;
 }
 
-/* Column j of a ring-major image: dot product and squared norms. */
+/* |column j|^2 for every column of an image. */
+static void sc_norms(const float *img, int R, int S, double *out)
+{
+    for (int j = 0; j < S; j++) {
+        double n = 0;
+        for (int r = 0; r < R; r++) n += (double)img[(size_t)j * R + r] * img[(size_t)j * R + r];
+        out[j] = n;
+    }
+}
+
+static double sc_dot(const float *a, const float *b, int R)
+{
+    double s = 0;
+    for (int r = 0; r < R; r++) s += (double)a[r] * b[r];
+    return s;
+}
+
+/* Minimum over shifts k of 1 - mean cosine of column j of a and j + k of b.
+ * The cosine is dot / sqrt(|a|^2 |b|^2): for equal columns that is exactly 1
+ * (sqrt(x * x) == x in IEEE arithmetic), so a turned copy is at exactly 0. */
 static double sc_distance(const void *inst, const float *a, const float *b, int32_t *aux)
 {
     const struct sc *s = inst;
     int R = s->rings, S = s->sectors;
+    double ia[720], ib[720];
+    sc_norms(a, R, S, ia);
+    sc_norms(b, R, S, ib);
     double best = 2;
     int32_t best_k = 0;
     for (int k = 0; k < S; k++) {
         double sum = 0;
         int used = 0;
         for (int j = 0; j < S; j++) {
-            int jb = (j + k) % S;
-            double dot = 0, na = 0, nb = 0;
-            for (int r = 0; r < R; r++) {
-                double x = a[(size_t)r * S + j], y = b[(size_t)r * S + jb];
-                dot += x * y;
-                na += x * x;
-                nb += y * y;
-            }
-            if (na > 0 && nb > 0) {
-                sum += dot / sqrt(na * nb);
-                used++;
-            }
+            int jb = j + k < S ? j + k : j + k - S;
+            if (ia[j] == 0 || ib[jb] == 0) continue;
+            sum += sc_dot(a + (size_t)j * R, b + (size_t)jb * R, R) / sqrt(ia[j] * ib[jb]);
+            used++;
         }
         double d = used ? 1 - sum / used : 1;
         if (d < best) {
