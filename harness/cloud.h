@@ -48,6 +48,8 @@ int cloud_push(struct cloud *c, float x, float y, float z, float i);
 int cloud_copy(struct cloud *dst, const struct cloud *src);
 /* Keep point k at position n while compacting: dst index j <- src index k. */
 void cloud_move(struct cloud *c, size_t j, size_t k);
+/* 1 when none of the n floats at v is NaN or infinite, else 0. */
+int cloud_values_finite(const float *v, size_t n);
 /* Drop points with a non-finite coordinate; returns how many were dropped. */
 size_t cloud_drop_nonfinite(struct cloud *c);
 

@@ -515,8 +515,6 @@ int recording_load_scan(const struct recording *rec, size_t i, struct cloud *c, 
     if (n_dropped) *n_dropped = 0;
     if (i >= rec->n) return err_set(e, "%s: scan %zu does not exist, expected an index below %zu",
                                     rec->manifest, i, rec->n);
-    if (scan_read(rec->scan_paths[i], rec->layout, c, e)) return err_wrap(e, "scan %zu", i);
-    size_t d = cloud_drop_nonfinite(c);
-    if (n_dropped) *n_dropped = d;
+    if (scan_read_finite(rec->scan_paths[i], rec->layout, c, n_dropped, e)) return err_wrap(e, "scan %zu", i);
     return 0;
 }

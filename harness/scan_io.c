@@ -83,16 +83,27 @@ static void scan_le_floats(float *v, size_t n)
 #endif
 }
 
-/* Read exactly len bytes from fd into buf. */
-static int scan_read_full(int fd, void *buf, size_t len, const char *path, struct err *e)
+/* Read exactly len bytes from fd into buf.  With finite != NULL, read in
+ * blocks and check each for NaN / infinity while it is in cache (len a
+ * multiple of 4, buf float-aligned); *finite is 1 when none was found. */
+#define SCAN_BLOCK ((size_t)128 << 10)
+static int scan_read_full(int fd, void *buf, size_t len, int *finite, const char *path, struct err *e)
 {
     unsigned char *p = buf;
     size_t got = 0;
+    if (finite) *finite = 1;
     while (got < len) {
-        ssize_t r = read(fd, p + got, len - got);
+        size_t want = len - got;
+        if (finite && want > SCAN_BLOCK) want = SCAN_BLOCK;
+        ssize_t r = read(fd, p + got, want);
         if (r < 0 && errno == EINTR) continue;
         if (r < 0) return err_at(e, path, 0, "read failed: %s", strerror(errno));
         if (r == 0) return err_at(e, path, 0, "file ended after %zu of %zu bytes", got, len);
+        if (finite && *finite) {
+            /* check the whole floats now complete, including one split by the previous read */
+            size_t from = got & ~(size_t)3, to = (got + (size_t)r) & ~(size_t)3;
+            *finite = cloud_values_finite((const float *)(p + from), (to - from) / 4);
+        }
         got += (size_t)r;
     }
     return 0;
@@ -108,7 +119,7 @@ static int scan_fd_size(int fd, const char *path, size_t *size, struct err *e)
     return 0;
 }
 
-static int scan_read_raw(const char *path, struct cloud *c, struct err *e)
+static int scan_read_raw(const char *path, struct cloud *c, int *finite, struct err *e)
 {
     int fd = open(path, O_RDONLY);
     if (fd < 0) return err_at(e, path, 0, "cannot open: %s", strerror(errno));
@@ -137,7 +148,10 @@ static int scan_read_raw(const char *path, struct cloud *c, struct err *e)
         err_at(e, path, 0, "out of memory for %zu points", n);
         goto done;
     }
-    if (scan_read_full(fd, c->pts, size, path, e)) goto done;
+#if defined(__BYTE_ORDER__) && __BYTE_ORDER__ == __ORDER_BIG_ENDIAN__
+    finite = NULL;  /* the bytes are checked only after swapping: leave it to the caller */
+#endif
+    if (scan_read_full(fd, c->pts, size, finite, path, e)) goto done;
     scan_le_floats(c->pts, 4 * n);
     c->n = n;
     rc = 0;
@@ -214,7 +228,7 @@ int scan_read(const char *path, enum scan_layout layout, struct cloud *c, struct
     if (layout == SCAN_AUTO) layout = scan_layout_from_path(path);
     int rc;
     switch (layout) {
-    case SCAN_RAW: rc = scan_read_raw(path, c, e); break;
+    case SCAN_RAW: rc = scan_read_raw(path, c, NULL, e); break;
     case SCAN_PCD: rc = pcd_read(path, c, e); break;
     case SCAN_PLY: rc = ply_read(path, c, e); break;
     case SCAN_TEXT: rc = scan_read_text(path, c, e); break;
@@ -224,6 +238,23 @@ int scan_read(const char *path, enum scan_layout layout, struct cloud *c, struct
     }
     if (rc) c->n = 0;
     return rc;
+}
+
+int scan_read_finite(const char *path, enum scan_layout layout, struct cloud *c, size_t *n_dropped,
+                     struct err *e)
+{
+    if (n_dropped) *n_dropped = 0;
+    if (layout == SCAN_AUTO) layout = scan_layout_from_path(path);
+    int finite = 0;
+    if (layout == SCAN_RAW) {
+        c->n = 0;
+        if (scan_read_raw(path, c, &finite, e)) { c->n = 0; return -1; }
+    } else if (scan_read(path, layout, c, e)) {
+        return -1;
+    }
+    size_t d = finite ? 0 : cloud_drop_nonfinite(c);
+    if (n_dropped) *n_dropped = d;
+    return 0;
 }
 
 int scan_slurp(const char *path, size_t max_bytes, unsigned char **buf, size_t *len,
@@ -244,7 +275,7 @@ int scan_slurp(const char *path, size_t max_bytes, unsigned char **buf, size_t *
     }
     b = malloc(size + 1);
     if (!b) { err_at(e, path, 0, "out of memory for %zu bytes", size); goto done; }
-    if (scan_read_full(fd, b, size, path, e)) goto done;
+    if (scan_read_full(fd, b, size, NULL, path, e)) goto done;
     b[size] = 0;
     *buf = b;
     *len = size;

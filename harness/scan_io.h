@@ -51,6 +51,12 @@ const char *scan_layout_ext(enum scan_layout layout);
  * error naming the extensions accepted). */
 int scan_read(const char *path, enum scan_layout layout, struct cloud *c, struct err *e);
 
+/* scan_read, then drop the points with a non-finite coordinate and count
+ * them in *n_dropped (may be NULL).  For raw files the check runs on each
+ * block as it is read, while it is still in cache. */
+int scan_read_finite(const char *path, enum scan_layout layout, struct cloud *c, size_t *n_dropped,
+                     struct err *e);
+
 /* Writers, each atomic (harness/fileio.h).  The raw layout keeps x y z i
  * only; scan_write picks the writer for layout (SCAN_PCD and SCAN_PLY write
  * binary; SCAN_TEXT writes "x y z i" lines with 9 significant digits). */

@@ -1,0 +1,125 @@
+/* bench_load.c: scan-load throughput through recording_load_scan, as a ratio
+ * to a plain read() loop over the same files in the same run (the floor of
+ * what I/O allows).  Writes its own recordings (raw and PCD, 200 scans of
+ * 60,000 points by default) into the current folder.  One JSON line per
+ * figure on stdout:
+ *   {"bench":"scan_load","layout":"raw","mb_per_s":...,"ratio_to_read":...}
+ * Each figure is the best of five rounds, each round running both ways over
+ * all scans (order alternating), so both run with the files in the page
+ * cache.
+ * Env BENCH_LOAD_SCANS / BENCH_LOAD_POINTS change the size. */
+#include <fcntl.h>
+#include <stdio.h>
+#include <stdlib.h>
+#include <string.h>
+#include <unistd.h>
+
+#include "harness/progress.h"
+#include "harness/recording.h"
+
+static size_t env_size(const char *name, size_t def)
+{
+    const char *s = getenv(name);
+    return s && atol(s) > 0 ? (size_t)atol(s) : def;
+}
+
+static int make_recording(const char *dir, enum scan_layout layout, size_t n, size_t pts, struct err *e)
+{
+    struct recording_sensor s;
+    recording_sensor_init(&s);
+    s.channels = 64;
+    struct recording_writer w;
+    struct cloud c;
+    cloud_init(&c);
+    struct pose *v = calloc(n, sizeof *v);
+    int rc = !v || recording_writer_begin(&w, dir, &s, layout, e);
+    unsigned seed = 1;
+    for (size_t i = 0; !rc && i < n; i++) {
+        c.n = 0;
+        for (size_t k = 0; k < pts; k++)
+            cloud_push(&c, (float)rand_r(&seed) / RAND_MAX * 100, (float)rand_r(&seed) / RAND_MAX * 100,
+                       (float)rand_r(&seed) / RAND_MAX * 5, (float)(k % 256));
+        double q[4] = {0, 0, 0, 1}, p[3] = {(double)i, 0, 0};
+        pose_from_quat(&v[i], 0.1 * (double)i, p, q, e);
+        rc = recording_writer_scan(&w, i, &c, e);
+    }
+    if (!rc) rc = recording_writer_poses(&w, v, n, e) || recording_writer_finish(&w, e);
+    recording_writer_free(&w);
+    cloud_free(&c);
+    free(v);
+    return rc ? -1 : 0;
+}
+
+/* Read one file with read() into buf; bytes read. */
+static size_t read_file(const char *path, unsigned char *buf, size_t cap)
+{
+    size_t total = 0;
+    int fd = open(path, O_RDONLY);
+    if (fd < 0) return 0;
+    for (ssize_t got; (got = read(fd, buf, cap)) > 0; ) total += (size_t)got;
+    close(fd);
+    return total;
+}
+
+/* One round: every scan read with read(), then every scan loaded; adds the
+ * seconds each way took to t_read and t_load.  Alternating the order between
+ * rounds keeps either way from always running second. */
+static int bench_round(const struct recording *r, int round, unsigned char *buf, size_t cap, struct cloud *c,
+                       double *t_read, double *t_load, size_t *bytes, size_t *points, struct err *e)
+{
+    *bytes = *points = 0;
+    for (int way = 0; way < 2; way++) {
+        int load = (way + round) % 2;
+        double t0 = progress_now();
+        for (size_t i = 0; i < r->n; i++) {
+            if (load) {
+                size_t dropped;
+                if (recording_load_scan(r, i, c, &dropped, e)) return -1;
+                *points += c->n;
+            } else {
+                *bytes += read_file(r->scan_paths[i], buf, cap);
+            }
+        }
+        *(load ? t_load : t_read) += progress_now() - t0;
+    }
+    return 0;
+}
+
+static int bench_layout(const char *dir, const char *name, struct err *e)
+{
+    struct recording r;
+    if (recording_load(dir, 0, &r, e)) return -1;
+    size_t cap = (size_t)4 << 20, bytes = 0, points = 0;
+    unsigned char *buf = malloc(cap);
+    struct cloud c;
+    cloud_init(&c);
+    double best_read = 1e30, best_load = 1e30;
+    for (int round = 0; round < 5 && buf; round++) {
+        double a = 0, b = 0;
+        if (bench_round(&r, round, buf, cap, &c, &a, &b, &bytes, &points, e)) {
+            free(buf); cloud_free(&c); recording_free(&r); return -1;
+        }
+        if (a < best_read) best_read = a;
+        if (b < best_load) best_load = b;
+    }
+    double mb = (double)bytes / 1e6;
+    printf("{\"bench\":\"scan_load\",\"layout\":\"%s\",\"scans\":%zu,\"points\":%zu,\"mb_per_s\":%.1f,"
+           "\"read_mb_per_s\":%.1f,\"ratio_to_read\":%.3f}\n", name, r.n, points, mb / best_load,
+           mb / best_read, best_read / best_load);
+    free(buf);
+    cloud_free(&c);
+    recording_free(&r);
+    return 0;
+}
+
+int main(void)
+{
+    struct err e;
+    size_t n = env_size("BENCH_LOAD_SCANS", 200), pts = env_size("BENCH_LOAD_POINTS", 60000);
+    if (make_recording("raw", SCAN_RAW, n, pts, &e) || bench_layout("raw", "raw", &e) ||
+        make_recording("pcd", SCAN_PCD, n, pts, &e) || bench_layout("pcd", "pcd", &e)) {
+        fprintf(stderr, "bench_load: %s\n", e.msg);
+        return 1;
+    }
+    return 0;
+}
