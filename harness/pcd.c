@@ -256,6 +256,35 @@ static void pcd_store(struct cloud *c, size_t k, const struct pcd_header *h, con
     if (c->time) c->time[k] = (float)v[h->it];
 }
 
+/* One field's first value at point p; float32 read directly. */
+static double pcd_get(const unsigned char *p, const struct pcd_field *f)
+{
+    if (f->type == 'F' && f->size == 4) {
+        float v;
+        memcpy(&v, p + f->offset, 4);
+        return v;
+    }
+    return pcd_value(p + f->offset, f->type, f->size);
+}
+
+/* 1 when x y z intensity are float32 at offsets 0, 4, 8, 12: the leading 16
+ * bytes of a point are then a cloud record as they stand (little-endian host). */
+static int pcd_xyzi_leading(const struct pcd_header *h)
+{
+#if defined(__BYTE_ORDER__) && __BYTE_ORDER__ == __ORDER_BIG_ENDIAN__
+    (void)h;
+    return 0;
+#else
+    const int idx[4] = {h->ix, h->iy, h->iz, h->ii};
+    for (int k = 0; k < 4; k++) {
+        if (idx[k] < 0) return 0;
+        const struct pcd_field *f = &h->f[idx[k]];
+        if (f->type != 'F' || f->size != 4 || f->offset != (size_t)(4 * k)) return 0;
+    }
+    return 1;
+#endif
+}
+
 static int pcd_body_binary(const unsigned char *buf, size_t len, const char *path,
                            const struct pcd_header *h, struct cloud *c, struct err *e)
 {
@@ -265,11 +294,21 @@ static int pcd_body_binary(const unsigned char *buf, size_t len, const char *pat
                       "file truncated at point %zu", have, h->points, h->points * h->point_size,
                       h->point_size, h->point_size ? have / h->point_size : 0);
     if (pcd_prepare(c, h)) return err_at(e, path, 0, "out of memory for %zu points", h->points);
-    double v[PCD_MAX_FIELDS];
     const unsigned char *p = buf + h->body;
-    for (size_t k = 0; k < h->points; k++, p += h->point_size) {
-        for (int f = 0; f < h->nf; f++) v[f] = pcd_value(p + h->f[f].offset, h->f[f].type, h->f[f].size);
-        pcd_store(c, k, h, v);
+    const size_t ps = h->point_size;
+    int fast = pcd_xyzi_leading(h);
+    for (size_t k = 0; k < h->points; k++, p += ps) {
+        float *q = c->pts + 4 * k;
+        if (fast) {
+            memcpy(q, p, 16);
+        } else {
+            q[0] = (float)pcd_get(p, &h->f[h->ix]);
+            q[1] = (float)pcd_get(p, &h->f[h->iy]);
+            q[2] = (float)pcd_get(p, &h->f[h->iz]);
+            q[3] = h->ii >= 0 ? (float)pcd_get(p, &h->f[h->ii]) : 0.0f;
+        }
+        if (c->ring) c->ring[k] = pcd_ring(pcd_get(p, &h->f[h->ir]));
+        if (c->time) c->time[k] = (float)pcd_get(p, &h->f[h->it]);
     }
     c->n = h->points;
     return 0;
