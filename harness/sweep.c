@@ -231,9 +231,11 @@ static int sw_cell(void *arg, size_t task, int worker, struct err *e)
     return 0;
 }
 
-/* Remove DIR/cells/.part-* left by a run that was killed. */
-static int sw_clear_parts(const char *out_dir, struct err *e)
+/* Remove DIR/cells/.part-* left by a killed run of this shard (other
+ * shards may be running into the same folder right now). */
+static int sw_clear_parts(const struct plan *p, const struct sweep_opts *o, struct err *e)
 {
+    const char *out_dir = o->out_dir;
     char cells[SW_PATH];
     snprintf(cells, sizeof cells, "%s/cells", out_dir);
     DIR *d = opendir(cells);
@@ -242,6 +244,8 @@ static int sw_clear_parts(const char *out_dir, struct err *e)
     int rc = 0;
     while (!rc && (de = readdir(d))) {
         if (strncmp(de->d_name, ".part-", 6)) continue;
+        long k = plan_find_cell(p, de->d_name + 6);
+        if (k >= 0 && !plan_in_shard((size_t)k, o->shard_i, o->shard_n)) continue;
         char sub[SW_PATH];
         snprintf(sub, sizeof sub, "%s/%s", cells, de->d_name);
         rc = sw_remove_tree(sub, e);
@@ -302,7 +306,7 @@ int sweep_run(const struct plan *p, const struct sweep_opts *o, struct sweep_sta
     memset(st, 0, sizeof *st);
     st->total = p->n_cells;
     if (!o->run) return err_set(e, "sweep: no cell runner given");
-    if (sweep_prepare(p, o->out_dir, e) || sw_clear_parts(o->out_dir, e)) return -1;
+    if (sweep_prepare(p, o->out_dir, e) || sw_clear_parts(p, o, e)) return -1;
     struct sw_ctx c = {.p = p, .o = o};
     snprintf(c.cache, sizeof c.cache, "%s/cache", o->out_dir);
     size_t *todo = malloc((p->n_cells + 1) * sizeof *todo);

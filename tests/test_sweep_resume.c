@@ -118,9 +118,14 @@ int main(void)
     CHECK(access("resumed/cells/.part-good_k-1__clean__s1", F_OK) != 0, "stale part folders are removed");
     CHECK(same_cells(&p, "full", "resumed"), "stopped and resumed equals one uninterrupted run");
 
+    /* Cell 1 belongs to shard 1/3: shard 0 must not touch it while it is in flight. */
+    CHECK(!fileio_mkdirs("sharded/cells/.part-good_k-1__sec_width-0__s1", &e), "another shard's cell in flight");
+    run(&p, "sharded", 1, 0, 3, &st);
+    CHECK(access("sharded/cells/.part-good_k-1__sec_width-0__s1", F_OK) == 0,
+          "a shard leaves the part folders of other shards alone");
     for (int i = 0; i < 3; i++) {
         run(&p, "sharded", 1, i, 3, &st);
-        CHECK(st.in_shard == 7 && st.ran == 7, "each of three shards runs its seven cells");
+        CHECK(st.in_shard == 7 && st.ran == (i ? 7u : 0u), "each of three shards runs its seven cells");
     }
     CHECK(same_cells(&p, "full", "sharded"), "three shards into one folder equal the unsharded run");
 
