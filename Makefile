@@ -20,7 +20,7 @@ BLAS_LIBS  := $(shell pkg-config --libs openblas 2>/dev/null || echo -lopenblas)
 BLAS_CFLAGS := $(shell pkg-config --cflags openblas 2>/dev/null)
 LAPACK_LIBS := -llapacke
 
-WARN    := -std=c11 -Wall -Wextra -Werror -Wno-format-truncation
+WARN    := -std=c11 -Wall -Wextra -Werror $(if $(findstring clang,$(CC)),,-Wno-format-truncation)
 CFLAGS  ?= -O2 -g
 SAN     ?=
 ALL_CFLAGS := $(WARN) $(CFLAGS) $(SAN) -D_POSIX_C_SOURCE=200809L -D_DEFAULT_SOURCE \
@@ -39,15 +39,19 @@ PLUGIN_SO   := $(PLUGINS:%=$(B)/plugins/%.so)
 TEST_SRC    := $(wildcard tests/test_*.c)
 TOOL_SRC    := $(wildcard tests/tool_*.c)
 BENCH_SRC   := $(wildcard tests/bench_*.c)
+FUZZ_SRC    := $(wildcard tests/fuzz_*.c)
 
 obj = $(patsubst %.c,$(B)/obj/%.o,$(1))
 LIBS := $(B)/libharness.a $(B)/libsynth.a $(B)/libreports.a $(B)/libperturb.a $(B)/libmetrics.a
+# The libraries call each other (err_* and cloud_* are used everywhere), so link them as a group.
+LINK_LIBS = -Wl,--start-group $(LIBS) -Wl,--end-group
 
-.PHONY: all deps test asan bench demo install clean
+.PHONY: all deps test asan bench demo install clean fuzz
 all: deps build
 
 build: $(B)/revisit $(PLUGIN_SO) $(TEST_SRC:tests/%.c=$(B)/tests/%) \
-       $(TOOL_SRC:tests/%.c=$(B)/tests/%) $(BENCH_SRC:tests/%.c=$(B)/tests/%)
+       $(TOOL_SRC:tests/%.c=$(B)/tests/%) $(BENCH_SRC:tests/%.c=$(B)/tests/%) \
+       $(FUZZ_SRC:tests/%.c=$(B)/replay/%)
 .PHONY: build
 
 deps:
@@ -72,7 +76,7 @@ $(B)/lib%.a:
 	ar rcs $@ $^
 
 $(B)/revisit: $(call obj,harness/main.c) $(LIBS)
-	$(CC) $(SAN) $(HIDDEN) -o $@ $< $(LIBS) $(LDLIBS)
+	$(CC) $(SAN) $(HIDDEN) -o $@ $< $(LINK_LIBS) $(LDLIBS)
 
 .SECONDEXPANSION:
 $(B)/plugins/%.so: $$(call obj,$$(wildcard harness/plugins/%/*.c))
@@ -81,7 +85,23 @@ $(B)/plugins/%.so: $$(call obj,$$(wildcard harness/plugins/%/*.c))
 
 $(B)/tests/%: $(B)/obj/tests/%.o $(LIBS)
 	@mkdir -p $(dir $@)
-	$(CC) $(SAN) -o $@ $< $(LIBS) $(LDLIBS)
+	$(CC) $(SAN) -o $@ $< $(LINK_LIBS) $(LDLIBS)
+
+# Fuzz targets (tests/fuzz_*.c, each defining LLVMFuzzerTestOneInput) are
+# built twice: as replay programs in every build (tests/replay_main.c feeds
+# them each file of tests/corpus/NAME/, so the corpus and every crash found
+# run as regression tests), and by `make fuzz` with clang's libFuzzer.
+$(B)/replay/%: $(B)/obj/tests/%.o $(B)/obj/tests/replay_main.o $(LIBS)
+	@mkdir -p $(dir $@)
+	$(CC) $(SAN) -o $@ $< $(B)/obj/tests/replay_main.o $(LINK_LIBS) $(LDLIBS)
+
+FUZZ_SECONDS ?= 60
+FB := build-fuzz
+fuzz: deps
+	@$(MAKE) --no-print-directory B=$(FB) CC=clang CFLAGS='-O1 -g -fno-omit-frame-pointer' \
+	  SAN='-fsanitize=fuzzer-no-link,address,undefined' $(LIBS:$(B)/%=$(FB)/%) \
+	  $(FUZZ_SRC:tests/%.c=$(FB)/obj/tests/%.o)
+	@bash tests/fuzz.sh $(FB) $(FUZZ_SECONDS)
 
 test: all
 	@bash tests/run.sh $(B)
