@@ -47,4 +47,7 @@ int cmd_inspect(int argc, char **argv);
 /* revisit synth --scenario NAME --out DIR: a synthetic recording (scenarios/synth.h). */
 int cmd_synth(int argc, char **argv);
 
+/* revisit perturb --in REC --out DIR --chain CHAIN: a perturbed copy of a recording (perturb/chain.h). */
+int cmd_perturb(int argc, char **argv);
+
 #endif

@@ -20,6 +20,7 @@ static const struct cmd_row commands[] = {
     {"merge", cmd_merge, "join the folders of a sharded sweep"},
     {"check", cmd_check, "judge a sweep against the scenario's acceptance criteria (JUnit XML too)"},
     {"synth", cmd_synth, "make a synthetic recording of an invented district with every kind of revisit"},
+    {"perturb", cmd_perturb, "write a perturbed copy of a recording (seeded chain of stages); --list the stages"},
     {"report", cmd_report_main, "Markdown and HTML report of a results folder: tables, plots, verdicts"},
     {NULL, NULL, NULL},
 };

@@ -1,0 +1,265 @@
+/* cmd_perturb.c: `revisit perturb`: write a perturbed copy of a recording,
+ * or list the stages a chain may use. */
+#include <limits.h>
+#include <signal.h>
+#include <stdio.h>
+#include <stdlib.h>
+#include <string.h>
+
+#include "harness/cmd.h"
+#include "harness/opt.h"
+#include "harness/pool.h"
+#include "harness/progress.h"
+#include "harness/recording.h"
+#include "perturb/chain.h"
+
+static const char usage[] =
+    "usage: revisit perturb --in REC --out DIR --chain CHAIN [--seed S] [--jobs N]\n"
+    "                       [--on query|map|both] [--layout raw|pcd|ply] [--stats] [--quiet]\n"
+    "       revisit perturb --list\n\n"
+    "Apply a perturbation chain to every scan of recording REC (a folder or its\n"
+    "recording.json) and write a new recording to DIR: the perturbed scans, the\n"
+    "same poses, and a manifest that records the chain (normalised), the seed and\n"
+    "the source.  A chain is stages joined by '+', each 'name' or\n"
+    "'name:key=value,...', for example\n"
+    "    yaw:deg=random+sector:width=90+dropout:p=0.3+range:max=40m+noise:sigma=0.03\n"
+    "Values take an optional unit (deg, m, m/s, deg/s, s); 'random' draws a value\n"
+    "per scan where a parameter allows it, or once per recording with draw=recording.\n"
+    "Every draw comes from (seed, scan index, stage index), so the output is\n"
+    "byte-identical for any --jobs.  --on records which side of an evaluation the\n"
+    "copy stands for (default query).  --layout picks the scan files written\n"
+    "(default: the input's layout; text input is written as pcd).  --stats prints\n"
+    "the points into and out of each stage, summed over the scans.  --list prints\n"
+    "every stage with its parameters, defaults, ranges and meaning.\n\n";
+
+struct perturb_opts {
+    const char *in, *out, *chain, *on, *layout;
+    unsigned long long seed;
+    long jobs;
+    int stats, quiet, list, allow_outside;
+};
+
+/* ---- --list ------------------------------------------------------------- */
+
+static void print_default(const struct chain_param_info *p)
+{
+    if (p->kind == CHAIN_LIST) printf("none");
+    else if (p->def_random) printf("random");
+    else if (p->kind == CHAIN_CHOICE) {
+        const char *c = p->choices;
+        for (int k = 0; k < (int)p->def && strchr(c, '|'); k++) c = strchr(c, '|') + 1;
+        printf("%.*s", (int)strcspn(c, "|"), c);
+    } else printf("%g%s", p->def, p->unit);
+}
+
+static void perturb_list(void)
+{
+    const struct chain_stage_info *in;
+    printf("stages (chain: stage+stage+..., stage: name or name:key=value,...):\n");
+    for (size_t i = 0; (in = chain_stage_info(i)); i++) {
+        printf("\n%s: %s\n", in->name, in->meaning);
+        for (size_t k = 0; k < in->n_params; k++) {
+            const struct chain_param_info *p = &in->params[k];
+            printf("  %-9s default ", p->key);
+            print_default(p);
+            printf("; %s%s\n      %s\n", p->expect, p->may_random ? " or random" : "", p->meaning);
+        }
+    }
+}
+
+/* ---- the run ------------------------------------------------------------ */
+
+struct perturb_run {
+    const struct recording *rec;
+    const struct recording_writer *w;
+    const struct chain *ch;
+    uint64_t seed;
+    struct cloud *clouds;            /* one per worker */
+    struct chain_scratch *scratch;   /* one per worker */
+    struct chain_stats *sums;        /* one per worker */
+    struct progress *bar;
+};
+
+static int perturb_task(void *ctx, size_t i, int worker, struct err *e)
+{
+    struct perturb_run *r = ctx;
+    struct cloud *c = &r->clouds[worker];
+    struct chain_stats st;
+    size_t bad = 0;
+    if (recording_load_scan(r->rec, i, c, &bad, e)) return -1;
+    if (chain_apply(r->ch, c, r->seed, (uint32_t)i, &r->scratch[worker], &st, e))
+        return err_wrap(e, "scan %zu", i);
+    st.dropped_nonfinite += bad;
+    if (recording_writer_scan(r->w, i, c, e)) return -1;
+    chain_stats_add(&r->sums[worker], &st);
+    progress_add(r->bar, 1);
+    return 0;
+}
+
+static void perturb_on_sigint(int sig)
+{
+    (void)sig;
+    pool_request_stop();
+}
+
+/* Run the pool over every scan; *total receives the summed stats. */
+static int perturb_scans(struct perturb_run *r, int jobs, int quiet, struct chain_stats *total,
+                         struct err *e)
+{
+    int nw = pool_threads(jobs);
+    r->clouds = calloc((size_t)nw, sizeof *r->clouds);
+    r->scratch = calloc((size_t)nw, sizeof *r->scratch);
+    r->sums = calloc((size_t)nw, sizeof *r->sums);
+    int rc = -1;
+    if (!r->clouds || !r->scratch || !r->sums) {
+        err_set(e, "out of memory for %d workers", nw);
+        goto out;
+    }
+    for (int k = 0; k < nw; k++) {
+        cloud_init(&r->clouds[k]);
+        chain_scratch_init(&r->scratch[k]);
+    }
+    struct progress bar;
+    r->bar = &bar;
+    progress_start(&bar, "perturb", r->rec->n, quiet);
+    struct sigaction sa, old;
+    memset(&sa, 0, sizeof sa);
+    sa.sa_handler = perturb_on_sigint;
+    sigemptyset(&sa.sa_mask);
+    sigaction(SIGINT, &sa, &old);
+    rc = pool_run(r->rec->n, jobs, perturb_task, r, e);
+    sigaction(SIGINT, &old, NULL);
+    progress_end(&bar);
+    memset(total, 0, sizeof *total);
+    for (int k = 0; k < nw; k++) {
+        chain_stats_add(total, &r->sums[k]);
+        cloud_free(&r->clouds[k]);
+        chain_scratch_free(&r->scratch[k]);
+    }
+out:
+    free(r->clouds);
+    free(r->scratch);
+    free(r->sums);
+    return rc;
+}
+
+static void print_stats(const struct chain *ch, const struct chain_stats *t, size_t scans)
+{
+    printf("stage        points in   points out   kept\n");
+    for (size_t i = 0; i < t->n_stages; i++)
+        printf("%-10s %11zu %12zu %6.1f%%\n", chain_stage_name(ch, i), t->in[i], t->out[i],
+               t->in[i] ? 100.0 * (double)t->out[i] / (double)t->in[i] : 100.0);
+    printf("%zu scans; %zu points with a non-finite coordinate dropped before the chain\n", scans,
+           t->dropped_nonfinite);
+}
+
+/* Output layout: --layout, else the input's (text input becomes pcd). */
+static int perturb_layout(const struct perturb_opts *o, const struct recording *rec,
+                          enum scan_layout *out, struct err *e)
+{
+    if (o->layout) {
+        if (scan_layout_parse(o->layout, out, e)) return err_wrap(e, "revisit perturb: --layout");
+        if (*out == SCAN_RAW || *out == SCAN_PCD || *out == SCAN_PLY) return 0;
+        return err_set(e, "revisit perturb: option '--layout' expects raw, pcd or ply, got '%s'",
+                       o->layout);
+    }
+    enum scan_layout l = rec->layout;
+    if (l == SCAN_AUTO && rec->n) l = scan_layout_from_path(rec->scan_paths[0]);
+    *out = (l == SCAN_RAW || l == SCAN_PLY) ? l : SCAN_PCD;
+    return 0;
+}
+
+/* Refuse to write over the recording being read. */
+static int perturb_check_out(const char *out, const struct recording *rec, struct err *e)
+{
+    char a[PATH_MAX], b[PATH_MAX];
+    if (realpath(out, a) && realpath(rec->dir, b) && !strcmp(a, b))
+        return err_set(e, "revisit perturb: --out %s is the input recording's folder, expected "
+                       "another folder", out);
+    return 0;
+}
+
+static int perturb_write(const struct perturb_opts *o, const struct chain *ch,
+                         const struct recording *rec, struct chain_stats *total, struct err *e)
+{
+    enum scan_layout layout;
+    enum chain_on on;
+    if (chain_on_parse(o->on, &on, e)) return err_wrap(e, "revisit perturb: --on");
+    if (perturb_layout(o, rec, &layout, e) || perturb_check_out(o->out, rec, e)) return -1;
+    char text[4096];
+    if (chain_format(ch, text, sizeof text) >= sizeof text)
+        return err_set(e, "revisit perturb: the chain is longer than %zu characters", sizeof text);
+    struct recording_writer w;
+    int rc = -1;
+    if (recording_writer_begin(&w, o->out, &rec->sensor, layout, e)) goto out;
+    if (recording_writer_perturbation(&w, text, o->seed, chain_on_name(on), rec->manifest, e))
+        goto out;
+    struct perturb_run r = {rec, &w, ch, o->seed, NULL, NULL, NULL, NULL};
+    if (perturb_scans(&r, (int)o->jobs, o->quiet, total, e)) goto out;
+    if (recording_writer_poses(&w, rec->poses, rec->n, e)) goto out;
+    rc = recording_writer_finish(&w, e);
+out:
+    recording_writer_free(&w);
+    return rc;
+}
+
+int cmd_perturb(int argc, char **argv)
+{
+    struct perturb_opts o = {NULL, NULL, NULL, "query", NULL, 1, 0, 0, 0, 0, 0};
+    const struct opt table[] = {
+        {"--in", OPT_STR, &o.in, "REC", "recording to read (folder or recording.json)"},
+        {"--out", OPT_STR, &o.out, "DIR", "folder of the perturbed recording"},
+        {"--chain", OPT_STR, &o.chain, "CHAIN", "stages joined by '+' (see --list)"},
+        {"--seed", OPT_U64, &o.seed, "S", "run seed of every draw (default 1)"},
+        {"--jobs", OPT_INT, &o.jobs, "N", "threads (default: online cores)"},
+        {"--on", OPT_STR, &o.on, "SIDE", "query, map or both: recorded in the manifest"},
+        {"--layout", OPT_STR, &o.layout, "L", "raw, pcd or ply scan files (default: as input)"},
+        {"--stats", OPT_FLAG, &o.stats, NULL, "print points in and out of every stage"},
+        {"--allow-outside", OPT_FLAG, &o.allow_outside, NULL, "accept input paths outside REC"},
+        {"--list", OPT_FLAG, &o.list, NULL, "print every stage and its parameters"},
+        {"--quiet", OPT_FLAG, &o.quiet, NULL, "no progress bar"},
+        {0}};
+    struct opt_args args;
+    struct err e = {{0}};
+    if (opt_parse("perturb", argc, argv, table, &args, &e)) return cmd_report(&e);
+    if (args.help) {
+        fputs(usage, stdout);
+        opt_print_help(stdout, table);
+        return CMD_OK;
+    }
+    if (o.list) {
+        perturb_list();
+        return CMD_OK;
+    }
+    if (args.n) {
+        err_set(&e, "revisit perturb: unexpected argument '%s', expected options only", args.v[0]);
+        return cmd_report(&e);
+    }
+    const char *missing = !o.in ? "--in" : !o.out ? "--out" : !o.chain ? "--chain" : NULL;
+    if (missing) {
+        err_set(&e, "revisit perturb: option '%s' is required (see 'revisit perturb --help')",
+                missing);
+        return cmd_report(&e);
+    }
+    if (o.jobs < 0 || o.jobs > 256) {
+        err_set(&e, "revisit perturb: option '--jobs' expects 1 to 256, got %ld", o.jobs);
+        return cmd_report(&e);
+    }
+    struct chain *ch;
+    if (chain_parse(o.chain, &ch, &e)) return err_wrap(&e, "revisit perturb: --chain"), cmd_report(&e);
+    struct recording rec;
+    if (recording_load(o.in, o.allow_outside, &rec, &e)) {
+        chain_free(ch);
+        return cmd_report(&e);
+    }
+    struct chain_stats total;
+    int rc = perturb_write(&o, ch, &rec, &total, &e);
+    if (!rc && o.stats) print_stats(ch, &total, rec.n);
+    chain_free(ch);
+    recording_free(&rec);
+    if (rc && pool_stop_requested()) {
+        fprintf(stderr, "revisit: perturb interrupted; %s has no recording.json\n", o.out);
+        return CMD_INTERRUPTED;
+    }
+    return rc ? cmd_report(&e) : CMD_OK;
+}
