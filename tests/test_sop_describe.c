@@ -14,17 +14,24 @@
 
 #define CAP (SCENE_CHANNELS * SCENE_AZIMUTHS)
 
-static void *make(double key, double val, uint32_t *dim)
+static void *make2(double key, double val, double key2, double val2, uint32_t *dim)
 {
     double v[S_COUNT];
     for (int k = 0; k < S_COUNT; k++)
         v[k] = sop_settings[k].def;
     if (key >= 0)
         v[(int)key] = val;
+    if (key2 >= 0)
+        v[(int)key2] = val2;
     void *inst = NULL;
     uint32_t kd;
     char msg[256];
     return sop_new(v, &inst, dim, &kd, msg, sizeof msg) == RV_OK ? inst : NULL;
+}
+
+static void *make(double key, double val, uint32_t *dim)
+{
+    return make2(key, val, -1, 0, dim);
 }
 
 static double dist(const float *a, const float *b, uint32_t n)
@@ -69,15 +76,18 @@ static void test_permutation(const struct scene *w, float *pts)
     for (uint32_t k = 0; k < dim; k++)
         nrm += (double)ref[k] * ref[k];
     CHECK_NEAR(nrm, 1.0, 1e-5, "the descriptor is L2-normalised");
-    /* one segment: the pooled matrix has rank 1, so the power transform only
-     * scales it, and after normalisation power on and off agree */
-    struct sop *np = make(S_POWER, 0, &dim);
-    sop_from_segments(s, keep[0], 1, ref, NULL, msg, sizeof msg);
+    /* one segment and F_b = F_a: the pooled matrix F_a F_a^T has rank 1, so
+     * the power transform only scales it; after normalisation on and off agree */
+    struct sop *pw = make(S_CONTEXT, SOP_CTX_NONE, &dim);
+    struct sop *np = make2(S_CONTEXT, SOP_CTX_NONE, S_POWER, 0, &dim);
+    sop_from_segments(pw, keep[0], 1, ref, NULL, msg, sizeof msg);
     sop_from_segments(np, keep[0], 1, alt, NULL, msg, sizeof msg);
     CHECK(dist(ref, alt, dim) < 1e-5, "rank one: power transform changes nothing after normalising");
-    sop_from_segments(s, keep[0], nk[0], ref, NULL, msg, sizeof msg);
+    CHECK(dist(ref, (float[SOP_FA_MAX * SOP_FA_MAX]){0}, dim) > 0.5, "rank one: not the zero vector");
+    sop_from_segments(pw, keep[0], nk[0], ref, NULL, msg, sizeof msg);
     sop_from_segments(np, keep[0], nk[0], alt, NULL, msg, sizeof msg);
     CHECK(dist(ref, alt, dim) > 1e-3, "many segments: the power transform changes the descriptor");
+    sop_free(pw);
     sop_free(np);
     struct sop *a1 = make(S_ALPHA, 1.0, &dim);
     np = make(S_POWER, 0, &dim);

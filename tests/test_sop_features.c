@@ -189,6 +189,23 @@ static void test_context(void)
     ctx_temporal(&s->p, g, 3, d, &s->hist, t0);
     CHECK(t0[0] == 0, "reset forgets the previous scans");
     sop_free(s);
+
+    /* the whole scene moves 4.5 m (the sensor drove on): with the shift
+     * estimate every segment finds itself; without it the centroid gate
+     * (4 m) pairs segment 1 with segment 2's old place */
+    for (int shift_on = 1; shift_on >= 0; shift_on--) {
+        double ov[] = {S_SHIFT, shift_on};
+        s = make(ov, 1);
+        ctx_temporal(&s->p, g, 3, d, &s->hist, t0);
+        memcpy(moved, g, sizeof g);
+        for (int i = 0; i < 3; i++)
+            moved[i].c[0] += 4.5;
+        ctx_temporal(&s->p, moved, 3, d, &s->hist, t1);
+        int self = t1[0] == 1 && t1[d] == 2 && t1[2 * d] == 3;
+        CHECK(shift_on ? self : !self, shift_on ? "ego shift: segments match themselves after 4.5 m"
+                                                : "no ego shift: the 4.5 m move breaks the matches");
+        sop_free(s);
+    }
 }
 
 static void test_pool(void)

@@ -7,8 +7,11 @@
  * stops once that bound passes the k-th distance found, so GJK runs on a
  * few pairs per segment, not on all of them.
  *
- * Temporal: in the previous scan, take the k_temporal segments nearest to
- * segment i by centroid distance and the k_temporal nearest by feature
+ * Temporal: the scene's horizontal shift since the previous scan is
+ * estimated first (ctx_shift: median offset of mutual feature neighbours),
+ * since the plugin does not know the sensor's motion.  In the previous scan,
+ * take the k_temporal segments nearest to the shifted segment i by centroid
+ * distance and the k_temporal nearest by feature
  * distance |F_a[i] - F_a[j]|; among those in both sets and within
  * match_max_m, the correspondence minimises
  *     match_weight * d_centroid / match_scale_m + (1 - match_weight) * d_feature / feature_scale.
@@ -140,14 +143,74 @@ static const struct ctx_frame *ctx_age(const struct ctx_history *h, int age)
     return &h->frames[(h->head - age + h->cap) % h->cap];
 }
 
-/* Correspondence of segment si in frame f, or -1 (see the file comment). */
+static double ctx_feature_dist2(const float *a, const float *b, int dim)
+{
+    double ff = 0;
+    for (int k = 0; k < dim; k++)
+        ff += ((double)a[k] - b[k]) * ((double)a[k] - b[k]);
+    return ff;
+}
+
+static int ctx_cmp_double(const void *pa, const void *pb)
+{
+    double a = *(const double *)pa, b = *(const double *)pb;
+    return a < b ? -1 : a > b;
+}
+
+/* Horizontal shift of the scene since frame f: the median of the centroid
+ * offsets of mutual nearest neighbours in feature space, zero with fewer
+ * than shift_min_pairs of them (or when ego_shift is off).  It stands in for
+ * the sensor's own motion, which the plugin is not told.  0 or -1 (memory). */
+static int ctx_shift(const struct sop_params *p, const struct sop_seg *s, size_t n, int dim,
+                     const struct ctx_frame *f, double shift[2])
+{
+    shift[0] = shift[1] = 0;
+    if (!p->ego_shift || !n || !f->n)
+        return 0;
+    double *off = malloc(sizeof *off * 2 * n);
+    if (!off)
+        return -1;
+    size_t m = 0;
+    for (size_t i = 0; i < n; i++) {
+        size_t bj = 0, bi = 0;
+        double bd = INFINITY;
+        for (size_t j = 0; j < f->n; j++) {
+            double d = ctx_feature_dist2(s[i].fa, f->fa + (size_t)dim * j, dim);
+            if (d < bd)
+                bd = d, bj = j;
+        }
+        bd = INFINITY;
+        for (size_t q = 0; q < n; q++) {
+            double d = ctx_feature_dist2(s[q].fa, f->fa + (size_t)dim * bj, dim);
+            if (d < bd)
+                bd = d, bi = q;
+        }
+        if (bi != i)
+            continue;
+        off[m] = f->c[3 * bj] - s[i].c[0];
+        off[n + m++] = f->c[3 * bj + 1] - s[i].c[1];
+    }
+    if (m >= (size_t)p->shift_min_pairs) {
+        qsort(off, m, sizeof *off, ctx_cmp_double);
+        qsort(off + n, m, sizeof *off, ctx_cmp_double);
+        shift[0] = m % 2 ? off[m / 2] : 0.5 * (off[m / 2 - 1] + off[m / 2]);
+        shift[1] = m % 2 ? off[n + m / 2] : 0.5 * (off[n + m / 2 - 1] + off[n + m / 2]);
+    }
+    free(off);
+    return 0;
+}
+
+/* Correspondence of segment si in frame f, or -1 (see the file comment);
+ * shift is added to si's centroid first. */
 static int32_t ctx_match(const struct sop_params *p, const struct sop_seg *si, int dim,
-                         const struct ctx_frame *f, struct ctx_pick *by_c, struct ctx_pick *by_f)
+                         const struct ctx_frame *f, const double shift[2],
+                         struct ctx_pick *by_c, struct ctx_pick *by_f)
 {
     int k = p->k_temporal < (int)f->n ? p->k_temporal : (int)f->n, lc = 0, lf = 0;
     for (size_t j = 0; j < f->n; j++) {
         const double *c = f->c + 3 * j;
-        double dx = si->c[0] - c[0], dy = si->c[1] - c[1], dz = si->c[2] - c[2], ff = 0;
+        double dx = si->c[0] + shift[0] - c[0], dy = si->c[1] + shift[1] - c[1];
+        double dz = si->c[2] - c[2], ff = 0;
         for (int a = 0; a < dim; a++) {
             double d = (double)si->fa[a] - f->fa[(size_t)dim * j + a];
             ff += d * d;
@@ -217,10 +280,11 @@ int ctx_temporal(const struct sop_params *p, const struct sop_seg *s, size_t n, 
     int32_t *link = malloc(sizeof *link * (n ? n : 1));
     uint32_t *track = malloc(sizeof *track * (n ? n : 1));
     int rc = -1;
-    if (!by_c || !by_f || !link || !track)
+    double shift[2] = {0, 0};
+    if (!by_c || !by_f || !link || !track || (h->len && ctx_shift(p, s, n, dim, ctx_age(h, 0), shift)))
         goto out;
     for (size_t i = 0; i < n; i++) {
-        link[i] = h->len ? ctx_match(p, &s[i], dim, ctx_age(h, 0), by_c, by_f) : -1;
+        link[i] = h->len ? ctx_match(p, &s[i], dim, ctx_age(h, 0), shift, by_c, by_f) : -1;
         track[i] = link[i] < 0 ? 0 : 1 + ctx_age(h, 0)->track[link[i]];
         double wsum = 0, *o = out + i * (size_t)dim;
         int32_t m = link[i];
