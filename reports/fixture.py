@@ -147,6 +147,8 @@ def main():
     ap.add_argument("--single", action="store_true")
     ap.add_argument("--method", action="append", help="method label (repeat; default two)")
     ap.add_argument("--seeds", type=int, default=1)
+    ap.add_argument("--verdicts", action="store_true", help="also write verdicts.json")
+    ap.add_argument("--conditions", type=int, default=len(CONDITIONS), help="use the first N conditions")
     a = ap.parse_args()
     poses = route()
     truths = truth(poses)
@@ -158,10 +160,26 @@ def main():
     with open(os.path.join(a.out, "scenario.json"), "w") as f:
         json.dump({"format": "revisit-scenario-1", "name": "fixture harbour loop"}, f)
     for mi, m in enumerate(methods):
-        for ci, (cn, ch, ax, p) in enumerate(CONDITIONS):
+        for ci, (cn, ch, ax, p) in enumerate(CONDITIONS[:a.conditions]):
             for s in range(1, a.seeds + 1):
                 write_cell(os.path.join(a.out, "cells", "m%d-c%d-s%d" % (mi, ci, s)), m, cn, ch, ax, s,
                            p - 0.1 * mi, poses, truths)
+    if a.verdicts:
+        write_verdicts(a.out, methods[0])
+
+
+def write_verdicts(out, method):
+    """verdicts.json in the layout `revisit check` writes (harness/summary.h)."""
+    vs = []
+    for cond, thr in (("sector-90", 0.6), ("sector-180", 0.6)):
+        r = json.load(open(os.path.join(out, "cells", "m0-c%d-s1" % (2 if cond == "sector-90" else 3),
+                                        "result.json")))["metrics"]["f1max"]
+        vs.append({"criterion": "mean f1max of %s on %s >= %g" % (method, cond, thr), "metric": "f1max",
+                   "method": method, "condition": cond, "target": "mean", "comparator": ">=",
+                   "threshold": thr, "value": r["value"], "lo": r["lo"], "hi": r["hi"],
+                   "measured": r["value"], "seeds": 1, "pass": r["value"] >= thr})
+    with open(os.path.join(out, "verdicts.json"), "w") as f:
+        json.dump(vs, f, indent=1)
 
 
 if __name__ == "__main__":

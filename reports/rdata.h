@@ -53,9 +53,11 @@ struct rdata_cell {
 };
 
 /* One acceptance criterion result (see rdata_load for the file read). */
+/* From DIR/verdicts.json as `revisit check` writes it (harness/summary.h). */
 struct rdata_verdict {
-    char text[512], metric[64], method[256], cond[256], cmp[8];
+    char text[512], metric[64], method[256], cond[256], cmp[8], target[16];
     double value, lo, hi, threshold;
+    double measured;           /* what the comparator judged; value when absent */
     int pass;
 };
 

@@ -252,19 +252,21 @@ int rdata_matrix_load(const char *path, struct rdata_matrix *m, struct err *e)
 
 static void verdict_fill(const cJSON *o, struct rdata_verdict *v)
 {
-    const char *keys[5] = {"criterion", "metric", "method", "condition", "comparator"};
-    char *dst[5] = {v->text, v->metric, v->method, v->cond, v->cmp};
-    size_t sz[5] = {sizeof v->text, sizeof v->metric, sizeof v->method, sizeof v->cond, sizeof v->cmp};
-    for (int k = 0; k < 5; k++) {
+    const char *keys[6] = {"criterion", "metric", "method", "condition", "comparator", "target"};
+    char *dst[6] = {v->text, v->metric, v->method, v->cond, v->cmp, v->target};
+    size_t sz[6] = {sizeof v->text, sizeof v->metric, sizeof v->method, sizeof v->cond, sizeof v->cmp,
+                    sizeof v->target};
+    for (int k = 0; k < 6; k++) {
         const cJSON *s = cJSON_GetObjectItemCaseSensitive(o, keys[k]);
         if (cJSON_IsString(s)) snprintf(dst[k], sz[k], "%s", s->valuestring);
     }
-    const char *nk[4] = {"value", "lo", "hi", "threshold"};
-    double *nd[4] = {&v->value, &v->lo, &v->hi, &v->threshold};
-    for (int k = 0; k < 4; k++) {
+    const char *nk[5] = {"value", "lo", "hi", "threshold", "measured"};
+    double *nd[5] = {&v->value, &v->lo, &v->hi, &v->threshold, &v->measured};
+    for (int k = 0; k < 5; k++) {
         const cJSON *n = cJSON_GetObjectItemCaseSensitive(o, nk[k]);
         *nd[k] = cJSON_IsNumber(n) ? n->valuedouble : NAN;
     }
+    if (isnan(v->measured)) v->measured = v->value;
     v->pass = cJSON_IsTrue(cJSON_GetObjectItemCaseSensitive(o, "pass"));
 }
 

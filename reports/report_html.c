@@ -100,7 +100,7 @@ static void html_verdicts(FILE *f, const struct report_doc *d)
     size_t pass = 0;
     for (size_t k = 0; k < s->n_verdicts; k++) pass += (size_t)s->verdicts[k].pass;
     fprintf(f, "<p>%zu of %zu criteria passed.</p>\n<table><tr><th>criterion</th><th>method</th>"
-               "<th>condition</th><th>value [interval]</th><th>threshold</th><th>verdict</th></tr>\n",
+               "<th>condition</th><th>value [interval]</th><th>judged</th><th>threshold</th><th>verdict</th></tr>\n",
             pass, s->n_verdicts);
     for (size_t k = 0; k < s->n_verdicts; k++) {
         const struct rdata_verdict *v = &s->verdicts[k];
@@ -108,6 +108,8 @@ static void html_verdicts(FILE *f, const struct report_doc *d)
         fputs("</td><td>", f); esc_html(f, v->method);
         fputs("</td><td>", f); esc_html(f, v->cond);
         fprintf(f, "</td><td>%.3f [%.3f, %.3f]</td><td>", v->value, v->lo, v->hi);
+        esc_html(f, v->target[0] ? v->target : "value");
+        fprintf(f, " %.3f</td><td>", v->measured);
         esc_html(f, v->cmp);
         fprintf(f, " %.3f</td><td class=\"%s\">%s</td></tr>\n", v->threshold, v->pass ? "pass" : "fail",
                 v->pass ? "pass" : "FAIL");

@@ -83,13 +83,15 @@ static void md_verdicts(FILE *f, const struct report_doc *d)
     size_t pass = 0;
     for (size_t k = 0; k < s->n_verdicts; k++) pass += (size_t)s->verdicts[k].pass;
     fprintf(f, "%zu of %zu criteria passed.\n\n| criterion | method | condition | value [interval] | "
-               "threshold | verdict |\n|---|---|---|---|---|---|\n", pass, s->n_verdicts);
+               "judged | threshold | verdict |\n|---|---|---|---|---|---|---|\n", pass, s->n_verdicts);
     for (size_t k = 0; k < s->n_verdicts; k++) {
         const struct rdata_verdict *v = &s->verdicts[k];
         fputs("| ", f); esc_md(f, v->text);
         fputs(" | ", f); esc_md(f, v->method);
         fputs(" | ", f); esc_md(f, v->cond);
         fprintf(f, " | %.3f [%.3f, %.3f] | ", v->value, v->lo, v->hi);
+        esc_md(f, v->target[0] ? v->target : "value");
+        fprintf(f, " %.3f | ", v->measured);
         esc_md(f, v->cmp);
         fprintf(f, " %.3f | **%s** |\n", v->threshold, v->pass ? "pass" : "FAIL");
     }

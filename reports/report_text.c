@@ -116,12 +116,12 @@ static void find_criterion(struct report_doc *d)
     size_t best = 0;
     double bm = INFINITY;
     for (size_t k = 0; k < s->n_verdicts; k++) {
-        double m = fabs(s->verdicts[k].value - s->verdicts[k].threshold);
+        double m = fabs(s->verdicts[k].measured - s->verdicts[k].threshold);
         if (m < bm) { bm = m; best = k; }
     }
     const struct rdata_verdict *v = &s->verdicts[best];
-    add(d, "Criterion \"%s\" is nearest its threshold: %.3f %s %.3f (margin %.3f), %s.", v->text, v->value,
-        v->cmp, v->threshold, bm, v->pass ? "passed" : "failed");
+    add(d, "Criterion \"%s\" is nearest its threshold: measured %.3f %s %.3f (margin %.3f), %s.", v->text,
+        v->measured, v->cmp, v->threshold, bm, v->pass ? "passed" : "failed");
 }
 
 void report_findings(struct report_doc *d)

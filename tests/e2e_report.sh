@@ -35,7 +35,7 @@ print(1 if want in texts else 0)
 EOF
 
 # --- a sweep with two ordinary methods ---------------------------------------
-$PY "$FIX" "$T/sweep" --seeds 2
+$PY "$FIX" "$T/sweep" --seeds 2 --verdicts
 "$REVISIT_BIN" report "$T/sweep" --quiet 2>"$T/err"; rc=$?
 expect "[ $rc -eq 0 ]" "report on a sweep exits 0"
 R="$T/sweep/report"
@@ -54,6 +54,9 @@ expect_in "$md" "Perturbation seeds: 1, 2" "reproducibility lists the seeds"
 expect_in "$md" "revisit report $T/sweep --quiet" "reproducibility holds the exact report command"
 expect_in "$md" "is hurt most by condition sector-180" "a finding names the condition that hurts most"
 expect_in "$md" "sd " "tables show the spread over two seeds"
+expect_in "$md" "1 of 2 criteria passed." "the verdicts of verdicts.json are counted"
+expect_in "$md" "| **FAIL** |" "a failed criterion is marked in the verdict table"
+expect_in "$md" "is nearest its threshold: measured" "a finding names the criterion nearest its threshold"
 expect_in "$md" "![" "report.md embeds plot images"
 n=$(ls "$R"/plots/*.gp | wc -l)
 expect "[ $n -eq 13 ]" "13 plot scripts: 2 degradation, 5 PR, 2 x (top view, distances, matrix) (got $n)"
@@ -69,7 +72,7 @@ expect_in "$(head -n 1 "$R/scalars.csv")" "method,condition,chain,axis,axis_valu
 expect "[ \$? -eq 0 ] && [ -s $R/plots/pr-0.png ]" "a written script redraws its plot when run by hand"
 
 # --- hostile method names ----------------------------------------------------
-$PY "$FIX" "$T/evil" --method "$EVIL_GP" --method "$EVIL_HTML"
+$PY "$FIX" "$T/evil" --method "$EVIL_GP" --method "$EVIL_HTML" --conditions 1
 (cd "$T" && "$REVISIT_BIN" report evil --out "$T/evil-out" --quiet); rc=$?
 expect "[ $rc -eq 0 ]" "report with quotes, backticks and system() in a method name exits 0"
 left=$(find "$T" -name 'PWNED*' | wc -l)
