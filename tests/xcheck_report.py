@@ -1,0 +1,155 @@
+#!/usr/bin/python3
+"""xcheck_report.py: the numbers behind the report's plots and tables,
+recomputed with outside references on a hand-made results folder:
+
+- revisits and true pairs: scipy.spatial.cKDTree.query_ball_point (SciPy
+  reference, scipy.spatial.cKDTree), r = r_pos, with the loop exclusion;
+- accepted correct / wrong / missed at the F1max threshold: the definitions
+  of design.md "Evaluation protocol" applied to those revisits;
+- top-1 distance histograms: numpy.histogram with 40 equal bins over the
+  range of top-1 distances (NumPy reference, numpy.histogram);
+- the scalar table: numpy.mean and numpy.std(ddof=1) over seeds.
+"""
+import csv
+import json
+import os
+import shutil
+import subprocess
+import sys
+import tempfile
+
+import numpy as np
+from scipy.spatial import cKDTree
+
+ROOT = os.environ["REVISIT_ROOT"]
+BIN = os.environ["REVISIT_BIN"]
+passed = failed = 0
+
+
+def check(ok, desc):
+    global passed, failed
+    if ok:
+        passed += 1
+    else:
+        failed += 1
+        print("FAIL", desc)
+
+
+def load_block(path, block=0):
+    """Rows of one gnuplot data block (blocks apart by two blank lines)."""
+    rows, b, blank = [], 0, 0
+    for line in open(path):
+        s = line.strip()
+        if not s:
+            blank += 1
+            if blank == 2:
+                b += 1
+            continue
+        blank = 0
+        if s.startswith("#"):
+            continue
+        if b == block:
+            rows.append([float(v) for v in s.split()])
+    return rows
+
+
+def main():
+    tmp = tempfile.mkdtemp()
+    sweep = os.path.join(tmp, "sweep")
+    subprocess.run([sys.executable, os.path.join(ROOT, "reports/fixture.py"), sweep, "--seeds", "3",
+                    "--conditions", "2"], check=True)
+    subprocess.run([BIN, "report", sweep, "--quiet"], check=True)
+    cell = os.path.join(sweep, "cells", "m0-c0-s1")
+    plots = os.path.join(sweep, "report", "plots")
+    res = json.load(open(os.path.join(cell, "result.json")))
+    pr = res["protocol"]
+    r_pos, excl = pr["r_pos_m"], pr["exclusion_s"]
+    tau = res["metrics"]["f1max"]["threshold"]
+
+    P = {}
+    for row in csv.DictReader(open(os.path.join(cell, "poses.csv"))):
+        P[int(row["index"])] = (float(row["t"]), float(row["x"]), float(row["y"]), float(row["z"]))
+    idx = np.array(sorted(P))
+    xyz = np.array([P[i][1:] for i in idx])
+    t = np.array([P[i][0] for i in idx])
+    tree = cKDTree(xyz)
+
+    def true_cands(i):
+        return [int(idx[j]) for j in tree.query_ball_point(xyz[i], r_pos) if t[j] <= t[i] - excl]
+
+    top = {}
+    for line in open(os.path.join(cell, "queries.csv")):
+        if line.startswith("#") or line.startswith("query"):
+            continue
+        f = line.strip().split(",")
+        top[int(f[0])] = (int(f[1]), float(f[2])) if len(f) >= 3 and f[1] else None
+
+    want = {"correct": set(), "wrong": set(), "missed": set()}
+    pos = {int(i): k for k, i in enumerate(idx)}
+    for q, c in top.items():
+        rev = bool(true_cands(pos[q]))
+        acc = c is not None and c[1] <= tau
+        d = np.linalg.norm(xyz[pos[q]] - xyz[pos[c[0]]]) if c else None
+        if acc and d <= r_pos:
+            want["correct"].add(q)
+        elif acc and d > pr["r_neg_m"]:
+            want["wrong"].add(q)
+        elif not acc and rev:
+            want["missed"].add(q)
+    for layer, col in (("correct", 2), ("wrong", 4), ("missed", 2)):
+        got = set(int(r[col]) for r in load_block(os.path.join(plots, "trajectory-0-%s.dat" % layer)))
+        check(got == want[layer], "top view: %s queries match the scipy ground truth (%d vs %d)"
+              % (layer, len(got), len(want[layer])))
+    check(len(want["correct"]) > 10 and len(want["wrong"]) > 5 and len(want["missed"]) > 5,
+          "the fixture exercises every outcome")
+    wrong = load_block(os.path.join(plots, "trajectory-0-wrong.dat"))
+    ok = all(abs(r[0] + r[2] - xyz[pos[top[int(r[4])][0]]][0]) < 1e-6 for r in wrong)
+    check(ok, "each wrong-match segment ends at the wrongly matched place")
+
+    # Histograms of top-1 distances (numpy.histogram, 40 bins, last bin closed).
+    d1 = np.array([c[1] for c in top.values() if c])
+    pd = np.array([np.linalg.norm(xyz[pos[q]] - xyz[pos[c[0]]]) for q, c in top.items() if c])
+    rng = (d1.min(), d1.max())
+    hc, _ = np.histogram(d1[pd <= r_pos], bins=40, range=rng)
+    hw, _ = np.histogram(d1[pd > r_pos], bins=40, range=rng)
+    h = np.array(load_block(os.path.join(plots, "distances-0.dat")))
+    check(h.shape == (40, 4), "the distance histogram has 40 bins")
+    check(np.array_equal(h[:, 2].astype(int), hc), "correct top-1 counts equal numpy.histogram")
+    check(np.array_equal(h[:, 3].astype(int), hw), "wrong top-1 counts equal numpy.histogram")
+    check(abs(h[0, 0] - rng[0]) < 1e-9 and abs(h[-1, 1] - rng[1]) < 1e-6, "bins span the top-1 distance range")
+    gp = open(os.path.join(plots, "distances-0.gp")).read()
+    check(("from %.9g," % tau) in gp, "the F1max threshold of result.json is marked")
+
+    # Matrix truth rings against the k-d tree.
+    rows = [ln for ln in open(os.path.join(cell, "matrix.csv"))]
+    ri = [int(v) for v in rows[0].strip().split(",")[1:]]
+    ci = [int(v) for v in rows[1].strip().split(",")[1:]]
+    want_pairs = set()
+    for r, qi in enumerate(ri):
+        tc = set(true_cands(pos[qi]))
+        for c, mj in enumerate(ci):
+            if mj in tc:
+                want_pairs.add((c, r))
+    got_pairs = set((int(a), int(b)) for a, b in load_block(os.path.join(plots, "matrix-0.dat"), 1))
+    check(got_pairs == want_pairs and want_pairs, "matrix: true-revisit marks equal the scipy pairs (%d)" % len(want_pairs))
+
+    # Table: mean and sample standard deviation over three seeds.
+    rows = list(csv.DictReader(open(os.path.join(sweep, "report", "scalars.csv"))))
+    for m in ("f1max", "r100p", "ap"):
+        for cond in ("none", "sector-30"):
+            vals = []
+            for s in (1, 2, 3):
+                ci_ = 0 if cond == "none" else 1
+                r = json.load(open(os.path.join(sweep, "cells", "m0-c%d-s%d" % (ci_, s), "result.json")))
+                vals.append(r["metrics"][m]["value"])
+            row = [r for r in rows if r["metric"] == m and r["condition"] == cond and r["method"].startswith("ring-key")][0]
+            check(abs(float(row["mean"]) - np.mean(vals)) < 1e-9, "scalars.csv mean of %s on %s equals numpy.mean" % (m, cond))
+            check(abs(float(row["sd"]) - np.std(vals, ddof=1)) < 1e-9, "scalars.csv sd of %s on %s equals numpy.std(ddof=1)" % (m, cond))
+            check(row["seeds"] == "3", "three seeds counted for %s on %s" % (m, cond))
+    shutil.rmtree(tmp, ignore_errors=True)
+    print("%d passed, %d failed" % (passed, failed))
+    return 1 if failed else 0
+
+
+if __name__ == "__main__":
+    sys.exit(main())
