@@ -4,7 +4,8 @@
  * Two sets of scans take part: the map (the candidates) and the queries.
  * In loop mode they are one recording (pass query = NULL); candidate j of
  * query i must satisfy j < i and, with a time exclusion, t_j <= t_i - excl_s,
- * or with an index window (protocol.exclusion_scans = N >= 0) j <= i - N.
+ * or with an index window (protocol.exclusion_scans = N >= 0) j <= i - N
+ * (j < i holds in both, so N = 0 behaves as N = 1).
  * In reloc mode every map scan is a candidate of every query.
  *
  * d(i, j) is the distance between the sensor positions, 3D or planar (x, y)

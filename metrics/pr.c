@@ -70,6 +70,7 @@ static int pr_row(const struct gt *g, const struct pr_lists *l, size_t i,
                            i, d, prev);
         prev = d;
         if (!gt_is_candidate(g, i, (size_t)j)) { (*excluded)++; continue; }
+        if (rank >= g->p.top_k) continue;   /* checked, but beyond the kept top-K */
         enum gt_class c = gt_pair(g, i, (size_t)j);
         if (++rank == 1) { o->d1 = d; o->cls = (unsigned char)c; }
         if (c == GT_POS && !o->first_pos) o->first_pos = rank;

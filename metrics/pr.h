@@ -83,7 +83,8 @@ struct pr_curve {
 };
 
 /* Build outcomes from retrieval lists.  Candidates inside the loop exclusion
- * window are dropped and counted in n_excluded.  Returns 0, or -1 with e set
+ * window are dropped and counted in n_excluded; only the first protocol
+ * top_k remaining candidates are ranked (the rest are still checked).  Returns 0, or -1 with e set
  * and *out untouched: row count differs from the ground truth; "query Q:
  * candidate J is out of range", "query Q lists itself", "query Q lists scan
  * J, a later scan" (loop mode), a non-finite distance, distances not in

@@ -203,6 +203,17 @@ static void lists_case(void)
         CHECK(s->n == 5 && s->o[4].d1 == INFINITY, "queries without a row are never accepted");
         pr_set_free(s);
     }
+    /* top_k 1: query 3's correct candidate at rank 2 no longer counts */
+    struct gt *g1 = NULL;
+    p.top_k = 1;
+    if (gt_build(&p, &map, NULL, NULL, 0, &g1, &e) == 0 && pr_set_build(g1, &l, &s, &e) == 0) {
+        CHECK(s->o[0].query == 3 && s->o[0].first_pos == 0 && s->o[0].d1 == 0.2,
+              "only the protocol's top-K candidates are ranked");
+        pr_set_free(s);
+    } else {
+        CHECK(0, "top_k 1 case builds");
+    }
+    gt_free(g1);
     struct { long idx; double d; const char *frag; } bad[] = {
         {3, 0.1, "query 3 lists itself"},
         {4, 0.1, "query 3 lists scan 4, a later scan"},
