@@ -71,6 +71,13 @@ printf '0,0,0.2\n1,2,0.3,1,0.4\n2,1,0.5\n' > r.csv
 out=$("$REVISIT_BIN" metrics --results r.csv --poses map.csv --query-poses qry.csv --bootstrap 0 2>&1)
 expect_in "$out" "queries 3, revisits 2" "reloc mode from two pose files"
 expect_in "$out" "f1max               0.6667" "reloc scores the same case alike"
+# a recording as the pose source (six one-point scans indexed with revisit index)
+mkdir -p rec
+for i in 0 1 2 3 4 5; do printf '\x00\x00\x80\x3f\x00\x00\x00\x00\x00\x00\x00\x00\x00\x00\x00\x00' > rec/00000$i.bin; done
+cp poses.csv rec/poses.csv
+"$REVISIT_BIN" index rec --poses rec/poses.csv --channels 1 --quiet > /dev/null 2>&1
+out=$("$REVISIT_BIN" metrics --results q.csv --rec rec --bootstrap 0 2>&1)
+expect_in "$out" "f1max               0.6667" "a recording's poses give the same scores"
 # bad input, each message naming file and line
 bad() {  # content, fragment, description
   printf "$1" > bad.csv
