@@ -8,8 +8,8 @@
 
 #include "harness/pool.h"
 
-#define RETR_BQ 256    /* queries per block */
-#define RETR_BM 2048   /* map rows per block */
+#define RETR_BQ 1024   /* queries per block */
+#define RETR_BM 4096   /* map rows per block */
 
 /* A bounded max-heap of (score, index): the worst kept candidate on top. */
 struct retr_heap {
@@ -137,25 +137,50 @@ static void retr_norms(const struct retrieval_mat *m, enum rv_distance kind, flo
     }
 }
 
-/* Score one block pair and push every candidate into its query's heap. */
-static void retr_block(const struct retrieval_mat *map, const struct retrieval_mat *q,
-                       enum rv_distance kind, const struct retrieval_rule *rule,
-                       struct retr_dense *d, size_t q0, size_t nq, size_t m0, size_t nm)
+/* One block pair being scored: pool tasks take RETR_ROWS query rows each. */
+#define RETR_ROWS 32
+struct retr_job {
+    const struct retrieval_mat *map, *q;
+    enum rv_distance kind;
+    const struct retrieval_rule *rule;
+    struct retr_dense *d;
+    size_t q0, nq, m0, nm;
+};
+
+/* Push every candidate score of rows [a0, a1) of the block into its heap. */
+static int retr_rows(void *arg, size_t task, int worker, struct err *e)
 {
-    cblas_sgemm(CblasRowMajor, CblasNoTrans, CblasTrans, (int)nq, (int)nm, (int)q->dim, 1.0f,
-                q->v + q0 * q->dim, (int)q->dim, map->v + m0 * map->dim, (int)map->dim, 0.0f,
-                d->blk, (int)nm);
-    for (size_t a = 0; a < nq; a++) {
-        size_t i = q0 + a;
-        const float *row = d->blk + a * nm;
-        for (size_t b = 0; b < nm; b++) {
-            size_t j = m0 + b;
-            if (!retrieval_is_candidate(rule, i, j)) continue;
-            double s = kind == RV_DIST_COSINE ? 1.0 - (double)row[b] * d->qn[i] * d->mn[j]
-                                              : (double)d->qn[i] + d->mn[j] - 2.0 * row[b];
-            retr_push(&d->h[i], s, (int32_t)j);
+    (void)worker;
+    (void)e;
+    const struct retr_job *jb = arg;
+    struct retr_dense *d = jb->d;
+    size_t a1 = (task + 1) * RETR_ROWS < jb->nq ? (task + 1) * RETR_ROWS : jb->nq;
+    for (size_t a = task * RETR_ROWS; a < a1; a++) {
+        size_t i = jb->q0 + a, m0 = jb->m0;
+        const float *row = d->blk + a * jb->nm;
+        struct retr_heap *h = &d->h[i];
+        /* loop candidates all lie below i; reloc takes every map row */
+        size_t bend = jb->rule->loop && i < m0 + jb->nm ? (i > m0 ? i - m0 : 0) : jb->nm;
+        float qn = d->qn[i];
+        for (size_t b = 0; b < bend; b++) {
+            float sc = jb->kind == RV_DIST_COSINE ? 1.0f - row[b] * qn * d->mn[m0 + b]
+                                                  : qn + d->mn[m0 + b] - 2.0f * row[b];
+            if (h->n == h->cap && (double)sc > h->s[0]) continue;  /* fast reject */
+            if (jb->rule->loop && !retrieval_is_candidate(jb->rule, i, m0 + b)) continue;
+            retr_push(h, (double)sc, (int32_t)(m0 + b));
         }
     }
+    return 0;
+}
+
+/* Score one block pair with one sgemm, then feed the heaps on every core. */
+static int retr_block(struct retr_job *jb, struct err *e)
+{
+    const struct retrieval_mat *q = jb->q, *map = jb->map;
+    cblas_sgemm(CblasRowMajor, CblasNoTrans, CblasTrans, (int)jb->nq, (int)jb->nm, (int)q->dim, 1.0f,
+                q->v + jb->q0 * q->dim, (int)q->dim, map->v + jb->m0 * map->dim, (int)map->dim, 0.0f,
+                jb->d->blk, (int)jb->nm);
+    return pool_run((jb->nq + RETR_ROWS - 1) / RETR_ROWS, 0, retr_rows, jb, e);
 }
 
 static int retr_cmp_pair(const void *a, const void *b)
@@ -206,7 +231,7 @@ int retrieval_dense(const struct retrieval_mat *map, const struct retrieval_mat 
                     struct retrieval_out *out, struct err *e)
 {
     if (retr_check(map, q, rule, k, e) || retr_out_alloc(out, q->n, k, e)) return -1;
-    int cap = 2 * k + 8;
+    int cap = k + k / 4 + 8;
     struct retr_dense d = {0};
     d.h = calloc(q->n ? q->n : 1, sizeof *d.h);
     d.hs = malloc((q->n ? q->n : 1) * (size_t)cap * sizeof *d.hs);
@@ -230,7 +255,12 @@ int retrieval_dense(const struct retrieval_mat *map, const struct retrieval_mat 
         size_t mend = rule->loop ? q0 + nq : map->n;
         for (size_t m0 = 0; m0 < mend; m0 += RETR_BM) {
             size_t nm = mend - m0 < RETR_BM ? mend - m0 : RETR_BM;
-            retr_block(map, q, kind, rule, &d, q0, nq, m0, nm);
+            struct retr_job jb = {map, q, kind, rule, &d, q0, nq, m0, nm};
+            if (retr_block(&jb, e)) {
+                retr_dense_free(&d);
+                retrieval_out_free(out);
+                return -1;
+            }
         }
     }
     for (size_t i = 0; i < q->n; i++) retr_finish(map, q, kind, &d.h[i], i, d.pair, out);

@@ -8,7 +8,7 @@
  * map rows with one OpenBLAS sgemm per block pair and feeds each score into
  * a bounded max-heap per query, so memory is O(block^2 + n_query * K), never
  * n_query x n_map: a map of 100,000 scans needs no N x N matrix.  The heap
- * keeps 2K + 8 candidates by the float score; their distances are then
+ * keeps K + K/4 + 8 candidates by the float score; their distances are then
  * recomputed in double and the best K kept, so reported distances carry no
  * cancellation error from |q|^2 + |m|^2 - 2 q.m.
  *
