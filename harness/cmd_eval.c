@@ -67,7 +67,7 @@ static void eval_print(const struct eval_spec *s, const struct eval_summary *m)
     printf("queries    %zu, revisits %zu\n", m->queries, m->revisits);
     printf("F1max      %.4f\nR@100P     %.4f\nEP         %.4f\nAP         %.4f\nrecall@1   %.4f\n", m->f1max,
            m->r100p, m->ep, m->ap, m->recall1);
-    printf("time       describe %.2f s (%zu scans described, %zu sets from the cache), retrieval %.2f s, "
+    printf("time       describe %.2f s (%zu scans described, descriptor sets from the cache: %zu), retrieval %.2f s, "
            "metrics %.2f s\n", m->describe_s, m->described, m->cache_hits, m->retrieval_s, m->metrics_s);
     if (m->cache_rejected) printf("cache      %zu damaged or stale file(s) rebuilt\n", m->cache_rejected);
     printf("results    %s/result.json (intervals there)\n", s->out_dir);
