@@ -26,14 +26,18 @@
 static const char usage[] =
     "usage: revisit metrics --results FILE [--poses FILE | --rec REC]\n"
     "                       [--query-poses FILE | --query-rec REC] [protocol options]\n"
-    "                       [--only FILE] [--bootstrap N] [--seed S] [--json OUT]\n\n"
+    "                       [--only FILE] [--against FILE] [--bootstrap N] [--seed S]\n"
+    "                       [--json OUT]\n\n"
     "Score retrieval results made by any program.  FILE is a per-query results CSV\n"
     "(lines 'query,cand,dist,cand,dist,...', best first; '#' comments; see\n"
     "DEVELOPERS.md \"Results folder\").  Ground truth comes from the poses: a pose\n"
     "file (--poses) or a recording (--rec) for the map, and in reloc mode a second\n"
     "one for the queries.  Without either, the poses.csv beside FILE (as a results\n"
     "folder holds it: set,index,t,x,y,z) is used.  Prints every scalar with its 95%\n"
-    "percentile-bootstrap interval; --json writes them with the exact curve.\n\n";
+    "percentile-bootstrap interval; --json writes them with the exact curve.\n"
+    "--against scores a second results file on the same queries and gives each\n"
+    "difference with a paired-bootstrap interval and the share of resamples in\n"
+    "which the first is better.\n\n";
 
 struct mt_set {
     double *xyz, *t;
@@ -41,7 +45,7 @@ struct mt_set {
 };
 
 struct mt_opts {
-    const char *results, *poses, *rec, *qposes, *qrec, *only, *json;
+    const char *results, *poses, *rec, *qposes, *qrec, *only, *json, *against;
     long bootstrap, jobs;
     unsigned long long seed;
     int quiet;
@@ -190,6 +194,13 @@ struct mt_run {
     struct pr_set *set;
     struct pr_curve *curve;
     struct boot_result br;
+    /* --against: a second results file on the same queries */
+    struct queries_csv csv2;
+    size_t *off2;
+    struct pr_cand *cand2;
+    struct pr_set *set2;
+    struct pr_scalars point2;
+    struct boot_paired bp;
 };
 
 static void mt_free(struct mt_run *r)
@@ -203,6 +214,10 @@ static void mt_free(struct mt_run *r)
     free(r->cand);
     pr_set_free(r->set);
     pr_curve_free(r->curve);
+    queries_csv_free(&r->csv2);
+    free(r->off2);
+    free(r->cand2);
+    pr_set_free(r->set2);
 }
 
 static int mt_poses(struct mt_run *r, struct err *e)
@@ -261,6 +276,58 @@ static int mt_score(struct mt_run *r, struct err *e)
     return rc;
 }
 
+/* Score --against on the same ground truth; paired bootstrap of the difference. */
+static int mt_against(struct mt_run *r, struct err *e)
+{
+    if (queries_csv_read(r->o.against, &r->csv2, e) ||
+        queries_csv_lists(&r->csv2, r->g, &r->off2, &r->cand2, e))
+        return -1;
+    struct pr_lists l = {r->g->n_query, r->off2, r->cand2};
+    if (pr_set_build(r->g, &l, &r->set2, e)) return err_wrap(e, "%s", r->o.against);
+    pr_scalars_compute(r->set2, NULL, &r->point2);
+    if (r->o.bootstrap <= 0) {
+        for (int m = 0; m < PR_N_METRICS; m++) r->bp.diff[m] = r->br.point.v[m] - r->point2.v[m];
+        return 0;
+    }
+    return boot_paired_diff(r->set, r->set2, (int)r->o.bootstrap, r->o.seed, 0.95,
+                            pool_threads((int)r->o.jobs), &r->bp, e);
+}
+
+static void mt_print_against(const struct mt_run *r)
+{
+    int ci = r->o.bootstrap > 0;
+    printf("\nagainst %s (difference = results - against, paired over the same queries)\n", r->o.against);
+    printf("%-16s %9s %9s%s\n", "metric", "against", "diff", ci ? "  95% interval of diff  first better" : "");
+    for (int m = 0; m < PR_N_METRICS; m++) {
+        printf("%-16s %9.4f %+9.4f", pr_metric_name((enum pr_metric)m), r->point2.v[m], r->bp.diff[m]);
+        if (ci) printf("  [%+8.4f, %+8.4f]  %6.1f%%", r->bp.lo[m], r->bp.hi[m], 100 * r->bp.share_better[m]);
+        printf("\n");
+    }
+}
+
+static cJSON *mt_against_json(const struct mt_run *r)
+{
+    cJSON *o = cJSON_CreateObject(), *ms = NULL;
+    cJSON_AddStringToObject(o, "results", r->o.against);
+    ms = cJSON_AddObjectToObject(o, "metrics");
+    for (int m = 0; m < PR_N_METRICS; m++) {
+        cJSON *v = cJSON_AddObjectToObject(ms, pr_metric_name((enum pr_metric)m));
+        int ci = r->o.bootstrap > 0;
+        cJSON_AddNumberToObject(v, "value", r->point2.v[m]);
+        cJSON_AddNumberToObject(v, "diff", r->bp.diff[m]);
+        if (ci) {
+            cJSON_AddNumberToObject(v, "diff_lo", r->bp.lo[m]);
+            cJSON_AddNumberToObject(v, "diff_hi", r->bp.hi[m]);
+            cJSON_AddNumberToObject(v, "share_better", r->bp.share_better[m]);
+        } else {
+            cJSON_AddNullToObject(v, "diff_lo");
+            cJSON_AddNullToObject(v, "diff_hi");
+            cJSON_AddNullToObject(v, "share_better");
+        }
+    }
+    return o;
+}
+
 static void mt_print(const struct mt_run *r)
 {
     const struct boot_result *b = &r->br;
@@ -316,6 +383,7 @@ static int mt_json(const struct mt_run *r, int argc, char **argv, struct err *e)
     cJSON_AddNumberToObject(root, "excluded_candidates", (double)r->set->n_excluded);
     int rc = result_metrics_add(root, &r->br.point, r->o.bootstrap > 0 ? &r->br : NULL, r->curve,
                                 r->set->n, r->g->n_revisits, e);
+    if (!rc && r->set2) cJSON_AddItemToObject(root, "against", mt_against_json(r));
     cJSON_AddStringToObject(root, "status", "ok");
     char *txt = rc ? NULL : cJSON_Print(root);
     if (!rc && !txt) rc = err_set(e, "out of memory printing %s", r->o.json);
@@ -346,6 +414,7 @@ int cmd_metrics(int argc, char **argv)
         {"--query-rec", OPT_STR, &r.o.qrec, "REC", "reloc: recording of the queries"},
         OPT_PROTOCOL_ROWS(op),
         {"--only", OPT_STR, &r.o.only, "FILE", "score only the query indices listed (one per line)"},
+        {"--against", OPT_STR, &r.o.against, "FILE", "a second results CSV on the same queries: paired differences"},
         {"--bootstrap", OPT_INT, &r.o.bootstrap, "N", "bootstrap resamples for the intervals (default 1000; 0 = none)"},
         {"--seed", OPT_U64, &r.o.seed, "S", "bootstrap seed (default 1)"},
         {"--jobs", OPT_INT, &r.o.jobs, "N", "threads for the bootstrap (default: online cores)"},
@@ -367,8 +436,9 @@ int cmd_metrics(int argc, char **argv)
                cmd_report(&e);
     if (!op.mode && (r.o.qposes || r.o.qrec)) op.mode = "reloc";
     int rc = opt_protocol_finish(&op, "metrics", &r.p, &e) || mt_poses(&r, &e) || mt_score(&r, &e) ||
-             (r.o.json && mt_json(&r, argc, argv, &e));
+             (r.o.against && mt_against(&r, &e)) || (r.o.json && mt_json(&r, argc, argv, &e));
     if (!rc) mt_print(&r);
+    if (!rc && r.o.against) mt_print_against(&r);
     mt_free(&r);
     return rc ? cmd_report(&e) : CMD_OK;
 }

@@ -53,6 +53,17 @@ EOF
 expect '[ -n "$py" ] && ! echo "$py" | grep -q FAIL' "result JSON as documented ($(echo "$py" | grep FAIL | head -1))"
 out=$("$REVISIT_BIN" metrics --results q.csv --poses poses.csv --counting lenient --bootstrap 0 2>&1)
 expect_in "$out" "ap                  0.7500" "lenient AP 3/4"
+# --against: a second method on the same queries.  q3 -> 1 (wrong, 0.2) then
+# 0; q4 -> 1 (right, 0.3); q5 -> 1 (wrong).  Curve: 0.2 TP 0 FP 1; 0.3 TP 1
+# FP 1 (P 1/2, R 1/2); 0.5 TP 1 FP 2.  F1max 1/2, AP 1/4, R@100P 0.
+printf '3,1,0.2,0,0.3\n4,1,0.3\n5,1,0.5\n' > q2.csv
+out=$("$REVISIT_BIN" metrics --results q.csv --poses poses.csv --against q2.csv --bootstrap 100 --json m2.json --quiet 2>&1)
+expect_in "$out" "ap                  0.2500   +0.2500" "paired difference of AP"
+expect_in "$out" "r100p               0.0000   +0.5000" "paired difference of R@100P"
+expect '$PYTHON -c "import json,sys; a=json.load(open(\"m2.json\"))[\"against\"][\"metrics\"][\"f1max\"]; sys.exit(not (a[\"value\"]==0.5 and 0<=a[\"share_better\"]<=1 and a[\"diff_lo\"]<=a[\"diff_hi\"]))"' "against object in the JSON"
+printf '3,3,0.2\n' > q3.csv
+out=$("$REVISIT_BIN" metrics --results q.csv --poses poses.csv --against q3.csv --bootstrap 0 2>&1)
+expect_in "$out" "q3.csv:1: query 3 lists itself" "--against rows are checked like --results"
 # the same results scored from a results folder (poses.csv beside them)
 mkdir -p R
 cp q.csv R/queries.csv
