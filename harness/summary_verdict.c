@@ -9,13 +9,14 @@
 #include <string.h>
 
 #include "harness/fileio.h"
+#include "harness/queries_csv.h"
 #include "metrics/boot.h"
 #include "metrics/gt.h"
 #include "metrics/pr.h"
 
 #define SV_FILE_MAX ((size_t)1 << 30)
 
-/* ---- reading a cell's poses.csv and queries.csv ------------------------- */
+/* ---- reading a cell's poses.csv ----------------------------------------- */
 
 struct sv_poses {
     size_t n[2];          /* 0: map, 1: query */
@@ -65,59 +66,6 @@ static int sv_read_poses(const char *dir, struct sv_poses *ps, struct err *e)
     return rc;
 }
 
-struct sv_lists {
-    size_t *off;
-    struct pr_cand *c;
-};
-
-/* queries.csv into rows indexed by query (queries without a row stay empty). */
-static int sv_read_queries(const char *dir, size_t n_query, struct sv_lists *out, struct err *e)
-{
-    char path[4200], *text, *save = NULL;
-    size_t len, line = 0, n = 0, cap = 1024;
-    snprintf(path, sizeof path, "%s/queries.csv", dir);
-    if (fileio_read(path, SV_FILE_MAX, &text, &len, e)) return -1;
-    size_t *cnt = calloc(n_query + 1, sizeof *cnt), *start = calloc(n_query + 1, sizeof *start);
-    struct pr_cand *tmp = malloc(cap * sizeof *tmp);
-    int rc = cnt && start && tmp ? 0 : err_at(e, path, 0, "out of memory");
-    for (char *l = rc ? NULL : strtok_r(text, "\n", &save); l && !rc; l = strtok_r(NULL, "\n", &save)) {
-        line++;
-        if (l[0] == '#' || !strncmp(l, "query", 5)) continue;
-        char *s = l, *end;
-        long q = strtol(s, &end, 10);
-        if (end == s || q < 0 || (size_t)q >= n_query || cnt[q]) { rc = err_at(e, path, (long)line, "bad or repeated query index, expected 0 to %zu once", n_query - 1); break; }
-        start[q] = n;
-        for (s = end; *s == ',' && !rc;) {
-            long j = strtol(s + 1, &end, 10);
-            if (*end != ',') { rc = err_at(e, path, (long)line, "expected candidate,distance pairs"); break; }
-            double d = strtod(end + 1, &s);
-            if (n == cap) {
-                struct pr_cand *g = realloc(tmp, 2 * cap * sizeof *g);
-                if (!g) { rc = err_at(e, path, (long)line, "out of memory"); break; }
-                tmp = g;
-                cap *= 2;
-            }
-            tmp[n].idx = j;
-            tmp[n++].dist = d;
-            cnt[q]++;
-        }
-        if (!rc && *s && *s != '\r') rc = err_at(e, path, (long)line, "unexpected text, expected numbers");
-    }
-    free(text);
-    out->off = rc ? NULL : malloc((n_query + 1) * sizeof *out->off);
-    out->c = rc ? NULL : malloc((n ? n : 1) * sizeof *out->c);
-    if (!rc && (!out->off || !out->c)) rc = err_at(e, path, 0, "out of memory");
-    for (size_t q = 0, o = 0; !rc && q < n_query; q++) {
-        out->off[q] = o;
-        memcpy(out->c + o, tmp + start[q], cnt[q] * sizeof *tmp);
-        o += cnt[q];
-        out->off[q + 1] = o;
-    }
-    free(cnt); free(start); free(tmp);
-    if (rc) { free(out->off); free(out->c); out->off = NULL; out->c = NULL; }
-    return rc;
-}
-
 /* The scored query set of one cell, rebuilt from its folder. */
 static int sv_cell_set(const struct summary *s, size_t k, struct pr_set **out, struct err *e)
 {
@@ -129,16 +77,23 @@ static int sv_cell_set(const struct summary *s, size_t k, struct pr_set **out, s
     int ms = ps.n[0] ? 0 : 1;   /* loop mode may list the one recording as either set */
     struct gt_poses map = {ps.xyz[ms], ps.t[ms], ps.n[ms]}, query = {ps.xyz[1], ps.t[1], ps.n[1]};
     struct gt *g = NULL;
-    struct sv_lists l = {NULL, NULL};
+    struct queries_csv q;
+    size_t *off = NULL;
+    struct pr_cand *c = NULL;
+    char path[4300];
+    snprintf(path, sizeof path, "%s/queries.csv", dir);
+    memset(&q, 0, sizeof q);
     int rc = gt_build(&s->p->protocol, &map, reloc ? &query : NULL, NULL, 0, &g, e);
-    if (!rc) rc = sv_read_queries(dir, g->n_query, &l, e);
+    if (!rc) rc = queries_csv_read(path, &q, e);
+    if (!rc) rc = queries_csv_lists(&q, g, &off, &c, e);
     if (!rc) {
-        struct pr_lists pl = {g->n_query, l.off, l.c};
+        struct pr_lists pl = {g->n_query, off, c};
         rc = pr_set_build(g, &pl, out, e);
     }
     if (rc) err_wrap(e, "cell %s", s->p->cells[k].id);
-    free(l.off);
-    free(l.c);
+    free(off);
+    free(c);
+    queries_csv_free(&q);
     gt_free(g);
     sv_poses_free(&ps);
     return rc;
