@@ -155,7 +155,16 @@ int boot_percentile_ticked(const struct pr_set *s, int resamples, uint64_t seed,
         free(vals); free(col);
         return boot_fail(e, "bootstrap: out of memory for %d resamples", resamples);
     }
-    if (boot_run(s, NULL, resamples, seed, threads, tick, vals, e)) { free(vals); free(col); return -1; }
+    /* Resample over sorted positions instead of query slots: the same
+     * distribution (a relabelling of the queries), but the weights are then
+     * read in order, which is much kinder to the cache. */
+    struct pr_set seq = *s;
+    seq.o = malloc((s->n ? s->n : 1) * sizeof *seq.o);
+    if (!seq.o) { free(vals); free(col); return boot_fail(e, "bootstrap: out of memory for %zu queries", s->n); }
+    for (size_t k = 0; k < s->n; k++) { seq.o[k] = s->o[k]; seq.o[k].slot = k; }
+    int rc = boot_run(&seq, NULL, resamples, seed, threads, tick, vals, e);
+    free(seq.o);
+    if (rc) { free(vals); free(col); return -1; }
     struct boot_result r;
     pr_scalars_compute(s, NULL, &r.point);
     r.resamples = resamples;

@@ -198,21 +198,24 @@ static void pr_visit_scalars(void *ctx, const struct pr_point *pt)
     a->prev_recall = r;
 }
 
-static void pr_recall_at(const struct pr_set *s, const uint32_t *w, double revisits,
-                         struct pr_scalars *out)
+/* Weighted revisit count, and recall@K for the five K, in one pass. */
+static double pr_recall_at(const struct pr_set *s, const uint32_t *w, struct pr_scalars *out)
 {
     long k1pct = lround((double)s->n_map / 100.0);
     const long ks[5] = {1, 5, 10, 25, k1pct < 1 ? 1 : k1pct};
-    double hit[5] = {0};
+    double hit[5] = {0}, revisits = 0;
     for (size_t k = 0; k < s->n; k++) {
+        if (!s->o[k].revisit) continue;
+        double wk = pr_weight(s, w, k);
+        revisits += wk;
         int fp = s->o[k].first_pos;
         if (!fp) continue;
-        double wk = pr_weight(s, w, k);
         for (int m = 0; m < 5; m++)
             if (fp <= ks[m]) hit[m] += wk;
     }
     for (int m = 0; m < 5; m++)
         out->v[PR_RECALL_1 + m] = revisits > 0 ? hit[m] / revisits : 0;
+    return revisits;
 }
 
 void pr_scalars_compute(const struct pr_set *s, const uint32_t *w, struct pr_scalars *out)
@@ -220,11 +223,10 @@ void pr_scalars_compute(const struct pr_set *s, const uint32_t *w, struct pr_sca
     memset(out, 0, sizeof *out);
     out->f1max_threshold = NAN;
     out->r100p_threshold = NAN;
-    double revisits = pr_revisits(s, w);
+    double revisits = pr_recall_at(s, w, out);
     struct pr_acc a = {out, 0, 0, 1};
     pr_walk(s, w, revisits, pr_visit_scalars, &a);
     out->v[PR_EP] = (out->v[PR_P_R0] + out->v[PR_R100P]) / 2;
-    pr_recall_at(s, w, revisits, out);
 }
 
 /* ---- curve --------------------------------------------------------------- */
