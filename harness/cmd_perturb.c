@@ -77,6 +77,7 @@ struct perturb_run {
     struct cloud *clouds;            /* one per worker */
     struct chain_scratch *scratch;   /* one per worker */
     struct chain_stats *sums;        /* one per worker */
+    size_t *dropped;                 /* one per worker: non-finite points dropped on load */
     struct progress *bar;
 };
 
@@ -87,9 +88,9 @@ static int perturb_task(void *ctx, size_t i, int worker, struct err *e)
     struct chain_stats st;
     size_t bad = 0;
     if (recording_load_scan(r->rec, i, c, &bad, e)) return -1;
+    r->dropped[worker] += bad;
     if (chain_apply(r->ch, c, r->seed, (uint32_t)i, &r->scratch[worker], &st, e))
         return err_wrap(e, "scan %zu", i);
-    st.dropped_nonfinite += bad;
     if (recording_writer_scan(r->w, i, c, e)) return -1;
     chain_stats_add(&r->sums[worker], &st);
     progress_add(r->bar, 1);
@@ -104,14 +105,15 @@ static void perturb_on_sigint(int sig)
 
 /* Run the pool over every scan; *total receives the summed stats. */
 static int perturb_scans(struct perturb_run *r, int jobs, int quiet, struct chain_stats *total,
-                         struct err *e)
+                         size_t *dropped, struct err *e)
 {
     int nw = pool_threads(jobs);
     r->clouds = calloc((size_t)nw, sizeof *r->clouds);
     r->scratch = calloc((size_t)nw, sizeof *r->scratch);
     r->sums = calloc((size_t)nw, sizeof *r->sums);
+    r->dropped = calloc((size_t)nw, sizeof *r->dropped);
     int rc = -1;
-    if (!r->clouds || !r->scratch || !r->sums) {
+    if (!r->clouds || !r->scratch || !r->sums || !r->dropped) {
         err_set(e, "out of memory for %d workers", nw);
         goto out;
     }
@@ -131,8 +133,10 @@ static int perturb_scans(struct perturb_run *r, int jobs, int quiet, struct chai
     sigaction(SIGINT, &old, NULL);
     progress_end(&bar);
     memset(total, 0, sizeof *total);
+    *dropped = 0;
     for (int k = 0; k < nw; k++) {
         chain_stats_add(total, &r->sums[k]);
+        *dropped += r->dropped[k];
         cloud_free(&r->clouds[k]);
         chain_scratch_free(&r->scratch[k]);
     }
@@ -140,17 +144,19 @@ out:
     free(r->clouds);
     free(r->scratch);
     free(r->sums);
+    free(r->dropped);
     return rc;
 }
 
-static void print_stats(const struct chain *ch, const struct chain_stats *t, size_t scans)
+static void print_stats(const struct chain *ch, const struct chain_stats *t, size_t scans,
+                        size_t dropped)
 {
     printf("stage        points in   points out   kept\n");
     for (size_t i = 0; i < t->n_stages; i++)
         printf("%-10s %11zu %12zu %6.1f%%\n", chain_stage_name(ch, i), t->in[i], t->out[i],
                t->in[i] ? 100.0 * (double)t->out[i] / (double)t->in[i] : 100.0);
-    printf("%zu scans; %zu points with a non-finite coordinate dropped before the chain\n", scans,
-           t->dropped_nonfinite);
+    printf("%zu scans; %zu points with a non-finite coordinate dropped on reading\n", scans,
+           dropped);
 }
 
 /* Output layout: --layout, else the input's (text input becomes pcd). */
@@ -180,7 +186,8 @@ static int perturb_check_out(const char *out, const struct recording *rec, struc
 }
 
 static int perturb_write(const struct perturb_opts *o, const struct chain *ch,
-                         const struct recording *rec, struct chain_stats *total, struct err *e)
+                         const struct recording *rec, struct chain_stats *total, size_t *dropped,
+                         struct err *e)
 {
     enum scan_layout layout;
     enum chain_on on;
@@ -194,8 +201,8 @@ static int perturb_write(const struct perturb_opts *o, const struct chain *ch,
     if (recording_writer_begin(&w, o->out, &rec->sensor, layout, e)) goto out;
     if (recording_writer_perturbation(&w, text, o->seed, chain_on_name(on), rec->manifest, e))
         goto out;
-    struct perturb_run r = {rec, &w, ch, o->seed, NULL, NULL, NULL, NULL};
-    if (perturb_scans(&r, (int)o->jobs, o->quiet, total, e)) goto out;
+    struct perturb_run r = {rec, &w, ch, o->seed, NULL, NULL, NULL, NULL, NULL};
+    if (perturb_scans(&r, (int)o->jobs, o->quiet, total, dropped, e)) goto out;
     if (recording_writer_poses(&w, rec->poses, rec->n, e)) goto out;
     rc = recording_writer_finish(&w, e);
 out:
@@ -253,8 +260,9 @@ int cmd_perturb(int argc, char **argv)
         return cmd_report(&e);
     }
     struct chain_stats total;
-    int rc = perturb_write(&o, ch, &rec, &total, &e);
-    if (!rc && o.stats) print_stats(ch, &total, rec.n);
+    size_t dropped = 0;
+    int rc = perturb_write(&o, ch, &rec, &total, &dropped, &e);
+    if (!rc && o.stats) print_stats(ch, &total, rec.n, dropped);
     chain_free(ch);
     recording_free(&rec);
     if (rc && pool_stop_requested()) {

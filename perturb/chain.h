@@ -102,15 +102,17 @@ void chain_scratch_free(struct chain_scratch *s);
 struct chain_stats {
     size_t n_stages;
     size_t in[CHAIN_MAX_STAGES], out[CHAIN_MAX_STAGES];
-    size_t dropped_nonfinite;   /* input points with a NaN/Inf coordinate */
 };
 
 /* Add src's counts into dst (dst zeroed by the caller first, e.g. = {0}). */
 void chain_stats_add(struct chain_stats *dst, const struct chain_stats *src);
 
-/* Apply every stage in order to in_out, in place (points with a non-finite
- * coordinate are dropped first).  stats may be NULL; when given it is
- * overwritten with this scan's counts.  0 or -1 (out of memory). */
+/* Apply every stage in order to in_out, in place.  stats may be NULL; when
+ * given it is overwritten with this scan's counts.  0 or -1 (out of memory,
+ * a point too far for the density grid).  Coordinates are expected finite
+ * (recording_load_scan drops the others); a non-finite one is still safe:
+ * it passes through a stage or is removed by it, and density refuses it
+ * with an error naming the point. */
 int chain_apply(const struct chain *ch, struct cloud *in_out, uint64_t run_seed,
                 uint32_t scan_index, struct chain_scratch *s,
                 struct chain_stats *stats, struct err *e);

@@ -119,7 +119,6 @@ void chain_stats_add(struct chain_stats *dst, const struct chain_stats *src)
         dst->in[i] += src->in[i];
         dst->out[i] += src->out[i];
     }
-    dst->dropped_nonfinite += src->dropped_nonfinite;
 }
 
 /* ---- apply -------------------------------------------------------------- */
@@ -127,11 +126,9 @@ void chain_stats_add(struct chain_stats *dst, const struct chain_stats *src)
 int chain_apply(const struct chain *ch, struct cloud *c, uint64_t run_seed, uint32_t scan_index,
                 struct chain_scratch *s, struct chain_stats *stats, struct err *e)
 {
-    size_t dropped = cloud_drop_nonfinite(c);
     if (stats) {
         memset(stats, 0, sizeof *stats);
         stats->n_stages = ch->n;
-        stats->dropped_nonfinite = dropped;
     }
     for (size_t i = 0; i < ch->n; i++) {
         const struct stage *st = &ch->st[i];

@@ -24,26 +24,6 @@ void rng_seed(struct rng *r, uint64_t run_seed, uint64_t scan, uint64_t stage)
     if (!(r->s[0] | r->s[1] | r->s[2] | r->s[3])) r->s[0] = 1;  /* all-zero state is fixed */
 }
 
-static uint64_t rotl(uint64_t x, int k)
-{
-    return (x << k) | (x >> (64 - k));
-}
-
-uint64_t rng_next(struct rng *r)
-{
-    /* xoshiro256** as published (Blackman & Vigna 2018, section 3). */
-    uint64_t *s = r->s;
-    uint64_t out = rotl(s[1] * 5, 7) * 9;
-    uint64_t t = s[1] << 17;
-    s[2] ^= s[0];
-    s[3] ^= s[1];
-    s[1] ^= s[2];
-    s[0] ^= s[3];
-    s[2] ^= t;
-    s[3] = rotl(s[3], 45);
-    return out;
-}
-
 double rng_uniform(struct rng *r)
 {
     return (double)(rng_next(r) >> 11) * 0x1.0p-53;

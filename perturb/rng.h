@@ -29,8 +29,26 @@ struct rng {
 uint64_t rng_splitmix64(uint64_t *state);
 /* Seed the stream for (run seed, scan, stage). */
 void rng_seed(struct rng *r, uint64_t run_seed, uint64_t scan, uint64_t stage);
-/* Next 64 raw bits of xoshiro256**. */
-uint64_t rng_next(struct rng *r);
+/* Next 64 raw bits of xoshiro256** as published (Blackman & Vigna 2018,
+ * section 3); inline because stages call it once per point or two. */
+static inline uint64_t rng_rotl(uint64_t x, int k)
+{
+    return (x << k) | (x >> (64 - k));
+}
+
+static inline uint64_t rng_next(struct rng *r)
+{
+    uint64_t *s = r->s;
+    uint64_t out = rng_rotl(s[1] * 5, 7) * 9;
+    uint64_t t = s[1] << 17;
+    s[2] ^= s[0];
+    s[3] ^= s[1];
+    s[1] ^= s[2];
+    s[0] ^= s[3];
+    s[2] ^= t;
+    s[3] = rng_rotl(s[3], 45);
+    return out;
+}
 /* Uniform double in [0, 1) from the top 53 bits. */
 double rng_uniform(struct rng *r);
 /* Standard normal (Box-Muller, both uniforms drawn per call). */

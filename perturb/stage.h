@@ -17,6 +17,7 @@
 #include <math.h>
 #include <stddef.h>
 #include <stdint.h>
+#include <string.h>
 
 #include "perturb/chain.h"
 #include "perturb/rng.h"
@@ -49,8 +50,40 @@ struct stage_def {
     {"draw", CHAIN_CHOICE, "", 0, 0, 1, 0, 0, "scan|recording", "scan or recording", \
      "scan: a new draw for every scan; recording: one draw for the whole recording"}
 
-/* Keep the points whose keep[k] is non-zero, in order (n entries). */
-void stage_compact(struct cloud *c, const unsigned char *keep);
+/* Keep, in order, the points p (const float *p: x y z i) for which KEEP_EXPR
+ * is true, in one pass without branches on the outcome: every point is
+ * copied to the write position, which advances only when it is kept.  The
+ * point is read before the write, and the write index never passes the read
+ * index, so the copy is safe in place.  Ring and time move with their points. */
+#define STAGE_CULL(c, KEEP_EXPR)                                               \
+    do {                                                                       \
+        float *pts_ = (c)->pts;                                                \
+        uint16_t *ring_ = (c)->ring;                                           \
+        float *time_ = (c)->time;                                              \
+        size_t n_ = (c)->n, j_ = 0;                                            \
+        if (!ring_ && !time_) {                                                \
+            for (size_t k_ = 0; k_ < n_; k_++) {                               \
+                const float *p = pts_ + 4 * k_;                                \
+                float v_[4];                                                   \
+                memcpy(v_, p, sizeof v_);                                      \
+                size_t keep_ = (KEEP_EXPR) ? 1 : 0;                            \
+                memcpy(pts_ + 4 * j_, v_, sizeof v_);                          \
+                j_ += keep_;                                                   \
+            }                                                                  \
+        } else {                                                               \
+            for (size_t k_ = 0; k_ < n_; k_++) {                               \
+                const float *p = pts_ + 4 * k_;                                \
+                float v_[4];                                                   \
+                memcpy(v_, p, sizeof v_);                                      \
+                size_t keep_ = (KEEP_EXPR) ? 1 : 0;                            \
+                memcpy(pts_ + 4 * j_, v_, sizeof v_);                          \
+                if (ring_) ring_[j_] = ring_[k_];                              \
+                if (time_) time_[j_] = time_[k_];                              \
+                j_ += keep_;                                                   \
+            }                                                                  \
+        }                                                                      \
+        (c)->n = j_;                                                           \
+    } while (0)
 
 /* The table, in --list order; NULL past the last one. */
 const struct stage_def *stage_def_at(size_t i);

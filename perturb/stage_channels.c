@@ -40,7 +40,8 @@ long stage_channels_recover(const struct cloud *c, double gap_deg, uint16_t *rin
     struct elev *ev = stage_buf(s, c->n * sizeof *ev);
     if (!ev) return -1;
     for (size_t k = 0; k < c->n; k++) {
-        ev[k].el = (float)stage_elevation_deg(c->pts + 4 * k);
+        double el = stage_elevation_deg(c->pts + 4 * k);
+        ev[k].el = isnan(el) ? INFINITY : (float)el;   /* keeps the order total */
         ev[k].idx = (uint32_t)k;
     }
     qsort(ev, c->n, sizeof *ev, elev_cmp);

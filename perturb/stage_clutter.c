@@ -139,6 +139,7 @@ static void view_mark(struct view *v, const struct rect *r, int q)
 
 static unsigned view_at(const struct view *v, const float *p)
 {
+    if (!isfinite(p[0]) || !isfinite(p[1]) || !isfinite(p[2])) return 0;
     long a = wrap((long)floor(stage_azimuth_deg(p) / v->res_az), v->naz);
     long e = (long)floor((stage_elevation_deg(p) + 90.0) / v->res);
     if (e < 0) e = 0;
@@ -217,7 +218,7 @@ static int clutter_apply(const struct stage *st, struct cloud *c, struct rng *r,
         double el = stage_elevation_deg(c->pts + 4 * k);
         if (el < el_lo) el_lo = el;
         if (el > el_hi) el_hi = el;
-        isum += c->pts[4 * k + 3];
+        if (isfinite(c->pts[4 * k + 3])) isum += c->pts[4 * k + 3];
     }
     float inten = (float)(isum / (double)c->n);
     clutter_shadow(c, &v, b);

@@ -7,30 +7,6 @@
 
 #include <string.h>
 
-void stage_compact(struct cloud *c, const unsigned char *keep)
-{
-    size_t j = 0;
-    for (size_t k = 0; k < c->n; k++)
-        if (keep[k]) cloud_move(c, j++, k);
-    c->n = j;
-}
-
-/* Compact by a predicate on the point p, evaluated inline: one pass, no mask. */
-#define CULL_LOOP(c, KEEP_EXPR)                                               \
-    do {                                                                      \
-        size_t j_ = 0;                                                        \
-        float *pts_ = (c)->pts;                                               \
-        for (size_t k_ = 0; k_ < (c)->n; k_++) {                              \
-            const float *p = pts_ + 4 * k_;                                   \
-            int keep_ = (KEEP_EXPR);                                          \
-            if (keep_) {                                                      \
-                if (j_ != k_) cloud_move((c), j_, k_);                        \
-                j_++;                                                         \
-            }                                                                 \
-        }                                                                     \
-        (c)->n = j_;                                                          \
-    } while (0)
-
 /* ---- sector -------------------------------------------------------------- */
 
 enum { SEC_WIDTH, SEC_AT, SEC_COUNT, SEC_DRAW };
@@ -110,9 +86,9 @@ static int sector_apply(const struct stage *st, struct cloud *c, struct rng *r,
     }
     if (n == 1) {
         const struct wedge w0 = w[0];
-        CULL_LOOP(c, !wedge_inside(&w0, p));
+        STAGE_CULL(c, !wedge_inside(&w0, p));
     } else {
-        CULL_LOOP(c, !wedges_inside(w, n, p));
+        STAGE_CULL(c, !wedges_inside(w, n, p));
     }
     return 0;
 }
@@ -154,7 +130,7 @@ static int range_apply(const struct stage *st, struct cloud *c, struct rng *r,
     /* Squared range in double from the float coordinates: exact enough that
      * a test with the same formula sees the same membership. */
     double lo = st->v[RANGE_MIN] * st->v[RANGE_MIN], hi = st->v[RANGE_MAX] * st->v[RANGE_MAX];
-    CULL_LOOP(c, range_keep(p, lo, hi));
+    STAGE_CULL(c, range_keep(p, lo, hi));
     return 0;
 }
 
@@ -193,7 +169,7 @@ static int fov_apply(const struct stage *st, struct cloud *c, struct rng *r,
 {
     (void)r; (void)s; (void)e;
     double lo = st->v[FOV_DOWN], hi = st->v[FOV_UP];
-    CULL_LOOP(c, fov_keep(p, lo, hi));
+    STAGE_CULL(c, fov_keep(p, lo, hi));
     return 0;
 }
 

@@ -38,7 +38,7 @@ static int voxel_key(const float *p, double leaf, uint64_t *key)
     uint64_t k = 0;
     for (int a = 0; a < 3; a++) {
         double f = floor(p[a] / leaf);
-        if (f < -DEN_HALF || f >= DEN_HALF) return -1;
+        if (!(f >= -DEN_HALF && f < DEN_HALF)) return -1;   /* also NaN */
         k = k << DEN_BITS | (uint64_t)((long)f + DEN_HALF);
     }
     *key = k;
@@ -69,7 +69,10 @@ static int density_apply(const struct stage *st, struct cloud *c, struct rng *r,
         (c->time && cloud_enable_time(t)))
         return stage_fail(e, "out of memory for voxels of %zu points", c->n);
     for (size_t k = 0; k < c->n; k++) {
-        if (voxel_key(c->pts + 4 * k, leaf, &v[k].key))
+        const float *p = c->pts + 4 * k;
+        if (!isfinite(p[0]) || !isfinite(p[1]) || !isfinite(p[2]))
+            return stage_fail(e, "point %zu has a non-finite coordinate, expected finite ones", k);
+        if (voxel_key(p, leaf, &v[k].key))
             return stage_fail(e, "point %zu at (%g, %g, %g) is beyond %ld voxels of %g m, expected "
                            "a larger leaf", k, c->pts[4 * k], c->pts[4 * k + 1], c->pts[4 * k + 2],
                            DEN_HALF, leaf);

@@ -34,17 +34,50 @@ static int dropout_check(const struct stage *st, const char **why)
     return -1;
 }
 
+#define DROP_CHUNK 256
+
+/* Points k0 .. k0+m-1 kept when u[q] >= cut, written from index *j on. */
+static void drop_chunk(struct cloud *c, size_t k0, size_t m, const uint32_t *u, uint32_t cut,
+                       size_t *j)
+{
+    float *pts = c->pts;
+    size_t w = *j;
+    const float *src = pts + 4 * k0;
+    if (!c->ring && !c->time) {
+        for (size_t q = 0; q < m; q++) {
+            float v[4];
+            memcpy(v, src + 4 * q, sizeof v);
+            memcpy(pts + 4 * w, v, sizeof v);
+            w += u[q] >= cut;
+        }
+    } else {
+        for (size_t q = 0; q < m; q++) {
+            float v[4];
+            memcpy(v, src + 4 * q, sizeof v);
+            memcpy(pts + 4 * w, v, sizeof v);
+            if (c->ring) c->ring[w] = c->ring[k0 + q];
+            if (c->time) c->time[w] = c->time[k0 + q];
+            w += u[q] >= cut;
+        }
+    }
+    *j = w;
+}
+
+/* Keep a point when its 32-bit uniform is >= p * 2^32; the uniforms come two
+ * per generator output (high half first), drawn a chunk at a time. */
 static void drop_points(struct cloud *c, double p, struct rng *r)
 {
-    /* keep when the 32-bit uniform is >= p * 2^32 */
-    uint64_t cut = (uint64_t)(p * 4294967296.0);
-    size_t j = 0, k = 0;
-    for (; k + 1 < c->n; k += 2) {
-        uint64_t u = rng_next(r);
-        if ((u >> 32) >= cut) cloud_move(c, j++, k);
-        if ((u & 0xffffffffu) >= cut) cloud_move(c, j++, k + 1);
+    uint32_t cut = (uint32_t)(p * 4294967296.0), u[DROP_CHUNK];
+    size_t j = 0;
+    for (size_t k0 = 0; k0 < c->n; k0 += DROP_CHUNK) {
+        size_t m = c->n - k0 < DROP_CHUNK ? c->n - k0 : DROP_CHUNK;
+        for (size_t q = 0; q < m; q += 2) {
+            uint64_t x = rng_next(r);
+            u[q] = (uint32_t)(x >> 32);
+            u[q + 1] = (uint32_t)x;
+        }
+        drop_chunk(c, k0, m, u, cut, &j);
     }
-    if (k < c->n && (rng_next(r) >> 32) >= cut) cloud_move(c, j++, k);
     c->n = j;
 }
 
