@@ -3,7 +3,7 @@
 # install the missing ones (apt-get update first); otherwise print the command.
 set -u
 need=(libopenblas-dev liblapacke-dev libcjson-dev pkg-config
-      python3-numpy python3-scipy python3-sklearn gnuplot-nox parallel
+      python3-numpy python3-scipy python3-sklearn gnuplot-nox parallel valgrind
       chromium)
 missing=()
 for p in "${need[@]}"; do
