@@ -25,20 +25,24 @@ static void check_fmt(char *out, size_t n, double v)
     else snprintf(out, n, "-");
 }
 
-/* One line of the table, and its failure message into msg. */
-static void check_line(FILE *f, const struct plan *p, const struct summary_verdict *v, char *msg, size_t n)
+/* One line of the table (after the criterion's heading when it changes),
+ * and the failure message into msg. */
+static void check_line(FILE *f, const struct plan *p, const struct summary_verdict *v, int heading,
+                       char *msg, size_t n)
 {
     const struct plan_criterion *r = &p->criteria[v->criterion];
-    char val[32], lo[32], hi[32], meas[32];
-    check_fmt(val, sizeof val, v->value);
+    char lo[32], hi[32], meas[32], rule[256];
     check_fmt(lo, sizeof lo, v->lo);
     check_fmt(hi, sizeof hi, v->hi);
     check_fmt(meas, sizeof meas, v->measured);
-    fprintf(f, "%-4s  %-44.44s %-26.26s %-8s %8s  [%s, %s]  %s %g\n", v->pass ? "PASS" : "FAIL", r->text,
-            p->methods[v->method].label, plan_target_name(r->target), meas, lo, hi, plan_cmp_name(r->cmp),
-            r->threshold);
-    snprintf(msg, n, "%s %s of %s on %s is %s, expected %s %g", plan_target_name(r->target), r->metric,
-             p->methods[v->method].label, p->conds[r->cond].name, meas, plan_cmp_name(r->cmp), r->threshold);
+    snprintf(rule, sizeof rule, "%s %s on %s%s%s %s %g", plan_target_name(r->target), r->metric,
+             p->conds[r->cond].name, r->baseline >= 0 ? " minus " : "",
+             r->baseline >= 0 ? p->conds[r->baseline].name : "", plan_cmp_name(r->cmp), r->threshold);
+    if (heading) fprintf(f, "criterion %zu: %s\n  rule: %s\n", v->criterion + 1, r->text, rule);
+    fprintf(f, "  %s  %-30s measured %9s  interval [%s, %s]  over %zu seed%s\n", v->pass ? "PASS" : "FAIL",
+            p->methods[v->method].label, meas, lo, hi, v->seeds, v->seeds == 1 ? "" : "s");
+    snprintf(msg, n, "%s of %s is %s, expected %s %g", rule, p->methods[v->method].label, meas,
+             plan_cmp_name(r->cmp), r->threshold);
 }
 
 static int check_junit(const char *path, const struct plan *p, const struct summary_verdict *v, size_t n,
@@ -79,12 +83,11 @@ static int check_run(const char *scen, const char *dir, const char *junit, struc
     if (!summary_judge(&s, &v, &n, e)) {
         char *msgs = calloc(n + 1, 512);
         size_t fails = 0;
-        printf("%-4s  %-44s %-26s %-8s %8s  %-18s %s\n", "", "criterion", "method", "target", "measured", "interval", "rule");
         for (size_t k = 0; msgs && k < n; k++) {
-            check_line(stdout, &p, &v[k], msgs + 512 * k, 512);
+            check_line(stdout, &p, &v[k], !k || v[k - 1].criterion != v[k].criterion, msgs + 512 * k, 512);
             fails += !v[k].pass;
         }
-        printf("\n%zu of %zu verdicts pass\n", n - fails, n);
+        printf("%zu of %zu verdicts pass (intervals: %d-resample bootstrap, 95%%)\n", n - fails, n, p.bootstrap);
         int wrc = !msgs ? err_set(e, "out of memory") : summary_write_verdicts(&s, v, n, e);
         if (!wrc && junit) wrc = check_junit(junit, &p, v, n, msgs, e);
         rc = wrc ? CMD_ERROR : fails ? CMD_FAIL : CMD_OK;
