@@ -126,7 +126,7 @@ int plot_traj(struct plot_set *ps, const char *name, const char *title, const st
     plot_head(f, name, title);
     /* Shapes as well as colours tell the outcomes apart: filled circles,
      * filled triangles with dashed segments, open squares. */
-    fputs("set size ratio -1\nset xlabel 'x (m)'\nset ylabel 'y (m)'\n", f);
+    fputs("set size ratio -1\nset xlabel 'x (m)'\nset ylabel 'y (m)'\nset offsets graph 0.03, graph 0.03, graph 0.03, graph 0.03\n", f);
     const char *sep = "plot ", *next = ", \\\n     ";
     if (p->map.n) {
         fprintf(f, "%s'%s-map.dat' using 1:2 with lines lc rgb '#9a9a9a' lw 1 title 'map path'", sep, name);

@@ -267,6 +267,11 @@ static void verdict_fill(const cJSON *o, struct rdata_verdict *v)
         *nd[k] = cJSON_IsNumber(n) ? n->valuedouble : NAN;
     }
     if (isnan(v->measured)) v->measured = v->value;
+    const cJSON *ax = cJSON_GetObjectItemCaseSensitive(o, "axis_value");
+    if (cJSON_IsNumber(ax)) {
+        size_t l = strlen(v->cond);
+        snprintf(v->cond + l, sizeof v->cond - l, " at %g", ax->valuedouble);
+    }
     v->pass = cJSON_IsTrue(cJSON_GetObjectItemCaseSensitive(o, "pass"));
 }
 

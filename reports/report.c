@@ -44,9 +44,7 @@ void report_note(struct report_doc *d, const char *fmt, ...)
 long report_ok_cell(const struct rdata_set *s, const struct rstat_table *t, size_t m, size_t c)
 {
     for (size_t i = 0; i < s->n; i++)
-        if (s->cells[i].ok && !strcmp(s->cells[i].label, t->methods[m]) &&
-            !strcmp(s->cells[i].cond, t->conds[c]))
-            return (long)i;
+        if (s->cells[i].ok && t->cell_method[i] == m && t->cell_cond[i] == c) return (long)i;
     return -1;
 }
 
@@ -152,7 +150,7 @@ static int write_scalars(const struct report_doc *d, const char *path, struct er
         for (int mk = 0; mk < RDATA_NMETRIC; mk++) {
             csv_field(a.f, t->methods[g->method]);
             fputc(',', a.f);
-            csv_field(a.f, t->conds[g->cond]);
+            csv_field(a.f, c->cond);  /* the axis value has its own column */
             fputc(',', a.f);
             csv_field(a.f, c->chain);
             fputc(',', a.f);

@@ -23,7 +23,7 @@ static void overview_fill(struct report_doc *d, const struct rdata_cell *c, cons
 {
     struct report_overview *v = &d->ov;
     v->have = 1;
-    snprintf(v->cell_id, sizeof v->cell_id, "%s", c->id);
+    snprintf(v->cell_id, sizeof v->cell_id, "%s", strcmp(c->id, ".") ? c->id : "");
     for (size_t i = 0; i < p->map.n; i++) v->map_scans += p->map.has[i];
     for (size_t i = 0; i < p->query.n; i++) v->query_scans += p->query.has[i];
     rstat_track_length(&p->map, &v->map_len_m, &v->map_dur_s);
@@ -50,7 +50,7 @@ static int matrix_plot(struct report_doc *d, struct plot_set *ps, size_t m, cons
     char name[64], title[700];
     snprintf(name, sizeof name, "matrix-%zu", m);
     snprintf(title, sizeof title, "Descriptor distances, %s, condition %s", d->table->methods[m],
-             c->cond[0] ? c->cond : "none");
+             report_cond_name(d->table, d->table->ref_cond[m]));
     int rc = plot_matrix(ps, name, title, &mx, truth, e);
     free(truth);
     rdata_matrix_free(&mx);
@@ -64,7 +64,7 @@ static int outcome_plots(struct report_doc *d, struct plot_set *ps, size_t m, co
     double tau = c->m[RDATA_F1MAX].threshold;
     if (rstat_outcomes(p, q, &c->proto, tau, &o, e)) return err_wrap(e, "%s", c->dir);
     if (!d->ov.have) overview_fill(d, c, p, &o);
-    const char *cond = c->cond[0] ? c->cond : "none";
+    const char *cond = report_cond_name(d->table, d->table->ref_cond[m]);
     char name[64], title[700];
     snprintf(name, sizeof name, "trajectory-%zu", m);
     snprintf(title, sizeof title, "Top view at the F1max threshold, %s, condition %s", d->table->methods[m], cond);
@@ -101,8 +101,11 @@ static int method_plots(struct report_doc *d, struct plot_set *ps, size_t m, str
     struct rdata_queries q;
     if (rdata_poses_load(pp, &p, e)) return -1;
     if (rdata_queries_load(qp, &q, e)) { rdata_poses_free(&p); return -1; }
-    int rc = outcome_plots(d, ps, m, c, &p, &q, e);
-    if (!rc) rc = matrix_plot(d, ps, m, c, &p, e);
+    /* Loop mode scores one recording; poses.csv may list it twice. */
+    struct rdata_poses view = p;
+    if (c->proto.mode == PROTOCOL_LOOP && p.map.n) memset(&view.query, 0, sizeof view.query);
+    int rc = outcome_plots(d, ps, m, c, &view, &q, e);
+    if (!rc) rc = matrix_plot(d, ps, m, c, &view, e);
     rdata_queries_free(&q);
     rdata_poses_free(&p);
     return rc;

@@ -72,9 +72,9 @@ static void html_overview(FILE *f, const struct report_doc *d)
         fprintf(f, "; map path %.1f m over %.1f s", v->map_len_m, v->map_dur_s);
         if (v->query_scans) fprintf(f, "; query path %.1f m over %.1f s", v->query_len_m, v->query_dur_s);
         fprintf(f, ".</li>\n<li>Revisits among %zu queries: %zu (same direction %zu, reverse %zu, crossing "
-                   "%zu), from cell ", v->queries, v->revisits, v->kinds[RSTAT_SAME], v->kinds[RSTAT_REVERSE],
+                   "%zu)", v->queries, v->revisits, v->kinds[RSTAT_SAME], v->kinds[RSTAT_REVERSE],
                 v->kinds[RSTAT_CROSSING]);
-        esc_html(f, v->cell_id);
+        if (v->cell_id[0]) { fputs(", from cell ", f); esc_html(f, v->cell_id); }
         fputs(".</li>\n", f);
     }
     html_list(f, "Methods", d->table->methods, d->table->n_methods, "none");

@@ -51,10 +51,9 @@ static void md_overview(FILE *f, const struct report_doc *d)
         if (v->query_scans) fprintf(f, ", %zu query", v->query_scans);
         fprintf(f, "; map path %.1f m over %.1f s", v->map_len_m, v->map_dur_s);
         if (v->query_scans) fprintf(f, "; query path %.1f m over %.1f s", v->query_len_m, v->query_dur_s);
-        fprintf(f, ".\n- Revisits among %zu queries: %zu (same direction %zu, reverse %zu, crossing %zu), "
-                   "from cell ", v->queries, v->revisits, v->kinds[RSTAT_SAME], v->kinds[RSTAT_REVERSE],
+        fprintf(f, ".\n- Revisits among %zu queries: %zu (same direction %zu, reverse %zu, crossing %zu)", v->queries, v->revisits, v->kinds[RSTAT_SAME], v->kinds[RSTAT_REVERSE],
                 v->kinds[RSTAT_CROSSING]);
-        esc_md(f, v->cell_id);
+        if (v->cell_id[0]) { fputs(", from cell ", f); esc_md(f, v->cell_id); }
         fputs(".\n", f);
     }
     fputs("- Methods: ", f);

@@ -37,10 +37,15 @@ struct rstat_group {
     double mean[RDATA_NMETRIC], lo[RDATA_NMETRIC], hi[RDATA_NMETRIC], sd[RDATA_NMETRIC];
 };
 
+#define RSTAT_COND_MAX 320
+
 struct rstat_table {
     size_t n_methods, n_conds, n_groups;
     const char **methods;        /* borrowed from the cells' labels */
-    const char **conds;          /* condition names ("" shows as "none") */
+    const char **conds;          /* condition names, "NAME (KEY=VALUE)" for a swept
+                                  * axis value; "" shows as "none" */
+    char (*cond_keys)[RSTAT_COND_MAX];  /* storage of conds, one per cell */
+    size_t *cell_method, *cell_cond;    /* per cell: its method and condition */
     size_t *cond_cell;           /* a cell of each condition (for chain, axis) */
     size_t *ref_cond;            /* per method: its reference condition */
     struct rstat_group *groups;  /* sorted by method, then axis value, then name */

@@ -34,7 +34,7 @@ static int cond_cmp(const void *a, const void *b)
     if (r) return r;
     if (x->has_axis && y->has_axis && x->axis_value != y->axis_value)
         return x->axis_value < y->axis_value ? -1 : 1;
-    return strcmp(x->cond, y->cond);
+    return strcmp(x->cond, y->cond);  /* same name and value: one condition */
 }
 
 static int table_sort_conds(const struct rdata_set *s, struct rstat_table *t, size_t *cond_of_cell)
@@ -105,33 +105,42 @@ static void table_groups(const struct rdata_set *s, struct rstat_table *t,
     }
 }
 
+/* A condition is its name plus, for a swept axis, the value. */
+static void cond_key(const struct rdata_cell *c, char *out, size_t n)
+{
+    if (c->has_axis) snprintf(out, n, "%s (%s=%g)", c->cond, c->axis_key, c->axis_value);
+    else snprintf(out, n, "%s", c->cond);
+}
+
 int rstat_table_build(const struct rdata_set *s, struct rstat_table *t, struct err *e)
 {
     memset(t, 0, sizeof *t);
     size_t n = s->n ? s->n : 1;
-    size_t *meth = malloc(n * sizeof *meth), *cond = malloc(n * sizeof *cond);
+    size_t *meth = t->cell_method = malloc(n * sizeof *meth), *cond = t->cell_cond = malloc(n * sizeof *cond);
+    t->cond_keys = malloc(n * sizeof *t->cond_keys);
     t->methods = malloc(n * sizeof *t->methods);
     t->conds = malloc(n * sizeof *t->conds);
     t->cond_cell = malloc(n * sizeof *t->cond_cell);
     t->ref_cond = malloc(n * sizeof *t->ref_cond);
     t->groups = malloc(n * sizeof *t->groups);
     struct rstat_group *grid = NULL;
-    if (!meth || !cond || !t->methods || !t->conds || !t->cond_cell || !t->ref_cond || !t->groups)
+    if (!meth || !cond || !t->cond_keys || !t->methods || !t->conds || !t->cond_cell || !t->ref_cond || !t->groups)
         goto oom;
     for (size_t i = 0; i < s->n; i++) {
         meth[i] = name_index(t->methods, &t->n_methods, s->cells[i].label);
         size_t before = t->n_conds;
-        cond[i] = name_index(t->conds, &t->n_conds, s->cells[i].cond);
+        cond_key(&s->cells[i], t->cond_keys[i], sizeof t->cond_keys[i]);
+        cond[i] = name_index(t->conds, &t->n_conds, t->cond_keys[i]);
         if (t->n_conds > before) t->cond_cell[cond[i]] = i;
     }
     if (t->n_conds && table_sort_conds(s, t, cond)) goto oom;
     grid = calloc(t->n_methods * t->n_conds + 1, sizeof *grid);
     if (!grid) goto oom;
     table_groups(s, t, meth, cond, grid);
-    free(grid); free(meth); free(cond);
+    free(grid);
     return 0;
 oom:
-    free(grid); free(meth); free(cond);
+    free(grid);
     rstat_table_free(t);
     return err_set(e, "out of memory building the table of %zu cells", s->n);
 }
@@ -139,6 +148,7 @@ oom:
 void rstat_table_free(struct rstat_table *t)
 {
     free(t->methods); free(t->conds); free(t->cond_cell); free(t->ref_cond); free(t->groups);
+    free(t->cond_keys); free(t->cell_method); free(t->cell_cond);
     memset(t, 0, sizeof *t);
 }
 
