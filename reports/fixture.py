@@ -135,9 +135,10 @@ def write_cell(out, method, cond, chain, axis, seed, p_good, poses, truths):
         json.dump(res, f, indent=1)
 
 
-CONDITIONS = [("none", "", None, 0.9), ("sector-30", "sector:width=30", ("sector", "width", 30), 0.8),
-              ("sector-90", "sector:width=90", ("sector", "width", 90), 0.6),
-              ("sector-180", "sector:width=180", ("sector", "width", 180), 0.35),
+# Cells of one swept axis share the condition name, as `revisit sweep` writes them.
+CONDITIONS = [("none", "", None, 0.9), ("sector", "sector:width=30", ("sector", "width", 30), 0.8),
+              ("sector", "sector:width=90", ("sector", "width", 90), 0.6),
+              ("sector", "sector:width=180", ("sector", "width", 180), 0.35),
               ("dropout-0.5", "dropout:p=0.5", None, 0.7)]
 
 
@@ -171,11 +172,12 @@ def main():
 def write_verdicts(out, method):
     """verdicts.json in the layout `revisit check` writes (harness/summary.h)."""
     vs = []
-    for cond, thr in (("sector-90", 0.6), ("sector-180", 0.6)):
-        r = json.load(open(os.path.join(out, "cells", "m0-c%d-s1" % (2 if cond == "sector-90" else 3),
+    for width, thr in ((90, 0.6), (180, 0.6)):
+        r = json.load(open(os.path.join(out, "cells", "m0-c%d-s1" % (2 if width == 90 else 3),
                                         "result.json")))["metrics"]["f1max"]
-        vs.append({"criterion": "mean f1max of %s on %s >= %g" % (method, cond, thr), "metric": "f1max",
-                   "method": method, "condition": cond, "target": "mean", "comparator": ">=",
+        vs.append({"criterion": "mean f1max of %s on sector %d >= %g" % (method, width, thr), "metric": "f1max",
+                   "method": method, "condition": "sector", "axis_value": width, "target": "mean",
+                   "comparator": ">=",
                    "threshold": thr, "value": r["value"], "lo": r["lo"], "hi": r["hi"],
                    "measured": r["value"], "seeds": 1, "pass": r["value"] >= thr})
     with open(os.path.join(out, "verdicts.json"), "w") as f:

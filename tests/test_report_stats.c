@@ -166,6 +166,22 @@ static void table_checks(void)
     report_cell_text(rstat_find(&t, 0, 0), RDATA_EP, txt, sizeof txt);
     CHECK(!strcmp(txt, "-"), "an absent metric reads -");
     rstat_table_free(&t);
+
+    /* Sweep cells of one axis share the name; each value is a condition. */
+    cell(&cells[0], "A", "sector", "sector:width=90", 0.5, 0.4, 0.6, 1);
+    cell(&cells[1], "A", "sector", "sector:width=0", 0.9, 0.8, 1.0, 1);
+    cells[0].has_axis = cells[1].has_axis = 1;
+    cells[0].axis_value = 90;
+    cells[1].axis_value = 0;
+    snprintf(cells[0].axis_stage, sizeof cells[0].axis_stage, "sector");
+    snprintf(cells[0].axis_key, sizeof cells[0].axis_key, "width");
+    memcpy(cells[1].axis_stage, cells[0].axis_stage, sizeof cells[0].axis_stage);
+    memcpy(cells[1].axis_key, cells[0].axis_key, sizeof cells[0].axis_key);
+    s.n = 2;
+    CHECK(rstat_table_build(&s, &t, &e) == 0 && t.n_conds == 2, "two axis values of one name are two conditions");
+    CHECK(t.n_conds == 2 && !strcmp(t.conds[0], "sector (width=0)") && !strcmp(t.conds[1], "sector (width=90)"),
+          "axis conditions are named by value and sorted by it");
+    rstat_table_free(&t);
 }
 
 int main(void)

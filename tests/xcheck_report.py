@@ -136,7 +136,7 @@ def main():
     # Table: mean and sample standard deviation over three seeds.
     rows = list(csv.DictReader(open(os.path.join(sweep, "report", "scalars.csv"))))
     for m in ("f1max", "r100p", "ap"):
-        for cond in ("none", "sector-30"):
+        for cond in ("none", "sector"):
             vals = []
             for s in (1, 2, 3):
                 ci_ = 0 if cond == "none" else 1
