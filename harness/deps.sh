@@ -4,7 +4,7 @@
 set -u
 need=(libopenblas-dev liblapacke-dev libcjson-dev pkg-config
       python3-numpy python3-scipy python3-sklearn gnuplot-nox parallel valgrind
-      chromium)
+      chromium python3-open3d)
 missing=()
 for p in "${need[@]}"; do
   st=$(dpkg-query -W -f='${Status}' "$p" 2>/dev/null)
