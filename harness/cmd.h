@@ -6,7 +6,7 @@
  *      `--help` prints usage + options to stdout and returns 0;
  *   2. declare it below and add a row to the table in harness/main.c;
  *   3. nothing to add to the Makefile (every .c file in harness/ is picked up);
- *   4. add tests (tests/test_help.sh runs --help on every row already);
+ *   4. add tests (tests/e2e_help.sh runs --help on every row already);
  *   5. document it in README.md (usage) and DEVELOPERS.md if it adds a module.
  *
  * Handlers return an exit code: CMD_OK, CMD_FAIL (a check or criterion
