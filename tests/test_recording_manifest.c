@@ -8,6 +8,7 @@
 #include <unistd.h>
 
 #include "harness/fileio.h"
+#include "harness/pool.h"
 #include "harness/poses_io.h"
 #include "harness/recording.h"
 #include "tests/check.h"
@@ -253,8 +254,45 @@ static void test_writer(void)
     cloud_free(&c);
 }
 
+/* Several threads loading scans of one recording at once get what a single
+ * thread gets. */
+struct par_ctx { const struct recording *r; struct cloud *clouds; double *sum; size_t *n; };
+
+static int par_task(void *vctx, size_t i, int worker, struct err *e)
+{
+    struct par_ctx *x = vctx;
+    struct cloud *c = &x->clouds[worker];
+    if (recording_load_scan(x->r, i, c, NULL, e)) return -1;
+    double s = 0;
+    for (size_t k = 0; k < c->n; k++) s += CLOUD_X(c, k) * (double)(k + 1) + CLOUD_Y(c, k);
+    x->sum[i] = s;
+    x->n[i] = c->n;
+    return 0;
+}
+
+static void test_threads(void)
+{
+    struct err e;
+    make_folder("r6", 40, "%06d.bin", 0);
+    puts_file("r6/recording.json", manifest_ok);
+    struct recording r;
+    CHECK(!recording_load("r6", 0, &r, &e), "a 40-scan recording loads");
+    double seq[40], par[40];
+    size_t nseq[40], npar[40];
+    struct cloud cl[4];
+    for (int k = 0; k < 4; k++) cloud_init(&cl[k]);
+    struct par_ctx a = {&r, cl, seq, nseq}, b = {&r, cl, par, npar};
+    CHECK(!pool_run(r.n, 1, par_task, &a, &e), "one thread loads every scan");
+    CHECK(!pool_run(r.n, 4, par_task, &b, &e), "four threads load every scan at once");
+    CHECK(!memcmp(seq, par, sizeof seq) && !memcmp(nseq, npar, sizeof nseq) && npar[39] == 40,
+          "threads get exactly what one thread gets");
+    for (int k = 0; k < 4; k++) cloud_free(&cl[k]);
+    recording_free(&r);
+}
+
 int main(void)
 {
+    test_threads();
     test_load();
     test_bad_manifests();
     test_pairing();
