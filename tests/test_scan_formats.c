@@ -9,6 +9,7 @@
 #include <stdio.h>
 #include <stdlib.h>
 #include <string.h>
+#include <unistd.h>
 
 #include "harness/pcd.h"
 #include "harness/ply.h"
@@ -54,6 +55,15 @@ static void test_raw(void)
     cloud_init(&empty);
     CHECK(scan_write_raw("e.bin", &empty, &e) == -1, "an empty cloud is not written as raw");
     CHECK_MSG(e.msg, "pcd layout", "the message points to the pcd layout");
+    /* A sparse file one record over the point bound: refused from its size,
+     * before any allocation (the file holds no data blocks). */
+    FILE *f = fopen("huge.bin", "wb");
+    int sparse = f && !ftruncate(fileno(f), (off_t)((CLOUD_MAX_POINTS + 1) * 16));
+    if (f) fclose(f);
+    CHECK(sparse && scan_read("huge.bin", SCAN_RAW, &c, &e) == -1 && c.cap < 1000000,
+          "a raw file over the point bound is refused without allocating");
+    CHECK_MSG(e.msg, "huge.bin: 268435457 points is more than the limit of 268435456", "the message names the bound");
+    unlink("huge.bin");
     cloud_free(&w);
     cloud_free(&c);
 }
@@ -264,6 +274,10 @@ static void test_ply(void)
                          "property float y\nproperty float z\nend_header\n0123456789ab");
     CHECK(scan_read("big.ply", SCAN_PLY, &c, &e) == -1, "a vertex count beyond the file is refused");
     CHECK_MSG(e.msg, "too short for element vertex 99999999", "the message gives the declared count");
+    puts_file("huge.ply", "ply\nformat ascii 1.0\nelement vertex 300000000\nproperty float x\n"
+                          "property float y\nproperty float z\nend_header\n1 2 3\n");
+    CHECK(scan_read("huge.ply", SCAN_PLY, &c, &e) == -1, "a vertex count over the point bound is refused");
+    CHECK_MSG(e.msg, "element vertex 300000000 is more than the limit", "the message names the bound");
     struct cloud w;
     cloud_init(&w);
     cloud_enable_ring(&w);
