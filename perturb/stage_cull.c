@@ -117,20 +117,23 @@ static int range_check(const struct stage *st, const char **why)
     return -1;
 }
 
-static inline int range_keep(const float *p, double lo2, double hi2)
+/* Squared range in float, summed as (x*x + y*y) + z*z, against the float
+ * squares of the bounds: every IEEE 754 float computation, so a test doing
+ * the same float32 operations sees exactly the same membership.  A NaN
+ * coordinate fails both comparisons and is removed. */
+static inline int range_keep(const float *p, float lo2, float hi2)
 {
-    double r2 = (double)p[0] * p[0] + (double)p[1] * p[1] + (double)p[2] * p[2];
-    return r2 >= lo2 && r2 <= hi2;
+    float r2 = (p[0] * p[0] + p[1] * p[1]) + p[2] * p[2];
+    return (r2 >= lo2) & (r2 <= hi2);
 }
 
 static int range_apply(const struct stage *st, struct cloud *c, struct rng *r,
                        struct chain_scratch *s, struct err *e)
 {
     (void)r; (void)s; (void)e;
-    /* Squared range in double from the float coordinates: exact enough that
-     * a test with the same formula sees the same membership. */
-    double lo = st->v[RANGE_MIN] * st->v[RANGE_MIN], hi = st->v[RANGE_MAX] * st->v[RANGE_MAX];
-    STAGE_CULL(c, range_keep(p, lo, hi));
+    float lo = (float)st->v[RANGE_MIN], hi = (float)st->v[RANGE_MAX];
+    float lo2 = lo * lo, hi2 = hi * hi;
+    STAGE_CULL(c, range_keep(p, lo2, hi2));
     return 0;
 }
 

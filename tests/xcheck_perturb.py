@@ -192,10 +192,23 @@ def membership():
         inside |= abs((a - c + 180) % 360 - 180) < 20
     check(len(out) == (~inside).sum(), "three fixed sectors are spread 120 degrees apart")
 
-    out, _ = run("range:min=5,max=30m", SCAN)
-    r2 = (P64 ** 2).sum(1)
-    keep = (r2 >= 25) & (r2 <= 900)
-    check(np.array_equal(out, SCAN[keep]), "range keeps exactly 5 <= r <= 30, in order")
+    # range membership is defined on float32 arithmetic: (x*x + y*y) + z*z
+    # against float32(min)^2 and float32(max)^2 (IEEE 754 single, numpy float32)
+    for lo, hi in ((5, 30), (0, 17.3), (2.5, 1000)):
+        out, _ = run("range:min=%g,max=%gm" % (lo, hi), SCAN)
+        x, y, z = SCAN[:, 0], SCAN[:, 1], SCAN[:, 2]
+        r2 = (x * x + y * y) + z * z
+        lo2, hi2 = np.float32(lo) * np.float32(lo), np.float32(hi) * np.float32(hi)
+        keep = (r2 >= lo2) & (r2 <= hi2)
+        check(r2.dtype == np.float32 and np.array_equal(out, SCAN[keep]),
+              "range keeps exactly %g <= r <= %g, in order" % (lo, hi))
+    r64 = np.sqrt((P64 ** 2).sum(1))
+    x, y, z = SCAN[:, 0], SCAN[:, 1], SCAN[:, 2]
+    r2 = (x * x + y * y) + z * z
+    kf = (r2 >= np.float32(25)) & (r2 <= np.float32(900))
+    k64 = (r64 >= 5) & (r64 <= 30)
+    near = (abs(r64 - 5) < 1e-4) | (abs(r64 - 30) < 1e-4)
+    check(not (kf != k64)[~near].any(), "float membership equals the exact range away from the bounds")
 
     out, _ = run("fov:down=-8,up=4.5", SCAN)
     el = np.degrees(np.arctan2(P64[:, 2], np.hypot(P64[:, 0], P64[:, 1])))
