@@ -9,7 +9,7 @@ PY=/usr/bin/python3
 cd "$T" || exit 1
 
 # A small recording: the port district when synth works, else a tiny one.
-if ! "$REVISIT_BIN" synth --scenario port --scans 120 --out rec --quiet >/dev/null 2>&1; then
+if ! "$REVISIT_BIN" synth --scenario port --scans 80 --out rec --quiet >/dev/null 2>&1; then
   echo "note: synth unavailable, using a generated ring recording"
   rm -rf rec; mkdir -p rec/scans
   $PY - <<'PYEOF'
