@@ -103,6 +103,12 @@ fuzz: deps
 	  $(FUZZ_SRC:tests/%.c=$(FB)/obj/tests/%.o)
 	@bash tests/fuzz.sh $(FB) $(FUZZ_SECONDS)
 
+# plugins-DIR builds just the plugins of build folder DIR (used by tests/e2e_asan.sh).
+plugins-$(B): $(PLUGIN_SO)
+.PHONY: plugins-$(B)
+
+export REVISIT_SANITIZED := $(if $(SAN),1,)
+
 test: all
 	@bash tests/run.sh $(B)
 
