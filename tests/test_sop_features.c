@@ -107,7 +107,7 @@ static void test_ground_and_segments(void)
         a[4 * n] = (float)x, a[4 * n + 1] = (float)y;
         a[4 * n + 2] = (float)(0.05 * x - 0.02 * y - 1.7 + 0.02 * (urand() - 0.5)), a[4 * n + 3] = 0;
     }
-    n = put_box(a, n, 10, 5, -0.5, 2, 2, 3, 1500);   /* ground there is at -1.3 */
+    n = put_box(a, n, 10, 5, -0.5, 1, 2.5, 3, 1500); /* ground there is at -1.3 */
     n = put_box(a, n, -8, -6, -0.8, 1, 4, 2, 1500);  /* ground there is at -2.0 */
     double plane[3];
     long ng = ground_remove(&s->p, a, n, plane, g);
@@ -133,7 +133,7 @@ static void test_ground_and_segments(void)
     s = make(over2, 1);
     ground_remove(&s->p, a, n, plane, g);
     seg_cluster(&s->p, a, n, g, &set);
-    CHECK(set.n_seg == 1, "max_extent_m drops the 4 m box, keeps the 2.8 m one");
+    CHECK(set.n_seg == 1, "max_extent_m drops the 1 x 4 m box, keeps the 1 x 2.5 m one");
     CHECK(with_min == 0, "min_points above 1500 drops both 1500-point boxes");
     sop_free(s);
     seg_set_release(&set);

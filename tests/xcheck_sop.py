@@ -5,8 +5,9 @@
    Weinmann, Jutzi, Hinz & Mallet, "Semantic point cloud interpretation based
    on optimal neighborhoods, relevant features and efficient classifiers",
    ISPRS J. Photogramm. Remote Sens. 2015, sec. 3 (normalised eigenvalues;
-   formulas from memory); extents along the horizontal principal axes
-   (numpy.linalg.eigh of the 2x2 covariance), height statistics and the
+   formulas from memory); horizontal spreads sqrt(12 l) from the eigenvalues
+   of the 2x2 covariance (numpy.linalg.eigvalsh; a uniform strip of width w
+   has variance w^2 / 12, common practice, no source), height statistics and the
    vertical occupancy histogram (numpy.histogram) as documented in
    harness/plugins/sop/features.c.
 2. Power-Euclidean transform U diag(s^alpha) V^T (Dryden, Koloydenko & Zhou,
@@ -45,10 +46,8 @@ def features_numpy(x, plane, bins):
     eig = [(e[0] - e[1]) / e[0], (e[1] - e[2]) / e[0], e[2] / e[0], np.cbrt(e.prod()),
            (e[0] - e[2]) / e[0], ent / np.log(3), e[2] / e.sum()]
     h = d[:, :2]
-    w, v = np.linalg.eigh(h.T @ h)
-    major = v[:, 1]
-    minor = np.array([-major[1], major[0]])
-    ext = sorted([np.ptp(h @ major), np.ptp(h @ minor)], reverse=True)
+    w = np.linalg.eigvalsh(h.T @ h / len(x))[::-1]    # horizontal eigenvalues, descending
+    ext = np.sqrt(12 * np.clip(w, 0, None))         # width of a uniform strip with that variance
     z = x[:, 2]
     g = plane[0] * c[0] + plane[1] * c[1] + plane[2]
     hist, _ = np.histogram(z, bins=bins, range=(z.min(), z.max()))

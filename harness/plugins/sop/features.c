@@ -9,8 +9,9 @@
  *          omnivariance (e1 e2 e3)^(1/3), anisotropy (e1-e3)/e1,
  *          eigenentropy -sum e_i ln e_i (divided by ln 3, its largest value),
  *          change of curvature e3/(e1+e2+e3)
- *   7, 8   extents along the major and minor horizontal principal axes,
- *   9      vertical extent, all three divided by extent_scale_m
+ *   7, 8   horizontal spreads sqrt(12 l1), sqrt(12 l2) from the eigenvalues
+ *          l1 >= l2 of the x, y covariance (the width of a uniform strip),
+ *   9      vertical extent (z range), all three divided by extent_scale_m
  *   10..12 mean height above the ground plane, standard deviation of z and
  *          top height above the ground plane, divided by height_scale_m
  *   13..   vertical occupancy: the share of points in each of hist_bins
@@ -80,8 +81,11 @@ static void feat_cov_eigen(const float *xyzi, const uint32_t *idx, uint32_t cnt,
         l[k] = w[2 - k] > 0 ? w[2 - k] : 0;
 }
 
-/* Extents along the horizontal principal axes (major first); axis gets the
- * unit direction of the first axis. */
+/* Horizontal spreads sqrt(12 l1) >= sqrt(12 l2) from the eigenvalues of the
+ * 2x2 covariance of x, y (the width of a uniform strip with that variance);
+ * axis gets the unit direction of the first principal axis.  Eigenvalues do
+ * not change when the segment turns, and unlike the extremes along the axes
+ * they stay smooth when the two axes swap (near-square segments). */
 static void feat_horizontal(const float *xyzi, const uint32_t *idx, uint32_t cnt,
                             const double c[3], double ext[2], double axis[2])
 {
@@ -91,21 +95,12 @@ static void feat_horizontal(const float *xyzi, const uint32_t *idx, uint32_t cnt
         double dx = q[0] - c[0], dy = q[1] - c[1];
         sxx += dx * dx, syy += dy * dy, sxy += dx * dy;
     }
-    double th = 0.5 * atan2(2 * sxy, sxx - syy), ux = cos(th), uy = sin(th);
-    axis[0] = ux, axis[1] = uy;
-    double lo[2] = {INFINITY, INFINITY}, hi[2] = {-INFINITY, -INFINITY};
-    for (uint32_t k = 0; k < cnt; k++) {
-        const float *q = xyzi + 4 * (size_t)idx[k];
-        double dx = q[0] - c[0], dy = q[1] - c[1];
-        double a = ux * dx + uy * dy, b = -uy * dx + ux * dy;
-        lo[0] = fmin(lo[0], a), hi[0] = fmax(hi[0], a);
-        lo[1] = fmin(lo[1], b), hi[1] = fmax(hi[1], b);
-    }
-    ext[0] = hi[0] - lo[0], ext[1] = hi[1] - lo[1];
-    if (ext[1] > ext[0]) {
-        double t = ext[0];
-        ext[0] = ext[1], ext[1] = t;
-    }
+    sxx /= cnt, syy /= cnt, sxy /= cnt;
+    double th = 0.5 * atan2(2 * sxy, sxx - syy), mid = 0.5 * (sxx + syy);
+    double rad = sqrt(0.25 * (sxx - syy) * (sxx - syy) + sxy * sxy);
+    axis[0] = cos(th), axis[1] = sin(th);
+    ext[0] = sqrt(12 * (mid + rad));
+    ext[1] = sqrt(12 * fmax(mid - rad, 0));
 }
 
 /* Hull vertices and bounding radius (see the file comment).  The 26

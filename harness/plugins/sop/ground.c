@@ -2,7 +2,8 @@
  * (cells of ground_cell_m, within ground_range_m of the sensor) is a ground
  * candidate; RANSAC on the candidates finds the plane z = a x + b y + c with
  * the most candidates within ground_height_m and a slope below
- * max_slope_deg; a least-squares fit to those inliers refines it.  Points
+ * max_slope_deg; least-squares fits to the inliers, in a band halved three
+ * times, refine it.  Points
  * less than ground_height_m above the plane are ground.
  *
  * The random draws come from a fixed-seed generator local to each call, so
@@ -127,7 +128,10 @@ static void ground_ransac(const struct sop_params *p, const struct ground_cand *
         if (in > best_in)
             best_in = in, plane[0] = cand[0], plane[1] = cand[1], plane[2] = cand[2];
     }
-    ground_refit(c, m, p->ground_height_m, plane);
+    /* refit on the inliers three times, halving the band each time, so low
+     * objects (curbs, wall feet) that sit inside the first band drop out */
+    for (int k = 0; k < 3; k++)
+        ground_refit(c, m, p->ground_height_m / (double)(1 << k), plane);
 }
 
 long ground_remove(const struct sop_params *p, const float *xyzi, size_t n, double plane[3],

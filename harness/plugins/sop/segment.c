@@ -3,8 +3,9 @@
  * share a face, an edge or a corner belong to one segment, so two points
  * join when they are closer than voxel_m and may join up to about
  * 2·sqrt(3)·voxel_m apart.  A segment is kept when it has min_points to
- * max_points points and its horizontal bounding box has a diagonal of at
- * most max_extent_m.
+ * max_points points and its horizontal size sqrt(12 (l1 + l2)) (l the
+ * eigenvalues of its x, y covariance; the diagonal of a uniformly filled
+ * rectangle) is at most max_extent_m.
  *
  * Voxels live in an open-addressing hash table keyed by their packed grid
  * coordinates; components come from union-find over the 13 forward
@@ -137,34 +138,35 @@ static size_t seg_number(const struct sop_params *p, const float *xyzi, size_t n
         if (id[r] == pending)
             id[r] = (uint32_t)ns++;
     }
-    /* horizontal extent limit */
-    double *box = malloc(sizeof *box * 4 * (ns ? ns : 1));
-    if (!box)
+    /* horizontal size limit: sqrt(12 (l1 + l2)) from the x, y covariance,
+     * the diagonal of a uniformly filled rectangle with that spread; it
+     * does not change when the sensor turns */
+    double *mom = calloc(6 * (ns ? ns : 1), sizeof *mom);  /* n, sx, sy, sxx, syy */
+    uint32_t *remap = malloc(sizeof *remap * (ns ? ns : 1));
+    if (!mom || !remap) {
+        free(mom), free(remap);
         return (size_t)-1;
-    for (size_t s = 0; s < ns; s++)
-        box[4 * s] = box[4 * s + 2] = INFINITY, box[4 * s + 1] = box[4 * s + 3] = -INFINITY;
+    }
     for (size_t k = 0; k < n; k++) {
         if (vox[k] == UINT32_MAX)
             continue;
-        uint32_t s = id[seg_find(g->parent, vox[k])];
-        if (s == UINT32_MAX)
+        uint32_t sg = id[seg_find(g->parent, vox[k])];
+        if (sg == UINT32_MAX)
             continue;
-        double x = xyzi[4 * k], y = xyzi[4 * k + 1];
-        box[4 * s] = fmin(box[4 * s], x), box[4 * s + 1] = fmax(box[4 * s + 1], x);
-        box[4 * s + 2] = fmin(box[4 * s + 2], y), box[4 * s + 3] = fmax(box[4 * s + 3], y);
+        double x = xyzi[4 * k], y = xyzi[4 * k + 1], *m = mom + 6 * sg;
+        m[0] += 1, m[1] += x, m[2] += y, m[3] += x * x, m[4] += y * y;
     }
-    uint32_t *remap = malloc(sizeof *remap * (ns ? ns : 1));
-    if (!remap)
-        return free(box), (size_t)-1;
     size_t kept = 0;
-    for (size_t s = 0; s < ns; s++) {
-        double dx = box[4 * s + 1] - box[4 * s], dy = box[4 * s + 3] - box[4 * s + 2];
-        remap[s] = sqrt(dx * dx + dy * dy) <= p->max_extent_m ? (uint32_t)kept++ : UINT32_MAX;
+    for (size_t sg = 0; sg < ns; sg++) {
+        const double *m = mom + 6 * sg;
+        double var = m[3] / m[0] - (m[1] / m[0]) * (m[1] / m[0]) + m[4] / m[0]
+                     - (m[2] / m[0]) * (m[2] / m[0]);
+        remap[sg] = sqrt(12 * fmax(var, 0)) <= p->max_extent_m ? (uint32_t)kept++ : UINT32_MAX;
     }
     for (uint32_t v = 0; v < g->nvox; v++)
         if (g->parent[v] == v && id[v] != UINT32_MAX)
             id[v] = remap[id[v]];
-    free(box);
+    free(mom);
     free(remap);
     return kept;
 }

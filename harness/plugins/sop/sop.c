@@ -32,7 +32,7 @@ static const struct rv_setting sop_settings[S_COUNT] = {
     {"voxel_m", RV_SET_FLOAT, 0.5, 0.05, 10, NULL, "voxel size of the clustering grid (touching voxels join)"},
     {"min_points", RV_SET_INT, 80, 1, 1000000, NULL, "smallest segment kept, in points"},
     {"max_points", RV_SET_INT, 20000, 1, 10000000, NULL, "largest segment kept, in points"},
-    {"max_extent_m", RV_SET_FLOAT, 30, 0.1, 1000, NULL, "segments with a wider horizontal box are dropped"},
+    {"max_extent_m", RV_SET_FLOAT, 30, 0.1, 1000, NULL, "segments with a larger horizontal size sqrt(12 (l1 + l2)) are dropped"},
     {"extent_scale_m", RV_SET_FLOAT, 10, 0.01, 1000, NULL, "extents are divided by this"},
     {"height_scale_m", RV_SET_FLOAT, 5, 0.01, 1000, NULL, "heights are divided by this"},
     {"hist_bins", RV_SET_INT, 4, 1, SOP_HIST_MAX, NULL, "slices of the vertical occupancy histogram"},

@@ -63,7 +63,7 @@ struct sop_seg {
 long ground_remove(const struct sop_params *p, const float *xyzi, size_t n, double plane[3],
                    uint8_t *ground);
 
-/* segment.c: clusters of the points with keep[k] = 0 ... see below. */
+/* segment.c: segments as point-index lists (CSR layout). */
 struct seg_set {
     size_t n_seg;
     uint32_t *start;   /* n_seg + 1 offsets into idx */
@@ -90,7 +90,7 @@ void feat_eigen(const double l[3], double f[7]);
  * (x y z triples); 0 when they intersect or touch. */
 double gjk_distance(const double *a, int na, const double *b, int nb);
 
-/* context.c */
+/* context.c: spatial and temporal context (see context.c for the rules). */
 /* out[i*D..] = softmax(-d/temp)-weighted sum of F_a of the k nearest
  * segments by hull distance; zeros for a lone segment.  0 or -1 (memory). */
 int ctx_spatial(const struct sop_params *p, const struct sop_seg *s, size_t n, int dim,
@@ -120,8 +120,8 @@ int ctx_temporal(const struct sop_params *p, const struct sop_seg *s, size_t n, 
 /* pooled[a*D+b] = max over segments of fa[i][a] * fb[i][b]; zeros when n = 0. */
 void pool_second_order(const struct sop_seg *s, const double *fb, size_t n, int dim,
                        double *pooled);
-/* First order (context none and F_b = F_a is the caller's choice); here only
- * the matrix transform: U diag(s^alpha) V^T in place.  0 or -1 (LAPACKE). */
+/* The power-Euclidean transform in place: mat = U diag(s^alpha) V^T for
+ * mat = U diag(s) V^T (dim x dim, row-major).  0 or -1 (memory, LAPACKE). */
 int pool_power(double *mat, int dim, double alpha);
 /* Flatten and L2-normalise into desc (dim*dim floats); zeros stay zeros. */
 void pool_normalise(const double *mat, int dim, float *desc);
