@@ -326,7 +326,7 @@ static int pcd_body_ascii(const unsigned char *buf, size_t len, const char *path
     long line = h->body_line;
     double v[PCD_MAX_FIELDS];
     for (size_t k = 0; k < h->points; k++, line++) {
-        while (*s == '\n' || *s == '\r') { if (*s == '\n') line++; s++; }
+        while (*s == '\n' || *s == '\r' || *s == ' ' || *s == '\t') { if (*s == '\n') line++; s++; }
         if (!*s) return err_at(e, path, line, "file ends after %zu points, POINTS declares %zu", k, h->points);
         int f = 0, vi = 0;
         for (int j = 0; j < h->n_values; j++) {

@@ -258,7 +258,7 @@ static int ply_vertices(struct ply_cur *cur, const struct ply_element *el, struc
         return err_at(e, cur->path, 0, "out of memory for %zu points", el->count);
     double v[PLY_MAX_PROPS];
     for (size_t k = 0; k < el->count; k++) {
-        if (ply_item(cur, el, v, e)) return err_wrap(e, "vertex %zu", k);
+        if (ply_item(cur, el, v, e)) return -1;
         float *p = c->pts + 4 * k;
         p[0] = (float)v[s.x]; p[1] = (float)v[s.y]; p[2] = (float)v[s.z];
         p[3] = s.i >= 0 ? (float)v[s.i] : 0.0f;
@@ -290,7 +290,7 @@ static int ply_body(const unsigned char *buf, size_t len, const char *path, cons
         }
         double v[PLY_MAX_PROPS];
         for (size_t j = 0; j < el->count; j++)
-            if (ply_item(&cur, el, v, e)) return err_wrap(e, "element %s item %zu", el->name, j);
+            if (ply_item(&cur, el, v, e)) return -1;
     }
     if (!seen) return err_at(e, path, 0, "no vertex element, expected 'element vertex N'");
     return 0;

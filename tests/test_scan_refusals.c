@@ -1,0 +1,79 @@
+/* test_scan_refusals.c: every refusal of the text, PCD and PLY readers, one
+ * file each, checking that the message names the file (and line) and says
+ * what was expected.  Headers follow the PCD v0.7 file-format description
+ * and the PLY format description (Turk, 1994), broken one way at a time. */
+#include <stdio.h>
+#include <string.h>
+
+#include "harness/scan_io.h"
+#include "tests/check.h"
+
+struct bad { const char *name, *text, *frag; };
+
+#define PCD_XYZ "FIELDS x y z\nSIZE 4 4 4\nTYPE F F F\n"
+#define PLY_XYZ "element vertex 1\nproperty float x\nproperty float y\nproperty float z\n"
+
+static const struct bad cases[] = {
+    /* text */
+    {"e.txt", "", "e.txt: file is empty, expected lines of x y z [i]"},
+    /* PCD header */
+    {"k.pcd", "VERSION 0.7\nCOLOR x\n", "k.pcd:2: unknown header keyword 'COLOR'"},
+    {"s.pcd", "SIZE 4 4 4\n", "s.pcd:1: SIZE before FIELDS, expected FIELDS first"},
+    {"n.pcd", "FIELDS x y z\nSIZE 4 4\n", "n.pcd:2: SIZE has 2 entries, expected 3 (one per field)"},
+    {"z.pcd", "FIELDS x y z\nSIZE 4 4 0\n", "z.pcd:2: SIZE entry 3 is '0', expected a whole number 1, 2, 4 or 8"},
+    {"c.pcd", PCD_XYZ "COUNT 1 x 1\n", "c.pcd:4: COUNT entry 2 is 'x', expected a whole number from 1 to 8"},
+    {"w.pcd", PCD_XYZ "WIDTH -3\n", "w.pcd:4: WIDTH is '-3', expected a whole number"},
+    {"d.pcd", PCD_XYZ "WIDTH 1\nDATA zipped\n", "d.pcd:5: DATA 'zipped', expected ascii or binary"},
+    {"h.pcd", PCD_XYZ "WIDTH 1\n", "h.pcd:4: header has no DATA line"},
+    {"t.pcd", "FIELDS x y z\nSIZE 4 4 4\nWIDTH 1\nDATA ascii\n1 2 3\n", "t.pcd: header lacks TYPE"},
+    {"p.pcd", PCD_XYZ "WIDTH 2\nHEIGHT 2\nPOINTS 3\nDATA ascii\n", "p.pcd: POINTS 3 does not equal WIDTH 2 x HEIGHT 2"},
+    {"f.pcd", "FIELDS x y z\nSIZE 4 4 2\nTYPE F F F\nWIDTH 1\nDATA ascii\n1 2 3\n",
+     "f.pcd: field 'z' has TYPE F with SIZE 2, expected SIZE 4 or 8"},
+    {"i.pcd", "FIELDS x y z\nSIZE 4 4 8\nTYPE F F I\nWIDTH 1\nDATA ascii\n1 2 3\n",
+     "i.pcd: field 'z' has TYPE I with SIZE 8, expected SIZE 1, 2 or 4"},
+    /* PCD ascii body */
+    {"a.pcd", PCD_XYZ "WIDTH 3\nDATA ascii\n1 2 3\n4 5 6\n        ", "a.pcd:8: file ends after 2 points, POINTS declares 3"},
+    {"v.pcd", PCD_XYZ "WIDTH 1\nDATA ascii\n1 two 3\n", "v.pcd:6: value 2 is not a number, expected 3 values per point"},
+    {"b.pcd", PCD_XYZ "WIDTH 4\nDATA ascii\n1 2 3\n", "b.pcd: body is 6 bytes, too short for POINTS 4 of 3 values"},
+    {"empty.pcd", "", "empty.pcd: file is empty, expected a scan"},
+    /* PLY header */
+    {"f.ply", "ply\nformat ascii 2.0\n", "f.ply:2: format version '2.0', expected 1.0"},
+    {"g.ply", "ply\nformat utf8 1.0\n", "g.ply:2: format 'utf8', expected ascii or binary_little_endian"},
+    {"k.ply", "ply\nformat ascii 1.0\nvertices 3\n", "k.ply:3: unknown header keyword 'vertices'"},
+    {"p.ply", "ply\nformat ascii 1.0\nproperty float x\n", "p.ply:3: property before any element"},
+    {"l.ply", "ply\nformat ascii 1.0\nelement face 1\nproperty list float int idx\n",
+     "l.ply:4: bad list property, expected 'property list COUNT_TYPE ITEM_TYPE NAME'"},
+    {"q.ply", "ply\nformat ascii 1.0\nelement vertex 1\nproperty float\n", "q.ply:4: bad property line, expected 'property TYPE NAME'"},
+    {"c.ply", "ply\nformat ascii 1.0\nelement vertex -1\n", "c.ply:3: bad element line, expected 'element NAME COUNT'"},
+    {"h.ply", "ply\nformat ascii 1.0\n" PLY_XYZ, "h.ply:6: header has no end_header line"},
+    {"m.ply", "ply\n" PLY_XYZ "end_header\n1 2 3\n", "m.ply: header has no format line"},
+    {"n.ply", "ply\nformat ascii 1.0\nelement face 1\nproperty uchar a\nend_header\n1\n",
+     "n.ply: no vertex element, expected 'element vertex N'"},
+    {"s.ply", "ply\nformat ascii 1.0\n" PLY_XYZ "end_header\n1   2   ", "s.ply:8: file ends early, expected more values"},
+    {"x.ply", "ply\nformat ascii 1.0\n" PLY_XYZ "end_header\n1 y 3\n", "x.ply:8: value is not a number, expected a number"},
+    {"y.ply", "ply\nformat ascii 1.0\nelement vertex 1\nproperty list uchar float x\nproperty float y\n"
+              "property float z\nend_header\n1 2 3 4\n", "y.ply: vertex property 'x' is a list, expected a scalar"},
+    {"o.ply", "ply\nformat ascii 1.0\nelement face 1\nproperty list int int idx\n" PLY_XYZ "end_header\n-4 1 2 3\n",
+     "o.ply:10: list length -4, expected 0 to 1000000"},
+};
+
+int main(void)
+{
+    for (size_t k = 0; k < sizeof cases / sizeof cases[0]; k++) {
+        const struct bad *b = &cases[k];
+        FILE *f = fopen(b->name, "w");
+        fputs(b->text, f);
+        fclose(f);
+        struct cloud c;
+        cloud_init(&c);
+        struct err e;
+        e.msg[0] = 0;
+        char desc[160];
+        snprintf(desc, sizeof desc, "%s is refused", b->name);
+        CHECK(scan_read(b->name, SCAN_AUTO, &c, &e) == -1 && c.n == 0, desc);
+        snprintf(desc, sizeof desc, "%s: the message names the file and the fault", b->name);
+        CHECK_MSG(e.msg, b->frag, desc);
+        cloud_free(&c);
+    }
+    return check_done();
+}
