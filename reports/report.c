@@ -148,7 +148,7 @@ static int write_scalars(const struct report_doc *d, const char *path, struct er
         const struct rstat_group *g = &t->groups[k];
         const struct rdata_cell *c = &d->set->cells[t->cond_cell[g->cond]];
         for (int mk = 0; mk < RDATA_NMETRIC; mk++) {
-            csv_field(a.f, t->methods[g->method]);
+            csv_field(a.f, t->labels[g->method]);
             fputc(',', a.f);
             csv_field(a.f, c->cond);  /* the axis value has its own column */
             fputc(',', a.f);

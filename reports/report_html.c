@@ -77,7 +77,17 @@ static void html_overview(FILE *f, const struct report_doc *d)
         if (v->cell_id[0]) { fputs(", from cell ", f); esc_html(f, v->cell_id); }
         fputs(".</li>\n", f);
     }
-    html_list(f, "Methods", d->table->methods, d->table->n_methods, "none");
+    fputs("<li>Methods: ", f);
+    for (size_t m = 0; m < d->table->n_methods; m++) {
+        if (m) fputs("; ", f);
+        esc_html(f, d->table->methods[m]);
+        if (strcmp(d->table->methods[m], d->table->labels[m])) {
+            fputs(" = <code>", f);
+            esc_html(f, d->table->labels[m]);
+            fputs("</code>", f);
+        }
+    }
+    fputs(".</li>\n", f);
     fputs("<li>Conditions: ", f);
     for (size_t c = 0; c < d->table->n_conds; c++) {
         const struct rdata_cell *cc = &s->cells[d->table->cond_cell[c]];

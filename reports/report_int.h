@@ -8,7 +8,8 @@
 #include "reports/rstat.h"
 
 #define REPORT_NOTES_MAX 64
-#define REPORT_FINDINGS_MAX 64
+#define REPORT_FINDINGS_MAX 8
+#define REPORT_FINDINGS_ITEMS 64  /* methods listed in one finding */
 
 /* The recording as seen through the reference cell's poses.csv. */
 struct report_overview {
@@ -27,11 +28,13 @@ struct report_doc {
     const struct plot_set *plots;
     struct report_overview ov;
     size_t n_findings, n_notes;
-    char findings[REPORT_FINDINGS_MAX][1024];  /* raw text; writers escape */
+    char findings[REPORT_FINDINGS_MAX][8192];  /* raw text; writers escape */
     char notes[REPORT_NOTES_MAX][1024];        /* plots not made and why; raw */
 };
 
-/* Headline findings into d->findings (raw text).  Cannot fail. */
+/* The three headline findings into d->findings (raw text): the condition
+ * that hurts each method most, the best method per condition family, the
+ * criterion nearest its threshold.  Cannot fail. */
 void report_findings(struct report_doc *d);
 /* "0.812 [0.770, 0.840]" (plus " sd 0.012" over several seeds) into out. */
 void report_cell_text(const struct rstat_group *g, int metric, char *out, size_t n);

@@ -60,6 +60,10 @@ static void md_overview(FILE *f, const struct report_doc *d)
     for (size_t m = 0; m < d->table->n_methods; m++) {
         if (m) fputs("; ", f);
         esc_md(f, d->table->methods[m]);
+        if (strcmp(d->table->methods[m], d->table->labels[m])) {
+            fputs(" = ", f);
+            esc_md(f, d->table->labels[m]);
+        }
     }
     fputs(".\n- Conditions: ", f);
     for (size_t c = 0; c < d->table->n_conds; c++) {

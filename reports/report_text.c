@@ -42,27 +42,57 @@ static void add(struct report_doc *d, const char *fmt, ...)
     va_end(ap);
 }
 
+/* Append to the last finding. */
+static void more(struct report_doc *d, const char *fmt, ...) __attribute__((format(printf, 2, 3)));
+static void more(struct report_doc *d, const char *fmt, ...)
+{
+    char *f = d->findings[d->n_findings - 1];
+    size_t l = strlen(f);
+    va_list ap;
+    va_start(ap, fmt);
+    vsnprintf(f + l, sizeof d->findings[0] - l, fmt, ap);
+    va_end(ap);
+}
+
 static double f1(const struct rstat_table *t, size_t m, size_t c)
 {
     const struct rstat_group *g = rstat_find(t, m, c);
     return g && g->n_seeds ? g->mean[RDATA_F1MAX] : NAN;
 }
 
-/* Per method, the condition with the largest F1max drop from its reference. */
+/* Finding 1: per method, the condition with the largest F1max drop from its
+ * reference, methods in order of that drop, largest first. */
 static void find_worst(struct report_doc *d)
 {
     const struct rstat_table *t = d->table;
-    for (size_t m = 0; m < t->n_methods; m++) {
-        size_t ref = t->ref_cond[m], worst = ref;
-        double fr = f1(t, m, ref), drop = -INFINITY;
+    size_t n = t->n_methods, worst[REPORT_FINDINGS_ITEMS], order[REPORT_FINDINGS_ITEMS];
+    double drop[REPORT_FINDINGS_ITEMS];
+    if (n > REPORT_FINDINGS_ITEMS) n = REPORT_FINDINGS_ITEMS;
+    if (t->n_conds < 2) return;
+    for (size_t m = 0; m < n; m++) {
+        size_t ref = t->ref_cond[m];
+        double fr = f1(t, m, ref);
+        worst[m] = ref;
+        drop[m] = -INFINITY;
         for (size_t c = 0; c < t->n_conds; c++) {
             double fc = f1(t, m, c);
-            if (c != ref && !isnan(fc) && fr - fc > drop) { drop = fr - fc; worst = c; }
+            if (c != ref && !isnan(fc) && fr - fc > drop[m]) { drop[m] = fr - fc; worst[m] = c; }
         }
-        if (worst == ref || isnan(fr)) continue;
-        add(d, "%s is hurt most by condition %s: F1max %.3f against %.3f under %s (change %+.3f).",
-            t->methods[m], report_cond_name(t, worst), f1(t, m, worst), fr, report_cond_name(t, ref), -drop);
+        if (isnan(fr)) drop[m] = -INFINITY;
+        order[m] = m;
     }
+    for (size_t a = 0; a < n; a++)
+        for (size_t b = a + 1; b < n; b++)
+            if (drop[order[b]] > drop[order[a]]) { size_t x = order[a]; order[a] = order[b]; order[b] = x; }
+    add(d, "The condition that hurts each method most (F1max, from its reference condition):");
+    for (size_t k = 0; k < n; k++) {
+        size_t m = order[k];
+        if (!(drop[m] > 0)) { more(d, "%s %s: no condition lowers it", k ? ";" : "", t->methods[m]); continue; }
+        more(d, "%s %s: %s, %.3f to %.3f (%+.3f, reference %s)", k ? ";" : "", t->methods[m],
+             report_cond_name(t, worst[m]), f1(t, m, t->ref_cond[m]), f1(t, m, worst[m]), -drop[m],
+             report_cond_name(t, t->ref_cond[m]));
+    }
+    more(d, ".");
 }
 
 static void family_of(const struct rdata_cell *c, char *out, size_t n)
@@ -72,11 +102,30 @@ static void family_of(const struct rdata_cell *c, char *out, size_t n)
     else snprintf(out, n, "unperturbed");
 }
 
-/* Per condition family (swept axis, or first stage of the chain), the
- * method with the best mean F1max over the family's conditions. */
+/* The mean F1max of method m over the conditions of family fam. */
+static double family_mean(const struct report_doc *d, size_t m, const char *fam, size_t from, size_t *nc)
+{
+    const struct rstat_table *t = d->table;
+    double sum = 0;
+    size_t k = 0;
+    for (size_t c = from; c < t->n_conds; c++) {
+        char other[200];
+        family_of(&d->set->cells[t->cond_cell[c]], other, sizeof other);
+        double v = f1(t, m, c);
+        if (!strcmp(fam, other) && !isnan(v)) { sum += v; k++; }
+    }
+    *nc = k;
+    return k ? sum / (double)k : NAN;
+}
+
+/* Finding 2: per condition family (swept axis, or first stage of the
+ * chain), the method with the best mean F1max over the family. */
 static void find_best(struct report_doc *d)
 {
     const struct rstat_table *t = d->table;
+    if (t->n_methods < 2) return;
+    add(d, "The best method per condition family (mean F1max over the family's conditions):");
+    size_t shown = 0;
     for (size_t c0 = 0; c0 < t->n_conds; c0++) {
         char fam[200], other[200];
         family_of(&d->set->cells[t->cond_cell[c0]], fam, sizeof fam);
@@ -85,28 +134,21 @@ static void find_best(struct report_doc *d)
             family_of(&d->set->cells[t->cond_cell[c1]], other, sizeof other);
             seen = !strcmp(fam, other);
         }
-        if (seen || t->n_methods < 2) continue;
+        if (seen) continue;
         double best = -INFINITY, second = -INFINITY;
-        size_t bm = 0, nc = 0;
+        size_t bm = 0, nc = 0, k;
         for (size_t m = 0; m < t->n_methods; m++) {
-            double sum = 0;
-            size_t k = 0;
-            for (size_t c = c0; c < t->n_conds; c++) {
-                family_of(&d->set->cells[t->cond_cell[c]], other, sizeof other);
-                double v = f1(t, m, c);
-                if (!strcmp(fam, other) && !isnan(v)) { sum += v; k++; }
-            }
-            if (!k) continue;
-            double mean = sum / (double)k;
-            if (mean > best) { second = best; best = mean; bm = m; nc = k; }
-            else if (mean > second) second = mean;
+            double v = family_mean(d, m, fam, c0, &k);
+            if (isnan(v)) continue;
+            if (v > best) { second = best; best = v; bm = m; nc = k; }
+            else if (v > second) second = v;
         }
         if (isinf(best)) continue;
-        char tail[64] = ".";
-        if (isfinite(second)) snprintf(tail, sizeof tail, ", ahead of the next by %.3f.", best - second);
-        add(d, "Under %s conditions the best method is %s: mean F1max %.3f over %zu condition%s%s", fam,
-            t->methods[bm], best, nc, nc == 1 ? "" : "s", tail);
+        more(d, "%s %s: %s %.3f over %zu condition%s", shown++ ? ";" : "", fam, t->methods[bm], best, nc,
+             nc == 1 ? "" : "s");
+        if (isfinite(second)) more(d, ", %.3f ahead of the next", best - second);
     }
+    more(d, ".");
 }
 
 static void find_criterion(struct report_doc *d)

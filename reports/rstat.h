@@ -41,7 +41,9 @@ struct rstat_group {
 
 struct rstat_table {
     size_t n_methods, n_conds, n_groups;
-    const char **methods;        /* borrowed from the cells' labels */
+    const char **labels;         /* full method labels (name and settings), borrowed */
+    const char **methods;        /* short names for tables and plots: the plugin
+                                  * name when no other label shares it, else the label */
     const char **conds;          /* condition names, "NAME (KEY=VALUE)" for a swept
                                   * axis value; "" shows as "none" */
     char (*cond_keys)[RSTAT_COND_MAX];  /* storage of conds, one per cell */
@@ -52,7 +54,8 @@ struct rstat_table {
 };
 
 /* Build the table from the cells.  The reference condition of a method is
- * its unperturbed condition (empty chain) when it has one, else its first. */
+ * its unperturbed condition (empty chain) when one finished, else the first
+ * that finished. */
 int rstat_table_build(const struct rdata_set *s, struct rstat_table *t, struct err *e);
 void rstat_table_free(struct rstat_table *t);
 /* The group of (method, cond), or NULL. */

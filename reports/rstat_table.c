@@ -99,9 +99,10 @@ static void table_groups(const struct rdata_set *s, struct rstat_table *t,
             group_finish(g);
             g->method = m;
             g->cond = c;
-            if (t->ref_cond[m] == (size_t)-1) t->ref_cond[m] = c;
+            if (t->ref_cond[m] == (size_t)-1 && g->n_seeds) t->ref_cond[m] = c;
             t->groups[t->n_groups++] = *g;
         }
+        if (t->ref_cond[m] == (size_t)-1) t->ref_cond[m] = 0;  /* every cell failed */
     }
 }
 
@@ -112,6 +113,20 @@ static void cond_key(const struct rdata_cell *c, char *out, size_t n)
     else snprintf(out, n, "%s", c->cond);
 }
 
+/* Short names: the plugin name when no other label shares it, else the label. */
+static void method_names(const struct rdata_set *s, struct rstat_table *t)
+{
+    for (size_t m = 0; m < t->n_methods; m++) {
+        const struct rdata_cell *c = NULL;
+        for (size_t i = 0; i < s->n && !c; i++)
+            if (t->cell_method[i] == m) c = &s->cells[i];
+        int shared = !c->method[0];
+        for (size_t i = 0; i < s->n && !shared; i++)
+            shared = t->cell_method[i] != m && !strcmp(s->cells[i].method, c->method);
+        t->methods[m] = shared ? t->labels[m] : c->method;
+    }
+}
+
 int rstat_table_build(const struct rdata_set *s, struct rstat_table *t, struct err *e)
 {
     memset(t, 0, sizeof *t);
@@ -119,15 +134,16 @@ int rstat_table_build(const struct rdata_set *s, struct rstat_table *t, struct e
     size_t *meth = t->cell_method = malloc(n * sizeof *meth), *cond = t->cell_cond = malloc(n * sizeof *cond);
     t->cond_keys = malloc(n * sizeof *t->cond_keys);
     t->methods = malloc(n * sizeof *t->methods);
+    t->labels = malloc(n * sizeof *t->labels);
     t->conds = malloc(n * sizeof *t->conds);
     t->cond_cell = malloc(n * sizeof *t->cond_cell);
     t->ref_cond = malloc(n * sizeof *t->ref_cond);
     t->groups = malloc(n * sizeof *t->groups);
     struct rstat_group *grid = NULL;
-    if (!meth || !cond || !t->cond_keys || !t->methods || !t->conds || !t->cond_cell || !t->ref_cond || !t->groups)
+    if (!meth || !cond || !t->cond_keys || !t->methods || !t->labels || !t->conds || !t->cond_cell || !t->ref_cond || !t->groups)
         goto oom;
     for (size_t i = 0; i < s->n; i++) {
-        meth[i] = name_index(t->methods, &t->n_methods, s->cells[i].label);
+        meth[i] = name_index(t->labels, &t->n_methods, s->cells[i].label);
         size_t before = t->n_conds;
         cond_key(&s->cells[i], t->cond_keys[i], sizeof t->cond_keys[i]);
         cond[i] = name_index(t->conds, &t->n_conds, t->cond_keys[i]);
@@ -137,6 +153,7 @@ int rstat_table_build(const struct rdata_set *s, struct rstat_table *t, struct e
     grid = calloc(t->n_methods * t->n_conds + 1, sizeof *grid);
     if (!grid) goto oom;
     table_groups(s, t, meth, cond, grid);
+    method_names(s, t);
     free(grid);
     return 0;
 oom:
@@ -148,7 +165,7 @@ oom:
 void rstat_table_free(struct rstat_table *t)
 {
     free(t->methods); free(t->conds); free(t->cond_cell); free(t->ref_cond); free(t->groups);
-    free(t->cond_keys); free(t->cell_method); free(t->cell_cond);
+    free(t->cond_keys); free(t->cell_method); free(t->cell_cond); free(t->labels);
     memset(t, 0, sizeof *t);
 }
 
