@@ -14,7 +14,7 @@ export REVISIT_PLUGIN_PATH="$root/$B/plugins"
 export PYTHON=/usr/bin/python3
 tmp=$(mktemp -d)
 trap 'rm -rf "$tmp"' EXIT
-pass=0; fail=0
+pass=0; fail=0; skip=0
 run_one() {  # name, command...
   local name=$1; shift
   local log="$tmp/log"
@@ -29,6 +29,7 @@ run_one() {  # name, command...
   local p f
   p=$(echo "$line" | sed -E 's/^([0-9]+) passed.*/\1/')
   f=$(echo "$line" | sed -E 's/^[0-9]+ passed, ([0-9]+) failed.*/\1/')
+  case "$line" in *skipped*) skip=$((skip + $(echo "$line" | sed -E 's/.*, ([0-9]+) skipped.*/\1/'))) ;; esac
   if [ "$rc" -ne 0 ] && [ "$f" -eq 0 ]; then f=1; echo "FAIL $name exited $rc"; fi
   pass=$((pass + p)); fail=$((fail + f))
   if [ "$f" -ne 0 ]; then echo "---- $name:"; grep -E 'FAIL|ERROR|Error|error' "$log" | head -n 30; fi
@@ -48,5 +49,5 @@ for t in tests/e2e_*.sh; do
   [ -f "$t" ] || continue
   run_one "$(basename "$t")" bash "$t"
 done
-echo "$pass passed, $fail failed"
+if [ "$skip" -gt 0 ]; then echo "$pass passed, $fail failed, $skip skipped"; else echo "$pass passed, $fail failed"; fi
 [ "$fail" -eq 0 ]
