@@ -258,11 +258,16 @@ int poses_read(const char *path, enum poses_layout layout, const char *times_pat
         char *copy = strdup(buf);
         struct poses_lines L = {copy, 0};
         const char *first = copy ? poses_next_line(&L) : NULL;
-        layout = first ? poses_detect(first) : POSES_AUTO;
+        int any = first != NULL;
+        layout = any ? poses_detect(first) : POSES_AUTO;
         free(copy);
+        if (!any) {
+            free(buf);
+            return err_at(e, path, 0, "no poses in the file, expected lines of poses");
+        }
         if (layout == POSES_AUTO) {
             free(buf);
-            return err_at(e, path, first ? L.line : 0, "cannot tell the pose layout, expected a CSV header "
+            return err_at(e, path, L.line, "cannot tell the pose layout, expected a CSV header "
                           "naming t,x,y,z,qx,qy,qz,qw, lines of 8 numbers (t x y z qx qy qz qw) or of 12 "
                           "(a 3x4 matrix)");
         }
