@@ -8,23 +8,23 @@ R="$REVISIT_BIN"
 echo '{"profile": "spin32", "azimuth_step_deg": 2}' > "$T/coarse.json"
 syn() { "$R" synth --quiet --sensor "$T/coarse.json" "$@"; }
 
-expect 'syn --scenario port --scans 120 --out "$T/a" --jobs 1 > "$T/a.log" 2>&1' "synth with one job"
-expect 'syn --scenario port --scans 120 --out "$T/b" --jobs 3 > /dev/null 2>&1' "synth with three jobs"
+expect 'syn --scenario port --scans 80 --out "$T/a" --jobs 1 > "$T/a.log" 2>&1' "synth with one job"
+expect 'syn --scenario port --scans 80 --out "$T/b" --jobs 3 > /dev/null 2>&1' "synth with three jobs"
 expect 'diff -r "$T/a" "$T/b" > /dev/null' "the same seed gives byte-identical folders for any --jobs"
-expect 'syn --scenario port --scans 120 --out "$T/a" > /dev/null 2>&1 && diff -r "$T/a" "$T/b" > /dev/null' \
+expect 'syn --scenario port --scans 80 --out "$T/a" > /dev/null 2>&1 && diff -r "$T/a" "$T/b" > /dev/null' \
   "a rerun into the same folder gives the same files"
-expect 'syn --scenario port --scans 120 --seed 8 --out "$T/c" > /dev/null 2>&1 && ! diff -q "$T/a/scans/000060.pcd" "$T/c/scans/000060.pcd" > /dev/null' \
+expect 'syn --scenario port --scans 80 --seed 8 --out "$T/c" > /dev/null 2>&1 && ! diff -q "$T/a/scans/000040.pcd" "$T/c/scans/000040.pcd" > /dev/null' \
   "another --seed gives another recording"
-expect '[ "$(ls "$T/a/scans" | wc -l)" -eq 120 ] && [ -f "$T/a/recording.json" ] && [ -f "$T/a/route.json" ]' \
+expect '[ "$(ls "$T/a/scans" | wc -l)" -eq 80 ] && [ -f "$T/a/recording.json" ] && [ -f "$T/a/route.json" ]' \
   "recording.json, route.json and one PCD file per scan"
 expect 'head -c 300 "$T/a/scans/000000.pcd" | grep -q "^FIELDS x y z intensity ring time"' "scans carry ring and time fields"
-expect_in "$(cat "$T/a.log")" "120 scans at" "the summary gives the scan count"
+expect_in "$(cat "$T/a.log")" "80 scans at" "the summary gives the scan count"
 out=$("$R" inspect "$T/a" 2>&1)
-expect_in "$out" "scans        120" "inspect reads the synthetic recording"
+expect_in "$out" "scans        80" "inspect reads the synthetic recording"
 expect_in "$out" "32 channels" "inspect sees the 32-channel sensor"
 rv=$(sed -n 's/.*"counts": {"same": \([0-9]*\), "reverse": \([0-9]*\), "crossing": \([0-9]*\).*/\1 \2 \3/p' "$T/a/route.json")
 set -- $rv
-expect_in "$out" "revisits     $(( $1 + $2 + $3 )) of 120" "inspect's revisit count equals route.json's"
+expect_in "$out" "revisits     $(( $1 + $2 + $3 )) of 80" "inspect's revisit count equals route.json's"
 
 # Bad input.
 msg=$("$R" synth --scenario atlantis --out "$T/x" 2>&1); rc=$?
