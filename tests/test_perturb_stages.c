@@ -190,6 +190,42 @@ static void intensity_and_fields(void)
     cloud_free(&ref);
 }
 
+/* With a per-point time field, skew uses it: at yaw rate 0 a point taken t
+ * seconds into the sweep was seen from v t metres further forward, so
+ * p' = p - (v t, 0, 0) (straight-line motion, common practice, no source). */
+static void skew_time(void)
+{
+    struct cloud c, ref;
+    make_scan(&c, 1);
+    make_scan(&ref, 1);
+    apply("skew:speed=12,yawrate=0", &c, 1, 0, NULL);
+    double worst = 0;
+    for (size_t k = 0; k < c.n; k++) {
+        double want = ref.pts[4 * k] - 12.0 * ref.time[k];
+        worst = fmax(worst, fabs(c.pts[4 * k] - want) + fabs(c.pts[4 * k + 1] - ref.pts[4 * k + 1]) +
+                                fabs(c.pts[4 * k + 2] - ref.pts[4 * k + 2]));
+    }
+    CHECK(c.n == ref.n && worst < 1e-5, "skew moves each point by its own time field");
+    cloud_free(&c);
+    /* intensity noise: the sample spread of the added noise is sigma within 5%
+     * (its standard error is about sigma / sqrt(2 n), under 1% here) */
+    make_scan(&c, 1);
+    apply("intensity:scale=1,noise=0.01", &c, 1, 0, NULL);
+    double sum = 0, sq = 0;
+    size_t m = 0;
+    for (size_t k = 0; k < c.n; k++) {
+        double d = c.pts[4 * k + 3] - ref.pts[4 * k + 3];
+        if (c.pts[4 * k + 3] <= 0) continue;   /* clamped at 0: not a clean draw */
+        sum += d;
+        sq += d * d;
+        m++;
+    }
+    double sd = sqrt(sq / (double)m - (sum / (double)m) * (sum / (double)m));
+    CHECK(m > c.n / 2 && fabs(sd - 0.01) < 0.0005, "intensity noise has the asked spread within 5%");
+    cloud_free(&c);
+    cloud_free(&ref);
+}
+
 static void stats_and_edges(void)
 {
     struct cloud c;
@@ -304,6 +340,7 @@ int main(void)
     yaw_uniform();
     channels();
     intensity_and_fields();
+    skew_time();
     stats_and_edges();
     nonfinite();
     rng_known();
