@@ -21,7 +21,8 @@ static const char usage[] =
     "(PCD binary with ring and time), poses.csv, route.json (every revisit\n"
     "stretch with its kind) and, with pose noise on, poses_exact.csv.\n"
     "--scans N spreads N scans evenly over the whole drive (fewer scans per\n"
-    "second, every revisit kept); --duration S cuts the drive after S seconds.\n"
+    "second; the whole drive and its revisits stay, though a very small N may\n"
+    "step over a short crossing); --duration S cuts the drive after S seconds.\n"
     "The same scenario and seed give byte-identical files for any --jobs.\n\n";
 
 static void synth_on_sigint(int sig)
@@ -53,7 +54,7 @@ int cmd_synth(int argc, char **argv)
     const struct opt opts[] = {
         {"--scenario", OPT_STR, &scenario, "NAME|FILE", "built-in district (port, campus, suburb) or a scenario .json"},
         {"--out", OPT_STR, &out, "DIR", "folder to write the recording to"},
-        {"--seed", OPT_U64, &seed, "S", "seed of the district, route noise and sensor noise (default: the file's)"},
+        {"--seed", OPT_U64, &seed, "S", "seed of the district, scene change, range and pose noise (default: the file's)"},
         {"--scans", OPT_INT, &scans, "N", "N scans spread over the whole drive"},
         {"--duration", OPT_DOUBLE, &duration, "S", "stop the drive after S seconds"},
         {"--sensor", OPT_STR, &sensor, "NAME|FILE", "sensor profile (spin16, spin32, spin64) or a sensor .json"},
