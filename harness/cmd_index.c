@@ -114,11 +114,11 @@ static int index_build(const struct index_opts *o, struct recording_manifest *m,
                        char paths[4][PATH_MAX], struct err *e)
 {
     char outdir[PATH_MAX], base[PATH_MAX];
+    struct stat st;
+    if (stat(o->dir, &st) || !S_ISDIR(st.st_mode)) return err_at(e, o->dir, 0, "not a folder, expected the folder of scans");
     fileio_dirname(outdir, sizeof outdir, o->out);
     if (fileio_mkdirs(outdir, e)) return -1;
     if (!realpath(outdir, base)) return err_at(e, outdir, 0, "cannot resolve folder: %s", strerror(errno));
-    struct stat st;
-    if (stat(o->dir, &st) || !S_ISDIR(st.st_mode)) return err_at(e, o->dir, 0, "not a folder, expected the folder of scans");
     if (o->pattern) snprintf(paths[3], PATH_MAX, "%s", o->pattern);
     else if (index_pick_pattern(o, paths[3], PATH_MAX, e)) return -1;
     if (index_relative(o->dir, base, o->allow_outside, "scan folder", paths[0], PATH_MAX, e) ||

@@ -103,4 +103,30 @@ echo '{"format": "revisit-recording-2"}' > "$T/v2.json"
 err=$("$REVISIT_BIN" inspect "$T/v2.json" 2>&1); rc=$?
 expect "[ $rc -eq 2 ]" "a manifest of another format version exits 2"
 expect_in "$err" "v2.json: \$.format: 'revisit-recording-2' is not a format this version reads" "and says why"
+
+# Usage and input refusals of the two commands, each with its message.
+refuse() {  # expected-fragment description command...
+  local frag=$1 desc=$2; shift 2
+  local err rc
+  err=$("$@" 2>&1 >/dev/null); rc=$?
+  expect "[ $rc -eq 2 ]" "$desc exits 2"
+  expect_in "$err" "$frag" "$desc: message"
+}
+refuse "$T/nothing: not a folder, expected the folder of scans" "index of a missing folder" \
+  "$REVISIT_BIN" index "$T/nothing" --poses "$R/poses.csv"
+expect "[ ! -e '$T/nothing' ]" "index of a missing folder creates nothing"
+mkdir -p "$T/void"
+refuse "no scan files found, expected files ending in .bin" "index of a folder without scans" \
+  "$REVISIT_BIN" index "$T/void" --poses "$R/poses.csv" --allow-outside
+refuse "--channels 70000, expected 1 to 65535" "too many channels" \
+  "$REVISIT_BIN" index "$R/scans" --poses "$R/poses.csv" --channels 70000
+refuse "expected one folder of scans, got 2 arguments" "index of two folders" \
+  "$REVISIT_BIN" index "$R/scans" "$T/void" --poses "$R/poses.csv"
+refuse "option '--poses' is required" "index without --poses" "$REVISIT_BIN" index "$R/scans"
+refuse "--scan-layout: unknown scan layout 'las'" "an unknown scan layout" \
+  "$REVISIT_BIN" index "$R/scans" --poses "$R/poses.csv" --out "$R/x.json" --scan-layout las
+refuse "--pose-layout: unknown pose layout 'zz'" "an unknown pose layout" \
+  "$REVISIT_BIN" index "$R/scans" --poses "$R/poses.csv" --out "$R/x.json" --pose-layout zz
+refuse "expected one recording, got 2 arguments" "inspect of two recordings" "$REVISIT_BIN" inspect "$R" "$R"
+refuse "revisit radius must be a positive number" "a negative radius" "$REVISIT_BIN" inspect "$R" --radius -1
 done_tests
