@@ -36,6 +36,18 @@ double rng_normal(struct rng *r)
     return sqrt(-2.0 * log(u1)) * cos(2.0 * M_PI * u2);
 }
 
+double rng_normal_next(struct rng *r, struct rng_normals *n)
+{
+    if (!n->left) {
+        double u1 = 1.0 - rng_uniform(r), u2 = rng_uniform(r);
+        double rad = sqrt(-2.0 * log(u1)), a = 2.0 * M_PI * u2;
+        n->v[0] = rad * cos(a);
+        n->v[1] = rad * sin(a);
+        n->left = 2;
+    }
+    return n->v[2 - n->left--];
+}
+
 double rng_exp(struct rng *r, double mean)
 {
     return -mean * log(1.0 - rng_uniform(r));

@@ -53,6 +53,14 @@ static inline uint64_t rng_next(struct rng *r)
 double rng_uniform(struct rng *r);
 /* Standard normal (Box-Muller, both uniforms drawn per call). */
 double rng_normal(struct rng *r);
+
+/* Standard normals two at a time: both Box-Muller outputs of one pair of
+ * uniforms, handed out in turn.  Start with {0}; local to one pass. */
+struct rng_normals {
+    double v[2];
+    int left;
+};
+double rng_normal_next(struct rng *r, struct rng_normals *n);
 /* Exponential with the given mean (inversion). */
 double rng_exp(struct rng *r, double mean);
 

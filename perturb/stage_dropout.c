@@ -84,7 +84,8 @@ static void drop_points(struct cloud *c, double p, struct rng *r)
 /* Change points of the renewal process as offsets in [0, 360] from the start
  * azimuth: edge[0] = 0 < edge[1] < ... < edge[m] = 360.  Block b spans
  * [edge[b], edge[b+1]) and is dropped when *first ^ (b & 1).  Returns m. */
-static size_t drop_blocks(double p, double mean, struct rng *r, double *edge, int *first)
+static size_t drop_blocks(double p, double mean, struct rng *r, double *edge, size_t cap,
+                          int *first)
 {
     double gap_mean = mean * (1 - p) / p;
     *first = rng_uniform(r) < p;
@@ -92,7 +93,7 @@ static size_t drop_blocks(double p, double mean, struct rng *r, double *edge, in
     double at = 0;
     edge[0] = 0;
     int dropped = *first;
-    while (at < 360.0 && m + 1 < DROP_MAX_BLOCKS) {
+    while (at < 360.0 && m + 1 < cap) {
         at += rng_exp(r, dropped ? mean : gap_mean);
         edge[++m] = at < 360.0 ? at : 360.0;
         dropped = !dropped;
@@ -116,11 +117,15 @@ static size_t drop_find(const double *edge, size_t m, double x)
 static int drop_bursts(struct cloud *c, double p, double mean, struct rng *r,
                        struct chain_scratch *s, struct err *e)
 {
-    double *edge = stage_buf(s, (DROP_MAX_BLOCKS + 1) * sizeof *edge);
-    if (!edge) return stage_fail(e, "out of memory for %u dropout blocks", DROP_MAX_BLOCKS);
+    /* room for 8 times the mean number of edges (a cycle is mean / p long);
+     * running out is beyond any practical tail and leaves the rest as is */
+    double want = 8.0 * 2.0 * 360.0 * p / mean + 64;
+    size_t cap = want < DROP_MAX_BLOCKS ? (size_t)want : DROP_MAX_BLOCKS;
+    double *edge = stage_buf(s, (cap + 1) * sizeof *edge);
+    if (!edge) return stage_fail(e, "out of memory for %zu dropout blocks", cap);
     double start = 360.0 * rng_uniform(r);
     int first;
-    size_t m = drop_blocks(p, mean, r, edge, &first);
+    size_t m = drop_blocks(p, mean, r, edge, cap, &first);
     size_t j = 0;
     for (size_t k = 0; k < c->n; k++) {
         double x = stage_azimuth_deg(c->pts + 4 * k) - start;

@@ -16,13 +16,15 @@ static const struct chain_param_info noise_params[] = {
 };
 
 /* Draw order per point (fixed, so a seed gives the same scan): the outlier
- * uniform when outliers > 0, then either the outlier range or the noise. */
+ * uniform when outliers > 0, then either the outlier range or the noise.
+ * Normals come in Box-Muller pairs shared across consecutive draws. */
 static int noise_apply(const struct stage *st, struct cloud *c, struct rng *r,
                        struct chain_scratch *s, struct err *e)
 {
     (void)s; (void)e;
     double sigma = st->v[NOISE_SIGMA], share = st->v[NOISE_OUTLIERS];
     int ray = st->v[NOISE_MODE] == NOISE_RAY;
+    struct rng_normals nn = {{0, 0}, 0};
     for (size_t k = 0; k < c->n; k++) {
         float *p = c->pts + 4 * k;
         double x = p[0], y = p[1], z = p[2];
@@ -31,13 +33,13 @@ static int noise_apply(const struct stage *st, struct cloud *c, struct rng *r,
             double f = 1.0 - rng_uniform(r);          /* (0, 1]: before the surface */
             p[0] = (float)(x * f); p[1] = (float)(y * f); p[2] = (float)(z * f);
         } else if (ray) {
-            double nr = rr + sigma * rng_normal(r);
+            double nr = rr + sigma * rng_normal_next(r, &nn);
             double f = rr > 0 ? (nr > 0 ? nr : 0) / rr : 0;
             p[0] = (float)(x * f); p[1] = (float)(y * f); p[2] = (float)(z * f);
         } else {
-            p[0] = (float)(x + sigma * rng_normal(r));
-            p[1] = (float)(y + sigma * rng_normal(r));
-            p[2] = (float)(z + sigma * rng_normal(r));
+            p[0] = (float)(x + sigma * rng_normal_next(r, &nn));
+            p[1] = (float)(y + sigma * rng_normal_next(r, &nn));
+            p[2] = (float)(z + sigma * rng_normal_next(r, &nn));
         }
     }
     return 0;
@@ -66,9 +68,10 @@ static int intensity_apply(const struct stage *st, struct cloud *c, struct rng *
 {
     (void)s; (void)e;
     double scale = st->v[INT_SCALE], sigma = st->v[INT_NOISE], step = st->v[INT_STEP];
+    struct rng_normals nn = {{0, 0}, 0};
     for (size_t k = 0; k < c->n; k++) {
         double v = c->pts[4 * k + 3] * scale;
-        if (sigma > 0) v += sigma * rng_normal(r);
+        if (sigma > 0) v += sigma * rng_normal_next(r, &nn);
         if (v < 0) v = 0;
         if (step > 0) v = step * floor(v / step + 0.5);
         c->pts[4 * k + 3] = (float)v;
