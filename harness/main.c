@@ -1,4 +1,5 @@
 /* main.c: the `revisit` command table and dispatcher. */
+#include <signal.h>
 #include <stdio.h>
 #include <string.h>
 
@@ -63,6 +64,9 @@ static int main_finish(int rc)
 
 int main(int argc, char **argv)
 {
+    /* A file-size limit (ulimit -f) must surface as a write error (EFBIG)
+     * that the atomic writer reports, not as a silent kill mid-file. */
+    signal(SIGXFSZ, SIG_IGN);
     if (argc < 2 || !strcmp(argv[1], "--help") || !strcmp(argv[1], "-h")) {
         main_help(argc < 2 ? stderr : stdout);
         return main_finish(argc < 2 ? CMD_ERROR : CMD_OK);
