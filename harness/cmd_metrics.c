@@ -33,8 +33,10 @@ static const char usage[] =
     "DEVELOPERS.md \"Results folder\").  Ground truth comes from the poses: a pose\n"
     "file (--poses) or a recording (--rec) for the map, and in reloc mode a second\n"
     "one for the queries.  Without either, the poses.csv beside FILE (as a results\n"
-    "folder holds it: set,index,t,x,y,z) is used.  Prints every scalar with its 95%\n"
-    "percentile-bootstrap interval; --json writes them with the exact curve.\n"
+    "folder holds it: set,index,t,x,y,z) is used, and the protocol recorded in the\n"
+    "result.json beside it fills every protocol option not given.  Prints every\n"
+    "scalar with its 95% percentile-bootstrap interval; --json writes them with\n"
+    "the exact curve.\n"
     "--against scores a second results file on the same queries and gives each\n"
     "difference with a paired-bootstrap interval and the share of resamples in\n"
     "which the first is better.\n\n";
@@ -179,6 +181,46 @@ static int mt_load_only(const char *path, size_t **idx, size_t *n, struct err *e
     free(buf);
     if (rc) { free(*idx); *idx = NULL; }
     return rc;
+}
+
+/* A results folder's result.json gives the protocol the results were made
+ * under; fill every protocol option not given on the command line from it,
+ * so scoring the folder again reproduces its numbers.  No result.json, or
+ * one without "protocol": nothing changes.  mode/counting point into bufs. */
+static int mt_folder_protocol(const char *results, struct opt_protocol *op, char bufs[2][16],
+                              int *used, struct err *e)
+{
+    char dir[4096], path[4200], *text;
+    size_t len;
+    struct stat st;
+    fileio_dirname(dir, sizeof dir, results);
+    fileio_join(path, sizeof path, dir, "result.json");
+    if (stat(path, &st)) return 0;
+    if (fileio_read(path, (size_t)64 << 20, &text, &len, e)) return -1;
+    cJSON *root = cJSON_Parse(text);
+    free(text);
+    const cJSON *pr = cJSON_GetObjectItemCaseSensitive(root, "protocol");
+    if (!cJSON_IsObject(pr)) { cJSON_Delete(root); return 0; }
+    const char *keys[2] = {"mode", "counting"};
+    const char **dst[2] = {&op->mode, &op->counting};
+    for (int k = 0; k < 2; k++) {
+        const cJSON *v = cJSON_GetObjectItemCaseSensitive(pr, keys[k]);
+        if (!*dst[k] && cJSON_IsString(v)) {
+            snprintf(bufs[k], 16, "%s", v->valuestring);
+            *dst[k] = bufs[k];
+        }
+    }
+    const cJSON *v;
+    if (isnan(op->r_pos) && cJSON_IsNumber(v = cJSON_GetObjectItemCaseSensitive(pr, "r_pos_m"))) op->r_pos = v->valuedouble;
+    if (isnan(op->r_neg) && cJSON_IsNumber(v = cJSON_GetObjectItemCaseSensitive(pr, "r_neg_m"))) op->r_neg = v->valuedouble;
+    if (isnan(op->excl_s) && cJSON_IsNumber(v = cJSON_GetObjectItemCaseSensitive(pr, "exclusion_s"))) op->excl_s = v->valuedouble;
+    if (op->excl_scans < 0 && cJSON_IsNumber(v = cJSON_GetObjectItemCaseSensitive(pr, "exclusion_scans")))
+        op->excl_scans = (long)v->valuedouble;
+    if (op->top_k < 0 && cJSON_IsNumber(v = cJSON_GetObjectItemCaseSensitive(pr, "top_k"))) op->top_k = (long)v->valuedouble;
+    if (cJSON_IsTrue(cJSON_GetObjectItemCaseSensitive(pr, "planar"))) op->planar = 1;
+    cJSON_Delete(root);
+    *used = 1;
+    return 0;
 }
 
 /* Everything one scoring run holds; mt_free releases it all. */
@@ -435,6 +477,12 @@ int cmd_metrics(int argc, char **argv)
         return err_set(&e, "revisit metrics: --bootstrap expects 0 to 1000000 resamples, got %ld", r.o.bootstrap),
                cmd_report(&e);
     if (!op.mode && (r.o.qposes || r.o.qrec)) op.mode = "reloc";
+    char bufs[2][16];
+    int from_folder = 0;
+    if (!r.o.poses && !r.o.rec && mt_folder_protocol(r.o.results, &op, bufs, &from_folder, &e))
+        return cmd_report(&e);
+    if (from_folder && !r.o.quiet)
+        fprintf(stderr, "revisit metrics: protocol of the results folder (its result.json), options given override it\n");
     int rc = opt_protocol_finish(&op, "metrics", &r.p, &e) || mt_poses(&r, &e) || mt_score(&r, &e) ||
              (r.o.against && mt_against(&r, &e)) || (r.o.json && mt_json(&r, argc, argv, &e));
     if (!rc) mt_print(&r);

@@ -89,6 +89,21 @@ cp poses.csv rec/poses.csv
 "$REVISIT_BIN" index rec --poses rec/poses.csv --channels 1 --quiet > /dev/null 2>&1
 out=$("$REVISIT_BIN" metrics --results q.csv --rec rec --bootstrap 0 2>&1)
 expect_in "$out" "f1max               0.6667" "a recording's poses give the same scores"
+# Agreement with `revisit eval`: scoring an eval results folder again (its
+# poses.csv and the protocol in its result.json) gives the same numbers,
+# intervals included, and options given override the folder's protocol.
+if "$REVISIT_BIN" synth --scenario port --scans 40 --out syn --quiet > /dev/null 2>&1 &&
+   "$REVISIT_BIN" eval --map syn --method range-height --out cell --bootstrap 100 --radius 8 \
+     --counting lenient --quiet > /dev/null 2>&1; then
+  "$REVISIT_BIN" metrics --results cell/queries.csv --bootstrap 100 --json again.json --quiet > /dev/null 2>&1
+  expect '$PYTHON -c "import json,sys; a=json.load(open(\"cell/result.json\")); b=json.load(open(\"again.json\")); sys.exit(not (all(a[\"metrics\"][k]==b[\"metrics\"][k] for k in b[\"metrics\"]) and a[\"curve\"]==b[\"curve\"] and b[\"protocol\"][\"r_pos_m\"]==8 and b[\"protocol\"][\"counting\"]==\"lenient\"))"' \
+    "metrics on an eval folder reproduces its result.json exactly"
+  o1=$("$REVISIT_BIN" metrics --results cell/queries.csv --bootstrap 0 --quiet 2>&1 | head -1)
+  o2=$("$REVISIT_BIN" metrics --results cell/queries.csv --bootstrap 0 --radius 1 --quiet 2>&1 | head -1)
+  expect '[ "$o1" != "$o2" ]' "an option given overrides the folder's protocol"
+else
+  expect false "synth and eval make a results folder for the agreement check"
+fi
 # bad input, each message naming file and line
 bad() {  # content, fragment, description
   printf "$1" > bad.csv
