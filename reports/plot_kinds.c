@@ -5,6 +5,24 @@
 #include "reports/esc.h"
 #include "reports/plot_int.h"
 
+/* A legend entry: at most PLOT_KEY_MAX bytes of the name (cut before a
+ * UTF-8 continuation byte), then "...", so a long label cannot push the
+ * key over the plot.  The tables carry the full name. */
+#define PLOT_KEY_MAX 80
+/* Line plots put the key under the graph, so long names take no width from it. */
+static const char key_below[] = "set key below center vertical Left reverse box maxrows 4\n";
+static void key_title(FILE *f, const char *name)
+{
+    size_t n = strlen(name);
+    if (n <= PLOT_KEY_MAX) { esc_gp(f, name); return; }
+    char cut[PLOT_KEY_MAX + 4];
+    size_t k = PLOT_KEY_MAX;
+    while (k > 0 && ((unsigned char)name[k] & 0xC0) == 0x80) k--;
+    memcpy(cut, name, k);
+    memcpy(cut + k, "...", 4);
+    esc_gp(f, cut);
+}
+
 static double or_y(const double *v, size_t i, double y)
 {
     return v && isfinite(v[i]) ? v[i] : y;
@@ -31,7 +49,7 @@ static void series_line(FILE *f, const char *name, size_t k, const char *with, c
 {
     fprintf(f, "%s'%s.dat' index %zu using 1:2 with %s ls %zu title ", k ? ", \\\n     " : "plot ",
             name, k, with, k % PLOT_NCOLOURS + 1);
-    esc_gp(f, s[k].name);
+    key_title(f, s[k].name);
 }
 
 int plot_degradation(struct plot_set *ps, const char *name, const char *title, const char *xlabel,
@@ -44,7 +62,9 @@ int plot_degradation(struct plot_set *ps, const char *name, const char *title, c
     plot_head(f, name, title);
     fputs("set xlabel ", f); esc_gp(f, xlabel);
     fputs("\nset ylabel ", f); esc_gp(f, ylabel);
-    fputs("\nset yrange [0:1.05]\nset offsets graph 0.03, graph 0.03, 0, 0\n"
+    fputc('\n', f);
+    fputs(key_below, f);
+    fputs("set yrange [0:1.05]\nset offsets graph 0.03, graph 0.03, 0, 0\n"
           "set style fill transparent solid 0.18 noborder\n", f);
     for (size_t k = 0; k < n; k++)
         fprintf(f, "%s'%s.dat' index %zu using 1:3:4 with filledcurves lc rgb '%s' notitle",
@@ -52,7 +72,7 @@ int plot_degradation(struct plot_set *ps, const char *name, const char *title, c
     for (size_t k = 0; k < n; k++) {
         fputs(", \\\n     ", f);
         fprintf(f, "'%s.dat' index %zu using 1:2 with linespoints ls %zu title ", name, k, k % PLOT_NCOLOURS + 1);
-        esc_gp(f, s[k].name);
+        key_title(f, s[k].name);
     }
     fputc('\n', f);
     plot_tail(f, name);
@@ -68,6 +88,7 @@ int plot_pr(struct plot_set *ps, const char *name, const char *title,
     if (plot_open(ps, &a, name, "gp", e)) return -1;
     FILE *f = a.f;
     plot_head(f, name, title);
+    fputs(key_below, f);
     fputs("set xlabel 'recall'\nset ylabel 'precision'\nset xrange [0:1]\nset yrange [0:1.05]\n", f);
     for (size_t k = 0; k < n; k++) series_line(f, name, k, "lines", s);
     fputc('\n', f);
