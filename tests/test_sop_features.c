@@ -162,8 +162,8 @@ static void test_context(void)
     ctx_spatial(&s->p, g, 3, d, out);
     CHECK(out[0] == 2 && out[d] == 1 && out[2 * d] == 2, "k = 1: context is the nearest segment's F_a");
     sop_free(s);
-    double over2[] = {S_KSP, 2, S_TEMP, 1.0};
-    s = make(over2, 2);
+    double over2[] = {S_KSP, 2, S_TEMP, 1.0, S_SELF, 0};  /* earlier scans only */
+    s = make(over2, 3);
     ctx_spatial(&s->p, g, 3, d, out);
     /* softmax(-d) of d = 1 and 5: weights 1 / (1 + e^-4) and e^-4 / (1 + e^-4) */
     double w = 1 / (1 + exp(-4.0));
@@ -194,8 +194,8 @@ static void test_context(void)
      * estimate every segment finds itself; without it the centroid gate
      * (4 m) pairs segment 1 with segment 2's old place */
     for (int shift_on = 1; shift_on >= 0; shift_on--) {
-        double ov[] = {S_SHIFT, shift_on};
-        s = make(ov, 1);
+        double ov[] = {S_SHIFT, shift_on, S_SELF, 0};
+        s = make(ov, 2);
         ctx_temporal(&s->p, g, 3, d, &s->hist, t0);
         memcpy(moved, g, sizeof g);
         for (int i = 0; i < 3; i++)
@@ -206,6 +206,19 @@ static void test_context(void)
                                                 : "no ego shift: the 4.5 m move breaks the matches");
         sop_free(s);
     }
+
+    /* temporal_self: the segment is pooled with its track, weight 1 + track
+     * each: first scan -> its own F_a; second, matched -> (2 F_a + 1 F_a') / 3 */
+    s = make(NULL, 0);
+    ctx_temporal(&s->p, g, 3, d, &s->hist, t0);
+    CHECK(t0[0] == 1 && t0[d] == 2 && t0[1] == g[0].fa[1], "temporal_self: no history gives F_a itself");
+    struct sop_seg tweak[3];
+    memcpy(tweak, g, sizeof g);
+    tweak[0].fa[1] += 0.3f;
+    ctx_temporal(&s->p, tweak, 3, d, &s->hist, t1);
+    CHECK_NEAR(t1[1], (2 * (double)tweak[0].fa[1] + g[0].fa[1]) / 3, 1e-6,
+               "temporal_self: track-weighted mean of the segment and its match");
+    sop_free(s);
 }
 
 static void test_pool(void)

@@ -18,7 +18,14 @@
  * Following the correspondence links back over at most `history` scans gives
  * a chain of segments m; T_i = sum_m (1 + track_m) F_a[m] / sum_m (1 + track_m),
  * where track_m counts the consecutive scans segment m had been matched, so
- * consistently matched segments weigh more.  No match: T_i = 0.
+ * consistently matched segments weigh more.
+ * With temporal_self (the default) the chain starts at segment i itself, so
+ * T_i is its features smoothed along its track and an unmatched segment has
+ * T_i = F_a[i]; without it the chain holds earlier scans only and an
+ * unmatched segment keeps T_i = 0.  The default is there because on our
+ * synthetic drives the zero rule made F_b jump between (S + T)/2 and S/2
+ * depending on whether a match was found, and the full method scored below
+ * F_a alone (see README "M2DP and segment pooling" for the numbers).
  *
  * Ties between equal distances are broken by the centroid coordinates, never
  * by the segments' positions in the array, so a permutation of the segments
@@ -287,6 +294,11 @@ int ctx_temporal(const struct sop_params *p, const struct sop_seg *s, size_t n, 
         link[i] = h->len ? ctx_match(p, &s[i], dim, ctx_age(h, 0), shift, by_c, by_f) : -1;
         track[i] = link[i] < 0 ? 0 : 1 + ctx_age(h, 0)->track[link[i]];
         double wsum = 0, *o = out + i * (size_t)dim;
+        if (p->temporal_self) {  /* the segment itself, weighted as one more scan of its track */
+            wsum = 1.0 + track[i];
+            for (int a = 0; a < dim; a++)
+                o[a] = wsum * s[i].fa[a];
+        }
         int32_t m = link[i];
         for (int age = 0; age < h->len && m >= 0; age++) {
             const struct ctx_frame *f = ctx_age(h, age);

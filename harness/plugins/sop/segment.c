@@ -1,14 +1,16 @@
 /* segment.c: Euclidean clustering for sop as connected components of a voxel
- * grid.  Non-ground points fall into voxels of voxel_m; two voxels that
- * share a face, an edge or a corner belong to one segment, so two points
- * join when they are closer than voxel_m and may join up to about
- * 2·sqrt(3)·voxel_m apart.  A segment is kept when it has min_points to
+ * grid.  Non-ground points fall into voxels of voxel_m / 2; two voxels up
+ * to two cells apart on each axis join when their point centroids are
+ * within voxel_m.  Testing centroid distances rather than voxel adjacency
+ * keeps the tolerance nearly the same in every direction, so segments do
+ * not split or merge when the sensor turns (plain 26-neighbour adjacency
+ * reaches from 1 to 2·sqrt(3) voxels depending on direction).  A segment is kept when it has min_points to
  * max_points points and its horizontal size sqrt(12 (l1 + l2)) (l the
  * eigenvalues of its x, y covariance; the diagonal of a uniformly filled
  * rectangle) is at most max_extent_m.
  *
  * Voxels live in an open-addressing hash table keyed by their packed grid
- * coordinates; components come from union-find over the 13 forward
+ * coordinates; components come from union-find over the 62 forward
  * neighbours of each voxel.  Segment order is the order in which their
  * first point appears in the scan.
  */
@@ -86,32 +88,41 @@ static int seg_grid_build(const struct sop_params *p, const float *xyzi, size_t 
     g->slot_id = malloc(sizeof *g->slot_id * cap);
     g->parent = malloc(sizeof *g->parent * (n + 1));
     g->vkey = malloc(sizeof *g->vkey * (n + 1));
-    if (!g->keys || !g->slot_id || !g->parent || !g->vkey)
-        return -1;
+    double *cen = calloc(4 * (n + 1), sizeof *cen);  /* per voxel: sum x, y, z, count */
+    if (!g->keys || !g->slot_id || !g->parent || !g->vkey || !cen)
+        return free(cen), -1;
     memset(g->keys, 0xff, sizeof *g->keys * cap);
     g->mask = cap - 1;
-    double inv = 1.0 / p->voxel_m, lim = SEG_BIAS - 2;
+    double inv = 2.0 / p->voxel_m, lim = SEG_BIAS - 4, tol2 = p->voxel_m * p->voxel_m;
     for (size_t k = 0; k < n; k++) {
         const float *q = xyzi + 4 * k;
         double fx = floor(q[0] * inv), fy = floor(q[1] * inv), fz = floor(q[2] * inv);
         vox[k] = UINT32_MAX;
         if (ground[k] || !(fabs(fx) < lim && fabs(fy) < lim && fabs(fz) < lim))
             continue;
-        vox[k] = seg_lookup(g, seg_key((int)fx, (int)fy, (int)fz), 1);
+        uint32_t v = vox[k] = seg_lookup(g, seg_key((int)fx, (int)fy, (int)fz), 1);
+        cen[4 * v] += q[0], cen[4 * v + 1] += q[1], cen[4 * v + 2] += q[2], cen[4 * v + 3] += 1;
     }
-    static const int off[13][3] = {{1, 0, 0}, {0, 1, 0}, {0, 0, 1}, {1, 1, 0}, {1, -1, 0},
-                                   {1, 0, 1}, {1, 0, -1}, {0, 1, 1}, {0, 1, -1}, {1, 1, 1},
-                                   {1, 1, -1}, {1, -1, 1}, {1, -1, -1}};
+    for (uint32_t v = 0; v < g->nvox; v++)
+        for (int a = 0; a < 3; a++)
+            cen[4 * v + a] /= cen[4 * v + 3];
     for (uint32_t v = 0; v < g->nvox; v++) {
         uint64_t key = g->vkey[v];
         int x = (int)(key >> 42) - SEG_BIAS, y = (int)((key >> 21) & 0x1fffff) - SEG_BIAS;
         int z = (int)(key & 0x1fffff) - SEG_BIAS;
-        for (int o = 0; o < 13; o++) {
-            uint32_t w = seg_lookup(g, seg_key(x + off[o][0], y + off[o][1], z + off[o][2]), 0);
-            if (w != UINT32_MAX)
-                seg_union(g->parent, v, w);
-        }
+        for (int dx = 0; dx <= 2; dx++)  /* the forward half of the 5x5x5 block */
+            for (int dy = dx ? -2 : 0; dy <= 2; dy++)
+                for (int dz = dx || dy ? -2 : 1; dz <= 2; dz++) {
+                    uint32_t w = seg_lookup(g, seg_key(x + dx, y + dy, z + dz), 0);
+                    if (w == UINT32_MAX)
+                        continue;
+                    double ex = cen[4 * v] - cen[4 * w], ey = cen[4 * v + 1] - cen[4 * w + 1];
+                    double ez = cen[4 * v + 2] - cen[4 * w + 2];
+                    if (ex * ex + ey * ey + ez * ez <= tol2)
+                        seg_union(g->parent, v, w);
+                }
     }
+    free(cen);
     return 0;
 }
 

@@ -20,7 +20,7 @@
 enum {
     S_GCELL, S_GHEIGHT, S_GRANGE, S_SLOPE, S_RANSAC, S_VOXEL, S_MINPTS, S_MAXPTS, S_MAXEXT,
     S_EXTSCALE, S_HSCALE, S_BINS, S_KSP, S_TEMP, S_KTEMP, S_HIST, S_MW, S_MSCALE, S_MMAX,
-    S_FSCALE, S_SHIFT, S_SHIFTMIN, S_ALPHA, S_POWER, S_CONTEXT, S_COUNT
+    S_FSCALE, S_SHIFT, S_SHIFTMIN, S_SELF, S_ALPHA, S_POWER, S_CONTEXT, S_COUNT
 };
 
 static const struct rv_setting sop_settings[S_COUNT] = {
@@ -29,7 +29,7 @@ static const struct rv_setting sop_settings[S_COUNT] = {
     {"ground_range_m", RV_SET_FLOAT, 40, 1, 500, NULL, "ground candidates within this horizontal range"},
     {"max_slope_deg", RV_SET_FLOAT, 15, 0, 89, NULL, "steepest ground plane accepted"},
     {"ransac_iters", RV_SET_INT, 50, 1, 10000, NULL, "plane hypotheses tried on the ground candidates"},
-    {"voxel_m", RV_SET_FLOAT, 0.5, 0.05, 10, NULL, "voxel size of the clustering grid (touching voxels join)"},
+    {"voxel_m", RV_SET_FLOAT, 0.8, 0.05, 10, NULL, "clustering tolerance: voxels of half this size join when their centroids are this close"},
     {"min_points", RV_SET_INT, 80, 1, 1000000, NULL, "smallest segment kept, in points"},
     {"max_points", RV_SET_INT, 20000, 1, 10000000, NULL, "largest segment kept, in points"},
     {"max_extent_m", RV_SET_FLOAT, 30, 0.1, 1000, NULL, "segments with a larger horizontal size sqrt(12 (l1 + l2)) are dropped"},
@@ -46,6 +46,8 @@ static const struct rv_setting sop_settings[S_COUNT] = {
     {"feature_scale", RV_SET_FLOAT, 1, 0.001, 100, NULL, "feature distances are divided by this in the match cost"},
     {"ego_shift", RV_SET_BOOL, 1, 0, 1, NULL, "estimate the scene shift between scans before matching"},
     {"shift_min_pairs", RV_SET_INT, 3, 1, 1000, NULL, "mutual feature matches needed to estimate the shift"},
+    {"temporal_self", RV_SET_BOOL, 1, 0, 1, NULL,
+     "the temporal context pools the segment itself too (false: earlier scans only, zero without a match)"},
     {"alpha", RV_SET_FLOAT, 0.5, 0.01, 4, NULL, "power applied to the singular values of the pooled matrix"},
     {"power", RV_SET_BOOL, 1, 0, 1, NULL, "apply the power-Euclidean transform (false: ablation)"},
     {"context", RV_SET_CHOICE, 0, 0, 3, "both|spatial|temporal|none",
@@ -98,6 +100,7 @@ static void sop_params_from(const double *v, struct sop_params *p)
     p->match_weight = v[S_MW], p->match_scale_m = v[S_MSCALE];
     p->match_max_m = v[S_MMAX], p->feature_scale = v[S_FSCALE];
     p->ego_shift = v[S_SHIFT] != 0, p->shift_min_pairs = (int)v[S_SHIFTMIN];
+    p->temporal_self = v[S_SELF] != 0;
     p->alpha = v[S_ALPHA], p->power = v[S_POWER] != 0;
     p->context = (enum sop_context)(int)v[S_CONTEXT];
 }
@@ -180,20 +183,12 @@ static int sop_from_segments(struct sop *s, const struct sop_seg *seg, size_t n,
     if ((sp && ctx_spatial(p, seg, n, s->dim, s->spatial))
         || (tp && ctx_temporal(p, seg, n, s->dim, &s->hist, s->temporal)))
         return snprintf(msg, msg_len, "out of memory"), RV_ERR_NOMEM;
-    /* F_b is the mean of the contexts a segment has: an unmatched segment
-     * keeps zero temporal context, and its F_b is the spatial one alone
-     * (halving it instead would make the pooled maxima depend on whether a
-     * match happened to be found). */
-    for (size_t i = 0; i < n; i++) {
-        int matched = 0;  /* an unmatched segment's temporal row is all zeros */
-        for (size_t a = 0; tp && a < d; a++)
-            matched |= s->temporal[i * d + a] != 0;
+    for (size_t i = 0; i < n; i++)
         for (size_t a = 0; a < d; a++) {
             size_t k = i * d + a;
-            s->fb[k] = sp && matched ? 0.5 * (s->spatial[k] + s->temporal[k])
+            s->fb[k] = sp && tp ? 0.5 * (s->spatial[k] + s->temporal[k])
                      : sp ? s->spatial[k] : tp ? s->temporal[k] : seg[i].fa[a];
         }
-    }
     double t1 = times ? sop_clock() : 0;
     pool_second_order(seg, s->fb, n, s->dim, s->pooled);
     if (p->power && n && pool_power(s->pooled, s->dim, p->alpha))

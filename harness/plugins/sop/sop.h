@@ -42,7 +42,7 @@ struct sop_params {
     double context_temp_m;
     int k_temporal, history;
     double match_weight, match_scale_m, match_max_m, feature_scale;
-    int ego_shift, shift_min_pairs;
+    int ego_shift, shift_min_pairs, temporal_self;
     double alpha;
     int power;
     enum sop_context context;
