@@ -35,7 +35,7 @@ struct kd_tree {
     double *pts;               /* positions in perm order, for locality */
     double *tk;                /* times in perm order, or NULL */
     struct kd_node *nodes;
-    size_t n_nodes;
+    size_t n_nodes, cap;
 };
 
 /* Candidate limits of one query: j is a candidate iff j <= idx_max and
@@ -112,6 +112,7 @@ static void kd_bounds(const struct kd_tree *t, struct kd_node *nd)
 
 static long kd_build_node(struct kd_tree *t, size_t begin, size_t end)
 {
+    assert(t->n_nodes < t->cap);
     long id = (long)t->n_nodes++;
     struct kd_node *nd = &t->nodes[id];
     nd->begin = begin;
@@ -137,8 +138,11 @@ static int kd_build(struct kd_tree *t, const double *xyz, const double *times, s
     t->t = times;
     t->n_nodes = 0;
     t->perm = malloc((n ? n : 1) * sizeof *t->perm);
-    /* Leaves hold at least GT_LEAF/2 + 1 points, so n nodes always suffice. */
-    t->nodes = malloc((n ? n : 1) * sizeof *t->nodes);
+    /* A split node has more than GT_LEAF points and halves them, so every
+     * leaf below it keeps at least GT_LEAF/2: at most n/(GT_LEAF/2) leaves
+     * and twice as many nodes. */
+    t->cap = 2 * (n / (GT_LEAF / 2)) + 1;
+    t->nodes = malloc(t->cap * sizeof *t->nodes);
     t->pts = malloc((n ? n : 1) * 3 * sizeof *t->pts);
     if (!t->perm || !t->nodes || !t->pts) return -1;
     for (size_t j = 0; j < n; j++) t->perm[j] = j;
