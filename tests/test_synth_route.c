@@ -6,6 +6,7 @@
 
 #include "scenarios/district.h"
 #include "scenarios/route.h"
+#include "scenarios/synconf.h"
 #include "tests/check.h"
 
 static void flat_params(struct district_params *p, int roundabouts)
@@ -186,8 +187,31 @@ static void determinism(void)
     world_free(&a); world_free(&b); world_free(&c);
 }
 
+/* The demo's promise: the default port drive holds at least 1,500 scans of
+ * a 32-channel sensor at 10 Hz. */
+static void demo_size(void)
+{
+    struct synconf c;
+    struct err e;
+    struct world w;
+    struct district d;
+    struct route r;
+    world_init(&w);
+    CHECK(!synconf_load("port", NULL, &c, &e), "port loads");
+    struct district_params p = c.world;
+    p.seed = c.seed;
+    CHECK(!district_build(&d, &w, &p, &e) && !route_build(&r, &d, &c.route, &e), "port drive builds");
+    size_t scans = (size_t)floor((r.duration_s - 1 / c.sensor.spin_hz) * c.rate_hz) + 1;
+    CHECK(scans >= 1500 && c.sensor.channels == 32 && c.rate_hz == 10,
+          "the port drive holds at least 1,500 scans of 32 channels at 10 Hz");
+    route_free(&r);
+    district_free(&d);
+    world_free(&w);
+}
+
 int main(void)
 {
+    demo_size();
     straight_and_corner();
     roundabout();
     revisit_kinds();

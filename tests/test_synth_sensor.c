@@ -81,6 +81,15 @@ static void wall_range(void)
         if (fabs(r - dist / cos(th)) < 1e-4) found++;
     }
     CHECK(found == 8, "wall range equals w / cos theta on each of the 8 channels");
+    /* Intensity = reflectivity x |cos incidence| / (1 + (r / falloff)^2): the
+     * wall's normal is -x, so the incidence angle is the elevation. */
+    int inten_ok = 0;
+    for (size_t k = 0; k < c.n; k++) {
+        if (c.time[k] != 0) continue;
+        double th = L.elev_deg[c.ring[k]] * M_PI / 180, r = dist / cos(th), q = r / L.falloff_m;
+        if (fabs(CLOUD_I(&c, k) - 0.5 * cos(th) / (1 + q * q)) < 1e-6) inten_ok++;
+    }
+    CHECK(inten_ok == 8, "intensity follows reflectivity, incidence and range fall-off");
     /* Turning the vehicle by 90 degrees moves the wall to azimuth 270. */
     struct lidar_motion mt = {{0, 0, 0}, M_PI / 2, {0, 0, 0}, M_PI / 2};
     CHECK(!lidar_scan(&L, &w, &mt, 0, 0, 1, 0, &c, NULL, &e), "scan turned by 90 degrees");
@@ -88,6 +97,46 @@ static void wall_range(void)
     for (size_t k = 0; k < c.n; k++)
         if (fabs(CLOUD_Y(&c, k) + dist) < 1e-3 && fabs(CLOUD_X(&c, k)) < 1e-3) at270++;
     CHECK(at270 == 8, "heading turns the scene the other way in the sensor frame");
+    cloud_free(&c);
+    world_free(&w);
+}
+
+static void motion(void)
+{
+    /* Driving at v toward a wall during a sweep of period T: the ray fired at
+     * fraction f of the sweep starts v f T further on, so straight ahead the
+     * range shrinks by v f T (common practice, no source). */
+    struct world w;
+    struct err e;
+    world_init(&w);
+    CHECK(!world_add(&w, geom_box(30.5, 0, 0, 0.5, 50, 50, 0), &e) && !world_finish(&w, &e),
+          "wall world for motion builds");
+    struct lidar L;
+    quiet_sensor(&L, 3, -1, 1);
+    L.motion = 1;
+    const double v = 10, T = 1 / L.spin_hz;
+    struct lidar_motion m = {{0, 0, 0}, 0, {v * T, 0, 0}, 0};
+    struct cloud c;
+    cloud_init(&c);
+    CHECK(!lidar_scan(&L, &w, &m, 0, 0, 1, 0, &c, NULL, &e), "moving scan");
+    int cols = lidar_columns(&L);
+    double first = -1, last = -1, tlast = 0;
+    for (size_t k = 0; k < c.n; k++) {
+        if (c.ring[k] != 1) continue;            /* the level channel */
+        double az = atan2(CLOUD_Y(&c, k), CLOUD_X(&c, k));
+        if (c.time[k] == 0) first = CLOUD_X(&c, k);
+        if (fabs(az + 2 * M_PI / cols) < 1e-6) { last = CLOUD_X(&c, k); tlast = c.time[k]; }
+    }
+    CHECK_NEAR(first, 30, 1e-5, "the first column sees the wall 30 m ahead");
+    double f = (double)(cols - 1) / cols, want = 30 - v * f * T;   /* x to the wall plane */
+    CHECK_NEAR(last, want, 1e-4, "the last column sees it v f T closer");
+    CHECK_NEAR(tlast, f * T, 1e-7, "the last column fires at f T");
+    L.motion = 0;
+    CHECK(!lidar_scan(&L, &w, &m, 0, 0, 1, 0, &c, NULL, &e), "scan from one pose");
+    for (size_t k = 0; k < c.n; k++)
+        if (c.ring[k] == 1 && fabs(atan2(CLOUD_Y(&c, k), CLOUD_X(&c, k)) + 2 * M_PI / cols) < 1e-6)
+            last = CLOUD_X(&c, k);
+    CHECK_NEAR(last, 30, 1e-4, "with motion off the whole sweep is cast from the start pose");
     cloud_free(&c);
     world_free(&w);
 }
@@ -173,6 +222,7 @@ int main(void)
 {
     ground_range();
     wall_range();
+    motion();
     accounting();
     bad_sensor();
     return check_done();
