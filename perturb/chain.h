@@ -117,6 +117,17 @@ int chain_apply(const struct chain *ch, struct cloud *in_out, uint64_t run_seed,
                 uint32_t scan_index, struct chain_scratch *s,
                 struct chain_stats *stats, struct err *e);
 
+/* The same with a set number that keys the per-scan streams too:
+ * (run seed, set, scan index, stage index).  Use a different set for the
+ * map and the query recording of a relocalisation run with the chain on
+ * both, so that map scan i and query scan i do not share their per-scan
+ * draws (a random yaw would otherwise turn both alike).  Per-recording
+ * draws (draw=recording) ignore the set: a fixed mount blocks the same
+ * sector in both.  set 0 is exactly chain_apply; set < UINT32_MAX. */
+int chain_apply_set(const struct chain *ch, struct cloud *in_out, uint64_t run_seed,
+                    uint32_t set, uint32_t scan_index, struct chain_scratch *s,
+                    struct chain_stats *stats, struct err *e);
+
 /* ---- the stage table (what --list prints) -------------------------------- */
 
 enum chain_kind {

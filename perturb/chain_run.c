@@ -126,6 +126,15 @@ void chain_stats_add(struct chain_stats *dst, const struct chain_stats *src)
 int chain_apply(const struct chain *ch, struct cloud *c, uint64_t run_seed, uint32_t scan_index,
                 struct chain_scratch *s, struct chain_stats *stats, struct err *e)
 {
+    return chain_apply_set(ch, c, run_seed, 0, scan_index, s, stats, e);
+}
+
+int chain_apply_set(const struct chain *ch, struct cloud *c, uint64_t run_seed, uint32_t set,
+                    uint32_t scan_index, struct chain_scratch *s, struct chain_stats *stats,
+                    struct err *e)
+{
+    if (set == UINT32_MAX) return stage_fail(e, "chain: set number %u is reserved", set);
+    uint64_t key = (uint64_t)set << 32 | scan_index;   /* never RNG_RECORDING */
     if (stats) {
         memset(stats, 0, sizeof *stats);
         stats->n_stages = ch->n;
@@ -133,7 +142,7 @@ int chain_apply(const struct chain *ch, struct cloud *c, uint64_t run_seed, uint
     for (size_t i = 0; i < ch->n; i++) {
         const struct stage *st = &ch->st[i];
         struct rng r;
-        rng_seed(&r, run_seed, st->per_recording ? RNG_RECORDING : (uint64_t)scan_index, i);
+        rng_seed(&r, run_seed, st->per_recording ? RNG_RECORDING : key, i);
         size_t in = c->n;
         if (st->def->apply(st, c, &r, s, e)) {
             if (e) {

@@ -101,6 +101,33 @@ static void reproducible(void)
     apply("sector:width=60", &p, 7, 1, NULL);
     apply("sector:width=60", &q, 7, 2, NULL);
     CHECK(!same_cloud(&p, &q), "draw=scan blocks another sector in another scan");
+    cloud_free(&p); cloud_free(&q);
+    /* sets: set 0 is chain_apply; another set changes per-scan draws only */
+    struct cloud s0, s1;
+    struct chain *cy;
+    struct err ey = {{0}};
+    struct chain_scratch sy;
+    chain_scratch_init(&sy);
+    chain_parse("yaw+sector:width=50,draw=recording", &cy, &ey);
+    make_scan(&s0, 1); make_scan(&s1, 1); make_scan(&p, 1);
+    chain_apply(cy, &p, 7, 4, &sy, NULL, &ey);
+    chain_apply_set(cy, &s0, 7, 0, 4, &sy, NULL, &ey);
+    chain_apply_set(cy, &s1, 7, 1, 4, &sy, NULL, &ey);
+    CHECK(same_cloud(&p, &s0), "set 0 gives exactly chain_apply");
+    CHECK(!same_cloud(&s0, &s1), "another set gives another per-scan yaw");
+    cloud_free(&s0); cloud_free(&s1);
+    chain_free(cy);
+    chain_parse("sector:width=50,draw=recording", &cy, &ey);
+    make_scan(&s0, 1); make_scan(&s1, 1);
+    chain_apply_set(cy, &s0, 7, 0, 4, &sy, NULL, &ey);
+    chain_apply_set(cy, &s1, 7, 1, 9, &sy, NULL, &ey);
+    CHECK(same_cloud(&s0, &s1) && s0.n < (size_t)NAZ * NCH,
+          "the per-recording sector is the same in both sets and every scan");
+    CHECK(chain_apply_set(cy, &s1, 7, UINT32_MAX, 4, &sy, NULL, &ey) == -1, "the last set is reserved");
+    CHECK_MSG(ey.msg, "chain: set number 4294967295 is reserved", "reserved set message");
+    chain_scratch_free(&sy);
+    chain_free(cy);
+    cloud_free(&s0); cloud_free(&s1);
     cloud_free(&p); cloud_free(&q); cloud_free(&a); cloud_free(&b); cloud_free(&c0);
 }
 
