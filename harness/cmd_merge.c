@@ -125,7 +125,10 @@ int cmd_merge(int argc, char **argv)
         opt_print_help(stdout, opts);
         return CMD_OK;
     }
-    if (!out) return err_set(&e, "revisit merge: option '--out' is required"), cmd_report(&e);
-    if (a.n < 1) return err_set(&e, "revisit merge: expected one or more shard folders"), cmd_report(&e);
+    if (!out || a.n < 1) {
+        err_set(&e, !out ? "revisit merge: option '--out' is required"
+                         : "revisit merge: expected one or more shard folders");
+        return cmd_report(&e);
+    }
     return merge_run(out, a.n, a.v, quiet, &e) ? cmd_report(&e) : CMD_OK;
 }

@@ -110,11 +110,13 @@ int cmd_sweep(int argc, char **argv)
         opt_print_help(stdout, opts);
         return CMD_OK;
     }
-    if (a.n != 1) return err_set(&e, "revisit sweep: expected one scenario file, got %d arguments", a.n), cmd_report(&e);
-    if (!o.out_dir && !dry) return err_set(&e, "revisit sweep: option '--out' is required"), cmd_report(&e);
-    if (shard && plan_parse_shard(shard, &o.shard_i, &o.shard_n, &e)) return err_wrap(&e, "revisit sweep: --shard"), cmd_report(&e);
-    if (jobs < 0 || jobs > 256 || cell_jobs < 1 || cell_jobs > 256)
-        return err_set(&e, "revisit sweep: --jobs and --cell-jobs expect 1 to 256"), cmd_report(&e);
+    if (a.n != 1) err_set(&e, "revisit sweep: expected one scenario file, got %d arguments", a.n);
+    else if (!o.out_dir && !dry) err_set(&e, "revisit sweep: option '--out' is required");
+    else if (shard && plan_parse_shard(shard, &o.shard_i, &o.shard_n, &e)) err_wrap(&e, "revisit sweep: --shard");
+    else if (jobs < 0 || jobs > 256 || cell_jobs < 1 || cell_jobs > 256)
+        err_set(&e, "revisit sweep: --jobs expects 0 (online cores) to 256 and --cell-jobs 1 to 256");
+    else e.msg[0] = 0;
+    if (e.msg[0]) return cmd_report(&e);
     o.jobs = (int)jobs;
     o.cell_jobs = (int)cell_jobs;
     o.run = eval_run;

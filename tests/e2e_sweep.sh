@@ -133,6 +133,21 @@ expect_in "$(cat err)" "shard '3/3' is not valid, expected I/N" "and names the f
 "$REVISIT_BIN" sweep s.json 2>err; rc=$?
 expect "[ $rc -eq 2 ]" "a sweep without --out exits 2"
 expect_in "$(cat err)" "option '--out' is required" "and names the option"
+"$REVISIT_BIN" sweep 2>err; rc=$?
+expect "[ $rc -eq 2 ]" "a sweep without a scenario exits 2"
+expect_in "$(cat err)" "expected one scenario file, got 0 arguments" "and says what it expected"
+"$REVISIT_BIN" sweep s.json --out x --jobs 999 2>err; rc=$?
+expect "[ $rc -eq 2 ]" "--jobs out of range exits 2"
+expect_in "$(cat err)" "--jobs expects 0 (online cores) to 256" "and gives the range"
+"$REVISIT_BIN" merge par/0 2>err; rc=$?
+expect "[ $rc -eq 2 ]" "merge without --out exits 2"
+expect_in "$(cat err)" "revisit merge: option '--out' is required" "and names the option"
+"$REVISIT_BIN" merge --out m3 2>err; rc=$?
+expect "[ $rc -eq 2 ]" "merge without folders exits 2"
+expect_in "$(cat err)" "expected one or more shard folders" "and says so"
+"$REVISIT_BIN" merge --out m3 nowhere 2>err; rc=$?
+expect "[ $rc -eq 2 ]" "merge of a folder that is no sweep exits 2"
+expect_in "$(cat err)" "nowhere is not a sweep folder" "and names the folder"
 sed 's/sector:at=random/sectr:at=random/' s.json > u.json
 "$REVISIT_BIN" sweep u.json --out u 2>err; rc=$?
 expect "[ $rc -eq 2 ] && [ ! -d u ]" "a bad chain is refused before any cell runs"
