@@ -147,6 +147,16 @@ static int kd_build(struct kd_tree *t, const double *xyz, const double *times, s
     if (!t->perm || !t->nodes || !t->pts) return -1;
     for (size_t j = 0; j < n; j++) t->perm[j] = j;
     if (n) kd_build_node(t, 0, n);
+    /* Within a leaf, scans in index order, so the leaf loops of kd_nearest
+     * and kd_count stop at the first scan past the query's index limit. */
+    for (size_t id = 0; id < t->n_nodes; id++) {
+        const struct kd_node *nd = &t->nodes[id];
+        if (nd->left >= 0) continue;
+        for (size_t k = nd->begin + 1; k < nd->end; k++)
+            for (size_t m = k; m > nd->begin && t->perm[m - 1] > t->perm[m]; m--) {
+                size_t sw = t->perm[m]; t->perm[m] = t->perm[m - 1]; t->perm[m - 1] = sw;
+            }
+    }
     for (size_t k = 0; k < n; k++) memcpy(t->pts + 3 * k, xyz + 3 * t->perm[k], 3 * sizeof *xyz);
     if (times) {
         t->tk = malloc((n ? n : 1) * sizeof *t->tk);
@@ -223,7 +233,7 @@ static void kd_nearest(const struct kd_tree *t, long id, const double *x,
     const struct kd_node *nd = &t->nodes[id];
     if (box2 > best->s || node_none(nd, lim)) return;
     if (nd->left < 0) {
-        for (size_t k = nd->begin; k < nd->end; k++) {
+        for (size_t k = nd->begin; k < nd->end && (long)t->perm[k] <= lim->idx_max; k++) {
             if (!point_ok(t, k, lim)) continue;
             size_t j = t->perm[k];
             double s = dist2(t->pts + 3 * k, x);
@@ -267,7 +277,7 @@ static size_t kd_count(const struct kd_tree *t, long id, struct kd_ball *b)
     }
     if (nd->left >= 0) return kd_count(t, nd->left, b) + kd_count(t, nd->right, b);
     size_t c = 0;
-    for (size_t k = nd->begin; k < nd->end; k++) {
+    for (size_t k = nd->begin; k < nd->end && (long)t->perm[k] <= b->lim->idx_max; k++) {
         double s = dist2(t->pts + 3 * k, b->x);
         if (s > b->r2 * (1 + 1e-12) || !point_ok(t, k, b->lim)) continue;
         if (s > b->r2 * (1 - 1e-12) && !(sqrt(s) <= b->r)) continue;   /* sqrt only near the rim */
