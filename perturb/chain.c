@@ -128,9 +128,9 @@ static int parse_number(struct parser *p, const struct chain_param_info *pi,
         p->pos += 6;
         return 0;
     }
-    char *end;
-    double v = (isdigit((unsigned char)*s) || *s == '-' || *s == '+' || *s == '.')
-                   ? strtod(s, &end) : (end = (char *)s, 0.0);
+    char *end = (char *)s;   /* no number unless it starts like one (no "inf", "nan") */
+    double v = 0;
+    if (isdigit((unsigned char)*s) || *s == '-' || *s == '+' || *s == '.') v = strtod(s, &end);
     if (end == s || !isfinite(v))
         return perr(p, at, "expected %s for '%s'%s", pi->expect, pi->key,
                     pi->may_random ? " (or random)" : "");
@@ -173,8 +173,9 @@ static int parse_list(struct parser *p, const struct chain_param_info *pi, struc
     memset(st->list, 0, sizeof st->list);
     for (;;) {
         const char *s = p->text + p->pos;
-        char *end;
-        long v = isdigit((unsigned char)*s) ? strtol(s, &end, 10) : (end = (char *)s, -1);
+        char *end = (char *)s;
+        long v = -1;
+        if (isdigit((unsigned char)*s)) v = strtol(s, &end, 10);
         if (end == s || v < pi->min || v > pi->max || v > 255)
             return perr(p, p->pos, "expected %s for '%s'", pi->expect, pi->key);
         st->list[v / 64] |= 1ull << (v % 64);
