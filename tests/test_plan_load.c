@@ -131,6 +131,31 @@ static void check_bad(void)
               "conditions[0].chain: expected a non-empty string", "an empty chain is refused");
     CHECK_MSG(bad(HEAD M1 C1 ", \"bootstrap\": {\"resamples\": -5}}"), "bootstrap.resamples: -5 is out of range",
               "negative resamples refused");
+    CHECK_MSG(bad(HEAD M1 C1 ", \"seeds\": 2, \"seeds\": 3}"), "seeds: key given twice", "a repeated key is refused");
+    CHECK_MSG(bad(HEAD "\"methods\": [{\"name\": \"/p/m.so\"}, {\"name\": \"/q/m.so\"}], " C1 "}"),
+              "two cells share the id 'm.so__c__s1'", "methods whose cell ids collide are refused");
+    CHECK_MSG(bad(HEAD "\"methods\": [{\"name\": \"m\", \"variants\": [{\"a b\": 1}]}], " C1 "}"),
+              "methods[0].variants[0].a b: expected a plain setting name", "a setting name with a space is refused");
+    CHECK_MSG(bad(HEAD "\"methods\": [{\"name\": \"m\", \"variants\": [{\"k\": \"x,y\"}]}], " C1 "}"),
+              "methods[0].variants[0].k: expected a number, true/false or a word", "a setting word with a comma is refused");
+    CHECK_MSG(bad(HEAD M1 "\"conditions\": [{\"name\": \"c\", \"axis\": {\"stage\": \"sec tor\", \"key\": \"w\", \"values\": [1]}}]}"),
+              "conditions[0].axis.stage: expected a plain name", "an axis stage with a space is refused");
+    CHECK_MSG(bad(HEAD M1 C1 ", \"criteria\": {}}"), "criteria: expected a list of criteria", "criteria must be a list");
+    CHECK_MSG(bad(HEAD M1 "\"conditions\": 3}"), "conditions: expected a non-empty list", "conditions must be a list");
+    CHECK_MSG(bad(HEAD "\"methods\": [{\"name\": \"m\", \"variants\": {}}], " C1 "}"),
+              "methods[0].variants: expected a non-empty list of setting objects", "variants must be a list");
+    CHECK_MSG(bad(HEAD "\"methods\": [{\"name\": \"m\", \"variants\": [3]}], " C1 "}"),
+              "methods[0].variants[0]: expected an object of settings", "a variant must be an object");
+    CHECK_MSG(bad(HEAD M1 "\"conditions\": [{\"name\": \"c\", \"seeds\": [1.5]}]}"),
+              "conditions[0].seeds[0]: expected a whole number", "a fractional seed is refused");
+    CHECK_MSG(bad("[1, 2]"), "(top level): expected an object", "a scenario must be an object");
+    CHECK_MSG(bad(HEAD "\"protocol\": {\"counting\": \"loose\"}, " M1 C1 "}"),
+              "protocol.counting: 'loose' is not known, expected one of strict, lenient", "a bad counting names the choices");
+    CHECK_MSG(bad(HEAD "\"protocol\": {\"radius_m\": 3, \"radius_neg_m\": 2}, " M1 C1 "}"), "protocol: ",
+              "a wrong-match radius below the revisit radius is refused");
+    CHECK_MSG(bad("{\"format\": \"revisit-sweep-1\", \"recordings\": {\"map\": \"r\", \"query\": \"q\"}, "
+                  "\"protocol\": {\"mode\": \"loop\"}, " M1 C1 "}"),
+              "protocol.mode: 'loop' uses one recording", "loop with a query recording is refused");
 }
 
 #define CRIT(x) HEAD M1 "\"conditions\": [{\"name\": \"c\"}, {\"name\": \"s\", \"axis\": {\"stage\": \"sector\", " \
@@ -160,6 +185,11 @@ static void check_bad_criteria(void)
               "criteria[0].metric: 'recall_at_0' is not known", "recall at zero candidates is refused");
     CHECK_MSG(bad(CRIT("{\"metric\": \"ap\", \"condition\": \"c\", \"comparator\": \">=\", \"threshold\": 1, \"why\": 1}")),
               "criteria[0].why: unknown key", "an unknown criterion key is refused");
+    CHECK_MSG(bad(HEAD "\"methods\": [{\"name\": \"m\", \"variants\": [{\"k\": 1}, {\"k\": 2}]}], \"conditions\": [{\"name\": \"c\"}], "
+                  "\"criteria\": [{\"metric\": \"ap\", \"method\": \"m\", \"condition\": \"c\", \"comparator\": \">\", \"threshold\": 0}]}"),
+              "criteria[0].method: 'm' names 2 variants, expected one full label", "an ambiguous method name is refused");
+    CHECK_MSG(bad(CRIT("{\"metric\": \"f1max\", \"condition\": \"c\", \"value\": 30, \"comparator\": \">=\", \"threshold\": 1}")),
+              "criteria[0].value: condition 'c' has no axis, expected no value", "a value for a plain condition is refused");
     CHECK(!strcmp(bad(CRIT("{\"metric\": \"recall_at_5\", \"condition\": \"c\", \"comparator\": \"<\", \"threshold\": 1}")),
                   "(accepted)"), "recall_at_K is a known metric");
 }

@@ -122,6 +122,21 @@ int main(void)
     free(text);
     summary_free(&s);
 
+    /* A bad poses.csv in a cell is named with its line. */
+    static const char *const bad_poses[][2] = {
+        {"set,index,t,x,y,z\nmap,0,0,0,0\n", "poses.csv:2: expected set,index,t,x,y,z"},
+        {"map,0,0,0,0,0\nroad,1,1,10,0,0\n", "poses.csv:2: set 'road', expected map or query"},
+        {"map,0,0,0,0,0\nmap,5,1,10,0,0\n", "poses.csv:2: index 5, expected 1"},
+    };
+    for (int b = 0; b < 3; b++) {
+        CHECK(!put("out/cells/a__mount__s1/poses.csv", bad_poses[b][0]), "bad poses written");
+        CHECK(!summary_load(&s, &p, "out", &e), "the folder still loads");
+        CHECK(summary_judge(&s, &v, &n, &e) == -1, "a bad poses.csv stops the paired difference");
+        CHECK_MSG(e.msg, bad_poses[b][1], "the message names the line and what was expected");
+        summary_free(&s);
+    }
+    CHECK(!put("out/cells/a__mount__s1/poses.csv", poses), "poses restored");
+
     /* A failed cell is an error for the criteria that need it. */
     CHECK(!put("out/cells/a__mount__s2/result.json", "{\"status\": \"failed\", \"error\": \"plugin 'a': crashed\"}"),
           "cell marked failed");
