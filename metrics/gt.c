@@ -34,6 +34,7 @@ struct kd_tree {
     size_t *perm;
     double *pts;               /* positions in perm order, for locality */
     double *tk;                /* times in perm order, or NULL */
+    int t_mono;                /* times never decrease with the index */
     struct kd_node *nodes;
     size_t n_nodes, cap;
 };
@@ -162,6 +163,8 @@ static int kd_build(struct kd_tree *t, const double *xyz, const double *times, s
         t->tk = malloc((n ? n : 1) * sizeof *t->tk);
         if (!t->tk) return -1;
         for (size_t k = 0; k < n; k++) t->tk[k] = times[t->perm[k]];
+        t->t_mono = 1;
+        for (size_t j = 1; j < n && t->t_mono; j++) t->t_mono = times[j] >= times[j - 1];
     }
     return 0;
 }
@@ -216,6 +219,13 @@ static int node_all(const struct kd_node *nd, const struct gt_limits *lim)
     return nd->max_idx <= (size_t)lim->idx_max && nd->max_t <= lim->t_max;
 }
 
+/* Leaf slots are in index order: once slot k is past the index limit (or,
+ * with times that never decrease, past the time limit) so are the rest. */
+static int leaf_go(const struct kd_tree *t, size_t k, const struct gt_limits *lim)
+{
+    return (long)t->perm[k] <= lim->idx_max && (!t->t_mono || t->tk[k] <= lim->t_max);
+}
+
 /* Tree slot k (map scan perm[k]) is a candidate. */
 static int point_ok(const struct kd_tree *t, size_t k, const struct gt_limits *lim)
 {
@@ -233,7 +243,7 @@ static void kd_nearest(const struct kd_tree *t, long id, const double *x,
     const struct kd_node *nd = &t->nodes[id];
     if (box2 > best->s || node_none(nd, lim)) return;
     if (nd->left < 0) {
-        for (size_t k = nd->begin; k < nd->end && (long)t->perm[k] <= lim->idx_max; k++) {
+        for (size_t k = nd->begin; k < nd->end && leaf_go(t, k, lim); k++) {
             if (!point_ok(t, k, lim)) continue;
             size_t j = t->perm[k];
             double s = dist2(t->pts + 3 * k, x);
@@ -277,7 +287,7 @@ static size_t kd_count(const struct kd_tree *t, long id, struct kd_ball *b)
     }
     if (nd->left >= 0) return kd_count(t, nd->left, b) + kd_count(t, nd->right, b);
     size_t c = 0;
-    for (size_t k = nd->begin; k < nd->end && (long)t->perm[k] <= b->lim->idx_max; k++) {
+    for (size_t k = nd->begin; k < nd->end && leaf_go(t, k, b->lim); k++) {
         double s = dist2(t->pts + 3 * k, b->x);
         if (s > b->r2 * (1 + 1e-12) || !point_ok(t, k, b->lim)) continue;
         if (s > b->r2 * (1 - 1e-12) && !(sqrt(s) <= b->r)) continue;   /* sqrt only near the rim */
