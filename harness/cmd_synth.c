@@ -17,9 +17,9 @@ static const char usage[] =
     "suburb) driven along a route that revisits places in the same direction, in\n"
     "reverse and crossing at right angles, with parked vehicles moved between\n"
     "visits and moving traffic, scanned by a spinning multi-channel sensor\n"
-    "(built in: spin16, spin32, spin64).  DIR receives recording.json, scans/\n"
-    "(PCD binary with ring and time), poses.csv, route.json (every revisit\n"
-    "stretch with its kind) and, with pose noise on, poses_exact.csv.\n"
+    "(built in: spin16, spin32, spin64, spin128).  DIR receives recording.json,\n"
+    "scans/ (PCD binary with ring and time), poses.csv, route.json (every\n"
+    "revisit stretch with its kind) and, with pose noise on, poses_exact.csv.\n"
     "--scans N spreads N scans evenly over the whole drive (fewer scans per\n"
     "second; the whole drive and its revisits stay, though a very small N may\n"
     "step over a short crossing); --duration S cuts the drive after S seconds.\n"
@@ -57,7 +57,7 @@ int cmd_synth(int argc, char **argv)
         {"--seed", OPT_U64, &seed, "S", "seed of the district, scene change, range and pose noise (default: the file's)"},
         {"--scans", OPT_INT, &scans, "N", "N scans spread over the whole drive"},
         {"--duration", OPT_DOUBLE, &duration, "S", "stop the drive after S seconds"},
-        {"--sensor", OPT_STR, &sensor, "NAME|FILE", "sensor profile (spin16, spin32, spin64) or a sensor .json"},
+        {"--sensor", OPT_STR, &sensor, "NAME|FILE", "sensor profile (spin16, spin32, spin64, spin128) or a sensor .json"},
         {"--jobs", OPT_INT, &jobs, "N", "threads (default: every core)"},
         {"--quiet", OPT_FLAG, &quiet, NULL, "no progress bar"},
         {0}};

@@ -449,7 +449,7 @@ int synconf_find(const char *name, const char *sub, const char *near_dir, char *
     }
     if (*sub)
         return err_set(e, "unknown sensor profile '%s', expected a file NAME.json in a sensors/ folder "
-                          "(built in: spin16, spin32, spin64) or a path to a .json file", name);
+                          "(built in: spin16, spin32, spin64, spin128) or a path to a .json file", name);
     return err_set(e, "unknown scenario '%s', expected a built-in name (port, campus, suburb) "
                       "or a path to a .json file", name);
 }
