@@ -233,7 +233,7 @@ static int ev_retrieve(struct ev_ctx *c, struct err *e)
         rc = retrieval_custom(&m, &q, c->plug.key_dim ? &mk : NULL, c->plug.key_dim ? &qk : NULL, ev_custom,
                               &c->plug, &rule, p->top_k, top_c, c->s->jobs, &c->r, e);
     } else {
-        rc = retrieval_dense(&m, &q, c->plug.distance, &rule, p->top_k, &c->r, e);
+        rc = retrieval_dense(&m, &q, c->plug.distance, &rule, p->top_k, c->s->jobs, &c->r, e);
     }
     c->sum.retrieval_s = progress_now() - t0;
     return rc;

@@ -108,7 +108,7 @@ static int ext_fail(struct external *x, int why, const char *what, struct err *e
     ext_reap(x, why == EXT_TIMEOUT, how, sizeof how);
     if (why == EXT_TIMEOUT)
         return err_set(e, "external method '%s' (%s): no answer %s within %g s (time-out); it was stopped",
-                       x->name, x->prog, what, x->timeout_s);
+                       x->name, x->prog, what, strstr(what, "hello") ? x->hello_timeout_s : x->timeout_s);
     if (why == EXT_EOF)
         return err_set(e, "external method '%s' (%s): closed its output %s; %s", x->name, x->prog, what, how);
     return err_set(e, "external method '%s' (%s): i/o error %s: %s", x->name, x->prog, what, strerror(errno));
@@ -145,7 +145,7 @@ static int ext_spawn(struct external *x, const char *const *args, int nargs, str
 static int ext_hello(struct external *x, struct err *e)
 {
     unsigned char h[16];
-    double dl = progress_now() + x->timeout_s;
+    double dl = progress_now() + x->hello_timeout_s;
     int w = ext_read(x->fd, h, sizeof h, dl);
     if (w) return ext_fail(x, w, "before its hello", e);
     uint32_t dim = ext_get_u32(h + 4), dist = ext_get_u32(h + 8), len = ext_get_u32(h + 12);
@@ -167,12 +167,20 @@ static int ext_hello(struct external *x, struct err *e)
 int external_start(struct external **xp, const char *prog, const char *const *args, int nargs,
                    double timeout_s, struct err *e)
 {
+    double hello = timeout_s > EXTERNAL_HELLO_S ? timeout_s : EXTERNAL_HELLO_S;
+    return external_start_waits(xp, prog, args, nargs, hello, timeout_s, e);
+}
+
+int external_start_waits(struct external **xp, const char *prog, const char *const *args, int nargs,
+                         double hello_timeout_s, double timeout_s, struct err *e)
+{
     *xp = NULL;
     struct external *x = calloc(1, sizeof *x);
     if (!x) return err_set(e, "out of memory");
     x->fd = -1;
     x->pid = -1;
     x->timeout_s = timeout_s > 0 ? timeout_s : 10;
+    x->hello_timeout_s = hello_timeout_s > 0 ? hello_timeout_s : 10;
     snprintf(x->prog, sizeof x->prog, "%s", prog);
     snprintf(x->name, sizeof x->name, "%s", strrchr(prog, '/') ? strrchr(prog, '/') + 1 : prog);
     if (access(prog, X_OK)) {

@@ -13,7 +13,8 @@
  *                 or error      "RVE1" u32 len, len bytes of message
  *   host closes the socket at the end; the program exits 0.
  *
- * Every wait is bounded by timeout_s (for the hello and for each scan); a
+ * The hello must come within hello_timeout_s (a program may take a while to
+ * start), each answer within timeout_s; a
  * program that exits, hangs or answers garbage is stopped and the error
  * names it, the scan, and what was wrong.
  *
@@ -33,6 +34,7 @@
 #include "harness/revisit_plugin.h"
 
 #define EXTERNAL_MAX_DIM (1u << 22)
+#define EXTERNAL_HELLO_S 10.0   /* default wait for the hello */
 
 struct external {
     pid_t pid;
@@ -41,13 +43,18 @@ struct external {
     char name[64];          /* from the hello */
     uint32_t dim;
     enum rv_distance distance;  /* RV_DIST_L2 or RV_DIST_COSINE */
-    double timeout_s;
+    double timeout_s;       /* per scan */
+    double hello_timeout_s; /* for the hello */
 };
 
 /* Start prog, read and check its hello.  0, or -1 with e set (nothing left
  * running). */
 int external_start(struct external **x, const char *prog, const char *const *args, int nargs,
                    double timeout_s, struct err *e);
+/* The same with the hello wait given apart (external_start waits the larger
+ * of timeout_s and EXTERNAL_HELLO_S for it). */
+int external_start_waits(struct external **x, const char *prog, const char *const *args, int nargs,
+                         double hello_timeout_s, double timeout_s, struct err *e);
 
 /* Send one scan, read dim floats into desc.  0 or -1 (the program is then
  * stopped; later calls fail at once). */

@@ -145,6 +145,7 @@ struct retr_job {
     const struct retrieval_rule *rule;
     struct retr_dense *d;
     size_t q0, nq, m0, nm;
+    int jobs;
 };
 
 /* Push every candidate score of rows [a0, a1) of the block into its heap. */
@@ -180,7 +181,7 @@ static int retr_block(struct retr_job *jb, struct err *e)
     cblas_sgemm(CblasRowMajor, CblasNoTrans, CblasTrans, (int)jb->nq, (int)jb->nm, (int)q->dim, 1.0f,
                 q->v + jb->q0 * q->dim, (int)q->dim, map->v + jb->m0 * map->dim, (int)map->dim, 0.0f,
                 jb->d->blk, (int)jb->nm);
-    return pool_run((jb->nq + RETR_ROWS - 1) / RETR_ROWS, 0, retr_rows, jb, e);
+    return pool_run((jb->nq + RETR_ROWS - 1) / RETR_ROWS, jb->jobs, retr_rows, jb, e);
 }
 
 static int retr_cmp_pair(const void *a, const void *b)
@@ -227,7 +228,7 @@ static int retr_check(const struct retrieval_mat *map, const struct retrieval_ma
 }
 
 int retrieval_dense(const struct retrieval_mat *map, const struct retrieval_mat *q,
-                    enum rv_distance kind, const struct retrieval_rule *rule, int k,
+                    enum rv_distance kind, const struct retrieval_rule *rule, int k, int jobs,
                     struct retrieval_out *out, struct err *e)
 {
     if (retr_check(map, q, rule, k, e) || retr_out_alloc(out, q->n, k, e)) return -1;
@@ -255,7 +256,7 @@ int retrieval_dense(const struct retrieval_mat *map, const struct retrieval_mat 
         size_t mend = rule->loop ? q0 + nq : map->n;
         for (size_t m0 = 0; m0 < mend; m0 += RETR_BM) {
             size_t nm = mend - m0 < RETR_BM ? mend - m0 : RETR_BM;
-            struct retr_job jb = {map, q, kind, rule, &d, q0, nq, m0, nm};
+            struct retr_job jb = {map, q, kind, rule, &d, q0, nq, m0, nm, jobs};
             if (retr_block(&jb, e)) {
                 retr_dense_free(&d);
                 retrieval_out_free(out);
@@ -316,7 +317,7 @@ int retrieval_custom(const struct retrieval_mat *map, const struct retrieval_mat
     if (retr_check(map, q, rule, k, e)) return -1;
     struct retrieval_out pre = {0};
     int use_keys = map_key && query_key && map_key->dim > 0;
-    if (use_keys && retrieval_dense(map_key, query_key, RV_DIST_L2, rule, top_c > k ? top_c : k, &pre, e))
+    if (use_keys && retrieval_dense(map_key, query_key, RV_DIST_L2, rule, top_c > k ? top_c : k, jobs, &pre, e))
         return -1;
     if (retr_out_alloc(out, q->n, k, e)) {
         retrieval_out_free(&pre);

@@ -24,7 +24,7 @@
  * everything.
  *
  *     struct retrieval_out r;
- *     if (retrieval_dense(&map, &query, RV_DIST_L2, &rule, 25, &r, e)) return -1;
+ *     if (retrieval_dense(&map, &query, RV_DIST_L2, &rule, 25, 0, &r, e)) return -1;
  *     r.idx[i * r.k + n], r.dist[...] for n < r.count[i];  retrieval_out_free(&r);
  */
 #ifndef RV_RETRIEVAL_H
@@ -62,9 +62,10 @@ double retrieval_pair(const float *a, const float *b, uint32_t dim, enum rv_dist
 /* 1 when map scan j is a candidate of query i. */
 int retrieval_is_candidate(const struct retrieval_rule *r, size_t i, size_t j);
 
-/* L2 / cosine top-K.  0 or -1 (bad sizes, out of memory); out is then empty. */
+/* L2 / cosine top-K; jobs threads (<= 0: all cores) feed the heaps while
+ * OpenBLAS runs its own.  0 or -1 (bad sizes, out of memory); out is then empty. */
 int retrieval_dense(const struct retrieval_mat *map, const struct retrieval_mat *query,
-                    enum rv_distance kind, const struct retrieval_rule *rule, int k,
+                    enum rv_distance kind, const struct retrieval_rule *rule, int k, int jobs,
                     struct retrieval_out *out, struct err *e);
 
 /* Custom distance: fn(ctx, a, b) >= 0 compares two descriptors; keys may be

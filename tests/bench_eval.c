@@ -100,7 +100,7 @@ static void be_retrieval(void)
         ts = fmin(ts, progress_now() - t0);
         struct retrieval_out r;
         t0 = progress_now();
-        if (retrieval_dense(&mm, &qm, RV_DIST_L2, &rule, 25, &r, &e)) break;
+        if (retrieval_dense(&mm, &qm, RV_DIST_L2, &rule, 25, 0, &r, &e)) break;
         tr = fmin(tr, progress_now() - t0);
         retrieval_out_free(&r);
     }

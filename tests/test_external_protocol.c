@@ -67,10 +67,11 @@ static void test_same_as_plugin(const char *root)
     plugin_close(&c);
 }
 
-static int try_prog(const char *name, double timeout, struct err *e)
+/* hello: the wait for the hello; timeout: the wait for each answer */
+static int try_prog(const char *name, double hello, double timeout, struct err *e)
 {
     struct external *x;
-    if (external_start(&x, name, NULL, 0, timeout, e)) return -1;
+    if (external_start_waits(&x, name, NULL, 0, hello, timeout, e)) return -1;
     float pts[8] = {1, 2, 3, 0, 4, 5, 6, 0}, d[4];
     struct rv_scan s = {2, pts, NULL, NULL, 0, 5, 0};
     int rc = external_describe(x, &s, d, e);
@@ -82,30 +83,30 @@ static void test_failures(void)
 {
     struct err e = {{0}};
     script("exits.py", "hello()\nsys.exit(3)\n");
-    CHECK(try_prog("./exits.py", 5, &e) == -1, "a program that exits is an error");
+    CHECK(try_prog("./exits.py", 20, 5, &e) == -1, "a program that exits is an error");
     CHECK_MSG(e.msg, "external method 'fake' (./exits.py): closed its output for scan 5; it exited with status 3",
               "the exit names program, scan and status");
     script("hangs.py", "hello()\ntime.sleep(30)\n");
-    CHECK(try_prog("./hangs.py", 0.3, &e) == -1, "a program that hangs is stopped");
+    CHECK(try_prog("./hangs.py", 20, 0.3, &e) == -1, "a program that hangs is stopped");
     CHECK_MSG(e.msg, "no answer for scan 5 within 0.3 s (time-out); it was stopped", "the time-out is named");
     script("garbage.py", "hello()\nsys.stdin.buffer.read(52)\nout.write(b'hello world!!!'); out.flush(); time.sleep(1)\n");
-    CHECK(try_prog("./garbage.py", 5, &e) == -1, "garbage is an error");
+    CHECK(try_prog("./garbage.py", 20, 5, &e) == -1, "garbage is an error");
     CHECK_MSG(e.msg, "answered garbage (expected a descriptor frame 'RVD1' for scan 5", "garbage is named");
     script("wrongdim.py", "hello()\nsys.stdin.buffer.read(52)\nout.write(b'RVD1' + struct.pack('<II3f', 5, 3, 1, 2, 3))\n"
                           "out.flush(); time.sleep(1)\n");
-    CHECK(try_prog("./wrongdim.py", 5, &e) == -1, "a wrong descriptor length is an error");
+    CHECK(try_prog("./wrongdim.py", 20, 5, &e) == -1, "a wrong descriptor length is an error");
     CHECK_MSG(e.msg, "descriptor of 3 floats, expected 4 as its hello declared", "the length error gives both");
     script("refuses.py", "hello()\nsys.stdin.buffer.read(52)\nm = b'cannot read this scan'\n"
                          "out.write(b'RVE1' + struct.pack('<I', len(m)) + m); out.flush()\n");
-    CHECK(try_prog("./refuses.py", 5, &e) == -1, "an error frame is an error");
+    CHECK(try_prog("./refuses.py", 20, 5, &e) == -1, "an error frame is an error");
     CHECK_MSG(e.msg, "external method 'fake' on scan 5: cannot read this scan", "the program's message is passed on");
     script("nohello.py", "out.write(b'HELO' + bytes(12)); out.flush(); time.sleep(1)\n");
-    CHECK(try_prog("./nohello.py", 5, &e) == -1, "a bad hello is an error");
+    CHECK(try_prog("./nohello.py", 20, 5, &e) == -1, "a bad hello is an error");
     CHECK_MSG(e.msg, "bad hello (expected 'RVH1'", "the bad hello is named");
     script("silent.py", "time.sleep(30)\n");
-    CHECK(try_prog("./silent.py", 0.3, &e) == -1, "no hello within the time-out is an error");
+    CHECK(try_prog("./silent.py", 0.3, 20, &e) == -1, "no hello within the time-out is an error");
     CHECK_MSG(e.msg, "no answer before its hello within 0.3 s (time-out)", "the missing hello is named");
-    CHECK(try_prog("./absent.py", 5, &e) == -1, "a missing program is an error");
+    CHECK(try_prog("./absent.py", 20, 5, &e) == -1, "a missing program is an error");
     CHECK_MSG(e.msg, "external method ./absent.py: not an executable program", "the missing program is named");
 }
 

@@ -55,7 +55,7 @@ int main(int argc, char **argv)
     struct retrieval_out r;
     int rc;
     if (!strcmp(argv[2], "l2") || !strcmp(argv[2], "cosine")) {
-        rc = retrieval_dense(&map, &q, !strcmp(argv[2], "l2") ? RV_DIST_L2 : RV_DIST_COSINE, &rule, k, &r, &e);
+        rc = retrieval_dense(&map, &q, !strcmp(argv[2], "l2") ? RV_DIST_L2 : RV_DIST_COSINE, &rule, k, 2, &r, &e);
     } else {
         float *mk = tool_keys(&map), *qk = tool_keys(&q);
         struct retrieval_mat mkm = {mk, map.n, 4}, qkm = {qk, q.n, 4};
