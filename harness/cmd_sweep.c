@@ -48,6 +48,19 @@ static int sweep_check_chains(const struct plan *p, struct err *e)
     return 0;
 }
 
+/* The recordings must open before any cell runs (else every cell would fail alike). */
+static int sweep_check_recordings(const struct plan *p, struct err *e)
+{
+    const char *paths[2] = {p->map_rec, p->query_rec}, *keys[2] = {"map", "query"};
+    for (int k = 0; k < 2; k++) {
+        struct recording r;
+        if (!paths[k]) continue;
+        if (recording_load(paths[k], 1, &r, e)) return err_wrap(e, "%s: recordings.%s", p->path, keys[k]);
+        recording_free(&r);
+    }
+    return 0;
+}
+
 static size_t sweep_scans(const char *path)
 {
     struct recording r;
@@ -130,6 +143,10 @@ int cmd_sweep(int argc, char **argv)
         sweep_print_plan(stdout, &p, &o, sweep_scans(p.map_rec), sweep_scans(p.query_rec));
         plan_free(&p);
         return CMD_OK;
+    }
+    if (sweep_check_recordings(&p, &e)) {
+        plan_free(&p);
+        return cmd_report(&e);
     }
     struct sigaction sa, old;
     memset(&sa, 0, sizeof sa);

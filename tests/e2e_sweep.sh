@@ -148,6 +148,10 @@ expect_in "$(cat err)" "expected one or more shard folders" "and says so"
 "$REVISIT_BIN" merge --out m3 nowhere 2>err; rc=$?
 expect "[ $rc -eq 2 ]" "merge of a folder that is no sweep exits 2"
 expect_in "$(cat err)" "nowhere is not a sweep folder" "and names the folder"
+sed 's/"map": "rec"/"map": "norec"/' s.json > n.json
+"$REVISIT_BIN" sweep n.json --out n 2>err; rc=$?
+expect "[ $rc -eq 2 ] && [ ! -d n ]" "a missing recording is refused before any cell runs"
+expect_in "$(cat err)" "n.json: recordings.map: " "and names the key"
 sed 's/sector:at=random/sectr:at=random/' s.json > u.json
 "$REVISIT_BIN" sweep u.json --out u 2>err; rc=$?
 expect "[ $rc -eq 2 ] && [ ! -d u ]" "a bad chain is refused before any cell runs"
