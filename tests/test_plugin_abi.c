@@ -12,16 +12,19 @@
 
 /* One plugin source; -D flags make the broken variants. */
 static const char plugin_src[] =
-    "#include <math.h>\n#include <stdlib.h>\n#include <unistd.h>\n#include \"revisit_plugin.h\"\n"
+    "#include <math.h>\n#include <stdio.h>\n#include <stdlib.h>\n#include <unistd.h>\n#include \"revisit_plugin.h\"\n"
     "static const struct rv_setting set[] = {\n"
-    "  {\"bins\", RV_SET_INT, 4, 1, 64, NULL, \"bins\"},\n"
+    "#ifdef BADSCHEMA\n  {\"bins\", RV_SET_INT, 99, 1, 64, NULL, \"bins\"},\n#else\n"
+    "  {\"bins\", RV_SET_INT, 4, 1, 64, NULL, \"bins\"},\n#endif\n"
     "  {\"scale\", RV_SET_FLOAT, 1, 0, 10, NULL, \"scale\"},\n"
     "  {\"mode\", RV_SET_CHOICE, 0, 0, 1, \"sum|max\", \"mode\"},\n"
     "  {\"flip\", RV_SET_BOOL, 0, 0, 1, NULL, \"flip\"}};\n"
     "struct st { int bins; double scale; };\n"
     "static int mk(const double *v, void **inst, uint32_t *dim, uint32_t *kd, char *m, size_t l) {\n"
     "  (void)m; (void)l; struct st *s = malloc(sizeof *s); s->bins = (int)v[0]; s->scale = v[1];\n"
-    "  *inst = s; *dim = (uint32_t)s->bins; *kd = 0; return RV_OK; }\n"
+    "  *inst = s; *dim = (uint32_t)s->bins; *kd = 0;\n"
+    "#ifdef ZERODIM\n  *dim = 0;\n#endif\n"
+    "  return RV_OK; }\n"
     "static int run(void *inst, const struct rv_scan *sc, float *d, float *k, char *m, size_t l) {\n"
     "  (void)k; (void)m; (void)l; struct st *s = inst; int n = s->bins;\n"
     "#ifdef WRONGDIM\n  n += 1;\n#endif\n"
@@ -29,11 +32,14 @@ static const char plugin_src[] =
     "#ifdef NANOUT\n  d[1] = NAN;\n#endif\n"
     "#ifdef CRASH\n  if (sc->index == 3) { volatile int *p = NULL; *p = 1; }\n#endif\n"
     "#ifdef SLOW\n  usleep(30000);\n#endif\n"
+    "#ifdef FAILDESC\n  snprintf(m, l, \"cannot use scan %u\", sc->index); return RV_ERR_INPUT;\n#endif\n"
     "  return RV_OK; }\n"
     "static void rm(void *inst) { free(inst); }\n"
     "static const struct rv_method m = {\n"
     "#ifdef BADABI\n  99,\n#else\n  RV_ABI_VERSION,\n#endif\n"
-    "  sizeof m, \"outside\", \"1.0\", \"test plugin\", set, 4, RV_DIST_L2,\n"
+    "#ifdef SMALL\n  8,\n#else\n  sizeof m,\n#endif\n"
+    "  \"outside\", \"1.0\", \"test plugin\", set, 4,\n"
+    "#ifdef NOCUSTOMFN\n  RV_DIST_CUSTOM,\n#else\n  RV_DIST_L2,\n#endif\n"
     "  RV_FLAG_THREAD_SAFE, mk, run, rm, NULL, NULL};\n"
     "#ifdef NOENTRY\nRV_EXPORT const struct rv_method *other_name(void) { return &m; }\n"
     "#else\nRV_EXPORT const struct rv_method *rv_method_entry(void) { return &m; }\n#endif\n";
@@ -65,6 +71,10 @@ static void setup(void)
     CHECK(build("wrongdim", "-DWRONGDIM") == 0, "the wrong-dimension variant compiles");
     CHECK(build("crash", "-DCRASH") == 0, "the crashing variant compiles");
     CHECK(build("slow", "-DSLOW") == 0, "the slow variant compiles");
+    static const char *const more[][2] = {{"badschema", "-DBADSCHEMA"}, {"zerodim", "-DZERODIM"},
+        {"faildesc", "-DFAILDESC"}, {"small", "-DSMALL"}, {"nocustomfn", "-DNOCUSTOMFN"}};
+    for (size_t k = 0; k < sizeof more / sizeof *more; k++)
+        CHECK(build(more[k][0], more[k][1]) == 0, "a broken variant compiles");
 }
 
 static int describe_once(struct plugin *p, uint32_t index, float *d, struct err *e)
@@ -134,6 +144,26 @@ static void test_broken(void)
     p.time_limit_s = 0.005;
     CHECK(ok && describe_once(&p, 1, d, &e) == -1, "a scan over the time limit is refused");
     CHECK_MSG(e.msg, "expected at most 0.005 s per scan", "the time error gives the limit");
+    plugin_close(&p);
+    static const char *const refused[][2] = {
+        {"./badschema.so", "method 'outside' has a bad setting 0 (key, type, default within range)"},
+        {"./zerodim.so", "method 'outside': declared dimension 0 (key 0), expected 1 to"},
+        {"./small.so", "method table of 8 bytes, expected at least"},
+        {"./nocustomfn.so", "method 'outside' declares a custom distance but gives no distance function"},
+        {"./absent.so", "method './absent.so': no such file"},
+        {"./outside.c", "method './outside.c': not a .so plugin and not an executable program"},
+        {"good:bins", "method 'outside': setting 'bins' lacks '=value'"},
+        {"range-height:z_min=5,z_max=1", "method 'range-height': cannot create an instance: z_max must be above z_min"}};
+    for (size_t k = 0; k < sizeof refused / sizeof *refused; k++) {
+        char what[256];
+        snprintf(what, sizeof what, "%s is refused with its reason", refused[k][0]);
+        CHECK(plugin_open(&p, refused[k][0], ".", &e) == -1, what);
+        CHECK_MSG(e.msg, refused[k][1], what);
+    }
+    CHECK(plugin_open(&p, "./faildesc.so", NULL, &e) == 0, "the failing-describe plugin loads");
+    CHECK(describe_once(&p, 4, d, &e) == -1, "a describe status other than RV_OK is an error");
+    CHECK_MSG(e.msg, "method 'outside' on scan 4: describe failed (status 1): cannot use scan 4",
+              "the failure passes the plugin's message on");
     plugin_close(&p);
 }
 
