@@ -148,6 +148,15 @@ def error_checks(rec):
     check(p.returncode == 2 and "unexpected argument 'extra'" in p.stderr, "stray argument refused")
     p = rv("--in", os.path.join(T, "nothere"), "--out", os.path.join(T, "e8"), "--chain", "yaw")
     check(p.returncode == 2 and "nothere" in p.stderr, "a missing recording is named")
+    p = rv("--in", rec, "--out", os.path.join(T, "e9"), "--chain", "yaw", "--layout", "xyz")
+    check(p.returncode == 2 and "revisit perturb: --layout: " in p.stderr and "xyz" in p.stderr,
+          "an unknown --layout word is named")
+    one = ("clutter:count=3,size=0.41234567890123457,near=1.1234567890123457,"
+           "far=2.1234567890123457,height=0.31234567890123457,at=12.123456789012346,"
+           "res=0.51234567890123457")
+    p = rv("--in", rec, "--out", os.path.join(T, "e10"), "--chain", "+".join([one] * 32))
+    check(p.returncode == 2 and "the chain is longer than 4096 characters" in p.stderr,
+          "a chain whose normalised text is too long is refused")
     p = rv("--list")
     names = ["yaw", "sector", "dropout", "range", "noise", "channels", "fov", "tilt", "shift",
              "clutter", "density", "skew", "intensity"]
