@@ -15,6 +15,9 @@ expect_in "$out" "range-height" "methods lists range-height"
 out=$("$R" methods scan-context 2>&1)
 expect_in "$out" "custom (the method's own), key prefilter" "methods NAME shows the distance"
 expect_in "$out" "sectors        default 60" "methods NAME shows each setting's default"
+out=$("$R" methods a b 2>&1); rc=$?
+expect "[ $rc -eq 2 ]" "methods with two names exits 2"
+expect_in "$out" "expected at most one NAME, got 2" "methods names the extra argument"
 out=$("$R" methods no-such 2>&1); rc=$?
 expect "[ $rc -eq 2 ]" "an unknown method exits 2"
 expect_in "$out" "method 'no-such' not found" "the unknown method is named"

@@ -184,6 +184,14 @@ static void test_reloc_and_errors(void)
     CHECK(eval_run(&s, &sum, &e) == -1, "a bad chain is refused");
     CHECK_MSG(e.msg, "chain:", "the chain error points into the chain");
     s.chain = NULL;
+    s.isolate = 1;
+    CHECK(eval_run(&s, &sum, &e) == -1, "isolation is refused while it is not built");
+    CHECK_MSG(e.msg, "running the method in a child process is not available", "the isolation message");
+    s.isolate = 0;
+    s.out_dir = NULL;
+    CHECK(eval_run(&s, &sum, &e) == -1, "a spec without an output folder is refused");
+    CHECK_MSG(e.msg, "a map recording, a method and an output folder are needed", "the missing-field message");
+    s.out_dir = "or";
     s.method = "no-such-method";
     CHECK(eval_run(&s, &sum, &e) == -1, "an unknown method is refused");
     CHECK_MSG(e.msg, "method 'no-such-method' not found", "the unknown method is named");
