@@ -167,10 +167,43 @@ def error_checks(rec):
     check(p.returncode == 0 and "--chain CHAIN" in p.stdout and "--stats" in p.stdout, "--help")
 
 
+def interrupt_check():
+    # SIGINT once the first scan is written (an event, not a delay): the
+    # command stops, exits 130 and leaves no manifest behind.
+    import signal
+    import time
+    rec = os.path.join(T, "big")
+    os.makedirs(os.path.join(rec, "scans"))
+    rng = np.random.default_rng(2)
+    pts = rng.uniform(-30, 30, (8000, 4)).astype("<f4")
+    with open(os.path.join(rec, "poses.csv"), "w") as f:
+        f.write("t,x,y,z,qx,qy,qz,qw\n")
+        for k in range(80):
+            pts.tofile(os.path.join(rec, "scans", "%06d.bin" % k))
+            f.write("%.1f,%.1f,0,0,0,0,0,1\n" % (k * 0.1, k * 1.0))
+    with open(os.path.join(rec, "recording.json"), "w") as f:
+        json.dump({"format": "revisit-recording-1", "sensor": {"channels": 16},
+                   "scans": {"dir": "scans", "pattern": "*.bin"}, "scan_layout": "raw",
+                   "poses": {"file": "poses.csv", "layout": "csv"}}, f)
+    out = os.path.join(T, "stopped")
+    proc = subprocess.Popen([BIN, "perturb", "--in", rec, "--out", out, "--jobs", "1", "--quiet",
+                             "--chain", "clutter:res=0.1+density:leaf=0.05"],
+                            stdout=subprocess.PIPE, stderr=subprocess.PIPE, text=True)
+    first = os.path.join(out, "scans", "000000.bin")
+    while proc.poll() is None and not os.path.exists(first):
+        time.sleep(0.005)
+    proc.send_signal(signal.SIGINT)
+    _, err = proc.communicate()
+    check(proc.returncode == 130, "SIGINT stops perturb with exit 130 (got %s)" % proc.returncode)
+    check("perturb interrupted; %s has no recording.json" % out in err, "the interruption is reported")
+    check(not os.path.exists(os.path.join(out, "recording.json")), "no manifest after an interruption")
+
+
 def main():
     try:
         rec = main_checks()
         error_checks(rec)
+        interrupt_check()
     except Exception as ex:
         check(False, "raised %r" % ex)
     print("%d passed, %d failed" % (PASSED, FAILED))
