@@ -8,7 +8,7 @@ root=$(cd "$(dirname "$0")/.." && pwd)
 cd "$root" || exit 2
 bin="$root/$B/revisit"
 out="$root/demo-out"
-scans=${REVISIT_DEMO_SCANS:-600}
+scans=${REVISIT_DEMO_SCANS:-400}
 export REVISIT_PLUGIN_PATH="$root/$B/plugins${REVISIT_PLUGIN_PATH:+:$REVISIT_PLUGIN_PATH}"
 [ -x "$bin" ] || { echo "demo: $bin not built (run make B=$B)" >&2; exit 2; }
 start=$SECONDS
@@ -23,7 +23,12 @@ else
   "$bin" synth --scenario port --scans "$scans" --out "$out/rec" || exit 2
 fi
 
-# 2. The sweep; a rerun skips the cells already done.
+# 2. The sweep; a rerun skips the cells already done.  A sweep folder of an
+#    older demo.json would be refused, so it is cleared first.
+if [ -f "$out/sweep/scenario.json" ] && ! cmp -s "$out/sweep/scenario.json" scenarios/demo.json; then
+  echo "demo: scenarios/demo.json changed since the last run; starting the sweep afresh"
+  rm -rf "$out/sweep" "$out/report"
+fi
 for m in scan-context range-height m2dp sop; do
   "$bin" methods 2>/dev/null | grep -q "^$m\b" || echo "demo: method '$m' not found; its cells will fail" >&2
 done
