@@ -235,7 +235,7 @@ static int cell_names(const char *cells, char ***names, size_t *n, struct err *e
         (*n)++;
     }
     closedir(d);
-    if (!rc) qsort(*names, *n, sizeof **names, name_cmp);
+    if (!rc && *n) qsort(*names, *n, sizeof **names, name_cmp);
     return rc;
 }
 

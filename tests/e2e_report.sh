@@ -113,6 +113,19 @@ expect "[ \$(ls $T/nogp/plots/*.png 2>/dev/null | wc -l) -eq 0 ] && [ \$(ls $T/n
 expect_in "$ng" "### F1max" "the tables are all there without gnuplot"
 expect "! grep -q '<img' $T/nogp/report.html" "the HTML has no broken image without gnuplot"
 
+# --- a gnuplot that fails, or writes no real image --------------------------------
+mkdir -p "$T/gpfail" "$T/gpjunk"
+printf '#!/bin/sh\necho "line 3: broken" >&2\nexit 1\n' > "$T/gpfail/gnuplot"
+printf '#!/bin/sh\nn=${1%%.gp}\necho junk > "$n.png"\necho "<svg/>" > "$n.svg"\n' > "$T/gpjunk/gnuplot"
+chmod +x "$T/gpfail/gnuplot" "$T/gpjunk/gnuplot"
+env PATH="$T/gpfail" "$REVISIT_BIN" report "$T/one" --out "$T/o1" --quiet 2>"$T/err"; rc=$?
+expect "[ $rc -eq 2 ]" "a gnuplot that fails on a script exits 2"
+expect_in "$(cat "$T/err")" "gnuplot failed (status 1), expected a drawn plot; see" "the failed plot and its log are named"
+expect_in "$(cat "$T/o1"/plots/*.log)" "line 3: broken" "gnuplot's own message is kept in the plot's log"
+env PATH="$T/gpjunk" "$REVISIT_BIN" report "$T/one" --out "$T/o2" --quiet 2>"$T/err"; rc=$?
+expect "[ $rc -eq 2 ]" "a gnuplot that writes no PNG exits 2"
+expect_in "$(cat "$T/err")" "not a valid PNG after gnuplot, expected a drawn image" "the invalid image is named"
+
 # --- bad input ------------------------------------------------------------------
 "$REVISIT_BIN" report "$T/none" 2>"$T/err"; rc=$?
 expect "[ $rc -eq 2 ]" "a missing folder exits 2"

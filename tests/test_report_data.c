@@ -106,9 +106,91 @@ static void file_checks(void)
     CHECK_MSG(e.msg, "does not start with '#rows'", "the missing #rows line is named");
 }
 
+/* Each handled bad input: the call fails and the message says what and where. */
+static void message_checks(void)
+{
+    struct err e = {{0}};
+    struct rdata_cell c;
+    memset(&c, 0, sizeof c);
+    CHECK(rdata_cell_parse("[1]", "r.json", &c, &e) < 0, "a top-level list is refused");
+    CHECK_MSG(e.msg, "r.json:1:1: top level is not an object", "the top-level list is named");
+    CHECK(rdata_cell_parse("{\"format\": \"revisit-result-1\", \"method\": {}, \"curve\": {\"threshold\": 1}}",
+                           "r.json", &c, &e) < 0, "a curve that is not arrays is refused");
+    CHECK_MSG(e.msg, "curve.threshold is not an array", "the non-array curve is named");
+
+    struct rdata_poses p;
+    const struct { const char *text, *frag, *desc; } poses[] = {
+        {"map 0 0 1 2 3\n", "p.csv:1: no comma, expected set,index,t,x,y,z", "a pose row without commas"},
+        {"map,-4,0,1,2,3\n", "p.csv:1: bad scan index", "a negative scan index"},
+        {"# only a comment\n", "p.csv: no pose rows", "a pose file without rows"},
+    };
+    for (size_t k = 0; k < sizeof poses / sizeof poses[0]; k++) {
+        put("p.csv", poses[k].text);
+        CHECK(rdata_poses_load("p.csv", &p, &e) < 0, poses[k].desc);
+        CHECK_MSG(e.msg, poses[k].frag, poses[k].desc);
+    }
+    struct rdata_queries q;
+    const struct { const char *text, *frag, *desc; } queries[] = {
+        {"x,1,0.5\n", "q.csv:1: bad query index", "a non-numeric query index"},
+        {"4,y,0.5\n", "q.csv:1: bad candidate index", "a non-numeric candidate"},
+    };
+    for (size_t k = 0; k < sizeof queries / sizeof queries[0]; k++) {
+        put("q.csv", queries[k].text);
+        CHECK(rdata_queries_load("q.csv", &q, &e) < 0, queries[k].desc);
+        CHECK_MSG(e.msg, queries[k].frag, queries[k].desc);
+    }
+    struct rdata_matrix m;
+    const struct { const char *text, *frag, *desc; } mats[] = {
+        {"#rows,1,x\n#cols,1\n0\n", "m.csv:1: index 2 is not a whole number", "a bad row index"},
+        {"#rows,1;2\n#cols,1\n0\n", "m.csv:1: unexpected text ';2'", "a bad separator in the index line"},
+        {"#rows\n#cols,1\n", "m.csv: empty matrix", "a matrix without rows"},
+        {"#rows,1\n#cols,1\n0.5\n0.6\n", "m.csv:4: more than 1 distance rows", "an extra distance row"},
+        {"#rows,1\n#cols,1\n0.5,0.7\n", "m.csv:3: more than 1 distances", "an over-long distance row"},
+        {"#rows,1,2\n#cols,1\n0.5\n", "m.csv: 1 distance rows, expected 2", "a missing distance row"},
+        {"#rows,1\n#cols,1\nabc\n", "m.csv:3: distance 1 is not a number", "a non-numeric distance"},
+    };
+    for (size_t k = 0; k < sizeof mats / sizeof mats[0]; k++) {
+        put("m.csv", mats[k].text);
+        CHECK(rdata_matrix_load("m.csv", &m, &e) < 0, mats[k].desc);
+        CHECK_MSG(e.msg, mats[k].frag, mats[k].desc);
+    }
+}
+
+/* Folder-level refusals: an empty cells/ and broken verdicts files. */
+static void folder_checks(void)
+{
+    struct err e = {{0}};
+    struct rdata_set s;
+    fileio_mkdirs("sw/cells/a", &e);
+    CHECK(rdata_load("sw", &s, &e) < 0, "a sweep folder without any cell result is refused");
+    CHECK_MSG(e.msg, "no cell holds a result.json", "the empty sweep is explained");
+    put("sw/cells/a/result.json", good_json);
+    CHECK(rdata_load("sw", &s, &e) == 0 && s.is_sweep && s.n == 1 && !strcmp(s.cells[0].id, "a"),
+          "a sweep with one cell loads");
+    rdata_free(&s);
+    const struct { const char *text, *frag, *desc; } v[] = {
+        {"[{\"criterion\": 1,}]", "verdicts.json:1:", "broken verdicts JSON is placed"},
+        {"{\"x\": 1}", "no list of criteria", "verdicts without a list are refused"},
+        {"[3]", "criterion 1 is not an object", "a criterion that is not an object is refused"},
+    };
+    for (size_t k = 0; k < sizeof v / sizeof v[0]; k++) {
+        put("sw/verdicts.json", v[k].text);
+        CHECK(rdata_load("sw", &s, &e) < 0, v[k].desc);
+        CHECK_MSG(e.msg, v[k].frag, v[k].desc);
+    }
+    put("sw/verdicts.json", "[{\"criterion\": \"c\", \"condition\": \"sector\", \"axis_value\": 90, "
+                            "\"value\": 0.7, \"threshold\": 0.5, \"comparator\": \">=\", \"pass\": true}]");
+    CHECK(rdata_load("sw", &s, &e) == 0 && s.n_verdicts == 1, "a verdicts list loads");
+    CHECK(s.n_verdicts == 1 && !strcmp(s.verdicts[0].cond, "sector at 90") && s.verdicts[0].pass &&
+          s.verdicts[0].measured == 0.7, "a verdict keeps its axis value, and measured falls back to value");
+    rdata_free(&s);
+}
+
 int main(void)
 {
     parse_checks();
     file_checks();
+    message_checks();
+    folder_checks();
     return check_done();
 }
