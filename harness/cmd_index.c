@@ -160,15 +160,16 @@ static int index_run(const struct index_opts *o, struct err *e)
         s.channels = ch;
         recording_free(&r);
     }
-    if (!rc) rc = index_try(check, &m, o->allow_outside, &r, e);
+    int loaded = 0;
+    if (!rc) loaded = !(rc = index_try(check, &m, o->allow_outside, &r, e));
     if (!rc && rename(check, o->out)) rc = err_at(e, o->out, 0, "cannot write: %s", strerror(errno));
     unlink(check);
-    if (!rc) {
+    if (!rc && !o->quiet) {
         double dur = r.n > 1 ? r.poses[r.n - 1].t - r.poses[0].t : 0;
         printf("wrote %s: %zu scans (%s, %s/%s), %zu poses (%s), %d channels, %.3f s\n", o->out, r.n,
                scan_layout_name(r.layout), paths[0], paths[3], r.n, m.poses_layout, s.channels, dur);
-        recording_free(&r);
     }
+    if (loaded) recording_free(&r);
     recording_sensor_free(&s);
     return rc;
 }
@@ -186,7 +187,7 @@ int cmd_index(int argc, char **argv)
         {"--channels", OPT_INT, &o.channels, "N", "sensor channels (default: from the ring field of the first scan)"},
         {"--notes", OPT_STR, &o.notes, "TEXT", "free text stored in the sensor description"},
         {"--allow-outside", OPT_FLAG, &o.allow_outside, NULL, "allow scans or poses outside the manifest's folder"},
-        {"--quiet", OPT_FLAG, &o.quiet, NULL, "no progress output"},
+        {"--quiet", OPT_FLAG, &o.quiet, NULL, "no summary line on stdout"},
         {0}};
     struct opt_args a;
     struct err e;

@@ -43,6 +43,8 @@ out=$("$REVISIT_BIN" index "$R/scans" --poses "$R/poses.csv" --channels 16 --out
 expect "[ $rc -eq 0 ]" "index writes a manifest for raw scans with CSV poses"
 expect_in "$out" "60 scans (raw, scans/*.bin), 60 poses (csv), 16 channels, 59.000 s" "index says what it found"
 expect "grep -q '\"layout\":.*\"csv\"' '$R/recording.json'" "the detected pose layout is recorded"
+out=$("$REVISIT_BIN" index "$R/scans" --poses "$R/poses.csv" --channels 16 --out "$R/q.json" --quiet 2>&1)
+expect "[ $? -eq 0 ] && [ -z '$out' ] && [ -s '$R/q.json' ]" "index --quiet writes the manifest and prints nothing"
 "$REVISIT_BIN" index "$R/scans" --poses "$R/poses.txt" --channels 16 --out "$R/text.json" >/dev/null 2>&1
 expect "[ $? -eq 0 ] && grep -q '\"text\"' '$R/text.json'" "index accepts whitespace pose lines"
 "$REVISIT_BIN" index "$R/scans" --poses "$R/poses_kx.txt" --times "$R/times.txt" --channels 16 --out "$R/mat.json" >/dev/null 2>&1
