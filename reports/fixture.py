@@ -159,7 +159,8 @@ def main():
         return
     os.makedirs(os.path.join(a.out, "cells"), exist_ok=True)
     with open(os.path.join(a.out, "scenario.json"), "w") as f:
-        json.dump({"format": "revisit-scenario-1", "name": "fixture harbour loop"}, f)
+        json.dump({"format": "revisit-sweep-1", "name": "fixture harbour loop",
+                   "bootstrap": {"resamples": 200, "seed": 5}}, f)
     for mi, m in enumerate(methods):
         for ci, (cn, ch, ax, p) in enumerate(CONDITIONS[:a.conditions]):
             for s in range(1, a.seeds + 1):

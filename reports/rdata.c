@@ -270,12 +270,16 @@ static void sweep_scenario(struct rdata_set *s)
     cJSON *root = cJSON_Parse(text);
     free(text);
     json_str(root, "name", s->scenario_name, sizeof s->scenario_name);
+    const cJSON *b = cJSON_GetObjectItemCaseSensitive(root, "bootstrap");
+    s->boot_resamples = json_num(b, "resamples", NAN);
+    s->boot_seed = json_num(b, "seed", NAN);
     cJSON_Delete(root);
 }
 
 int rdata_load(const char *dir, struct rdata_set *s, struct err *e)
 {
     memset(s, 0, sizeof *s);
+    s->boot_resamples = s->boot_seed = NAN;
     snprintf(s->root, sizeof s->root, "%s", dir);
     char p1[4200], p2[4200];
     fileio_join(p1, sizeof p1, dir, "result.json");

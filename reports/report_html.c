@@ -1,6 +1,7 @@
 /* report_html.c: the HTML report, one self-contained file (images inlined). */
 #include "reports/report_int.h"
 
+#include <math.h>
 #include <stddef.h>
 #include <stdlib.h>
 #include <string.h>
@@ -227,6 +228,8 @@ static void html_repro(FILE *f, const struct report_doc *d)
     size_t ns = report_seeds(s, seeds, REPORT_LIST_MAX);
     fputs("<li>Perturbation seeds: ", f);
     for (size_t k = 0; k < ns; k++) fprintf(f, "%s%llu", k ? ", " : "", seeds[k]);
+    if (isfinite(s->boot_seed))
+        fprintf(f, "</li>\n<li>Bootstrap: %.0f resamples, seed %.0f (scenario.json)", s->boot_resamples, s->boot_seed);
     fputs("</li>\n<li>Commands (the results, then this report):</li>\n</ul>\n<pre>", f);
     n = report_distinct(s, offsetof(struct rdata_cell, command), v, REPORT_LIST_MAX - 1);
     v[n++] = d->opts->command ? d->opts->command : "revisit report";

@@ -1,6 +1,7 @@
 /* report_md.c: the Markdown report (images linked from plots/). */
 #include "reports/report_int.h"
 
+#include <math.h>
 #include <stddef.h>
 #include <string.h>
 
@@ -187,6 +188,8 @@ static void md_repro(FILE *f, const struct report_doc *d)
     unsigned long long seeds[REPORT_LIST_MAX];
     size_t ns = report_seeds(s, seeds, REPORT_LIST_MAX);
     for (size_t k = 0; k < ns; k++) fprintf(f, "%s%llu", k ? ", " : "", seeds[k]);
+    if (isfinite(s->boot_seed))
+        fprintf(f, ".\n- Bootstrap: %.0f resamples, seed %.0f (scenario.json)", s->boot_resamples, s->boot_seed);
     fputs(".\n- Commands (the results, then this report):\n\n", f);
     n = report_distinct(s, offsetof(struct rdata_cell, command), v, REPORT_LIST_MAX - 1);
     v[n++] = d->opts->command ? d->opts->command : "revisit report";

@@ -51,6 +51,7 @@ expect_in "$md" "never a substitute for it" "report.md carries the safety cautio
 expect_in "$md" "ISO 26262" "the caution names the road-vehicle standards"
 expect_in "$md" "Scenario hash: f00dfeed" "reproducibility names the scenario hash"
 expect_in "$md" "Perturbation seeds: 1, 2" "reproducibility lists the seeds"
+expect_in "$md" "Bootstrap: 200 resamples, seed 5" "reproducibility gives the bootstrap seed of scenario.json"
 expect_in "$md" "revisit report $T/sweep --quiet" "reproducibility holds the exact report command"
 expect_in "$md" "The condition that hurts each method most" "the first finding is the condition that hurts each method most"
 expect_in "$md" "ring-key: sector (width=180), 0." "it names the condition and axis value for each method"
