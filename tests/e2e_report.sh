@@ -103,6 +103,24 @@ expect "[ -s $T/one/report/report.md ] && [ ! -e $T/one/report/report.html ]" "-
 expect_in "$(head -n 1 "$T/one/report/report.md")" "# Mount B review" "--title sets the title"
 expect_in "$(cat "$T/one/report/report.md")" "One evaluation." "a single folder is described as one evaluation"
 
+# --- a cell that failed ---------------------------------------------------------
+cp -r "$T/one" "$T/failed"; rm -rf "$T/failed/report"
+$PY - "$T/failed/result.json" <<'EOF'
+import json, sys
+r = json.load(open(sys.argv[1]))
+r.update(status="failed", error="plugin 'ring-key' crashed on scan 7")
+r.pop("metrics"); r.pop("curve")
+json.dump(r, open(sys.argv[1], "w"))
+EOF
+"$REVISIT_BIN" report "$T/failed" --quiet; rc=$?
+expect "[ $rc -eq 0 ]" "a folder whose cell failed still gets a report"
+fm=$(cat "$T/failed/report/report.md")
+expect_in "$fm" "## Failed cells" "the failed cell is listed"
+expect_in "$fm" "plugin 'ring-key' crashed on scan 7" "with its message"
+expect_in "$fm" "| none | failed |" "its table cells read failed"
+expect_in "$fm" "## Plots not made" "plots that cannot be made are explained"
+expect_in "$fm" "no finished cell" "the reason is given"
+
 # --- without gnuplot ----------------------------------------------------------
 env PATH="$T/nobin" "$REVISIT_BIN" report "$T/sweep" --out "$T/nogp" --quiet; rc=$?
 expect "[ $rc -eq 0 ]" "report without gnuplot on PATH exits 0"
