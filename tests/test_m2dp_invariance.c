@@ -96,6 +96,18 @@ int main(void)
     t->describe(inst, &sb, dc, NULL, msg, sizeof msg);
     CHECK(l2(da, dc, dim) > 0.05, "a different cloud gives a different signature");
 
+    memcpy(b, a, sizeof a);  /* NaN and Inf points are left out */
+    b[4 * 17] = NAN, b[4 * 900 + 2] = INFINITY, b[4 * 4000 + 1] = -INFINITY;
+    float dn[192];
+    t->describe(inst, &sb, dn, NULL, msg, sizeof msg);
+    for (size_t k = 0, m = 0; k < N; k++)  /* the same cloud without those three */
+        if (k != 17 && k != 900 && k != 4000)
+            memcpy(b + 4 * m++, a + 4 * k, 16);
+    sb.n = N - 3;
+    t->describe(inst, &sb, db, NULL, msg, sizeof msg);
+    CHECK(memcmp(dn, db, sizeof dn) == 0, "non-finite points are left out, not spread over the signature");
+    sb.n = N;
+
     struct rv_scan empty = {0, a, NULL, NULL, 0, 0, 0};
     for (int k = 0; k < 192; k++)
         db[k] = 5;

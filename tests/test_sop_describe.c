@@ -125,6 +125,30 @@ static void test_empty(float *pts)
     for (uint32_t k = 0; k < dim; k++)
         nonzero += d[k] != 0;
     CHECK(nonzero == 0, "an all-ground scan gives zeros");
+    /* non-finite points are skipped by every step: same descriptor as without them */
+    static float clean[4 * 3000], dirty[4 * 3003];
+    size_t nc = 0, nd = 0;
+    for (int i = 0; i < 3000; i++, nc++) {  /* a floor and a 2 m post */
+        int post = i >= 2000;
+        clean[4 * nc] = post ? 5.0f + 0.001f * (i % 10) : (float)(i % 50) - 25;
+        clean[4 * nc + 1] = post ? 3.0f + 0.001f * (i % 7) : (float)(i / 50) - 20;
+        clean[4 * nc + 2] = post ? -1.5f + 0.002f * (i - 2000) : -1.7f, clean[4 * nc + 3] = 0;
+    }
+    for (size_t k = 0; k < nc; k++) {
+        if (k == 10 || k == 2500 || k == 2999)
+            for (int c = 0; c < 4; c++)
+                dirty[4 * nd + c] = c == (int)(k % 3) ? (k == 2500 ? INFINITY : NAN) : 1.0f, nd += c == 3;
+        memcpy(dirty + 4 * nd++, clean + 4 * k, 16);
+    }
+    float *dc = malloc(4 * dim);
+    struct rv_scan sc_clean = {nc, clean, NULL, NULL, 0, 0, 0}, sc_dirty = {nd, dirty, NULL, NULL, 0, 0, 0};
+    m->reset(s);
+    m->describe(s, &sc_clean, d, NULL, msg, sizeof msg);
+    m->reset(s);
+    m->describe(s, &sc_dirty, dc, NULL, msg, sizeof msg);
+    CHECK(nd == nc + 3 && memcmp(d, dc, 4 * dim) == 0 && dist(d, (float[SOP_FA_MAX * SOP_FA_MAX]){0}, dim) > 0.5,
+          "NaN and Inf points change nothing");
+    free(dc);
     free(d);
     m->destroy(s);
 }

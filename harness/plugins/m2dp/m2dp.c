@@ -290,8 +290,31 @@ out:
     return rc;
 }
 
+/* When some point has a non-finite coordinate, a malloc'ed copy of the
+ * finite ones (*n updated); NULL when all are finite (or out of memory, then
+ * *n = 0 and the signature is zeros). */
+static float *m2dp_finite(const float *xyzi, size_t *n)
+{
+    size_t k = 0, m = 0;
+    while (k < *n && isfinite(xyzi[4 * k] + xyzi[4 * k + 1] + xyzi[4 * k + 2]))
+        k++;
+    if (k == *n)
+        return NULL;
+    float *out = malloc(16 * *n);
+    if (!out) {
+        *n = 0;
+        return NULL;
+    }
+    for (k = 0; k < *n; k++)
+        if (isfinite(xyzi[4 * k] + xyzi[4 * k + 1] + xyzi[4 * k + 2]))
+            memcpy(out + 4 * m++, xyzi + 4 * k, 16);
+    *n = m;
+    return out;
+}
+
 /* The whole signature in double precision; sig holds p*q + l*t values.
- * A scan with fewer than 3 points or no extent gives all zeros.
+ * Points with a non-finite coordinate are left out; a scan with fewer than
+ * 3 points or no extent gives all zeros.
  * When a_out is not NULL it receives a copy of A.  Returns an rv_status. */
 static int m2dp_signature(const struct m2dp *m, const float *xyzi, size_t n, double *sig,
                           double *a_out, char *msg, size_t msg_len)
@@ -305,7 +328,9 @@ static int m2dp_signature(const struct m2dp *m, const float *xyzi, size_t n, dou
         return snprintf(msg, msg_len, "out of memory"), RV_ERR_NOMEM;
     }
     memset(sig, 0, sizeof *sig * (size_t)(rows + cols));
-    size_t used = m2dp_matrix(m, xyzi, n, a, q);
+    float *clean = m2dp_finite(xyzi, &n);  /* NULL: every point is finite */
+    size_t used = m2dp_matrix(m, clean ? clean : xyzi, n, a, q);
+    free(clean);
     free(q);
     if (a_out)
         memcpy(a_out, a, sizeof *a * (size_t)rows * (size_t)cols);
