@@ -128,6 +128,9 @@ install: all
 	install -m 755 $(B)/revisit $(DESTDIR)$(PREFIX)/bin/revisit
 	install -m 644 harness/revisit_plugin.h $(DESTDIR)$(PREFIX)/include/revisit/
 	install -m 755 $(PLUGIN_SO) $(DESTDIR)$(PREFIX)/lib/revisit/plugins/
+	install -d $(DESTDIR)$(PREFIX)/share/revisit/scenarios/sensors
+	install -m 644 $(wildcard scenarios/*.json) $(DESTDIR)$(PREFIX)/share/revisit/scenarios/
+	install -m 644 $(wildcard scenarios/sensors/*.json) $(DESTDIR)$(PREFIX)/share/revisit/scenarios/sensors/
 	$(B)/revisit --help > $(DESTDIR)$(PREFIX)/share/revisit/help/revisit.txt
 	for c in $$($(B)/revisit --commands); do \
 	  $(B)/revisit $$c --help > $(DESTDIR)$(PREFIX)/share/revisit/help/revisit-$$c.txt; done
