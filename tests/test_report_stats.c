@@ -184,9 +184,38 @@ static void table_checks(void)
     rstat_table_free(&t);
 }
 
+/* Reloc mode: queries come from their own track and every map scan is a
+ * candidate, however late; d is measured between the two tracks. */
+static void reloc_checks(void)
+{
+    static const double tm[3] = {0, 1, 2}, xm[3] = {0, 50, 100}, ym[3] = {0};
+    static const double tq[2] = {0, 1}, xq[2] = {99, 51}, yq[2] = {1, 30};
+    struct rdata_poses p;
+    memset(&p, 0, sizeof p);
+    track(&p.map, 3, tm, xm, ym);
+    track(&p.query, 2, tq, xq, yq);
+    struct rdata_top1 rows[2] = {{0, 2, 0.2}, {1, 1, 0.2}};
+    struct rdata_queries q = {2, rows};
+    struct protocol pr;
+    protocol_defaults(&pr);
+    pr.mode = PROTOCOL_RELOC;
+    struct rstat_outcomes o;
+    struct err e = {{0}};
+    CHECK(rstat_outcomes(&p, &q, &pr, 0.5, &o, &e) == 0, "reloc outcomes");
+    CHECK(o.o[0].cls == RSTAT_CORRECT && o.o[0].revisit, "reloc: a later map scan 1.4 m away is a correct match");
+    CHECK(o.o[1].cls == RSTAT_WRONG && !o.o[1].revisit, "reloc: a map scan 30 m away is wrong and no revisit");
+    CHECK_NEAR(o.o[0].pose_d, sqrt(2), 1e-12, "reloc: distance between query and map tracks");
+    rstat_outcomes_free(&o);
+    rows[1].cand = 7;
+    CHECK(rstat_outcomes(&p, &q, &pr, 0.5, &o, &e) < 0, "a candidate without a map pose is refused");
+    CHECK_MSG(e.msg, "no pose for map scan 7", "the map scan without a pose is named");
+    rdata_poses_free(&p);
+}
+
 int main(void)
 {
     outcome_checks();
+    reloc_checks();
     kind_checks();
     hist_checks();
     table_checks();
