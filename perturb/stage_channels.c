@@ -17,8 +17,8 @@ static const struct chain_param_info channels_params[] = {
     {"list", CHAIN_LIST, "", 0, 0, 255, 0, 0, NULL,
      "channel numbers from 0 to 255 separated by '/'",
      "keep exactly these channels (overrides every)"},
-    {"gap", CHAIN_NUM, "deg", 0.1, 0.001, 10, 0, 0, NULL, "degrees from 0.001 to 10",
-     "elevation gap that separates channels, when the scan has no ring field"},
+    {"gap", CHAIN_NUM, "deg", 0.01, 0.001, 10, 0, 0, NULL, "degrees from 0.001 to 10",
+     "least elevation step between channels without a ring field (raise it when a channel scatters)"},
 };
 
 struct elev {
