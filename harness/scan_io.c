@@ -86,7 +86,7 @@ static void scan_le_floats(float *v, size_t n)
 /* Read exactly len bytes from fd into buf.  With finite != NULL, read in
  * blocks and check each for NaN / infinity while it is in cache (len a
  * multiple of 4, buf float-aligned); *finite is 1 when none was found. */
-#define SCAN_BLOCK ((size_t)128 << 10)
+#define SCAN_BLOCK ((size_t)512 << 10)
 static int scan_read_full(int fd, void *buf, size_t len, int *finite, const char *path, struct err *e)
 {
     unsigned char *p = buf;

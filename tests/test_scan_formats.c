@@ -68,30 +68,38 @@ static void test_raw(void)
     cloud_free(&c);
 }
 
-/* The non-finite check on raw files runs block by block as they are read;
- * a bad point deep in the file, one straddling a block edge (128 KiB is
- * point 8192) and a NaN intensity (kept) must all be handled. */
+/* The non-finite check on raw files runs block by block as they are read
+ * (512 KiB blocks: point 32768 starts the second); a bad point in the last
+ * record of the first block, one deep in the second and a NaN intensity
+ * (kept) must all be handled. */
 static void test_read_finite(void)
 {
     struct err e;
     struct cloud w, c;
     cloud_init(&w);
     cloud_init(&c);
-    for (int k = 0; k < 20000; k++) cloud_push(&w, (float)k, 1, 2, 3);
-    CHECK(!scan_write_raw("f.bin", &w, &e), "a 20000-point raw scan is written");
+    for (int k = 0; k < 40000; k++) cloud_push(&w, (float)k, 1, 2, 3);
+    CHECK(!scan_write_raw("f.bin", &w, &e), "a 40000-point raw scan is written");
     size_t d = 9;
-    CHECK(!scan_read_finite("f.bin", SCAN_AUTO, &c, &d, &e) && c.n == 20000 && d == 0,
+    CHECK(!scan_read_finite("f.bin", SCAN_AUTO, &c, &d, &e) && c.n == 40000 && d == 0,
           "an all-finite raw scan drops nothing");
-    CLOUD_Z(&w, 8191) = INFINITY;
-    CLOUD_X(&w, 15000) = NAN;
+    CLOUD_Z(&w, 32767) = INFINITY;
+    CLOUD_X(&w, 35000) = NAN;
     CLOUD_I(&w, 100) = NAN;
     scan_write_raw("f.bin", &w, &e);
-    CHECK(!scan_read_finite("f.bin", SCAN_RAW, &c, &d, &e) && c.n == 19998 && d == 2,
-          "non-finite coordinates in later blocks are dropped and counted");
-    CHECK(CLOUD_X(&c, 8191) == 8192 && CLOUD_X(&c, 14998) == 14999 && CLOUD_X(&c, 14999) == 15001 && isnan(CLOUD_I(&c, 100)),
-          "the points after a dropped one move up; a NaN intensity is kept");
+    CHECK(!scan_read_finite("f.bin", SCAN_RAW, &c, &d, &e) && c.n == 39998 && d == 2,
+          "non-finite coordinates at a block edge and in a later block are dropped and counted");
+    CHECK(CLOUD_X(&c, 32767) == 32768 && CLOUD_X(&c, 34998) == 34999 && CLOUD_X(&c, 34999) == 35001 &&
+          isnan(CLOUD_I(&c, 100)), "the points after a dropped one move up; a NaN intensity is kept");
+    w.n = 32768;
+    CLOUD_Z(&w, 32767) = 2;
+    CLOUD_Y(&w, 5) = -INFINITY;
+    scan_write_raw("g.bin", &w, &e);
+    CHECK(!scan_read_finite("g.bin", SCAN_RAW, &c, &d, &e) && c.n == 32767 && d == 1,
+          "a file of exactly one block with a bad point in it");
+    w.n = 40000;
     CHECK(!pcd_write_binary("f.pcd", &w, &e) && !scan_read_finite("f.pcd", SCAN_AUTO, &c, &d, &e) &&
-          c.n == 19998 && d == 2, "the same holds for PCD scans");
+          c.n == 39998 && d == 2, "the same holds for PCD scans");
     cloud_free(&w);
     cloud_free(&c);
 }
