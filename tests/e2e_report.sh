@@ -73,6 +73,22 @@ imgs=$(grep -o '<img ' "$R/report.html" | wc -l)
 expect "[ $imgs -eq 13 ]" "report.html inlines all 13 images (got $imgs)"
 expect "! grep -q 'src=\"plots/' '$R/report.html'" "report.html refers to no outside image file"
 expect_in "$html" "never a substitute for it" "report.html carries the safety caution"
+# Tag balance by Python's html.parser (standard library, html.parser.HTMLParser).
+bal=$($PY - "$R/report.html" <<'EOF'
+import sys
+from html.parser import HTMLParser
+class P(HTMLParser):
+    def __init__(self):
+        super().__init__(); self.stack = []; self.bad = 0
+    def handle_starttag(self, t, a):
+        if t not in ("meta", "img", "br"): self.stack.append(t)
+    def handle_endtag(self, t):
+        if self.stack and self.stack[-1] == t: self.stack.pop()
+        else: self.bad += 1
+p = P(); p.feed(open(sys.argv[1]).read()); print(p.bad + len(p.stack))
+EOF
+)
+expect "[ '$bal' = 0 ]" "every element of report.html is closed in order (html.parser)"
 expect_in "$(head -n 1 "$R/scalars.csv")" "method,condition,chain,axis,axis_value,seeds" "scalars.csv has its header"
 (cd "$R/plots" && gnuplot pr-0.gp) >/dev/null 2>&1
 expect "[ \$? -eq 0 ] && [ -s $R/plots/pr-0.png ]" "a written script redraws its plot when run by hand"
