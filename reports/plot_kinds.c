@@ -10,7 +10,7 @@
  * key over the plot.  The tables carry the full name. */
 #define PLOT_KEY_MAX 80
 /* Line plots put the key under the graph, so long names take no width from it. */
-static const char key_below[] = "set key below center vertical Left reverse box maxrows 4\n";
+static const char key_below[] = "set key below center vertical Left reverse nobox maxrows 4\n";
 static void key_title(FILE *f, const char *name)
 {
     size_t n = strlen(name);
