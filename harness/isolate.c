@@ -82,6 +82,10 @@ static size_t iso_vm_bytes(void)
 static void iso_child(const struct isolate_opts *o, isolate_fn fn, void *ctx, void *shared, int fd)
 {
     signal(SIGINT, SIG_IGN);  /* the parent decides what an interrupt means */
+    /* Fatal signals kill the child outright, whatever handlers the host had
+     * (a sanitizer's, a crash notice), so the parent can name the signal. */
+    static const int fatal[] = {SIGSEGV, SIGBUS, SIGFPE, SIGILL, SIGABRT};
+    for (size_t k = 0; k < sizeof fatal / sizeof fatal[0]; k++) signal(fatal[k], SIG_DFL);
     if (o->mem_limit_bytes) {
         struct rlimit rl;
         rl.rlim_cur = rl.rlim_max = (rlim_t)(iso_vm_bytes() + o->mem_limit_bytes);
