@@ -9,17 +9,21 @@
 
 #include <ctype.h>
 #include <errno.h>
+#include <fcntl.h>
 #include <math.h>
 #include <stdint.h>
 #include <stdio.h>
 #include <stdlib.h>
 #include <string.h>
+#include <sys/stat.h>
+#include <unistd.h>
 
 #include "harness/fileio.h"
 #include "harness/scan_io.h"
 
 #define PCD_MAX_FIELDS 64
 #define PCD_HEADER_MAX 65536
+#define PCD_BLOCK ((size_t)64 << 10)  /* binary bodies are read in blocks of this size */
 /* A scan file is at most the point bound times a generous record size. */
 #define PCD_FILE_MAX ((size_t)CLOUD_MAX_POINTS * 64)
 
@@ -285,19 +289,12 @@ static int pcd_xyzi_leading(const struct pcd_header *h)
 #endif
 }
 
-static int pcd_body_binary(const unsigned char *buf, size_t len, const char *path,
-                           const struct pcd_header *h, struct cloud *c, struct err *e)
+/* Convert m consecutive binary records at p into points k0 .. k0 + m - 1. */
+static void pcd_convert(const struct pcd_header *h, const unsigned char *p, size_t k0, size_t m, int fast,
+                        struct cloud *c)
 {
-    size_t have = len - h->body;
-    if (h->point_size == 0 || have / h->point_size < h->points)
-        return err_at(e, path, 0, "binary body is %zu bytes, POINTS %zu needs %zu (%zu bytes per point): "
-                      "file truncated at point %zu", have, h->points, h->points * h->point_size,
-                      h->point_size, h->point_size ? have / h->point_size : 0);
-    if (pcd_prepare(c, h)) return err_at(e, path, 0, "out of memory for %zu points", h->points);
-    const unsigned char *p = buf + h->body;
     const size_t ps = h->point_size;
-    int fast = pcd_xyzi_leading(h);
-    for (size_t k = 0; k < h->points; k++, p += ps) {
+    for (size_t k = k0; k < k0 + m; k++, p += ps) {
         float *q = c->pts + 4 * k;
         if (fast) {
             memcpy(q, p, 16);
@@ -310,8 +307,62 @@ static int pcd_body_binary(const unsigned char *buf, size_t len, const char *pat
         if (c->ring) c->ring[k] = pcd_ring(pcd_get(p, &h->f[h->ir]));
         if (c->time) c->time[k] = (float)pcd_get(p, &h->f[h->it]);
     }
-    c->n = h->points;
+}
+
+static int pcd_read_n(int fd, unsigned char *buf, size_t len, const char *path, struct err *e)
+{
+    size_t got = 0;
+    while (got < len) {
+        ssize_t r = read(fd, buf + got, len - got);
+        if (r < 0 && errno == EINTR) continue;
+        if (r < 0) return err_at(e, path, 0, "read failed: %s", strerror(errno));
+        if (r == 0) return err_at(e, path, 0, "file ended after %zu more bytes, expected %zu", got, len);
+        got += (size_t)r;
+    }
     return 0;
+}
+
+/* The binary body, streamed through a block buffer: the part already read
+ * with the header (head[h->body .. head_len)), then the rest from fd. */
+static int pcd_body_binary(int fd, size_t size, const unsigned char *head, size_t head_len, const char *path,
+                           const struct pcd_header *h, struct cloud *c, struct err *e)
+{
+    size_t have = size - h->body, ps = h->point_size;
+    if (ps == 0 || have / ps < h->points)
+        return err_at(e, path, 0, "binary body is %zu bytes, POINTS %zu needs %zu (%zu bytes per point): "
+                      "file truncated at point %zu", have, h->points, h->points * ps, ps, ps ? have / ps : 0);
+    if (pcd_prepare(c, h)) return err_at(e, path, 0, "out of memory for %zu points", h->points);
+    size_t body = h->points * ps, fill = head_len - h->body, taken = 0, k = 0;
+    if (fill > body) fill = body;
+    /* whole records, at least one, and room for what came with the header */
+    size_t cap = ((fill > PCD_BLOCK ? fill : PCD_BLOCK) / ps + 1) * ps;
+    unsigned char *blk = malloc(cap);
+    if (!blk) return err_at(e, path, 0, "out of memory");
+    int fast = pcd_xyzi_leading(h), rc = 0;
+    if (fast && ps == 16) {
+        /* records are cloud records as they stand: read straight into place */
+        free(blk);
+        memcpy(c->pts, head + h->body, fill);
+        rc = pcd_read_n(fd, (unsigned char *)c->pts + fill, body - fill, path, e);
+        if (!rc) c->n = h->points;
+        return rc;
+    }
+    memcpy(blk, head + h->body, fill);
+    taken = fill;
+    while (k < h->points) {
+        size_t want = cap - fill < body - taken ? cap - fill : body - taken;
+        if (want && (rc = pcd_read_n(fd, blk + fill, want, path, e))) break;
+        fill += want;
+        taken += want;
+        size_t m = fill / ps;
+        pcd_convert(h, blk, k, m, fast, c);
+        k += m;
+        memmove(blk, blk + m * ps, fill - m * ps);
+        fill -= m * ps;
+    }
+    free(blk);
+    if (!rc) c->n = h->points;
+    return rc;
 }
 
 static int pcd_body_ascii(const unsigned char *buf, size_t len, const char *path,
@@ -349,17 +400,49 @@ static int pcd_body_ascii(const unsigned char *buf, size_t len, const char *path
     return 0;
 }
 
+/* Open path and read its first bytes (the header, at most PCD_HEADER_MAX
+ * and a margin) into a NUL-terminated buffer. */
+static int pcd_open(const char *path, int *fd, size_t *size, unsigned char **head, size_t *head_len,
+                    struct err *e)
+{
+    *fd = open(path, O_RDONLY);
+    if (*fd < 0) return err_at(e, path, 0, "cannot open: %s", strerror(errno));
+    struct stat st;
+    if (fstat(*fd, &st) || !S_ISREG(st.st_mode)) return err_at(e, path, 0, "not a regular file, expected a scan file");
+    *size = (size_t)st.st_size;
+    if (*size == 0) return err_at(e, path, 0, "file is empty, expected a scan");
+    if (*size > PCD_FILE_MAX)
+        return err_at(e, path, 0, "file is %zu bytes, more than the limit of %zu for a scan", *size, PCD_FILE_MAX);
+    *head_len = *size < PCD_HEADER_MAX + 4096 ? *size : PCD_HEADER_MAX + 4096;
+    if (!(*head = malloc(*head_len + 1))) return err_at(e, path, 0, "out of memory");
+    (*head)[*head_len] = 0;
+    return pcd_read_n(*fd, *head, *head_len, path, e);
+}
+
 int pcd_read(const char *path, struct cloud *c, struct err *e)
 {
-    unsigned char *buf;
-    size_t len;
+    int fd = -1;
+    size_t size = 0, len = 0;
+    unsigned char *buf = NULL;
     c->n = 0;
-    if (scan_slurp(path, PCD_FILE_MAX, &buf, &len, e)) return -1;
     struct pcd_header h;
-    int rc = pcd_parse_header(buf, len, path, &h, e);
-    if (!rc) rc = h.data == PCD_BINARY ? pcd_body_binary(buf, len, path, &h, c, e)
-                                       : pcd_body_ascii(buf, len, path, &h, c, e);
+    int rc = pcd_open(path, &fd, &size, &buf, &len, e);
+    if (!rc) rc = pcd_parse_header(buf, len, path, &h, e);
+    if (!rc && h.data == PCD_BINARY) {
+        rc = pcd_body_binary(fd, size, buf, len, path, &h, c, e);
+    } else if (!rc) {
+        /* ascii: the whole file as text */
+        unsigned char *all = realloc(buf, size + 1);
+        if (!all) rc = err_at(e, path, 0, "out of memory for %zu bytes", size);
+        else {
+            buf = all;
+            rc = pcd_read_n(fd, buf + len, size - len, path, e);
+            buf[size] = 0;
+        }
+        if (!rc) rc = pcd_body_ascii(buf, size, path, &h, c, e);
+    }
     free(buf);
+    if (fd >= 0) close(fd);
     if (rc) c->n = 0;
     return rc;
 }

@@ -2,7 +2,8 @@
  * to a plain read() loop over the same files in the same run (the floor of
  * what I/O allows).  Writes its own recordings (raw and PCD, 200 scans of
  * 60,000 points by default) into the current folder.  One JSON line per
- * figure on stdout:
+ * figure on stdout (the PCD scans carry ring and time, as the synthetic
+ * generator writes them):
  *   {"bench":"scan_load","layout":"raw","mb_per_s":...,"ratio_to_read":...}
  * Times are this thread's CPU seconds (user + kernel), so other processes
  * on a shared machine do not count.  Each figure is the best of five rounds, each round running both ways over
@@ -32,6 +33,7 @@ static int make_recording(const char *dir, enum scan_layout layout, size_t n, si
     struct recording_writer w;
     struct cloud c;
     cloud_init(&c);
+    if (layout == SCAN_PCD && (cloud_enable_ring(&c) || cloud_enable_time(&c))) return err_set(e, "out of memory");
     struct pose *v = calloc(n, sizeof *v);
     int rc = !v || recording_writer_begin(&w, dir, &s, layout, e);
     unsigned seed = 1;
