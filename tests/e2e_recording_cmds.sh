@@ -106,6 +106,31 @@ err=$("$REVISIT_BIN" inspect "$T/v2.json" 2>&1); rc=$?
 expect "[ $rc -eq 2 ]" "a manifest of another format version exits 2"
 expect_in "$err" "v2.json: \$.format: 'revisit-recording-2' is not a format this version reads" "and says why"
 
+# PCD scans with a ring field (written here from the PCD v0.7 description:
+# header lines, then DATA binary records x y z intensity as F 4, ring as U 2):
+# index takes the channel count from the highest ring in the first scan.
+$PY - "$T" <<'EOF2'
+import os, sys
+import numpy as np
+d = sys.argv[1] + "/pcdrun"
+os.makedirs(d)
+rec = np.dtype([("x", "<f4"), ("y", "<f4"), ("z", "<f4"), ("intensity", "<f4"), ("ring", "<u2")])
+for k in range(3):
+    a = np.zeros(64, rec)
+    a["x"] = np.arange(64)
+    a["ring"] = np.arange(64) % 32
+    head = ("VERSION 0.7\nFIELDS x y z intensity ring\nSIZE 4 4 4 4 2\nTYPE F F F F U\nCOUNT 1 1 1 1 1\n"
+            "WIDTH 64\nHEIGHT 1\nVIEWPOINT 0 0 0 1 0 0 0\nPOINTS 64\nDATA binary\n")
+    with open(d + "/%03d.pcd" % k, "wb") as f:
+        f.write(head.encode() + a.tobytes())
+with open(d + "/poses.txt", "w") as f:
+    for k in range(3):
+        f.write("%d %d 0 0 0 0 0 1\n" % (k, k))
+EOF2
+out=$("$REVISIT_BIN" index "$T/pcdrun" --poses "$T/pcdrun/poses.txt" 2>&1); rc=$?
+expect "[ $rc -eq 0 ]" "index of PCD scans with a ring field needs no --channels"
+expect_in "$out" "3 scans (pcd, ./*.pcd), 3 poses (text), 32 channels" "the channel count comes from the ring field"
+
 # Usage and input refusals of the two commands, each with its message.
 refuse() {  # expected-fragment description command...
   local frag=$1 desc=$2; shift 2
