@@ -433,7 +433,7 @@ static int rec_pair(const struct rec_ctx *x, const struct recording *rec, const 
     for (size_t k = 0; k < rec->n; k++) {
         double t = rec_stem_number(rec->scan_paths[k]) * scale;
         if (fabs(t - ps->v[k].t) > REC_TIME_TOL_S)
-            return err_set(e, "%s: scan %zu (%s) is named for time %.9g s but pose %zu has time %.9g s, "
+            return err_set(e, "%s: scan %zu (%s) is named for time %.6f s but pose %zu has time %.6f s, "
                            "expected the same time within 1 ms", x->file, k, rec->scan_paths[k], t, k, ps->v[k].t);
     }
     return 0;

@@ -163,6 +163,7 @@ static void test_bad_manifests(void)
 
 static void test_pairing(void)
 {
+    char buf_ns[96];
     struct err e;
     struct recording r;
     make_folder("r3", 6, "%06d.bin", 50);
@@ -175,8 +176,22 @@ static void test_pairing(void)
     CHECK(load_msg("r4", manifest_ok, 0)[0] == 0, "scans named by their times pair with the poses");
     rename("r4/scans/1000.300000.bin", "r4/scans/1000.400000.bin");
     m = load_msg("r4", manifest_ok, 0);
-    CHECK_MSG(m, "scan 3 (r4/scans/1000.400000.bin) is named for time 1000.4 s but pose 3 has time 1000.3 s",
+    CHECK_MSG(m, "scan 3 (r4/scans/1000.400000.bin) is named for time 1000.400000 s but pose 3 has time 1000.300000 s",
               "a scan time that does not match its pose is named");
+    /* Scans named by nanosecond times (numbers above 1e15) pair by time too. */
+    make_folder("r7", 3, "%06d.bin", 1700000000.5);
+    for (int k = 0; k < 3; k++) {
+        char from[64], to[96];
+        snprintf(from, sizeof from, "r7/scans/%06d.bin", k);
+        snprintf(to, sizeof to, "r7/scans/%lld.bin", 1700000000500000000LL + 100000000LL * k);
+        rename(from, to);
+    }
+    CHECK(load_msg("r7", manifest_ok, 0)[0] == 0, "nanosecond scan names pair with pose times in seconds");
+    snprintf(buf_ns, sizeof buf_ns, "r7/scans/%lld.bin", 1700000000700000000LL);
+    rename(buf_ns, "r7/scans/1700000000750000000.bin");
+    m = load_msg("r7", manifest_ok, 0);
+    CHECK_MSG(m, "scan 2 (r7/scans/1700000000750000000.bin) is named for time 1700000000.750000 s but pose 2 has "
+              "time 1700000000.700000 s", "a nanosecond name off by 50 ms is named");
     /* A non-monotonic pose file, through the manifest. */
     make_folder("r5", 3, "%06d.bin", 0);
     puts_file("r5/poses.txt", "0 0 0 0 0 0 0 1\n0.2 0 0 0 0 0 0 1\n0.1 0 0 0 0 0 0 1\n");
