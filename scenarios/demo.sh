@@ -8,7 +8,7 @@ root=$(cd "$(dirname "$0")/.." && pwd)
 cd "$root" || exit 2
 bin="$root/$B/revisit"
 out="$root/demo-out"
-scans=${REVISIT_DEMO_SCANS:-400}
+scans=${REVISIT_DEMO_SCANS:-300}
 export REVISIT_PLUGIN_PATH="$root/$B/plugins${REVISIT_PLUGIN_PATH:+:$REVISIT_PLUGIN_PATH}"
 [ -x "$bin" ] || { echo "demo: $bin not built (run make B=$B)" >&2; exit 2; }
 start=$SECONDS
