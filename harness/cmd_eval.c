@@ -20,13 +20,17 @@ static const char usage[] =
     "DIR/matrix.csv.  Loop mode by default; --query makes it reloc.  METHOD is a\n"
     "plugin name ('revisit methods' lists them), a path to a .so, or a path to a\n"
     "program speaking the external protocol.  --cache DIR keeps descriptors so a\n"
-    "repeated run (another protocol or threshold) does not describe again.\n\n";
+    "repeated run (another protocol or threshold) does not describe again.\n"
+    "--isolate describes in a child process with a per-scan time-out\n"
+    "(--time-limit) and a memory limit (--mem-limit): a method that crashes,\n"
+    "hangs or allocates without bound fails with a message naming it and the scan.\n\n";
 
 struct eval_opts {
     const char *map, *query, *method, *out, *chain, *on, *plugin_path, *cache, *condition;
     unsigned long long seed, boot_seed;
-    long boot, jobs, top_c;
-    int quiet;
+    long boot, jobs, top_c, mem_mb;
+    double time_s;
+    int quiet, isolate;
     struct opt_protocol op;
 };
 
@@ -56,7 +60,14 @@ static int eval_finish_spec(struct eval_opts *o, struct eval_spec *s, struct err
     s->jobs = (int)o->jobs;
     s->top_c = o->top_c > 0 ? (int)o->top_c : 0;
     s->quiet = o->quiet;
-    s->crash_notice = 1;
+    s->crash_notice = !o->isolate;
+    s->isolate = o->isolate;
+    if (o->time_s < 0 || o->time_s > 1e6)
+        return err_set(e, "revisit eval: --time-limit expects seconds from 0 to 1000000, got %g", o->time_s);
+    if (o->mem_mb < 0 || o->mem_mb > (1L << 24))
+        return err_set(e, "revisit eval: --mem-limit expects MiB from 1 to 16777216, got %ld", o->mem_mb);
+    s->time_limit_s = o->time_s;
+    s->mem_limit_mb = (size_t)o->mem_mb;
     return 0;
 }
 
@@ -98,6 +109,9 @@ int cmd_eval(int argc, char **argv)
         {"--condition", OPT_STR, &o.condition, "NAME", "condition name recorded in result.json"},
         {"--out", OPT_STR, &o.out, "DIR", "results folder (created)"},
         {"--jobs", OPT_INT, &o.jobs, "N", "threads (default: all cores)"},
+        {"--isolate", OPT_FLAG, &o.isolate, NULL, "describe in a child process (crash, hang and memory safe)"},
+        {"--time-limit", OPT_DOUBLE, &o.time_s, "S", "most seconds per scan for the method (default 60)"},
+        {"--mem-limit", OPT_INT, &o.mem_mb, "MiB", "with --isolate: memory the method may take (default 4096)"},
         {"--quiet", OPT_FLAG, &o.quiet, NULL, "no progress bar"},
         {0}};
     struct opt_args args;

@@ -11,6 +11,7 @@
 
 #include "harness/desc_cache.h"
 #include "harness/fileio.h"
+#include "harness/isolate.h"
 #include "harness/queries_csv.h"
 #include "harness/plugin_host.h"
 #include "harness/pool.h"
@@ -47,6 +48,7 @@ struct ev_ctx {
     struct pr_set *ps;
     struct boot_result br;
     struct pr_curve *curve;
+    struct ev_set *iso_set;      /* the set an isolated child describes */
 };
 
 void eval_spec_defaults(struct eval_spec *s)
@@ -90,6 +92,7 @@ struct ev_desc {
     struct cloud *clouds;
     struct chain_scratch *scr;
     struct progress prog;
+    struct isolate_ctx *ic;      /* isolated: report each scan started to the parent */
 };
 
 static int ev_desc_task(void *arg, size_t i, int w, struct err *e)
@@ -98,8 +101,13 @@ static int ev_desc_task(void *arg, size_t i, int w, struct err *e)
     struct ev_ctx *c = d->c;
     struct ev_set *set = d->set;
     struct cloud *cl = &d->clouds[w];
+    if (d->ic) isolate_beat(d->ic, i);
     if (recording_load_scan(set->rec, i, cl, NULL, e)) return -1;
-    if (set->chain && chain_apply(set->chain, cl, c->s->seed, (uint32_t)i, &d->scr[w], NULL, e))
+    /* In reloc mode the map (set 0) and the query recording (set 1) are
+     * different scans: key their per-scan draws apart.  In loop mode both
+     * roles are the same scan and share set 0. */
+    uint32_t draw_set = c->reloc ? set->seq : 0;
+    if (set->chain && chain_apply_set(set->chain, cl, c->s->seed, draw_set, (uint32_t)i, &d->scr[w], NULL, e))
         return err_wrap(e, "scan %zu", i);
     struct rv_scan s = {cl->n, cl->pts, cl->ring, cl->time, set->rec->poses[i].t, (uint32_t)i, set->seq};
     float *key = c->plug.key_dim ? set->key + i * c->plug.key_dim : NULL;
@@ -108,13 +116,14 @@ static int ev_desc_task(void *arg, size_t i, int w, struct err *e)
     return 0;
 }
 
-/* Describe every scan of set, on several threads when the method allows. */
-static int ev_describe_all(struct ev_ctx *c, struct ev_set *set, struct err *e)
+/* Describe every scan of set, on several threads when the method allows
+ * (one thread when isolated, so a crash names the exact scan). */
+static int ev_describe_all(struct ev_ctx *c, struct ev_set *set, struct isolate_ctx *ic, struct err *e)
 {
     int par = (c->plug.flags & RV_FLAG_THREAD_SAFE) && !(c->plug.flags & RV_FLAG_SEQUENTIAL) && !c->plug.ext;
-    int threads = par ? pool_threads(c->s->jobs) : 1;
+    int threads = par && !ic ? pool_threads(c->s->jobs) : 1;
     struct ev_desc d = {c, set, calloc((size_t)threads, sizeof *d.clouds),
-                        calloc((size_t)threads, sizeof *d.scr), {0}};
+                        calloc((size_t)threads, sizeof *d.scr), {0}, ic};
     if (!d.clouds || !d.scr) {
         free(d.clouds);
         free(d.scr);
@@ -138,6 +147,42 @@ static int ev_describe_all(struct ev_ctx *c, struct ev_set *set, struct err *e)
     return rc;
 }
 
+/* The child's side of an isolated describe: write descriptors and keys
+ * into the shared buffer (desc then keys), which the parent copies back. */
+static int ev_isolated_child(void *ctx, void *shared, struct isolate_ctx *ic, struct err *e)
+{
+    struct ev_ctx *c = ctx;
+    struct ev_set *set = c->iso_set;
+    set->desc = shared;
+    set->key = (float *)shared + set->n * c->plug.dim;
+    return ev_describe_all(c, set, ic, e);
+}
+
+/* Describe in a child process with a time-out and an address-space limit;
+ * a crash, hang or runaway allocation fails the cell, never the harness. */
+static int ev_describe_isolated(struct ev_ctx *c, struct ev_set *set, struct err *e)
+{
+    size_t nd = set->n * c->plug.dim, nk = set->n * c->plug.key_dim;
+    size_t bytes = (nd + nk) * sizeof(float);
+    float *shared = isolate_shared_new(bytes, e);
+    if (!shared) return -1;
+    char who[128];
+    snprintf(who, sizeof who, "method '%s'", c->plug.name);
+    struct isolate_opts o = {who, "scan", c->plug.time_limit_s > 0 ? c->plug.time_limit_s : PLUGIN_TIME_LIMIT_S,
+                             (c->s->mem_limit_mb ? c->s->mem_limit_mb : 4096) << 20};
+    float *desc = set->desc, *key = set->key;
+    c->iso_set = set;
+    int rc = isolate_run(&o, ev_isolated_child, c, shared, e);
+    set->desc = desc;
+    set->key = key;
+    if (!rc) {
+        memcpy(desc, shared, nd * sizeof(float));
+        if (nk) memcpy(key, shared + nd, nk * sizeof(float));
+    }
+    isolate_shared_free(shared, bytes);
+    return rc;
+}
+
 /* Fill set->desc/key from the cache or by describing (then store). */
 static int ev_describe_set(struct ev_ctx *c, struct ev_set *set, struct err *e)
 {
@@ -147,7 +192,10 @@ static int ev_describe_set(struct ev_ctx *c, struct ev_set *set, struct err *e)
     if (!set->desc || !set->key) return err_set(e, "out of memory for %zu descriptors of %u floats", set->n, c->plug.dim);
     char src[PATH_MAX];
     if (!realpath(set->rec->manifest, src)) snprintf(src, sizeof src, "%s", set->rec->manifest);
-    struct desc_cache_key k = {c->plug.label, c->plug.version, set->chain ? c->chain_text : "",
+    /* The draw set is part of what was described (see ev_desc_task). */
+    char chain_key[sizeof c->chain_text + 16];
+    snprintf(chain_key, sizeof chain_key, "%s%s", c->chain_text, c->reloc && set->seq ? "#set=1" : "");
+    struct desc_cache_key k = {c->plug.label, c->plug.version, set->chain ? chain_key : "",
                                set->chain ? c->s->seed : 0, src, c->plug.dim, c->plug.key_dim, set->n};
     if (c->s->cache_dir) {
         int rejected = 0;
@@ -160,7 +208,8 @@ static int ev_describe_set(struct ev_ctx *c, struct ev_set *set, struct err *e)
         }
     }
     double t0 = progress_now();
-    if (ev_describe_all(c, set, e)) return -1;
+    int isolated = c->s->isolate && !c->plug.ext;  /* external programs are separate processes already */
+    if (isolated ? ev_describe_isolated(c, set, e) : ev_describe_all(c, set, NULL, e)) return -1;
     c->sum.describe_s += progress_now() - t0;
     c->sum.described += set->n;
     return c->s->cache_dir ? desc_cache_store(c->s->cache_dir, &k, set->desc, set->key, e) : 0;
@@ -183,7 +232,6 @@ static int ev_set_poses(struct ev_set *set, struct err *e)
 static int ev_setup(struct ev_ctx *c, struct err *e)
 {
     const struct eval_spec *s = c->s;
-    if (s->isolate) return err_set(e, "running the method in a child process is not available in this build");
     if (!s->map_rec || !s->method || !s->out_dir) return err_set(e, "eval: a map recording, a method and an output folder are needed");
     c->reloc = s->query_rec != NULL;
     if (c->reloc != (s->protocol.mode == PROTOCOL_RELOC))
@@ -202,6 +250,7 @@ static int ev_setup(struct ev_ctx *c, struct err *e)
     }
     if (plugin_open(&c->plug, s->method, s->plugin_path, e)) return -1;
     if (s->crash_notice) plugin_crash_notice(&c->plug);
+    if (s->time_limit_s > 0) c->plug.time_limit_s = s->time_limit_s;
     const struct chain *mch = c->chain && chain_on_map(c->on) ? c->chain : NULL;
     const struct chain *qch = c->chain && chain_on_query(c->on) ? c->chain : NULL;
     c->mset = (struct ev_set){&c->map, mch, 0, c->map.n, NULL, NULL, NULL, NULL};

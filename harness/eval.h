@@ -41,6 +41,9 @@ struct eval_spec {
     const char *axis_stage, *axis_key;
     double axis_value;
     int crash_notice;          /* 1: a crash in the method prints its name (one cell per process only) */
+    /* added with issue 10 (isolation) */
+    double time_limit_s;       /* per-scan limit of the method (0 = 60 s); with isolate, a hang is stopped */
+    size_t mem_limit_mb;       /* isolate: extra address space the child may take (0 = 4096 MiB) */
 };
 
 struct eval_summary {

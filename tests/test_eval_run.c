@@ -185,9 +185,17 @@ static void test_reloc_and_errors(void)
     CHECK_MSG(e.msg, "chain:", "the chain error points into the chain");
     s.chain = NULL;
     s.isolate = 1;
-    CHECK(eval_run(&s, &sum, &e) == -1, "isolation is refused while it is not built");
-    CHECK_MSG(e.msg, "running the method in a child process is not available", "the isolation message");
+    s.out_dir = "iso";
+    CHECK(eval_run(&s, &sum, &e) == 0, "an isolated run works");
+    s.out_dir = "plain";
     s.isolate = 0;
+    struct eval_summary plain;
+    CHECK(eval_run(&s, &plain, &e) == 0, "the same run in process works");
+    char *qi = slurp("iso/queries.csv"), *qp = slurp("plain/queries.csv");
+    CHECK(qi && qp && !strcmp(qi, qp) && sum.f1max == plain.f1max,
+          "isolated and in-process runs give identical results");
+    free(qi);
+    free(qp);
     s.out_dir = NULL;
     CHECK(eval_run(&s, &sum, &e) == -1, "a spec without an output folder is refused");
     CHECK_MSG(e.msg, "a map recording, a method and an output folder are needed", "the missing-field message");

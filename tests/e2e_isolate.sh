@@ -1,0 +1,71 @@
+#!/usr/bin/env bash
+# e2e_isolate.sh: untrusted plugins under `revisit eval --isolate`.  Four
+# plugins, built here from the public header alone, misbehave on scan 7:
+# a segfault, an abort, an endless loop, an unbounded allocation.  Each must
+# end in exit 2 with a message naming the method and the scan, with no
+# result written; a well-behaved plugin gives the same results isolated or not.
+. "$(dirname "$0")/lib_e2e.sh"
+R=$REVISIT_BIN
+cd "$T" || exit 2
+mkdir -p inc && cp "$REVISIT_ROOT/harness/revisit_plugin.h" inc/
+cat > bad.c <<'SRC'
+#include <stdlib.h>
+#include <string.h>
+#include <signal.h>
+#include "revisit_plugin.h"
+static int mk(const double *v, void **inst, uint32_t *dim, uint32_t *kd, char *m, size_t l)
+{ (void)v; (void)m; (void)l; *inst = NULL; *dim = 4; *kd = 0; return RV_OK; }
+static int run(void *inst, const struct rv_scan *s, float *d, float *k, char *m, size_t l)
+{
+    (void)inst; (void)k; (void)m; (void)l;
+    if (s->index == 7) {
+#if defined(SEGV)
+        volatile int *p = NULL; *p = 1;
+#elif defined(ABRT)
+        abort();
+#elif defined(LOOP)
+        for (volatile int x = 0; ; x++) {}
+#elif defined(ALLOC)
+        for (;;) { char *q = malloc(1 << 26); if (!q) return RV_ERR_NOMEM; memset(q, 1, 1 << 26); }
+#endif
+    }
+    for (int b = 0; b < 4; b++) d[b] = (float)(s->n % (97 + b)) + (float)b;
+    return RV_OK;
+}
+static void rm(void *inst) { (void)inst; }
+static const struct rv_method m = {RV_ABI_VERSION, sizeof m, NAME, "1.0", "misbehaving test plugin",
+    NULL, 0, RV_DIST_L2, 0, mk, run, rm, NULL, NULL};
+RV_EXPORT const struct rv_method *rv_method_entry(void) { return &m; }
+SRC
+for v in GOOD SEGV ABRT LOOP ALLOC; do
+  n=$(echo "$v" | tr A-Z a-z)
+  cc -std=c11 -O1 -shared -fPIC -Iinc -D$v -DNAME="\"$n\"" -o "$n.so" bad.c
+  expect "[ -f $n.so ]" "the $n plugin builds from the public header"
+done
+"$R" synth --scenario port --scans 40 --out rec --quiet > /dev/null 2>&1
+expect "[ -f rec/recording.json ]" "a small recording is made"
+
+run() { "$R" eval --map rec --method "./$1.so" --out "out_$1" --bootstrap 0 --quiet --isolate "${@:2}" 2>&1; }
+out=$(run segv); rc=$?
+expect "[ $rc -eq 2 ]" "a segfaulting plugin fails the eval with exit 2 (got $rc)"
+expect_in "$out" "method 'segv' on scan 7: the child died of signal 11" "the segfault names method, scan and signal"
+expect "[ ! -e out_segv/result.json ]" "no result is written after a crash"
+out=$(run abrt); rc=$?
+expect "[ $rc -eq 2 ]" "an aborting plugin fails with exit 2"
+expect_in "$out" "method 'abrt' on scan 7: the child died of signal 6" "the abort names method, scan and signal"
+out=$(run loop --time-limit 1); rc=$?
+expect "[ $rc -eq 2 ]" "an endless loop is stopped with exit 2"
+expect_in "$out" "method 'loop' on scan 7: no progress within 1 s (time-out)" "the hang names method, scan and time-out"
+if [ -n "${REVISIT_SANITIZED:-}" ]; then
+  skip_test "an unbounded allocation is stopped (ASan reserves the address space a limit needs)"
+else
+  out=$(run alloc --mem-limit 256); rc=$?
+  expect "[ $rc -eq 2 ]" "an unbounded allocation is stopped with exit 2"
+  expect_in "$out" "method 'alloc' on scan 7" "the allocation failure names method and scan"
+fi
+"$R" eval --map rec --method ./good.so --out plain --bootstrap 0 --quiet > /dev/null 2>&1
+out=$(run good); rc=$?
+expect "[ $rc -eq 0 ]" "a good plugin runs isolated (exit $rc: $out)"
+cmp -s plain/queries.csv out_good/queries.csv
+expect "[ $? -eq 0 ]" "isolated and in-process runs give identical per-query results"
+done_tests
