@@ -7,25 +7,15 @@ solved with scipy.optimize.minimize(method="SLSQP") (Debian python3-scipy),
 and the C GJK (Gilbert, Johnson & Keerthi, IEEE J. Robotics and Automation,
 1988) must agree to 1e-6.  Overlapping hulls must give 0.
 """
-import os
 import subprocess
 import sys
 
 import numpy as np
 from scipy.optimize import minimize
 
-BUILD = os.environ.get("REVISIT_BUILD", "build")
-TOOL = os.path.join(BUILD, "tests", "tool_gjk")
-passed = failed = 0
+from checklib import check, done, tool_path
 
-
-def check(cond, what):
-    global passed, failed
-    if cond:
-        passed += 1
-    else:
-        failed += 1
-        print("FAIL", what)
+TOOL = tool_path("tool_gjk")
 
 
 def hull_distance_slsqp(a, b):
@@ -78,5 +68,4 @@ for (a, b, overlap), d in zip(cases, got):
         check(d == 0.0 and ref < 1e-6, f"overlapping hulls give 0 (gjk {d}, slsqp {ref})")
     else:
         check(abs(d - ref) < 1e-6, f"separated hulls: gjk {d} vs slsqp {ref}")
-print(f"{passed} passed, {failed} failed")
-sys.exit(1 if failed else 0)
+sys.exit(done())

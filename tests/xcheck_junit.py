@@ -12,17 +12,9 @@ import sys
 import tempfile
 import xml.etree.ElementTree as ET
 
+from checklib import check, done
+
 BIN = os.environ["REVISIT_BIN"]
-passed = failed = 0
-
-
-def check(cond, desc):
-    global passed, failed
-    if cond:
-        passed += 1
-    else:
-        failed += 1
-        print("FAIL:", desc)
 
 
 def scenario(criteria):
@@ -139,5 +131,4 @@ try:
 finally:
     shutil.rmtree(tmp)
 
-print("%d passed, %d failed" % (passed, failed))
-sys.exit(1 if failed else 0)
+sys.exit(done())

@@ -14,18 +14,9 @@ import tempfile
 
 import numpy as np
 
-BUILD = os.environ.get("REVISIT_BUILD", "build")
-TOOL = os.path.join(BUILD, "tests", "tool_m2dp")
-passed = failed = 0
+from checklib import check, done, tool_path
 
-
-def check(cond, what):
-    global passed, failed
-    if cond:
-        passed += 1
-    else:
-        failed += 1
-        print("FAIL", what)
+TOOL = tool_path("tool_m2dp")
 
 
 def run_tool(pts, p, q, l, t):
@@ -113,5 +104,4 @@ for name, xyz, (p, q, l, t) in clouds:
     check(a.sum() == len(xyz) * rows, f"{name}: every point lands in one bin per plane")
     check(np.abs(sig - ref).max() < 1e-9, f"{name}: signature equals the numpy one")
 
-print(f"{passed} passed, {failed} failed")
-sys.exit(1 if failed else 0)
+sys.exit(done())

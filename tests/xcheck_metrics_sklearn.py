@@ -25,21 +25,12 @@ import sys
 import numpy as np
 from sklearn.metrics import average_precision_score, precision_recall_curve
 
+from checklib import check, done
+
 ROOT = os.environ.get("REVISIT_ROOT", os.path.join(os.path.dirname(__file__), ".."))
 BUILD = os.environ.get("REVISIT_BUILD", os.path.join(ROOT, "build"))
 TOOL = os.path.join(BUILD, "tests", "tool_metrics_pr")
 TOL = 1e-12
-
-passed = failed = 0
-
-
-def check(cond, desc):
-    global passed, failed
-    if cond:
-        passed += 1
-    else:
-        failed += 1
-        print("FAIL", desc)
 
 
 def run_tool(d1, labels, counting):
@@ -82,9 +73,8 @@ def compare(d1, labels, desc):
 
 def main():
     if not os.access(TOOL, os.X_OK):
-        print("FAIL tool not built:", TOOL)
-        print("0 passed, 1 failed")
-        return 1
+        check(False, "tool not built: " + TOOL)
+        return done()
     rng = np.random.default_rng(20261201)
     for k in range(12):  # random scores
         n = int(rng.integers(20, 400))
@@ -101,8 +91,7 @@ def main():
             ([0.2, 0.1, 0.4], [1, 1, 0]), ([1.0, 1.0, 1.0], [1, 1, 1]), ([0.1, 0.9], [1, 0])]
     for k, (d1, labels) in enumerate(tiny):
         compare(d1, labels, "tiny case %d" % k)
-    print("%d passed, %d failed" % (passed, failed))
-    return 1 if failed else 0
+    return done()
 
 
 if __name__ == "__main__":

@@ -14,20 +14,10 @@ import numpy as np
 from scipy import stats
 from scipy.spatial.transform import Rotation
 
-BUILD = os.environ.get("REVISIT_BUILD", "build")
-TOOL = os.path.join(BUILD, "tests", "tool_perturb")
-PASSED = 0
-FAILED = 0
+from checklib import check, done, tool_path
+
+TOOL = tool_path("tool_perturb")
 TMP = tempfile.mkdtemp()
-
-
-def check(cond, desc):
-    global PASSED, FAILED
-    if cond:
-        PASSED += 1
-    else:
-        FAILED += 1
-        print("FAIL", desc)
 
 
 def run(chain, pts, seed=1, scan=0):
@@ -288,8 +278,7 @@ def main():
             f()
         except Exception as ex:  # a crash in one group is one failure
             check(False, "%s raised %r" % (f.__name__, ex))
-    print("%d passed, %d failed" % (PASSED, FAILED))
-    return 1 if FAILED else 0
+    return done()
 
 
 if __name__ == "__main__":

@@ -16,23 +16,14 @@ import tempfile
 import numpy as np
 from scipy import stats
 
+from checklib import check, done, tool_path
+
 BIN = os.environ.get("REVISIT_BIN", "build/revisit")
-BUILD = os.environ.get("REVISIT_BUILD", "build")
-TOOL = os.path.join(BUILD, "tests", "tool_perturb")
-PASSED = FAILED = 0
+TOOL = tool_path("tool_perturb")
 T = tempfile.mkdtemp()
 CHAIN = "yaw+sector:width=180+dropout:p=0.3+range:max=45m+noise:sigma=0.02"
 SCANS = 10
 PER_SCAN = 4000
-
-
-def check(cond, desc):
-    global PASSED, FAILED
-    if cond:
-        PASSED += 1
-    else:
-        FAILED += 1
-        print("FAIL", desc)
 
 
 def rv(*args):
@@ -228,8 +219,7 @@ def main():
         recovery_check()
     except Exception as ex:
         check(False, "raised %r" % ex)
-    print("%d passed, %d failed" % (PASSED, FAILED))
-    return 1 if FAILED else 0
+    return done()
 
 
 if __name__ == "__main__":

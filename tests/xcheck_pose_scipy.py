@@ -13,17 +13,9 @@ import tempfile
 import numpy as np
 from scipy.spatial.transform import Rotation
 
-TOOL = os.path.join(os.environ.get("REVISIT_BUILD", "build"), "tests", "tool_pose")
-passed = failed = 0
+from checklib import check, done, tool_path
 
-
-def check(ok, desc):
-    global passed, failed
-    if ok:
-        passed += 1
-    else:
-        failed += 1
-        print("FAIL", desc)
+TOOL = tool_path("tool_pose")
 
 
 def run(args, stdin=""):
@@ -136,5 +128,4 @@ def test_pose_files():
 test_quat_to_matrix()
 test_matrix_to_quat()
 test_pose_files()
-print("%d passed, %d failed" % (passed, failed))
-sys.exit(1 if failed else 0)
+sys.exit(done())

@@ -21,18 +21,10 @@ import tempfile
 import numpy as np
 from scipy.spatial import cKDTree
 
+from checklib import check, done
+
 ROOT = os.environ["REVISIT_ROOT"]
 BIN = os.environ["REVISIT_BIN"]
-passed = failed = 0
-
-
-def check(ok, desc):
-    global passed, failed
-    if ok:
-        passed += 1
-    else:
-        failed += 1
-        print("FAIL", desc)
 
 
 def load_block(path, block=0):
@@ -147,8 +139,7 @@ def main():
             check(abs(float(row["sd"]) - np.std(vals, ddof=1)) < 1e-9, "scalars.csv sd of %s on %s equals numpy.std(ddof=1)" % (m, cond))
             check(row["seeds"] == "3", "three seeds counted for %s on %s" % (m, cond))
     shutil.rmtree(tmp, ignore_errors=True)
-    print("%d passed, %d failed" % (passed, failed))
-    return 1 if failed else 0
+    return done()
 
 
 if __name__ == "__main__":

@@ -22,9 +22,10 @@ import tempfile
 
 import numpy as np
 
+from checklib import check, done
+
 ROOT = os.environ["REVISIT_ROOT"]
 BIN = os.environ["REVISIT_BIN"]
-passed = failed = 0
 
 MACHADO_2009 = {  # from memory, severity 1.0
     "protanopia": [[0.152286, 1.052583, -0.204868], [0.114503, 0.786281, 0.099216], [-0.003882, -0.048116, 1.051998]],
@@ -33,15 +34,6 @@ MACHADO_2009 = {  # from memory, severity 1.0
 }
 SRGB_TO_XYZ = np.array([[0.4124, 0.3576, 0.1805], [0.2126, 0.7152, 0.0722], [0.0193, 0.1192, 0.9505]])
 D65 = np.array([0.95047, 1.0, 1.08883])
-
-
-def check(ok, desc):
-    global passed, failed
-    if ok:
-        passed += 1
-    else:
-        failed += 1
-        print("FAIL", desc)
 
 
 def linear(hexcol):
@@ -75,8 +67,7 @@ def main():
         dmin = min(np.linalg.norm(a - b) for a, b in itertools.combinations(labs, 2))
         check(dmin >= 15, "%s: every two styles differ by CIE76 >= 15 (min %.1f)" % (name, dmin))
     shutil.rmtree(tmp, ignore_errors=True)
-    print("%d passed, %d failed" % (passed, failed))
-    return 1 if failed else 0
+    return done()
 
 
 if __name__ == "__main__":

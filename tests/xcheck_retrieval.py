@@ -15,18 +15,9 @@ import tempfile
 
 import numpy as np
 
-BUILD = os.environ.get("REVISIT_BUILD", "build")
-TOOL = os.path.join(BUILD, "tests", "tool_retrieval")
-passed = failed = 0
+from checklib import check, done, tool_path
 
-
-def check(cond, desc):
-    global passed, failed
-    if cond:
-        passed += 1
-    else:
-        failed += 1
-        print("FAIL", desc)
+TOOL = tool_path("tool_retrieval")
 
 
 def dist(kind, q, m):
@@ -114,8 +105,7 @@ def main():
             cand = (i[None, :] <= i[:, None] - 50)
             compare(run(["loopn", kind, k, dim, mp, 50, 40]),
                     reference(kind, m, m, k, cand, 40), "loop %s, index window" % kind)
-    print("%d passed, %d failed" % (passed, failed))
-    return 1 if failed else 0
+    return done()
 
 
 if __name__ == "__main__":

@@ -15,25 +15,16 @@ import tempfile
 
 import numpy as np
 
-TOOL = os.path.join(os.environ.get("REVISIT_BUILD", "build"), "tests", "tool_scan")
-passed = failed = 0
+from checklib import check, done, tool_path
 
-
-def check(ok, desc):
-    global passed, failed
-    if ok:
-        passed += 1
-    else:
-        failed += 1
-        print("FAIL", desc)
+TOOL = tool_path("tool_scan")
 
 
 try:
     import open3d as o3d
 except ImportError:
     check(False, "python3-open3d is installed (run 'make deps')")
-    print("%d passed, %d failed" % (passed, failed))
-    sys.exit(1)
+    sys.exit(done())
 
 
 def tool(*args):
@@ -121,5 +112,4 @@ with tempfile.TemporaryDirectory() as d:
             bool((a[:, 3].astype(np.float32) == inten).all())
         check(bool(ok), "revisit reads positions and intensity from Open3D's tensor %s (%s)" % (name, err))
 
-print("%d passed, %d failed" % (passed, failed))
-sys.exit(1 if failed else 0)
+sys.exit(done())

@@ -21,19 +21,10 @@ import tempfile
 
 import numpy as np
 
-BUILD = os.environ.get("REVISIT_BUILD", "build")
-TOOL = os.path.join(BUILD, "tests", "tool_sop")
+from checklib import check, done, tool_path
+
+TOOL = tool_path("tool_sop")
 EXTENT_SCALE, HEIGHT_SCALE = 10.0, 5.0   # the plugin's default settings
-passed = failed = 0
-
-
-def check(cond, what):
-    global passed, failed
-    if cond:
-        passed += 1
-    else:
-        failed += 1
-        print("FAIL", what)
 
 
 def features_numpy(x, plane, bins):
@@ -98,5 +89,4 @@ for k, (dim, alpha) in enumerate([(17, 0.5), (5, 0.25), (21, 1.5), (9, 1.0)]):
     check(np.abs(got - ref).max() < 1e-10, f"power transform alpha={alpha} matches numpy svd")
     if alpha == 1.0:
         check(np.abs(got - m).max() < 1e-12, "alpha = 1 leaves the matrix unchanged")
-print(f"{passed} passed, {failed} failed")
-sys.exit(1 if failed else 0)
+sys.exit(done())

@@ -12,17 +12,9 @@ import subprocess
 import sys
 import tempfile
 
+from checklib import check, done
+
 BIN = os.environ.get("REVISIT_BIN", "build/revisit")
-passed = failed = 0
-
-
-def check(cond, what):
-    global passed, failed
-    if cond:
-        passed += 1
-    else:
-        failed += 1
-        print("FAIL", what)
 
 
 def run(*args):
@@ -55,5 +47,4 @@ with tempfile.TemporaryDirectory() as tmp:
     if "full" in res and "fa_only" in res:
         check(res["full"]["f1max"]["value"] >= res["fa_only"]["f1max"]["lo"],
               "full sop is not worse than F_a only by more than its interval")
-print(f"{passed} passed, {failed} failed")
-sys.exit(1 if failed else 0)
+sys.exit(done())

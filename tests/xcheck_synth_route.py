@@ -21,17 +21,9 @@ import tempfile
 
 import numpy as np
 
+from checklib import check, done
+
 BIN = os.environ["REVISIT_BIN"]
-passed = failed = 0
-
-
-def check(cond, desc):
-    global passed, failed
-    if cond:
-        passed += 1
-    else:
-        failed += 1
-        print("FAIL", desc)
 
 
 def read_poses(path):
@@ -121,8 +113,7 @@ def main():
         for name, scans in (("port", 1000), ("campus", 1100), ("suburb", 1100)):
             scenario(name, scans, tmp, sensor)
         pose_noise(tmp, sensor)
-    print(f"{passed} passed, {failed} failed")
-    return 1 if failed else 0
+    return done()
 
 
 if __name__ == "__main__":
