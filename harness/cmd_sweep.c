@@ -1,5 +1,6 @@
 /* cmd_sweep.c: `revisit sweep SCENARIO --out DIR`: run a scenario's grid. */
 #include <signal.h>
+#include <cjson/cJSON.h>
 #include <stdio.h>
 #include <string.h>
 
@@ -77,9 +78,18 @@ static int sweep_finish(const struct plan *p, const struct sweep_opts *o, const 
     struct summary s;
     if (summary_load(&s, p, o->out_dir, e)) return cmd_report(e);
     int rc = summary_write(&s, e);
-    size_t failed = 0;
-    for (size_t k = 0; k < p->n_cells; k++)
-        failed += plan_in_shard(k, o->shard_i, o->shard_n) && s.cells[k].done && !s.cells[k].ok;
+    size_t failed = 0, missing = 0;
+    char first[ERR_MSG_MAX + 256] = "";
+    for (size_t k = 0; k < p->n_cells; k++) {
+        if (!plan_in_shard(k, o->shard_i, o->shard_n)) continue;
+        missing += !s.cells[k].done;
+        if (!s.cells[k].done || s.cells[k].ok) continue;
+        if (!failed++) {
+            const cJSON *m = cJSON_GetObjectItemCaseSensitive(s.cells[k].result, "error");
+            snprintf(first, sizeof first, "; the first, %s: %s", p->cells[k].id,
+                     cJSON_IsString(m) ? m->valuestring : "no message");
+        }
+    }
     summary_free(&s);
     if (rc) return cmd_report(e);
     if (!o->quiet)
@@ -89,9 +99,18 @@ static int sweep_finish(const struct plan *p, const struct sweep_opts *o, const 
         fprintf(stderr, "revisit sweep: interrupted; finished cells are kept, run the same command to go on\n");
         return CMD_INTERRUPTED;
     }
+    if (missing) {
+        /* Every cell of the shard ran, yet some have no result: the folder
+         * was deleted or changed under the sweep. */
+        fprintf(stderr, "revisit: sweep: %zu cells of this shard have no result in %s/cells although they "
+                "ran; was the folder deleted or changed while the sweep ran? run the same command again "
+                "to redo them\n", missing, o->out_dir);
+        return CMD_ERROR;
+    }
     if (failed) {
-        fprintf(stderr, "revisit: sweep: %zu cells failed (status and message in %s/summary.csv); "
-                "once the cause is fixed, run again with --retry-failed\n", failed, o->out_dir);
+        fprintf(stderr, "revisit: sweep: %zu cells failed (status in %s/summary.csv, message in each "
+                "cell's result.json)%s; once the cause is fixed, run again with --retry-failed\n",
+                failed, o->out_dir, first);
         return CMD_ERROR;
     }
     return CMD_OK;
