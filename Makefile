@@ -78,6 +78,10 @@ $(B)/lib%.a:
 $(B)/revisit: $(call obj,harness/main.c) $(LIBS)
 	$(CC) $(SAN) $(HIDDEN) -o $@ $< $(LINK_LIBS) $(LDLIBS)
 
+# Keep every object: they are reached through pattern rules and would
+# otherwise be deleted as intermediates, forcing a full rebuild next time.
+.SECONDARY:
+
 .SECONDEXPANSION:
 $(B)/plugins/%.so: $$(call obj,$$(wildcard harness/plugins/%/*.c))
 	@mkdir -p $(dir $@)
