@@ -3,8 +3,10 @@
 # every crash ever found (tests/corpus/NAME/), without crashing, hanging or
 # (in `make asan`) a sanitizer report.  One check per target.
 . "$(dirname "$0")/lib_e2e.sh"
-for d in "$REVISIT_ROOT"/tests/corpus/fuzz_*; do
-  name=$(basename "$d")
+for src in "$REVISIT_ROOT"/tests/fuzz_*.c; do
+  name=$(basename "$src" .c)
+  d="$REVISIT_ROOT/tests/corpus/$name"
+  expect "[ -n \"\$(ls '$d' 2>/dev/null)\" ]" "$name has a seed corpus in tests/corpus/$name"
   prog="$REVISIT_BUILD/replay/$name"
   if [ ! -x "$prog" ]; then expect "false" "$name replay program was built"; continue; fi
   out=$(timeout 120 "$prog" "$d" 2>&1); rc=$?
