@@ -323,14 +323,7 @@ int ply_write_binary(const char *path, const struct cloud *c, struct err *e)
     struct afile a;
     if (afile_open(&a, path, e)) return -1;
     ply_write_header(a.f, c, "binary_little_endian");
-    for (size_t k = 0; k < c->n; k++) {
-        unsigned char rec[22];
-        size_t o = 16;
-        memcpy(rec, c->pts + 4 * k, 16);
-        if (c->ring) { rec[o] = (unsigned char)(c->ring[k] & 0xff); rec[o + 1] = (unsigned char)(c->ring[k] >> 8); o += 2; }
-        if (c->time) { memcpy(rec + o, c->time + k, 4); o += 4; }
-        fwrite(rec, 1, o, a.f);
-    }
+    scan_body_binary(a.f, c);
     return afile_commit(&a, e);
 }
 
@@ -339,11 +332,6 @@ int ply_write_ascii(const char *path, const struct cloud *c, struct err *e)
     struct afile a;
     if (afile_open(&a, path, e)) return -1;
     ply_write_header(a.f, c, "ascii");
-    for (size_t k = 0; k < c->n; k++) {
-        fprintf(a.f, "%.9g %.9g %.9g %.9g", CLOUD_X(c, k), CLOUD_Y(c, k), CLOUD_Z(c, k), CLOUD_I(c, k));
-        if (c->ring) fprintf(a.f, " %u", (unsigned)c->ring[k]);
-        if (c->time) fprintf(a.f, " %.9g", c->time[k]);
-        fputc('\n', a.f);
-    }
+    scan_body_ascii(a.f, c);
     return afile_commit(&a, e);
 }

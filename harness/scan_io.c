@@ -287,6 +287,28 @@ done:
     return rc;
 }
 
+void scan_body_binary(FILE *f, const struct cloud *c)
+{
+    for (size_t k = 0; k < c->n; k++) {
+        unsigned char rec[22];
+        size_t o = 16;
+        memcpy(rec, c->pts + 4 * k, 16);
+        if (c->ring) { rec[o] = (unsigned char)(c->ring[k] & 0xff); rec[o + 1] = (unsigned char)(c->ring[k] >> 8); o += 2; }
+        if (c->time) { memcpy(rec + o, c->time + k, 4); o += 4; }
+        fwrite(rec, 1, o, f);
+    }
+}
+
+void scan_body_ascii(FILE *f, const struct cloud *c)
+{
+    for (size_t k = 0; k < c->n; k++) {
+        fprintf(f, "%.9g %.9g %.9g %.9g", CLOUD_X(c, k), CLOUD_Y(c, k), CLOUD_Z(c, k), CLOUD_I(c, k));
+        if (c->ring) fprintf(f, " %u", (unsigned)c->ring[k]);
+        if (c->time) fprintf(f, " %.9g", c->time[k]);
+        fputc('\n', f);
+    }
+}
+
 int scan_write_raw(const char *path, const struct cloud *c, struct err *e)
 {
     if (c->n == 0)
