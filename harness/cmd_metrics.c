@@ -390,21 +390,6 @@ static void mt_print(const struct mt_run *r)
     }
 }
 
-static cJSON *mt_protocol_json(const struct protocol *p)
-{
-    cJSON *o = cJSON_CreateObject();
-    cJSON_AddStringToObject(o, "mode", p->mode == PROTOCOL_RELOC ? "reloc" : "loop");
-    cJSON_AddNumberToObject(o, "r_pos_m", p->r_pos_m);
-    cJSON_AddNumberToObject(o, "r_neg_m", p->r_neg_m);
-    cJSON_AddNumberToObject(o, "exclusion_s", p->exclusion_s);
-    if (p->exclusion_scans >= 0) cJSON_AddNumberToObject(o, "exclusion_scans", (double)p->exclusion_scans);
-    else cJSON_AddNullToObject(o, "exclusion_scans");
-    cJSON_AddBoolToObject(o, "planar", p->planar);
-    cJSON_AddStringToObject(o, "counting", p->counting == PROTOCOL_LENIENT ? "lenient" : "strict");
-    cJSON_AddNumberToObject(o, "top_k", p->top_k);
-    return o;
-}
-
 static int mt_json(const struct mt_run *r, int argc, char **argv, struct err *e)
 {
     char cmdline[4096] = "revisit";
@@ -417,7 +402,7 @@ static int mt_json(const struct mt_run *r, int argc, char **argv, struct err *e)
     cJSON_AddStringToObject(root, "software", "revisit " RV_VERSION);
     cJSON_AddStringToObject(root, "command", cmdline);
     cJSON_AddStringToObject(root, "results", r->o.results);
-    cJSON_AddItemToObject(root, "protocol", mt_protocol_json(&r->p));
+    cJSON_AddItemToObject(root, "protocol", result_metrics_protocol(&r->p));
     cJSON *bs = cJSON_AddObjectToObject(root, "bootstrap");
     cJSON_AddNumberToObject(bs, "resamples", r->o.bootstrap > 0 ? (double)r->o.bootstrap : 0);
     cJSON_AddNumberToObject(bs, "seed", (double)r->o.seed);

@@ -17,6 +17,7 @@
 #include "harness/pool.h"
 #include "harness/progress.h"
 #include "harness/recording.h"
+#include "harness/result_metrics.h"
 #include "harness/retrieval.h"
 #include "metrics/boot.h"
 #include "metrics/gt.h"
@@ -438,17 +439,7 @@ static cJSON *ev_condition_json(const struct ev_ctx *c)
 
 static cJSON *ev_protocol_json(const struct ev_ctx *c)
 {
-    const struct protocol *p = &c->s->protocol;
-    cJSON *o = cJSON_CreateObject();
-    cJSON_AddStringToObject(o, "mode", p->mode == PROTOCOL_RELOC ? "reloc" : "loop");
-    cJSON_AddNumberToObject(o, "r_pos_m", p->r_pos_m);
-    cJSON_AddNumberToObject(o, "r_neg_m", p->r_neg_m);
-    cJSON_AddNumberToObject(o, "exclusion_s", p->exclusion_s);
-    if (p->exclusion_scans >= 0) cJSON_AddNumberToObject(o, "exclusion_scans", (double)p->exclusion_scans);
-    else cJSON_AddNullToObject(o, "exclusion_scans");
-    cJSON_AddBoolToObject(o, "planar", p->planar);
-    cJSON_AddStringToObject(o, "counting", p->counting == PROTOCOL_LENIENT ? "lenient" : "strict");
-    cJSON_AddNumberToObject(o, "top_k", p->top_k);
+    cJSON *o = result_metrics_protocol(&c->s->protocol);
     if (c->plug.distance == RV_DIST_CUSTOM && c->plug.key_dim)
         cJSON_AddNumberToObject(o, "prefilter", c->s->top_c > 0 ? c->s->top_c : 50);
     return o;

@@ -1,7 +1,10 @@
-/* result_metrics.h: the "counts", "metrics" and "curve" objects of
- * result.json (DEVELOPERS.md "Results folder"), written the same way by
+/* result_metrics.h: the "protocol", "counts", "metrics" and "curve" objects
+ * of result.json (DEVELOPERS.md "Results folder"), written the same way by
  * `revisit metrics --json` and `revisit eval`.
  *
+ *   "protocol": {"mode": "loop", "r_pos_m": 3, "r_neg_m": 3, "exclusion_s": 30,
+ *                "exclusion_scans": null, "planar": false, "counting": "strict",
+ *                "top_k": 25}   (eval may add "prefilter" after these)
  *   "counts":  {"queries": 1500, "revisits": 420}
  *   "metrics": {"f1max": {"value": 0.81, "lo": 0.77, "hi": 0.84, "threshold": 0.31},
  *               "r100p": {"value": .., "lo": .., "hi": .., "threshold": ..},
@@ -29,6 +32,12 @@
 #include "harness/err.h"
 #include "metrics/boot.h"
 #include "metrics/pr.h"
+#include "metrics/protocol.h"
+
+/* The "protocol" object for p ("exclusion_scans" null when p has none);
+ * the caller owns it.  NULL or an object missing keys when out of memory,
+ * as cJSON_CreateObject and cJSON_Add* allow. */
+cJSON *result_metrics_protocol(const struct protocol *p);
 
 /* Add "counts", "metrics" and "curve" to root (an object).  ci may be NULL
  * (no intervals), curve may be NULL (no "curve" key). */
