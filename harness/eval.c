@@ -12,6 +12,7 @@
 #include "harness/desc_cache.h"
 #include "harness/fileio.h"
 #include "harness/isolate.h"
+#include "harness/json_file.h"
 #include "harness/queries_csv.h"
 #include "harness/plugin_host.h"
 #include "harness/pool.h"
@@ -507,18 +508,6 @@ static cJSON *ev_result_json(const struct ev_ctx *c)
     return o;
 }
 
-static int ev_write_json(const char *path, cJSON *root, struct err *e)
-{
-    char *text = root ? cJSON_Print(root) : NULL;
-    cJSON_Delete(root);
-    if (!text) return err_at(e, path, 0, "out of memory");
-    size_t len = strlen(text);
-    text[len] = '\n';  /* replaces the NUL; len + 1 bytes written */
-    int rc = fileio_write(path, text, len + 1, e);
-    free(text);
-    return rc;
-}
-
 /* queries.csv, poses.csv, matrix.csv, then result.json last: a folder with a
  * result.json is complete. */
 static int ev_write(const struct ev_ctx *c, const struct pr_lists *l, struct err *e)
@@ -532,7 +521,7 @@ static int ev_write(const struct ev_ctx *c, const struct pr_lists *l, struct err
     fileio_join(path, sizeof path, c->s->out_dir, "matrix.csv");
     if (ev_write_matrix(c, path, e)) return -1;
     fileio_join(path, sizeof path, c->s->out_dir, "result.json");
-    return ev_write_json(path, ev_result_json(c), e);
+    return json_file_write(path, ev_result_json(c), e);
 }
 
 int eval_run(const struct eval_spec *s, struct eval_summary *out, struct err *e)

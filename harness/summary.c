@@ -8,6 +8,7 @@
 #include <string.h>
 
 #include "harness/fileio.h"
+#include "harness/json_file.h"
 #include "harness/sweep.h"
 #include "metrics/boot.h"
 
@@ -251,18 +252,6 @@ static cJSON *sm_group_json(const struct summary *s, size_t k, size_t end)
     return o;
 }
 
-static int sm_write_cjson(const char *path, cJSON *root, struct err *e)
-{
-    char *text = cJSON_Print(root);
-    cJSON_Delete(root);
-    if (!text) return err_at(e, path, 0, "out of memory");
-    size_t n = strlen(text);
-    text[n] = '\n';
-    int rc = fileio_write(path, text, n + 1, e);
-    free(text);
-    return rc;
-}
-
 static int sm_write_json(const struct summary *s, struct err *e)
 {
     char path[4200];
@@ -279,7 +268,7 @@ static int sm_write_json(const struct summary *s, struct err *e)
         end = sm_group_end(s->p, k);
         cJSON_AddItemToArray(groups, sm_group_json(s, k, end));
     }
-    return sm_write_cjson(path, root, e);
+    return json_file_write(path, root, e);
 }
 
 int summary_write(const struct summary *s, struct err *e)

@@ -9,6 +9,7 @@
 #include <string.h>
 
 #include "harness/fileio.h"
+#include "harness/json_file.h"
 #include "harness/queries_csv.h"
 #include "metrics/boot.h"
 #include "metrics/gt.h"
@@ -287,13 +288,7 @@ int summary_write_verdicts(const struct summary *s, const struct summary_verdict
         cJSON_AddBoolToObject(o, "pass", v[k].pass);
         cJSON_AddItemToArray(root, o);
     }
-    char path[4200], *text = cJSON_Print(root);
-    cJSON_Delete(root);
+    char path[4200];
     snprintf(path, sizeof path, "%s/verdicts.json", s->dir);
-    if (!text) return err_at(e, path, 0, "out of memory");
-    size_t len = strlen(text);
-    text[len] = '\n';
-    int rc = fileio_write(path, text, len + 1, e);
-    free(text);
-    return rc;
+    return json_file_write(path, root, e);
 }

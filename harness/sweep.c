@@ -11,6 +11,7 @@
 #include <unistd.h>
 
 #include "harness/fileio.h"
+#include "harness/json_file.h"
 #include "harness/pool.h"
 #include "harness/progress.h"
 
@@ -131,18 +132,6 @@ static cJSON *sw_condition_json(const struct plan *p, size_t k)
     return o;
 }
 
-static int sw_write_json(const char *path, cJSON *root, struct err *e)
-{
-    char *text = root ? cJSON_Print(root) : NULL;
-    cJSON_Delete(root);
-    if (!text) return err_at(e, path, 0, "out of memory");
-    size_t n = strlen(text);
-    text[n] = '\n';  /* replaces the NUL; length n + 1 written below */
-    int rc = fileio_write(path, text, n + 1, e);
-    free(text);
-    return rc;
-}
-
 /* DIR/cells/.part-ID/cell.json: what the cell is, written before it runs. */
 static int sw_write_cell(const struct plan *p, size_t k, const char *part, struct err *e)
 {
@@ -155,7 +144,7 @@ static int sw_write_cell(const struct plan *p, size_t k, const char *part, struc
     cJSON_AddStringToObject(o, "scenario_hash", p->hash);
     cJSON_AddStringToObject(o, "method", p->methods[p->cells[k].method].label);
     cJSON_AddItemToObject(o, "condition", sw_condition_json(p, k));
-    return sw_write_json(path, o, e);
+    return json_file_write(path, o, e);
 }
 
 /* result.json for a cell whose method failed (status "failed", no metrics). */
@@ -177,7 +166,7 @@ static int sw_write_failed(const struct plan *p, size_t k, const char *part, con
     cJSON_AddItemToObject(o, "condition", sw_condition_json(p, k));
     cJSON_AddStringToObject(o, "status", "failed");
     cJSON_AddStringToObject(o, "error", msg);
-    return sw_write_json(path, o, e);
+    return json_file_write(path, o, e);
 }
 
 /* ---- running ------------------------------------------------------------ */
