@@ -7,6 +7,7 @@
 #include <stdlib.h>
 #include <string.h>
 
+#include "harness/cell_json.h"
 #include "harness/fileio.h"
 #include "harness/json_file.h"
 #include "harness/sweep.h"
@@ -208,12 +209,7 @@ static cJSON *sm_keys_json(const struct plan *p, size_t k)
     cJSON *o = cJSON_CreateObject();
     cJSON_AddStringToObject(o, "method", p->methods[c->method].label);
     cJSON_AddStringToObject(o, "condition", d->name);
-    if (c->has_axis) {
-        cJSON *a = cJSON_AddObjectToObject(o, "axis");
-        cJSON_AddStringToObject(a, "stage", d->axis_stage);
-        cJSON_AddStringToObject(a, "key", d->axis_key);
-        cJSON_AddNumberToObject(a, "value", c->axis_value);
-    }
+    cell_json_axis(o, p, k);
     return o;
 }
 

@@ -10,6 +10,7 @@
 #include <sys/stat.h>
 #include <unistd.h>
 
+#include "harness/cell_json.h"
 #include "harness/fileio.h"
 #include "harness/json_file.h"
 #include "harness/pool.h"
@@ -123,12 +124,7 @@ static cJSON *sw_condition_json(const struct plan *p, size_t k)
     if (d->on) cJSON_AddStringToObject(o, "on", d->on);
     else cJSON_AddNullToObject(o, "on");
     cJSON_AddNumberToObject(o, "seed", (double)c->seed);
-    if (c->has_axis) {
-        cJSON *a = cJSON_AddObjectToObject(o, "axis");
-        cJSON_AddStringToObject(a, "stage", d->axis_stage);
-        cJSON_AddStringToObject(a, "key", d->axis_key);
-        cJSON_AddNumberToObject(a, "value", c->axis_value);
-    }
+    cell_json_axis(o, p, k);
     return o;
 }
 
