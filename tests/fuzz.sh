@@ -16,6 +16,7 @@ for src in tests/fuzz_*.c; do
   clang -fsanitize=fuzzer,address,undefined -o "$FB/fuzz/$name" "$FB/obj/tests/$name.o" -Wl,--start-group $LIBS -Wl,--end-group $LDLIBS || exit 2
   work=$(mktemp -d)
   cp -r "tests/corpus/$name/." "$work/" 2>/dev/null || true
+  rm -rf "$FB/artifacts/$name"   # only what this run finds counts
   mkdir -p "$FB/artifacts/$name"
   echo "fuzz: $name for ${SECS}s" >&2
   "$FB/fuzz/$name" -max_total_time="$SECS" -timeout=10 -rss_limit_mb=2048 \
