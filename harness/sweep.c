@@ -4,6 +4,7 @@
 #include <cjson/cJSON.h>
 #include <dirent.h>
 #include <errno.h>
+#include <cblas.h>
 #include <stdio.h>
 #include <stdlib.h>
 #include <string.h>
@@ -304,6 +305,11 @@ int sweep_run(const struct plan *p, const struct sweep_opts *o, struct sweep_sta
         return err_set(e, "sweep: out of memory for %zu cells", p->n_cells);
     }
     c.todo = todo;
+    /* Cells in parallel replace OpenBLAS's own threads: its thread pool
+     * does not survive a fork (isolated or external methods) made while
+     * another cell is inside a threaded sgemm, and the parent then spins
+     * for ever in the next call. */
+    if (pool_threads(o->jobs) > 1) openblas_set_num_threads(1);
     progress_start(&c.prog, "sweep", (size_t)n, o->quiet);
     int rc = pool_run(n_lead, o->jobs, sw_cell, &c, e);
     c.todo = todo + n_lead;

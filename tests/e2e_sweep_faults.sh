@@ -33,7 +33,7 @@ same_queries() {  # every cell's queries.csv equal between two sweeps
   done
   [ "$(ls "$1/cells" | wc -l)" -eq "$(ls "$2/cells" | wc -l)" ]
 }
-"$R" sweep s.json --out clean --quiet > /dev/null 2>&1
+timeout 300 "$R" sweep s.json --out clean --quiet > /dev/null 2>&1
 expect "[ $(ls clean/cells/*/result.json | wc -l) -eq 6 ]" "the reference sweep finishes its 6 cells"
 
 # A full disk: every file over 4 kB fails to commit, as with ENOSPC.
@@ -74,7 +74,7 @@ RV_EXPORT const struct rv_method *rv_method_entry(void) { return &m; }
 SRC
 cc -std=c11 -O1 -shared -fPIC -Iinc -o crash.so crash.c
 sed 's|{"name": "range-height"}|{"name": "range-height"}, {"name": "./crash.so"}|' s.json > c.json
-out=$("$R" sweep c.json --out iso --isolate --quiet 2>&1); rc=$?
+out=$(timeout 300 "$R" sweep c.json --out iso --isolate --jobs 2 --quiet 2>&1); rc=$?
 expect "[ $rc -eq 2 ]" "a sweep with a crashing method exits 2 (got $rc)"
 nfail=$(grep -l '"status":[[:space:]]*"failed"' iso/cells/*/result.json 2>/dev/null | wc -l)
 nok=$(grep -l '"status":[[:space:]]*"ok"' iso/cells/*/result.json 2>/dev/null | wc -l)
