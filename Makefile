@@ -46,8 +46,13 @@ LIBS := $(B)/libharness.a $(B)/libsynth.a $(B)/libreports.a $(B)/libperturb.a $(
 # The libraries call each other (err_* and cloud_* are used everywhere), so link them as a group.
 LINK_LIBS = -Wl,--start-group $(LIBS) -Wl,--end-group
 
-.PHONY: all deps test asan bench demo install clean fuzz
-all: deps build
+.PHONY: all deps deps-demo deps-test test asan bench demo install clean fuzz
+# Set-up runs in two stages: the deps-* goal installs the packages, then a
+# fresh $(MAKE) builds, so the package flags above (pkg-config, read when a
+# Makefile is parsed) are read only once the packages are there.
+SUBMAKE = $(MAKE) --no-print-directory B=$(B) PREFIX=$(PREFIX)
+all: deps
+	@$(SUBMAKE) build
 
 build: $(B)/revisit $(PLUGIN_SO) $(TEST_SRC:tests/%.c=$(B)/tests/%) \
        $(TOOL_SRC:tests/%.c=$(B)/tests/%) $(BENCH_SRC:tests/%.c=$(B)/tests/%) \
@@ -55,7 +60,11 @@ build: $(B)/revisit $(PLUGIN_SO) $(TEST_SRC:tests/%.c=$(B)/tests/%) \
 .PHONY: build
 
 deps:
-	@bash harness/deps.sh
+	@bash harness/deps.sh build
+deps-demo:
+	@bash harness/deps.sh demo
+deps-test:
+	@bash harness/deps.sh test
 
 $(B)/obj/%.o: %.c
 	@mkdir -p $(dir $@)
@@ -113,17 +122,20 @@ plugins-$(B): $(PLUGIN_SO)
 
 export REVISIT_SANITIZED := $(if $(SAN),1,)
 
-test: all
+test: deps-test
+	@$(SUBMAKE) build
 	@bash tests/run.sh $(B)
 
 asan:
 	@$(MAKE) --no-print-directory B=build-asan CFLAGS='-O1 -g -fno-omit-frame-pointer' \
 	  SAN='-fsanitize=address,undefined -fno-sanitize-recover=undefined' test
 
-bench: all
+bench: deps-test
+	@$(SUBMAKE) build
 	@bash tests/bench.sh $(B)
 
-demo: all
+demo: deps-demo
+	@$(SUBMAKE) build
 	@bash scenarios/demo.sh $(B)
 
 install: all

@@ -1,10 +1,21 @@
 #!/usr/bin/env bash
-# deps.sh: check the Debian packages revisit builds and tests with; as root,
-# install the missing ones (apt-get update first); otherwise print the command.
+# deps.sh [build|demo|test]: check the Debian packages revisit needs for that
+# goal; as root, install the missing ones (apt-get update first); otherwise
+# print the exact command and stop.
+#   build  compiler-side libraries: what plain `make` needs
+#   demo   build + gnuplot (the report's plots)
+#   test   demo + what the tests use: cross-check libraries, valgrind,
+#          GNU Parallel (shard test), Chromium (report browser test)
 set -u
-need=(libopenblas-dev liblapacke-dev libcjson-dev pkg-config
-      python3-numpy python3-scipy python3-sklearn gnuplot-nox parallel valgrind
-      chromium python3-open3d)
+goal=${1:-build}
+need=(libopenblas-dev liblapacke-dev libcjson-dev pkg-config)
+case "$goal" in
+  build) ;;
+  demo) need+=(gnuplot-nox) ;;
+  test) need+=(gnuplot-nox python3-numpy python3-scipy python3-sklearn python3-open3d
+               parallel valgrind chromium) ;;
+  *) echo "revisit: deps.sh: unknown goal '$goal' (expected build, demo or test)" >&2; exit 2 ;;
+esac
 missing=()
 for p in "${need[@]}"; do
   st=$(dpkg-query -W -f='${Status}' "$p" 2>/dev/null)
@@ -12,7 +23,7 @@ for p in "${need[@]}"; do
 done
 [ ${#missing[@]} -eq 0 ] && exit 0
 if [ "$(id -u)" -ne 0 ]; then
-  echo "revisit: missing Debian packages: ${missing[*]}" >&2
+  echo "revisit: missing Debian packages for 'make $goal': ${missing[*]}" >&2
   echo "run: sudo apt-get update && sudo apt-get install -y ${missing[*]}" >&2
   exit 1
 fi
