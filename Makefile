@@ -28,12 +28,21 @@ ALL_CFLAGS := $(WARN) $(CFLAGS) $(SAN) -D_POSIX_C_SOURCE=200809L -D_DEFAULT_SOUR
 HIDDEN  := -fvisibility=hidden
 LDLIBS  := $(PKG_LIBS) $(BLAS_LIBS) $(LAPACK_LIBS) -ldl -lpthread -lm
 
-# --- sources by module -------------------------------------------------------
-PERTURB_SRC := harness/cloud.c $(wildcard perturb/*.c)
-METRICS_SRC := $(wildcard metrics/*.c)
-SYNTH_SRC   := $(wildcard scenarios/*.c)
-REPORTS_SRC := $(wildcard reports/*.c)
-HARNESS_SRC := $(filter-out harness/main.c harness/cloud.c,$(wildcard harness/*.c))
+# --- sources by layer ---------------------------------------------------------
+# One static library per folder, linked once in dependency order (a folder
+# may include only the folders after it in LAYERS; tests/e2e_layers.sh checks
+# that from the #include lines).  harness/cli/ is the top: the command itself.
+LAYERS      := reports run synth results plan perturb metrics io base
+SRC_reports := $(wildcard reports/*.c)
+SRC_run     := $(wildcard harness/run/*.c)
+SRC_synth   := $(wildcard scenarios/*.c)
+SRC_results := $(wildcard harness/results/*.c)
+SRC_plan    := $(wildcard harness/plan/*.c)
+SRC_perturb := $(wildcard perturb/*.c)
+SRC_metrics := $(wildcard metrics/*.c)
+SRC_io      := $(wildcard harness/io/*.c)
+SRC_base    := $(wildcard harness/base/*.c)
+CLI_SRC     := $(filter-out harness/cli/main.c,$(wildcard harness/cli/*.c))
 PLUGINS     := $(notdir $(wildcard harness/plugins/*))
 PLUGIN_SO   := $(PLUGINS:%=$(B)/plugins/%.so)
 TEST_SRC    := $(wildcard tests/test_*.c)
@@ -42,9 +51,8 @@ BENCH_SRC   := $(wildcard tests/bench_*.c)
 FUZZ_SRC    := $(wildcard tests/fuzz_*.c)
 
 obj = $(patsubst %.c,$(B)/obj/%.o,$(1))
-LIBS := $(B)/libharness.a $(B)/libsynth.a $(B)/libreports.a $(B)/libperturb.a $(B)/libmetrics.a
-# The libraries call each other (err_* and cloud_* are used everywhere), so link them as a group.
-LINK_LIBS = -Wl,--start-group $(LIBS) -Wl,--end-group
+LIBS := $(B)/libcli.a $(LAYERS:%=$(B)/lib%.a)
+LINK_LIBS = $(LIBS)
 
 .PHONY: all deps deps-demo deps-test test asan bench demo install clean fuzz
 # Set-up runs in two stages: the deps-* goal installs the packages, then a
@@ -74,17 +82,14 @@ $(B)/obj/harness/plugins/%.o: harness/plugins/%.c
 	@mkdir -p $(dir $@)
 	$(CC) $(ALL_CFLAGS) -fPIC $(HIDDEN) -c $< -o $@
 
-$(B)/libperturb.a: $(call obj,$(PERTURB_SRC))
-$(B)/libmetrics.a: $(call obj,$(METRICS_SRC))
-$(B)/libsynth.a:   $(call obj,$(SYNTH_SRC))
-$(B)/libreports.a: $(call obj,$(REPORTS_SRC))
-$(B)/libharness.a: $(call obj,$(HARNESS_SRC))
+$(foreach l,$(LAYERS),$(eval $(B)/lib$(l).a: $(call obj,$(SRC_$(l)))))
+$(B)/libcli.a: $(call obj,$(CLI_SRC))
 $(B)/lib%.a:
 	@mkdir -p $(dir $@)
 	@rm -f $@
 	ar rcs $@ $^
 
-$(B)/revisit: $(call obj,harness/main.c) $(LIBS)
+$(B)/revisit: $(call obj,harness/cli/main.c) $(LIBS)
 	$(CC) $(SAN) $(HIDDEN) -o $@ $< $(LINK_LIBS) $(LDLIBS)
 
 # Keep every object: they are reached through pattern rules and would

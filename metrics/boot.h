@@ -22,7 +22,7 @@
 
 #include <stddef.h>
 #include <stdint.h>
-#include "harness/err.h"
+#include "harness/base/err.h"
 #include "metrics/pr.h"
 
 struct boot_result {

@@ -32,7 +32,7 @@
 #define RV_GT_H
 
 #include <stddef.h>
-#include "harness/err.h"
+#include "harness/base/err.h"
 #include "metrics/protocol.h"
 
 enum gt_class {

@@ -33,7 +33,7 @@
 
 #include <stddef.h>
 #include <stdint.h>
-#include "harness/err.h"
+#include "harness/base/err.h"
 #include "metrics/gt.h"
 
 struct pr_cand {

@@ -45,8 +45,8 @@
 #include <stddef.h>
 #include <stdint.h>
 
-#include "harness/cloud.h"
-#include "harness/err.h"
+#include "harness/base/cloud.h"
+#include "harness/base/err.h"
 
 #define CHAIN_MAX_STAGES 32
 #define CHAIN_MAX_PARAMS 8

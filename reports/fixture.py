@@ -171,7 +171,7 @@ def main():
 
 
 def write_verdicts(out, method):
-    """verdicts.json in the layout `revisit check` writes (harness/summary.h)."""
+    """verdicts.json in the layout `revisit check` writes (harness/results/summary.h)."""
     vs = []
     for width, thr in ((90, 0.6), (180, 0.6)):
         r = json.load(open(os.path.join(out, "cells", "m0-c%d-s1" % (2 if width == 90 else 3),

@@ -21,7 +21,7 @@
 #define RV_PLOT_H
 
 #include <stdio.h>
-#include "harness/err.h"
+#include "harness/base/err.h"
 #include "reports/rstat.h"
 
 enum plot_kind { PLOT_DEGRADATION, PLOT_PR, PLOT_TRAJ, PLOT_MATRIX, PLOT_HIST, PLOT_NKIND };

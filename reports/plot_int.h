@@ -3,7 +3,7 @@
 #ifndef RV_PLOT_INT_H
 #define RV_PLOT_INT_H
 
-#include "harness/fileio.h"
+#include "harness/base/fileio.h"
 #include "reports/plot.h"
 
 /* Open ps->dir/NAME.EXT for an atomic write. 0 or -1. */

@@ -8,7 +8,7 @@
 #include <string.h>
 #include <sys/stat.h>
 
-#include "harness/fileio.h"
+#include "harness/base/fileio.h"
 
 #define RDATA_JSON_MAX ((size_t)256 << 20)
 

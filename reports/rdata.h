@@ -20,7 +20,7 @@
 #define RV_RDATA_H
 
 #include <stddef.h>
-#include "harness/err.h"
+#include "harness/base/err.h"
 #include "metrics/protocol.h"
 
 /* The scalars the tables show, in table order. */
@@ -53,7 +53,7 @@ struct rdata_cell {
 };
 
 /* One acceptance criterion result (see rdata_load for the file read). */
-/* From DIR/verdicts.json as `revisit check` writes it (harness/summary.h). */
+/* From DIR/verdicts.json as `revisit check` writes it (harness/results/summary.h). */
 struct rdata_verdict {
     char text[512], metric[64], method[256], cond[256], cmp[8], target[16];
     double value, lo, hi, threshold;

@@ -8,7 +8,7 @@
 #include <stdlib.h>
 #include <string.h>
 
-#include "harness/fileio.h"
+#include "harness/base/fileio.h"
 
 #define RDATA_CSV_MAX ((size_t)1 << 30)
 #define RDATA_INDEX_MAX 100000000L

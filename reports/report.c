@@ -6,8 +6,8 @@
 #include <stdlib.h>
 #include <string.h>
 
-#include "harness/fileio.h"
-#include "harness/progress.h"
+#include "harness/base/fileio.h"
+#include "harness/base/progress.h"
 
 void report_opts_defaults(struct report_opts *o)
 {

@@ -16,7 +16,7 @@
 #define RV_REPORT_H
 
 #include <stddef.h>
-#include "harness/err.h"
+#include "harness/base/err.h"
 
 struct report_opts {
     const char *in_dir;        /* results folder (eval output or sweep) */

@@ -6,8 +6,8 @@
 #include <string.h>
 #include <sys/stat.h>
 
-#include "harness/fileio.h"
-#include "harness/progress.h"
+#include "harness/base/fileio.h"
+#include "harness/base/progress.h"
 
 #define REPORT_HIST_BINS 40
 

@@ -6,7 +6,7 @@
 #include <stdlib.h>
 #include <string.h>
 
-#include "harness/fileio.h"
+#include "harness/base/fileio.h"
 #include "reports/esc.h"
 
 #define HTML_IMAGE_MAX ((size_t)64 << 20)

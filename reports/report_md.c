@@ -5,7 +5,7 @@
 #include <stddef.h>
 #include <string.h>
 
-#include "harness/fileio.h"
+#include "harness/base/fileio.h"
 #include "reports/esc.h"
 
 static const char *const kind_heading[PLOT_NKIND] = {

@@ -23,7 +23,7 @@
 #define RV_DISTRICT_H
 
 #include <stdint.h>
-#include "harness/err.h"
+#include "harness/base/err.h"
 #include "scenarios/world.h"
 
 enum district_style { DISTRICT_PORT = 0, DISTRICT_CAMPUS = 1, DISTRICT_SUBURB = 2 };

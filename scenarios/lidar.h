@@ -25,8 +25,8 @@
 
 #include <stddef.h>
 #include <stdint.h>
-#include "harness/cloud.h"
-#include "harness/err.h"
+#include "harness/base/cloud.h"
+#include "harness/base/err.h"
 #include "scenarios/world.h"
 
 #define LIDAR_MAX_CHANNELS 256

@@ -21,7 +21,7 @@
 #define RV_ROUTE_H
 
 #include <stddef.h>
-#include "harness/err.h"
+#include "harness/base/err.h"
 #include "scenarios/district.h"
 
 #define ROUTE_MAX_LEGS 32

@@ -8,7 +8,7 @@
 #include <string.h>
 #include <unistd.h>
 
-#include "harness/fileio.h"
+#include "harness/base/fileio.h"
 
 #define SYNCONF_MAX_BYTES ((size_t)1 << 20)
 

@@ -23,7 +23,7 @@
 #define RV_SYNCONF_H
 
 #include <stdint.h>
-#include "harness/err.h"
+#include "harness/base/err.h"
 #include "scenarios/district.h"
 #include "scenarios/lidar.h"
 #include "scenarios/route.h"

@@ -7,11 +7,11 @@
 #include <string.h>
 #include <unistd.h>
 
-#include "harness/fileio.h"
-#include "harness/pool.h"
-#include "harness/poses_io.h"
-#include "harness/progress.h"
-#include "harness/recording.h"
+#include "harness/base/fileio.h"
+#include "harness/base/pool.h"
+#include "harness/io/poses_io.h"
+#include "harness/base/progress.h"
+#include "harness/io/recording.h"
 #include "scenarios/district.h"
 #include "scenarios/route.h"
 #include "scenarios/synrng.h"

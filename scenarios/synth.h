@@ -23,7 +23,7 @@
 #define RV_SYNTH_H
 
 #include <stddef.h>
-#include "harness/err.h"
+#include "harness/base/err.h"
 #include "scenarios/synconf.h"
 
 struct synth_run {

@@ -13,11 +13,11 @@
 #include <string.h>
 #include <unistd.h>
 
-#include "harness/eval.h"
-#include "harness/plugin_host.h"
-#include "harness/progress.h"
-#include "harness/recording.h"
-#include "harness/retrieval.h"
+#include "harness/run/eval.h"
+#include "harness/run/plugin_host.h"
+#include "harness/base/progress.h"
+#include "harness/io/recording.h"
+#include "harness/run/retrieval.h"
 
 #define BE_SCANS 120
 

@@ -17,7 +17,7 @@
 #include <string.h>
 #include <unistd.h>
 
-#include "harness/recording.h"
+#include "harness/io/recording.h"
 
 static size_t env_size(const char *name, size_t def)
 {

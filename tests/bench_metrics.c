@@ -17,7 +17,7 @@
 
 #include <time.h>
 
-#include "harness/progress.h"
+#include "harness/base/progress.h"
 #include "metrics/boot.h"
 #include "metrics/gt.h"
 

@@ -7,7 +7,7 @@
 #include <stdlib.h>
 #include <string.h>
 
-#include "harness/progress.h"
+#include "harness/base/progress.h"
 #include "perturb/chain.h"
 #include "perturb/rng.h"
 

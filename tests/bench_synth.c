@@ -10,8 +10,8 @@
 #include <stdlib.h>
 #include <string.h>
 
-#include "harness/pool.h"
-#include "harness/progress.h"
+#include "harness/base/pool.h"
+#include "harness/base/progress.h"
 #include "scenarios/district.h"
 #include "scenarios/lidar.h"
 #include "scenarios/route.h"

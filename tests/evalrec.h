@@ -12,7 +12,7 @@
 #include <stdint.h>
 #include <stdlib.h>
 
-#include "harness/recording.h"
+#include "harness/io/recording.h"
 
 #define EVALREC_POSTS 160
 

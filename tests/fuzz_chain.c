@@ -3,7 +3,7 @@
  * again to the same text. */
 #include <stdlib.h>
 #include <string.h>
-#include "harness/cloud.h"
+#include "harness/base/cloud.h"
 #include "perturb/chain.h"
 #include "tests/fuzz_util.h"
 

@@ -3,7 +3,7 @@
  * then descriptor or error frames); the host must refuse garbage with a
  * clear error, never crash, hang or read past a frame. */
 #include <stdlib.h>
-#include "harness/external.h"
+#include "harness/run/external.h"
 #include "tests/fuzz_util.h"
 
 int LLVMFuzzerTestOneInput(const uint8_t *data, size_t size)

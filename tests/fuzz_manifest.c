@@ -1,6 +1,6 @@
 /* fuzz_manifest.c: recording.json loading on arbitrary bytes (with two tiny
  * scans and a pose file beside it, so a well-formed manifest gets far). */
-#include "harness/recording.h"
+#include "harness/io/recording.h"
 #include "tests/fuzz_util.h"
 
 int LLVMFuzzerTestOneInput(const uint8_t *data, size_t size)

@@ -1,8 +1,8 @@
 /* fuzz_pcd.c: the pcd scan reader on arbitrary bytes must return a clean
  * error or a cloud with finite coordinates, never crash or leak. */
 #include <math.h>
-#include "harness/cloud.h"
-#include "harness/scan_io.h"
+#include "harness/base/cloud.h"
+#include "harness/io/scan_io.h"
 #include "tests/fuzz_util.h"
 
 int LLVMFuzzerTestOneInput(const uint8_t *data, size_t size)

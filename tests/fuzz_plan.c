@@ -1,6 +1,6 @@
 /* fuzz_plan.c: the sweep scenario file loader on arbitrary text. */
 #include <string.h>
-#include "harness/plan.h"
+#include "harness/plan/plan.h"
 #include "tests/fuzz_util.h"
 
 int LLVMFuzzerTestOneInput(const uint8_t *data, size_t size)

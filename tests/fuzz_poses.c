@@ -2,7 +2,7 @@
  * first byte picks the layout; for matrix the rest is split at the first
  * 0xff byte into the matrix file and the times file. */
 #include <stdlib.h>
-#include "harness/poses_io.h"
+#include "harness/io/poses_io.h"
 #include "tests/fuzz_util.h"
 
 int LLVMFuzzerTestOneInput(const uint8_t *data, size_t size)

@@ -1,5 +1,5 @@
 /* fuzz_queries.c: the per-query results CSV reader on arbitrary bytes. */
-#include "harness/queries_csv.h"
+#include "harness/results/queries_csv.h"
 #include "tests/fuzz_util.h"
 
 int LLVMFuzzerTestOneInput(const uint8_t *data, size_t size)

@@ -3,8 +3,8 @@
 #include <stdlib.h>
 #include <sys/stat.h>
 
-#include "harness/cloud.h"
-#include "harness/fileio.h"
+#include "harness/base/cloud.h"
+#include "harness/base/fileio.h"
 #include "tests/check.h"
 
 static void test_cloud(void)

@@ -7,9 +7,9 @@
 #include <stdlib.h>
 #include <string.h>
 
-#include "harness/eval.h"
-#include "harness/fileio.h"
-#include "harness/queries_csv.h"
+#include "harness/run/eval.h"
+#include "harness/base/fileio.h"
+#include "harness/results/queries_csv.h"
 #include "tests/check.h"
 #include "tests/evalrec.h"
 

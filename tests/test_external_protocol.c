@@ -6,8 +6,8 @@
 #include <string.h>
 #include <sys/stat.h>
 
-#include "harness/external.h"
-#include "harness/plugin_host.h"
+#include "harness/run/external.h"
+#include "harness/run/plugin_host.h"
 #include "tests/check.h"
 
 /* Small programs that break the protocol in one way each. */

@@ -5,7 +5,7 @@
 #include <signal.h>
 #include <stdint.h>
 #include <stdlib.h>
-#include "harness/isolate.h"
+#include "harness/run/isolate.h"
 #include "tests/check.h"
 
 enum { W_OK, W_SEGV, W_ABORT, W_HANG, W_ALLOC, W_FAIL };

@@ -4,8 +4,8 @@
 #include <stdio.h>
 #include <stdlib.h>
 
-#include "harness/queries_csv.h"
-#include "harness/result_metrics.h"
+#include "harness/results/queries_csv.h"
+#include "harness/results/result_metrics.h"
 #include "tests/check.h"
 
 static void put(const char *path, const char *text)

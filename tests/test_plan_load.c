@@ -1,7 +1,7 @@
 /* test_plan_load.c: the scenario loader expands the grid and names the JSON
  * path of every bad value. */
 #include <stdlib.h>
-#include "harness/plan.h"
+#include "harness/plan/plan.h"
 #include "tests/check.h"
 
 static const char good[] =

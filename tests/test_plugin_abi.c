@@ -7,7 +7,7 @@
 #include <sys/wait.h>
 #include <unistd.h>
 
-#include "harness/plugin_host.h"
+#include "harness/run/plugin_host.h"
 #include "tests/check.h"
 
 /* One plugin source; -D flags make the broken variants. */

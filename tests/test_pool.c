@@ -1,6 +1,6 @@
 /* test_pool.c: the task pool gives the same results for any thread count. */
 #include <stdint.h>
-#include "harness/pool.h"
+#include "harness/base/pool.h"
 #include "tests/check.h"
 
 static int square(void *ctx, size_t task, int worker, struct err *e)

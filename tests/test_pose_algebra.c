@@ -2,7 +2,7 @@
 #include <math.h>
 #include <stdlib.h>
 
-#include "harness/pose.h"
+#include "harness/base/pose.h"
 #include "tests/check.h"
 
 static double mat_diff(const double *a, const double *b, int n)

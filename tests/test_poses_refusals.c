@@ -3,7 +3,7 @@
 #include <stdio.h>
 #include <string.h>
 
-#include "harness/poses_io.h"
+#include "harness/io/poses_io.h"
 #include "tests/check.h"
 
 static void put(const char *path, const char *text)

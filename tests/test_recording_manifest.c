@@ -7,10 +7,10 @@
 #include <sys/stat.h>
 #include <unistd.h>
 
-#include "harness/fileio.h"
-#include "harness/pool.h"
-#include "harness/poses_io.h"
-#include "harness/recording.h"
+#include "harness/base/fileio.h"
+#include "harness/base/pool.h"
+#include "harness/io/poses_io.h"
+#include "harness/io/recording.h"
 #include "tests/check.h"
 
 static void puts_file(const char *path, const char *text)

@@ -6,9 +6,9 @@
 #include <stdlib.h>
 #include <string.h>
 
-#include "harness/fileio.h"
-#include "harness/poses_io.h"
-#include "harness/recording.h"
+#include "harness/base/fileio.h"
+#include "harness/io/poses_io.h"
+#include "harness/io/recording.h"
 #include "tests/check.h"
 
 static const char *good =

@@ -6,7 +6,7 @@
 #include <string.h>
 
 #include "check.h"
-#include "harness/fileio.h"
+#include "harness/base/fileio.h"
 #include "reports/rdata.h"
 #include "reports/report_int.h"
 #include "reports/rstat.h"

@@ -9,7 +9,7 @@
 #include <stdlib.h>
 #include <string.h>
 
-#include "harness/plugin_host.h"
+#include "harness/run/plugin_host.h"
 #include "tests/check.h"
 
 #define N 4000

@@ -11,9 +11,9 @@
 #include <string.h>
 #include <unistd.h>
 
-#include "harness/pcd.h"
-#include "harness/ply.h"
-#include "harness/scan_io.h"
+#include "harness/io/pcd.h"
+#include "harness/io/ply.h"
+#include "harness/io/scan_io.h"
 #include "tests/check.h"
 
 static void put(const char *path, const void *data, size_t len)

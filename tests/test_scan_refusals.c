@@ -5,7 +5,7 @@
 #include <stdio.h>
 #include <string.h>
 
-#include "harness/scan_io.h"
+#include "harness/io/scan_io.h"
 #include "tests/check.h"
 
 struct bad { const char *name, *text, *frag; };

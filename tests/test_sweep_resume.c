@@ -7,8 +7,9 @@
 #include <stdlib.h>
 #include <sys/stat.h>
 #include <unistd.h>
-#include "harness/fileio.h"
-#include "harness/sweep.h"
+#include "harness/base/fileio.h"
+#include "harness/run/sweep.h"
+#include "harness/results/cells.h"
 #include "tests/check.h"
 
 static volatile sig_atomic_t stop_flag;
@@ -98,7 +99,7 @@ int main(void)
     CHECK(r && strstr(r, "\"status\":\t\"failed\"") && strstr(r, "describe returned NaN"),
           "a failing method leaves a failed result with its message");
     free(r);
-    CHECK(sweep_cell_done("full", "good_k-2__sec_width-90__s3"), "the last good cell is done");
+    CHECK(results_cell_done("full", "good_k-2__sec_width-90__s3"), "the last good cell is done");
     char *sc = slurp("full/scenario.json");
     CHECK(sc && !strcmp(sc, scen), "the scenario file is copied byte for byte");
     free(sc);

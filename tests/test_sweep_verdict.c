@@ -3,9 +3,9 @@
  * summary tables over it. */
 #include <math.h>
 #include <stdlib.h>
-#include "harness/fileio.h"
-#include "harness/summary.h"
-#include "harness/sweep.h"
+#include "harness/base/fileio.h"
+#include "harness/results/summary.h"
+#include "harness/run/sweep.h"
 #include "tests/check.h"
 
 /* Loop mode, 6 scans on a line: 3, 4, 5 revisit 0, 1, 2 (0 m apart); 0, 1, 2

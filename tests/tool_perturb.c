@@ -9,7 +9,7 @@
 #include <stdlib.h>
 #include <string.h>
 
-#include "harness/fileio.h"
+#include "harness/base/fileio.h"
 #include "perturb/chain.h"
 
 static int run(char **argv, struct err *e)

@@ -10,8 +10,8 @@
 #include <stdio.h>
 #include <string.h>
 
-#include "harness/pose.h"
-#include "harness/poses_io.h"
+#include "harness/base/pose.h"
+#include "harness/io/poses_io.h"
 
 static int q2m(void)
 {

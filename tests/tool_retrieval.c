@@ -11,8 +11,8 @@
 #include <string.h>
 #include <math.h>
 
-#include "harness/fileio.h"
-#include "harness/retrieval.h"
+#include "harness/base/fileio.h"
+#include "harness/run/retrieval.h"
 
 static double tool_l1(const void *ctx, const float *a, const float *b)
 {

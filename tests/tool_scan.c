@@ -11,9 +11,9 @@
 #include <stdio.h>
 #include <string.h>
 
-#include "harness/pcd.h"
-#include "harness/ply.h"
-#include "harness/scan_io.h"
+#include "harness/io/pcd.h"
+#include "harness/io/ply.h"
+#include "harness/io/scan_io.h"
 
 static int ends_with(const char *s, const char *tail)
 {

@@ -1,5 +1,5 @@
 /* cloud.c: growable interleaved point cloud with optional ring and time. */
-#include "harness/cloud.h"
+#include "harness/base/cloud.h"
 
 #include <math.h>
 #include <stdlib.h>

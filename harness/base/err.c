@@ -1,5 +1,5 @@
 /* err.c: error records with file:line positions. */
-#include "harness/err.h"
+#include "harness/base/err.h"
 
 #include <stdarg.h>
 #include <stdio.h>

@@ -1,5 +1,5 @@
 /* fileio.c: atomic writes and bounded whole-file reads. */
-#include "harness/fileio.h"
+#include "harness/base/fileio.h"
 
 #include <errno.h>
 #include <fcntl.h>

@@ -19,7 +19,7 @@
 
 #include <stdio.h>
 #include <stddef.h>
-#include "harness/err.h"
+#include "harness/base/err.h"
 
 struct afile {
     FILE *f;

@@ -1,10 +1,10 @@
 /* json_file.c: a cJSON tree printed into a file with a final newline. */
-#include "harness/json_file.h"
+#include "harness/base/json_file.h"
 
 #include <stdlib.h>
 #include <string.h>
 
-#include "harness/fileio.h"
+#include "harness/base/fileio.h"
 
 int json_file_write(const char *path, cJSON *root, struct err *e)
 {

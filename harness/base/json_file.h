@@ -1,5 +1,5 @@
 /* json_file.h: write a cJSON tree as a file, printed with cJSON's
- * indentation and one final newline, atomically (harness/fileio.h).
+ * indentation and one final newline, atomically (harness/base/fileio.h).
  *
  *     cJSON *root = cJSON_CreateObject();
  *     cJSON_AddStringToObject(root, "format", "revisit-summary-1");
@@ -15,7 +15,7 @@
 
 #include <cjson/cJSON.h>
 
-#include "harness/err.h"
+#include "harness/base/err.h"
 
 int json_file_write(const char *path, cJSON *root, struct err *e);
 

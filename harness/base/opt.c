@@ -1,5 +1,5 @@
 /* opt.c: table-driven option parsing shared by all subcommands. */
-#include "harness/opt.h"
+#include "harness/base/opt.h"
 
 #include <errno.h>
 #include <math.h>

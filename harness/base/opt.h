@@ -15,7 +15,7 @@
 #define RV_OPT_H
 
 #include <stdio.h>
-#include "harness/err.h"
+#include "harness/base/err.h"
 
 enum opt_kind {
     OPT_FLAG,    /* int: set to 1 */

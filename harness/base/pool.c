@@ -1,5 +1,5 @@
 /* pool.c: a fixed set of pthreads pulling task indices from an atomic counter. */
-#include "harness/pool.h"
+#include "harness/base/pool.h"
 
 #include <pthread.h>
 #include <signal.h>

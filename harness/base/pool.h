@@ -13,7 +13,7 @@
 #define RV_POOL_H
 
 #include <stddef.h>
-#include "harness/err.h"
+#include "harness/base/err.h"
 
 typedef int (*pool_fn)(void *ctx, size_t task, int worker, struct err *e);
 

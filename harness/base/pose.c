@@ -1,5 +1,5 @@
 /* pose.c: quaternion / matrix conversion, composition, inverse. */
-#include "harness/pose.h"
+#include "harness/base/pose.h"
 
 #include <math.h>
 #include <string.h>

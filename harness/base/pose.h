@@ -17,7 +17,7 @@
 #ifndef RV_POSE_H
 #define RV_POSE_H
 
-#include "harness/err.h"
+#include "harness/base/err.h"
 
 struct pose {
     double t;       /* seconds */

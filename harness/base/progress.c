@@ -1,5 +1,5 @@
 /* progress.c: terminal progress bar with rate and time left. */
-#include "harness/progress.h"
+#include "harness/base/progress.h"
 
 #include <stdio.h>
 #include <time.h>

@@ -4,7 +4,7 @@
  *   1. write harness/cmd_NAME.c with `int cmd_NAME(int argc, char **argv)`,
  *      a static usage text and an option table handed to opt_parse();
  *      `--help` prints usage + options to stdout and returns 0;
- *   2. declare it below and add a row to the table in harness/main.c;
+ *   2. declare it below and add a row to the table in harness/cli/main.c;
  *   3. nothing to add to the Makefile (every .c file in harness/ is picked up);
  *   4. add tests (tests/e2e_help.sh runs --help on every row already);
  *   5. document it in README.md (usage) and DEVELOPERS.md if it adds a module.
@@ -16,7 +16,7 @@
 #ifndef RV_CMD_H
 #define RV_CMD_H
 
-#include "harness/err.h"
+#include "harness/base/err.h"
 
 enum { CMD_OK = 0, CMD_FAIL = 1, CMD_ERROR = 2, CMD_INTERRUPTED = 130 };
 
@@ -26,20 +26,20 @@ int cmd_report(const struct err *e);
 /* revisit report DIR: Markdown and HTML report of a results folder (reports/). */
 int cmd_report_main(int argc, char **argv);
 
-/* revisit sweep SCENARIO --out DIR: run a scenario's grid of cells (harness/sweep.h). */
+/* revisit sweep SCENARIO --out DIR: run a scenario's grid of cells (harness/run/sweep.h). */
 int cmd_sweep(int argc, char **argv);
 /* revisit merge --out DIR SHARD...: join shard folders of one scenario. */
 int cmd_merge(int argc, char **argv);
-/* revisit check SCENARIO DIR: judge the acceptance criteria (harness/summary.h). */
+/* revisit check SCENARIO DIR: judge the acceptance criteria (harness/results/summary.h). */
 int cmd_check(int argc, char **argv);
-/* revisit metrics --results FILE: score a per-query results CSV (metrics/, harness/queries_csv.h). */
+/* revisit metrics --results FILE: score a per-query results CSV (metrics/, harness/results/queries_csv.h). */
 int cmd_metrics(int argc, char **argv);
-/* revisit eval --map REC --method SPEC --out DIR: one evaluation (harness/eval.h). */
+/* revisit eval --map REC --method SPEC --out DIR: one evaluation (harness/run/eval.h). */
 int cmd_eval(int argc, char **argv);
-/* revisit methods [NAME]: the methods on the plugin search path (harness/plugin_host.h). */
+/* revisit methods [NAME]: the methods on the plugin search path (harness/run/plugin_host.h). */
 int cmd_methods(int argc, char **argv);
 
-/* revisit index DIR --poses FILE: write recording.json for a folder of scans (harness/recording.h). */
+/* revisit index DIR --poses FILE: write recording.json for a folder of scans (harness/io/recording.h). */
 int cmd_index(int argc, char **argv);
 /* revisit inspect REC: scan count, duration, points, path length, revisits, suspicious scans. */
 int cmd_inspect(int argc, char **argv);

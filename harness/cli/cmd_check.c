@@ -4,12 +4,12 @@
 #include <stdlib.h>
 #include <string.h>
 
-#include "harness/cmd.h"
-#include "harness/fileio.h"
-#include "harness/junit.h"
-#include "harness/opt.h"
-#include "harness/plan.h"
-#include "harness/summary.h"
+#include "harness/cli/cmd.h"
+#include "harness/base/fileio.h"
+#include "harness/results/junit.h"
+#include "harness/base/opt.h"
+#include "harness/plan/plan.h"
+#include "harness/results/summary.h"
 
 static const char usage[] =
     "usage: revisit check SCENARIO DIR [--junit FILE]\n\n"

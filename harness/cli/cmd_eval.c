@@ -4,10 +4,10 @@
 #include <stdlib.h>
 #include <string.h>
 
-#include "harness/cmd.h"
-#include "harness/eval.h"
-#include "harness/opt.h"
-#include "harness/opt_protocol.h"
+#include "harness/cli/cmd.h"
+#include "harness/run/eval.h"
+#include "harness/base/opt.h"
+#include "harness/cli/opt_protocol.h"
 
 static const char usage[] =
     "usage: revisit eval --map REC [--query REC] --method NAME[:key=value,...] --out DIR\n"

@@ -9,11 +9,11 @@
 #include <sys/stat.h>
 #include <unistd.h>
 
-#include "harness/cmd.h"
-#include "harness/fileio.h"
-#include "harness/opt.h"
-#include "harness/poses_io.h"
-#include "harness/recording.h"
+#include "harness/cli/cmd.h"
+#include "harness/base/fileio.h"
+#include "harness/base/opt.h"
+#include "harness/io/poses_io.h"
+#include "harness/io/recording.h"
 
 static const char usage[] =
     "usage: revisit index DIR --poses FILE [--times FILE] [--out DIR/recording.json]\n\n"

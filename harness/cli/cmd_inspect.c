@@ -7,11 +7,11 @@
 #include <stdlib.h>
 #include <string.h>
 
-#include "harness/cmd.h"
-#include "harness/opt.h"
-#include "harness/pool.h"
-#include "harness/progress.h"
-#include "harness/recording.h"
+#include "harness/cli/cmd.h"
+#include "harness/base/opt.h"
+#include "harness/base/pool.h"
+#include "harness/base/progress.h"
+#include "harness/io/recording.h"
 #include "metrics/gt.h"
 #include "metrics/protocol.h"
 

@@ -6,12 +6,13 @@
 #include <string.h>
 #include <sys/stat.h>
 
-#include "harness/cmd.h"
-#include "harness/fileio.h"
-#include "harness/opt.h"
-#include "harness/plan.h"
-#include "harness/summary.h"
-#include "harness/sweep.h"
+#include "harness/cli/cmd.h"
+#include "harness/base/fileio.h"
+#include "harness/base/opt.h"
+#include "harness/plan/plan.h"
+#include "harness/results/summary.h"
+#include "harness/run/sweep.h"
+#include "harness/results/cells.h"
 
 #define MERGE_FILE_MAX ((size_t)1 << 30)
 
@@ -72,7 +73,7 @@ static int merge_one(const struct plan *p, const char *shard, const char *out, s
     snprintf(cells, sizeof cells, "%s/cells", out);
     int rc = 0;
     for (size_t k = 0; k < p->n_cells && !rc; k++) {
-        if (!s.cells[k].done || sweep_cell_done(out, p->cells[k].id)) continue;
+        if (!s.cells[k].done || results_cell_done(out, p->cells[k].id)) continue;
         snprintf(src, sizeof src, "%s/cells/%s", shard, p->cells[k].id);
         rc = merge_copy_cell(src, cells, p->cells[k].id, e);
         *copied += !rc;

@@ -3,9 +3,9 @@
 #include <stdlib.h>
 #include <string.h>
 
-#include "harness/cmd.h"
-#include "harness/opt.h"
-#include "harness/plugin_host.h"
+#include "harness/cli/cmd.h"
+#include "harness/base/opt.h"
+#include "harness/run/plugin_host.h"
 
 static const char usage[] =
     "usage: revisit methods [NAME|PATH.so] [--plugin-path DIRS]\n\n"

@@ -9,16 +9,16 @@
 
 #include <cJSON.h>
 
-#include "harness/cmd.h"
-#include "harness/fileio.h"
-#include "harness/opt.h"
-#include "harness/opt_protocol.h"
-#include "harness/pool.h"
-#include "harness/poses_io.h"
-#include "harness/progress.h"
-#include "harness/queries_csv.h"
-#include "harness/recording.h"
-#include "harness/result_metrics.h"
+#include "harness/cli/cmd.h"
+#include "harness/base/fileio.h"
+#include "harness/base/opt.h"
+#include "harness/cli/opt_protocol.h"
+#include "harness/base/pool.h"
+#include "harness/io/poses_io.h"
+#include "harness/base/progress.h"
+#include "harness/results/queries_csv.h"
+#include "harness/io/recording.h"
+#include "harness/results/result_metrics.h"
 #include "metrics/boot.h"
 
 #define MT_FILE_MAX ((size_t)1 << 32)

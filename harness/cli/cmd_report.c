@@ -3,8 +3,8 @@
 #include <stdio.h>
 #include <string.h>
 
-#include "harness/cmd.h"
-#include "harness/opt.h"
+#include "harness/cli/cmd.h"
+#include "harness/base/opt.h"
 #include "reports/report.h"
 
 static const char usage[] =

@@ -4,14 +4,14 @@
 #include <stdio.h>
 #include <string.h>
 
-#include "harness/cmd.h"
-#include "harness/eval.h"
-#include "harness/opt.h"
-#include "harness/plan.h"
-#include "harness/pool.h"
-#include "harness/recording.h"
-#include "harness/summary.h"
-#include "harness/sweep.h"
+#include "harness/cli/cmd.h"
+#include "harness/run/eval.h"
+#include "harness/base/opt.h"
+#include "harness/plan/plan.h"
+#include "harness/base/pool.h"
+#include "harness/io/recording.h"
+#include "harness/results/summary.h"
+#include "harness/run/sweep.h"
 #include "perturb/chain.h"
 
 static const char usage[] =

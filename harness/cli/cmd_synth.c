@@ -4,9 +4,9 @@
 #include <stdio.h>
 #include <string.h>
 
-#include "harness/cmd.h"
-#include "harness/opt.h"
-#include "harness/pool.h"
+#include "harness/cli/cmd.h"
+#include "harness/base/opt.h"
+#include "harness/base/pool.h"
 #include "scenarios/synconf.h"
 #include "scenarios/synth.h"
 

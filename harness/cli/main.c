@@ -3,7 +3,7 @@
 #include <stdio.h>
 #include <string.h>
 
-#include "harness/cmd.h"
+#include "harness/cli/cmd.h"
 
 struct cmd_row {
     const char *name;

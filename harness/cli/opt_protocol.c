@@ -1,5 +1,5 @@
 /* opt_protocol.c: shared protocol options. */
-#include "harness/opt_protocol.h"
+#include "harness/cli/opt_protocol.h"
 
 #include <math.h>
 #include <string.h>

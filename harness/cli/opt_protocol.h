@@ -10,7 +10,7 @@
 #ifndef RV_OPT_PROTOCOL_H
 #define RV_OPT_PROTOCOL_H
 
-#include "harness/opt.h"
+#include "harness/base/opt.h"
 #include "metrics/protocol.h"
 
 struct opt_protocol {

@@ -5,7 +5,7 @@
  * points one after another, each the fields in header order, each field
  * COUNT values of SIZE bytes, little-endian.
  */
-#include "harness/pcd.h"
+#include "harness/io/pcd.h"
 
 #include <ctype.h>
 #include <errno.h>
@@ -18,8 +18,8 @@
 #include <sys/stat.h>
 #include <unistd.h>
 
-#include "harness/fileio.h"
-#include "harness/scan_io.h"
+#include "harness/base/fileio.h"
+#include "harness/io/scan_io.h"
 
 #define PCD_MAX_FIELDS 64
 #define PCD_HEADER_MAX 65536

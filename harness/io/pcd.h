@@ -16,8 +16,8 @@
 #ifndef RV_PCD_H
 #define RV_PCD_H
 
-#include "harness/cloud.h"
-#include "harness/err.h"
+#include "harness/base/cloud.h"
+#include "harness/base/err.h"
 
 int pcd_read(const char *path, struct cloud *c, struct err *e);
 int pcd_write_binary(const char *path, const struct cloud *c, struct err *e);

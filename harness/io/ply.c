@@ -5,7 +5,7 @@
  * "property TYPE NAME" or "property list COUNT_TYPE ITEM_TYPE NAME" lines,
  * ending with "end_header"; the body holds the elements in header order.
  */
-#include "harness/ply.h"
+#include "harness/io/ply.h"
 
 #include <errno.h>
 #include <stdint.h>
@@ -13,8 +13,8 @@
 #include <stdlib.h>
 #include <string.h>
 
-#include "harness/fileio.h"
-#include "harness/scan_io.h"
+#include "harness/base/fileio.h"
+#include "harness/io/scan_io.h"
 
 #define PLY_MAX_ELEMENTS 16
 #define PLY_MAX_PROPS 64

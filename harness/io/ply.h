@@ -15,8 +15,8 @@
 #ifndef RV_PLY_H
 #define RV_PLY_H
 
-#include "harness/cloud.h"
-#include "harness/err.h"
+#include "harness/base/cloud.h"
+#include "harness/base/err.h"
 
 int ply_read(const char *path, struct cloud *c, struct err *e);
 int ply_write_binary(const char *path, const struct cloud *c, struct err *e);

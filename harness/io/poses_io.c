@@ -1,5 +1,5 @@
 /* poses_io.c: pose files (CSV with header, whitespace lines, 3x4 rows + times). */
-#include "harness/poses_io.h"
+#include "harness/io/poses_io.h"
 
 #include <ctype.h>
 #include <math.h>
@@ -7,7 +7,7 @@
 #include <stdlib.h>
 #include <string.h>
 
-#include "harness/fileio.h"
+#include "harness/base/fileio.h"
 
 #define POSES_FILE_MAX ((size_t)4 << 30)
 #define POSES_MAX_COLS 64

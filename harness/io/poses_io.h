@@ -25,8 +25,8 @@
 #define RV_POSES_IO_H
 
 #include <stddef.h>
-#include "harness/err.h"
-#include "harness/pose.h"
+#include "harness/base/err.h"
+#include "harness/base/pose.h"
 
 #define POSES_MAX ((size_t)10000000)
 

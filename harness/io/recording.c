@@ -1,5 +1,5 @@
 /* recording.c: load recording.json, its scan list and poses; load one scan. */
-#include "harness/recording.h"
+#include "harness/io/recording.h"
 
 #include <cjson/cJSON.h>
 #include <dirent.h>
@@ -12,8 +12,8 @@
 #include <string.h>
 #include <sys/stat.h>
 
-#include "harness/fileio.h"
-#include "harness/poses_io.h"
+#include "harness/base/fileio.h"
+#include "harness/io/poses_io.h"
 
 #define REC_MANIFEST_MAX ((size_t)512 << 20)
 #define REC_TIME_TOL_S 1e-3

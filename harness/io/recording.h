@@ -63,10 +63,10 @@
 #include <stddef.h>
 #include <stdint.h>
 
-#include "harness/cloud.h"
-#include "harness/err.h"
-#include "harness/pose.h"
-#include "harness/scan_io.h"
+#include "harness/base/cloud.h"
+#include "harness/base/err.h"
+#include "harness/base/pose.h"
+#include "harness/io/scan_io.h"
 
 #define RECORDING_FORMAT "revisit-recording-1"
 #define RECORDING_MAX_SCANS ((size_t)10000000)

@@ -1,5 +1,5 @@
 /* recording_write.c: write recording.json and whole recordings (scans, poses). */
-#include "harness/recording.h"
+#include "harness/io/recording.h"
 
 #include <cjson/cJSON.h>
 #include <errno.h>
@@ -10,8 +10,8 @@
 #include <sys/stat.h>
 #include <unistd.h>
 
-#include "harness/fileio.h"
-#include "harness/poses_io.h"
+#include "harness/base/fileio.h"
+#include "harness/io/poses_io.h"
 
 static cJSON *rec_w_numbers(const double *v, int n)
 {

@@ -1,5 +1,5 @@
 /* scan_io.c: raw and text scans, layout names, dispatch to PCD / PLY. */
-#include "harness/scan_io.h"
+#include "harness/io/scan_io.h"
 
 #include <ctype.h>
 #include <errno.h>
@@ -11,9 +11,9 @@
 #include <sys/stat.h>
 #include <unistd.h>
 
-#include "harness/fileio.h"
-#include "harness/pcd.h"
-#include "harness/ply.h"
+#include "harness/base/fileio.h"
+#include "harness/io/pcd.h"
+#include "harness/io/ply.h"
 
 #define SCAN_RAW_RECORD 16
 #define SCAN_TEXT_LINE_MAX 4096

@@ -3,8 +3,8 @@
  * Layouts read (see README "Recordings and formats"):
  *   SCAN_RAW   little-endian float32 records x y z intensity, 16 bytes per
  *              point, no header (".bin")
- *   SCAN_PCD   PCD v0.7 ascii or binary (".pcd"; see harness/pcd.h)
- *   SCAN_PLY   PLY ascii or binary_little_endian (".ply"; see harness/ply.h)
+ *   SCAN_PCD   PCD v0.7 ascii or binary (".pcd"; see harness/io/pcd.h)
+ *   SCAN_PLY   PLY ascii or binary_little_endian (".ply"; see harness/io/ply.h)
  *   SCAN_TEXT  one point per line "x y z [i]", separated by spaces, tabs or
  *              commas; '#' starts a comment (".txt", ".xyz", ".csv")
  * SCAN_AUTO picks the layout from the file extension.
@@ -28,8 +28,8 @@
 
 #include <stdio.h>
 
-#include "harness/cloud.h"
-#include "harness/err.h"
+#include "harness/base/cloud.h"
+#include "harness/base/err.h"
 
 enum scan_layout {
     SCAN_AUTO = 0,
@@ -59,7 +59,7 @@ int scan_read(const char *path, enum scan_layout layout, struct cloud *c, struct
 int scan_read_finite(const char *path, enum scan_layout layout, struct cloud *c, size_t *n_dropped,
                      struct err *e);
 
-/* Writers, each atomic (harness/fileio.h).  The raw layout keeps x y z i
+/* Writers, each atomic (harness/base/fileio.h).  The raw layout keeps x y z i
  * only; scan_write picks the writer for layout (SCAN_PCD and SCAN_PLY write
  * binary; SCAN_TEXT writes "x y z i" lines with 9 significant digits). */
 int scan_write_raw(const char *path, const struct cloud *c, struct err *e);

@@ -1,5 +1,5 @@
 /* plan.c: scenario file loader (every key checked) and grid expansion. */
-#include "harness/plan.h"
+#include "harness/plan/plan.h"
 
 #include <cjson/cJSON.h>
 #include <math.h>
@@ -8,7 +8,7 @@
 #include <stdlib.h>
 #include <string.h>
 
-#include "harness/fileio.h"
+#include "harness/base/fileio.h"
 
 #define PLAN_FILE_MAX ((size_t)4 << 20)
 #define JP 256   /* room for one JSON path */

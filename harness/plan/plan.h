@@ -26,7 +26,7 @@
 
 #include <stddef.h>
 #include <stdint.h>
-#include "harness/err.h"
+#include "harness/base/err.h"
 #include "metrics/protocol.h"
 
 #define PLAN_FORMAT "revisit-sweep-1"

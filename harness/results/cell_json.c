@@ -1,5 +1,5 @@
 /* cell_json.c: the axis object of a plan cell. */
-#include "harness/cell_json.h"
+#include "harness/results/cell_json.h"
 
 void cell_json_axis(cJSON *o, const struct plan *p, size_t k)
 {

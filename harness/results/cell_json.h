@@ -16,7 +16,7 @@
 #include <stddef.h>
 #include <cjson/cJSON.h>
 
-#include "harness/plan.h"
+#include "harness/plan/plan.h"
 
 /* Add "axis" to o when cell k of p has an axis value; nothing otherwise. */
 void cell_json_axis(cJSON *o, const struct plan *p, size_t k);

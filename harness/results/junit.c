@@ -1,7 +1,7 @@
 /* junit.c: JUnit XML for CI systems. */
-#include "harness/junit.h"
+#include "harness/results/junit.h"
 
-#include "harness/fileio.h"
+#include "harness/base/fileio.h"
 
 void junit_escape(FILE *f, const char *s)
 {

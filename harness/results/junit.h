@@ -11,7 +11,7 @@
 
 #include <stddef.h>
 #include <stdio.h>
-#include "harness/err.h"
+#include "harness/base/err.h"
 
 struct junit_case {
     const char *name;

@@ -1,5 +1,5 @@
 /* queries_csv.c: read, check and write the per-query results CSV. */
-#include "harness/queries_csv.h"
+#include "harness/results/queries_csv.h"
 
 #include <ctype.h>
 #include <limits.h>
@@ -10,7 +10,7 @@
 #include <stdlib.h>
 #include <string.h>
 
-#include "harness/fileio.h"
+#include "harness/base/fileio.h"
 
 #define QCSV_MAX_BYTES ((size_t)1 << 34)
 

@@ -27,7 +27,7 @@
 #define RV_QUERIES_CSV_H
 
 #include <stddef.h>
-#include "harness/err.h"
+#include "harness/base/err.h"
 #include "metrics/gt.h"
 #include "metrics/pr.h"
 

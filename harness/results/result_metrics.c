@@ -1,5 +1,5 @@
 /* result_metrics.c: scalars, intervals and the curve as result.json objects. */
-#include "harness/result_metrics.h"
+#include "harness/results/result_metrics.h"
 
 #include <math.h>
 

@@ -29,7 +29,7 @@
 #include <stddef.h>
 #include <cJSON.h>
 
-#include "harness/err.h"
+#include "harness/base/err.h"
 #include "metrics/boot.h"
 #include "metrics/pr.h"
 #include "metrics/protocol.h"

@@ -1,5 +1,5 @@
 /* summary.c: read every cell of a sweep folder and write the summary tables. */
-#include "harness/summary.h"
+#include "harness/results/summary.h"
 
 #include <cjson/cJSON.h>
 #include <math.h>
@@ -7,10 +7,10 @@
 #include <stdlib.h>
 #include <string.h>
 
-#include "harness/cell_json.h"
-#include "harness/fileio.h"
-#include "harness/json_file.h"
-#include "harness/sweep.h"
+#include "harness/results/cell_json.h"
+#include "harness/base/fileio.h"
+#include "harness/base/json_file.h"
+#include "harness/results/cells.h"
 #include "metrics/boot.h"
 
 #define SM_RESULT_MAX ((size_t)64 << 20)
@@ -24,7 +24,7 @@ static int sm_load_cell(struct summary *s, size_t k, struct err *e)
 {
     const char *id = s->p->cells[k].id;
     struct summary_cell *c = &s->cells[k];
-    if (!sweep_cell_done(s->dir, id)) return 0;
+    if (!results_cell_done(s->dir, id)) return 0;
     char path[4200], *text;
     size_t len;
     snprintf(path, sizeof path, "%s/cells/%s/result.json", s->dir, id);

@@ -32,8 +32,8 @@
 #define RV_SUMMARY_H
 
 #include <stddef.h>
-#include "harness/err.h"
-#include "harness/plan.h"
+#include "harness/base/err.h"
+#include "harness/plan/plan.h"
 
 struct cJSON;
 

@@ -1,6 +1,6 @@
 /* summary_verdict.c: judge acceptance criteria on a sweep folder; paired
  * differences are bootstrapped on the queries both cells share. */
-#include "harness/summary.h"
+#include "harness/results/summary.h"
 
 #include <cjson/cJSON.h>
 #include <math.h>
@@ -8,9 +8,9 @@
 #include <stdlib.h>
 #include <string.h>
 
-#include "harness/fileio.h"
-#include "harness/json_file.h"
-#include "harness/queries_csv.h"
+#include "harness/base/fileio.h"
+#include "harness/base/json_file.h"
+#include "harness/results/queries_csv.h"
 #include "metrics/boot.h"
 #include "metrics/gt.h"
 #include "metrics/pr.h"

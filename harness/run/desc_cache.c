@@ -1,5 +1,5 @@
 /* desc_cache.c: the descriptor cache file (layout in desc_cache.h). */
-#include "harness/desc_cache.h"
+#include "harness/run/desc_cache.h"
 
 #include <errno.h>
 #include <stdio.h>
@@ -7,7 +7,7 @@
 #include <string.h>
 #include <sys/stat.h>
 
-#include "harness/fileio.h"
+#include "harness/base/fileio.h"
 
 #define DC_HEAD 56
 #define DC_FNV_BASIS 0xcbf29ce484222325ull

@@ -28,7 +28,7 @@
 
 #include <stddef.h>
 #include <stdint.h>
-#include "harness/err.h"
+#include "harness/base/err.h"
 
 struct desc_cache_key {
     const char *method;    /* label with every setting spelled out */

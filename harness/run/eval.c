@@ -1,6 +1,6 @@
 /* eval.c: one evaluation cell: recording -> chain -> descriptors ->
  * retrieval -> ground truth -> metrics -> results folder. */
-#include "harness/eval.h"
+#include "harness/run/eval.h"
 
 #include <cjson/cJSON.h>
 #include <limits.h>
@@ -9,17 +9,17 @@
 #include <stdlib.h>
 #include <string.h>
 
-#include "harness/desc_cache.h"
-#include "harness/fileio.h"
-#include "harness/isolate.h"
-#include "harness/json_file.h"
-#include "harness/queries_csv.h"
-#include "harness/plugin_host.h"
-#include "harness/pool.h"
-#include "harness/progress.h"
-#include "harness/recording.h"
-#include "harness/result_metrics.h"
-#include "harness/retrieval.h"
+#include "harness/run/desc_cache.h"
+#include "harness/base/fileio.h"
+#include "harness/run/isolate.h"
+#include "harness/base/json_file.h"
+#include "harness/results/queries_csv.h"
+#include "harness/run/plugin_host.h"
+#include "harness/base/pool.h"
+#include "harness/base/progress.h"
+#include "harness/io/recording.h"
+#include "harness/results/result_metrics.h"
+#include "harness/run/retrieval.h"
 #include "metrics/boot.h"
 #include "metrics/gt.h"
 #include "metrics/pr.h"

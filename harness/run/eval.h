@@ -13,7 +13,7 @@
 #define RV_EVAL_H
 
 #include <stdint.h>
-#include "harness/err.h"
+#include "harness/base/err.h"
 #include "metrics/protocol.h"
 
 struct eval_spec {

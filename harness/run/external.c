@@ -1,5 +1,5 @@
 /* external.c: run a descriptor method as a child program over a socket pair. */
-#include "harness/external.h"
+#include "harness/run/external.h"
 
 #include <errno.h>
 #include <fcntl.h>
@@ -14,7 +14,7 @@
 #include <time.h>
 #include <unistd.h>
 
-#include "harness/progress.h"
+#include "harness/base/progress.h"
 
 /* Why a wait ended early. */
 enum { EXT_OK = 0, EXT_EOF = 1, EXT_TIMEOUT = 2, EXT_IO = 3 };

@@ -30,7 +30,7 @@
 
 #include <stdint.h>
 #include <sys/types.h>
-#include "harness/err.h"
+#include "harness/base/err.h"
 #include "harness/revisit_plugin.h"
 
 #define EXTERNAL_MAX_DIM (1u << 22)

@@ -1,5 +1,5 @@
 /* isolate.c: fork, limit, heartbeat, reap. */
-#include "harness/isolate.h"
+#include "harness/run/isolate.h"
 
 #include <errno.h>
 #include <poll.h>

@@ -24,7 +24,7 @@
 #define RV_ISOLATE_H
 
 #include <stddef.h>
-#include "harness/err.h"
+#include "harness/base/err.h"
 
 struct isolate_opts {
     const char *who;          /* "method 'NAME'" for messages */

@@ -1,5 +1,5 @@
 /* plugin_host.c: find, load, configure and check descriptor methods. */
-#include "harness/plugin_host.h"
+#include "harness/run/plugin_host.h"
 
 #include <dirent.h>
 #include <dlfcn.h>
@@ -11,9 +11,9 @@
 #include <sys/stat.h>
 #include <unistd.h>
 
-#include "harness/external.h"
-#include "harness/opt.h"
-#include "harness/progress.h"
+#include "harness/run/external.h"
+#include "harness/base/opt.h"
+#include "harness/base/progress.h"
 
 #define PLUGIN_GUARD 8   /* guard words after each output buffer */
 

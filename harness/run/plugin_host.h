@@ -6,7 +6,7 @@
  * environment variable REVISIT_PLUGIN_PATH, then the install folder
  * RV_PLUGIN_DIR.  A PATH (anything with a '/') ending in ".so" is loaded
  * as a plugin; any other PATH is started as an external program speaking
- * the protocol of harness/external.h (its settings become its arguments).
+ * the protocol of harness/run/external.h (its settings become its arguments).
  *
  *     struct plugin p;
  *     if (plugin_open(&p, "scan-context:rings=20", NULL, e)) return -1;
@@ -25,7 +25,7 @@
 
 #include <stddef.h>
 #include <stdint.h>
-#include "harness/err.h"
+#include "harness/base/err.h"
 #include "harness/revisit_plugin.h"
 
 #define PLUGIN_MAX_SETTINGS 32

@@ -1,12 +1,12 @@
 /* retrieval.c: blocked sgemm scoring with streaming per-query top-K. */
-#include "harness/retrieval.h"
+#include "harness/run/retrieval.h"
 
 #include <cblas.h>
 #include <math.h>
 #include <stdlib.h>
 #include <string.h>
 
-#include "harness/pool.h"
+#include "harness/base/pool.h"
 
 #define RETR_BQ 1024   /* queries per block */
 #define RETR_BM 4096   /* map rows per block */

@@ -32,7 +32,7 @@
 
 #include <stddef.h>
 #include <stdint.h>
-#include "harness/err.h"
+#include "harness/base/err.h"
 #include "harness/revisit_plugin.h"
 
 struct retrieval_mat {

@@ -1,5 +1,5 @@
 /* sweep.c: run a plan's cells on the pool into atomic cell folders. */
-#include "harness/sweep.h"
+#include "harness/run/sweep.h"
 
 #include <cjson/cJSON.h>
 #include <dirent.h>
@@ -11,11 +11,12 @@
 #include <sys/stat.h>
 #include <unistd.h>
 
-#include "harness/cell_json.h"
-#include "harness/fileio.h"
-#include "harness/json_file.h"
-#include "harness/pool.h"
-#include "harness/progress.h"
+#include "harness/results/cell_json.h"
+#include "harness/results/cells.h"
+#include "harness/base/fileio.h"
+#include "harness/base/json_file.h"
+#include "harness/base/pool.h"
+#include "harness/base/progress.h"
 
 #define SW_PATH 4096
 #define SW_SCENARIO_MAX ((size_t)4 << 20)
@@ -25,14 +26,6 @@ void sweep_opts_defaults(struct sweep_opts *o)
     memset(o, 0, sizeof *o);
     o->shard_n = 1;
     o->cell_jobs = 1;
-}
-
-int sweep_cell_done(const char *out_dir, const char *id)
-{
-    char path[SW_PATH];
-    struct stat st;
-    snprintf(path, sizeof path, "%s/cells/%s/result.json", out_dir, id);
-    return !stat(path, &st) && S_ISREG(st.st_mode);
 }
 
 /* Remove a folder and what it holds (no symbolic links are followed). 0 or -1. */
@@ -209,7 +202,7 @@ static int sw_cell(void *arg, size_t task, int worker, struct err *e)
     if (rc && sw_write_failed(c->p, k, part, ce.msg[0] ? ce.msg : "method failed", e)) return -1;
     if (rename(part, done)) {
         int saved = errno;
-        if (sweep_cell_done(c->o->out_dir, id)) return sw_remove_tree(part, e);  /* another shard won */
+        if (results_cell_done(c->o->out_dir, id)) return sw_remove_tree(part, e);  /* another shard won */
         return err_at(e, done, 0, "cannot move the finished cell into place: %s", strerror(saved));
     }
     c->state[task] = rc ? SW_FAILED : SW_OK;
@@ -269,7 +262,7 @@ static long sw_order(const struct plan *p, const struct sweep_opts *o, size_t *t
     for (size_t k = 0; k < p->n_cells; k++) {
         if (!plan_in_shard(k, o->shard_i, o->shard_n)) continue;
         st->in_shard++;
-        if (sweep_cell_done(o->out_dir, p->cells[k].id) &&
+        if (results_cell_done(o->out_dir, p->cells[k].id) &&
             !(o->retry_failed && sw_cell_failed(o->out_dir, p->cells[k].id))) {
             st->skipped++;
             lead[k] = 2;
@@ -358,7 +351,7 @@ void sweep_print_plan(FILE *f, const struct plan *p, const struct sweep_opts *o,
     for (size_t k = 0; k < p->n_cells; k++) {
         if (!plan_in_shard(k, o->shard_i, o->shard_n)) continue;
         const struct plan_cell *c = &p->cells[k];
-        int is_done = o->out_dir && sweep_cell_done(o->out_dir, c->id);
+        int is_done = o->out_dir && results_cell_done(o->out_dir, c->id);
         mine++;
         done += is_done;
         fprintf(f, "%-52s %-8s %s (%s)\n", c->id, is_done ? "done" : "to run", c->chain ? c->chain : "-",

@@ -27,9 +27,9 @@
 #include <signal.h>
 #include <stdio.h>
 #include <stddef.h>
-#include "harness/err.h"
-#include "harness/eval.h"
-#include "harness/plan.h"
+#include "harness/base/err.h"
+#include "harness/run/eval.h"
+#include "harness/plan/plan.h"
 
 /* Same contract as eval_run; tests hand in a stand-in. */
 typedef int (*sweep_run_fn)(const struct eval_spec *s, struct eval_summary *out, struct err *e);
@@ -66,9 +66,6 @@ int sweep_prepare(const struct plan *p, const char *out_dir, struct err *e);
  * sweep could not go on (folder not writable, out of memory); failed cells
  * are counted in st->failed.  Writes nothing outside o->out_dir. */
 int sweep_run(const struct plan *p, const struct sweep_opts *o, struct sweep_stats *st, struct err *e);
-
-/* 1 when DIR/cells/ID/result.json exists. */
-int sweep_cell_done(const char *out_dir, const char *id);
 
 /* Print the plan with the estimated work (cells, scan descriptions) to f.
  * n_map, n_query: scans in the recordings (0 when unknown). */
