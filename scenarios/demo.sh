@@ -44,7 +44,7 @@ crc=$?
 
 # 4. The report, when the report command is there.
 if "$bin" --commands | grep -qx report; then
-  "$bin" report "$out/sweep" --out "$out/report" || echo "demo: the report failed" >&2
+  "$bin" report "$out/sweep" --out "$out/report" --replace || echo "demo: the report failed" >&2
   echo "demo: report in $out/report/report.html (and report.md)"
 fi
 echo "demo: sweep in $out/sweep, verdicts in $out/sweep/verdicts.json and verdicts.xml"

@@ -1,6 +1,7 @@
 /* fileio.c: atomic writes and bounded whole-file reads. */
 #include "harness/base/fileio.h"
 
+#include <dirent.h>
 #include <errno.h>
 #include <fcntl.h>
 #include <stdlib.h>
@@ -117,6 +118,31 @@ int fileio_mkdirs(const char *path, struct err *e)
     struct stat st;
     if (stat(path, &st) || !S_ISDIR(st.st_mode)) return err_at(e, path, 0, "not a folder");
     return 0;
+}
+
+int fileio_out_unused(const char *path, int replace, struct err *e)
+{
+    struct stat st;
+    if (stat(path, &st)) {
+        if (errno == ENOENT) return 0;
+        return err_at(e, path, 0, "cannot read --out: %s", strerror(errno));
+    }
+    if (!S_ISDIR(st.st_mode))
+        return err_set(e, "--out %s exists and is not a folder, expected a new or empty folder", path);
+    if (replace) return 0;
+    DIR *d = opendir(path);
+    if (!d) return err_at(e, path, 0, "cannot open --out folder: %s", strerror(errno));
+    size_t n = 0;
+    char first[256] = "";
+    struct dirent *de;
+    while ((de = readdir(d))) {
+        if (!strcmp(de->d_name, ".") || !strcmp(de->d_name, "..")) continue;
+        if (!n++) snprintf(first, sizeof first, "%s", de->d_name);
+    }
+    closedir(d);
+    if (!n) return 0;
+    return err_set(e, "--out %s already holds %zu entr%s (first '%s'), expected a new or empty folder; "
+                   "give --replace to write over it", path, n, n == 1 ? "y" : "ies", first);
 }
 
 void fileio_join(char *out, size_t n, const char *dir, const char *name)

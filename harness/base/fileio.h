@@ -44,6 +44,13 @@ int fileio_read(const char *path, size_t max_bytes, char **buf, size_t *len, str
 /* mkdir -p. 0 or -1. */
 int fileio_mkdirs(const char *path, struct err *e);
 
+/* Refuse to write into an output folder that already holds something:
+ * 0 when path does not exist, is an empty folder, or replace is set; -1 with
+ * "--out DIR already holds N entries (first 'NAME'), expected a new or empty
+ * folder; give --replace to write over it" (or "... is not a folder") else.
+ * Reads the folder only; changes nothing. */
+int fileio_out_unused(const char *path, int replace, struct err *e);
+
 /* Join dir and name into out (size n); name absolute stays as is. */
 void fileio_join(char *out, size_t n, const char *dir, const char *name);
 

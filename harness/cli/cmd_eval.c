@@ -6,6 +6,7 @@
 
 #include "harness/cli/cmd.h"
 #include "harness/run/eval.h"
+#include "harness/base/fileio.h"
 #include "harness/base/opt.h"
 #include "harness/cli/opt_protocol.h"
 
@@ -23,14 +24,15 @@ static const char usage[] =
     "repeated run (another protocol or threshold) does not describe again.\n"
     "--isolate describes in a child process with a per-scan time-out\n"
     "(--time-limit) and a memory limit (--mem-limit): a method that crashes,\n"
-    "hangs or allocates without bound fails with a message naming it and the scan.\n\n";
+    "hangs or allocates without bound fails with a message naming it and the scan.\n"
+    "An --out folder that already holds files is refused unless --replace is given.\n\n";
 
 struct eval_opts {
     const char *map, *query, *method, *out, *chain, *on, *plugin_path, *cache, *condition;
     unsigned long long seed, boot_seed;
     long boot, jobs, top_c, mem_mb;
     double time_s;
-    int quiet, isolate;
+    int quiet, isolate, replace;
     struct opt_protocol op;
 };
 
@@ -107,7 +109,8 @@ int cmd_eval(int argc, char **argv)
         {"--bootstrap-seed", OPT_U64, &o.boot_seed, "S", "bootstrap seed (default 1)"},
         {"--cache", OPT_STR, &o.cache, "DIR", "descriptor cache folder, shared between runs"},
         {"--condition", OPT_STR, &o.condition, "NAME", "condition name recorded in result.json"},
-        {"--out", OPT_STR, &o.out, "DIR", "results folder (created)"},
+        {"--out", OPT_STR, &o.out, "DIR", "results folder (created; an existing one must be empty)"},
+        {"--replace", OPT_FLAG, &o.replace, NULL, "write into an --out folder that already holds files"},
         {"--jobs", OPT_INT, &o.jobs, "N", "threads (default: all cores)"},
         {"--isolate", OPT_FLAG, &o.isolate, NULL, "describe in a child process (crash, hang and memory safe)"},
         {"--time-limit", OPT_DOUBLE, &o.time_s, "S", "most seconds per scan for the method (default 60)"},
@@ -125,6 +128,7 @@ int cmd_eval(int argc, char **argv)
     if (args.n) return err_set(&e, "revisit eval: unexpected argument '%s'", args.v[0]), cmd_report(&e);
     struct eval_spec s;
     if (eval_finish_spec(&o, &s, &e)) return cmd_report(&e);
+    if (fileio_out_unused(o.out, o.replace, &e)) return err_wrap(&e, "revisit eval"), cmd_report(&e);
     char command[4096];
     size_t used = 0;
     for (int k = 0; k < argc && used < sizeof command; k++)

@@ -7,6 +7,7 @@
 #include <string.h>
 
 #include "harness/cli/cmd.h"
+#include "harness/base/fileio.h"
 #include "harness/base/opt.h"
 #include "harness/base/pool.h"
 #include "harness/base/progress.h"
@@ -30,13 +31,14 @@ static const char usage[] =
     "copy stands for (default query).  --layout picks the scan files written\n"
     "(default: the input's layout; text input is written as pcd).  --stats prints\n"
     "the points into and out of each stage, summed over the scans.  --list prints\n"
-    "every stage with its parameters, defaults, ranges and meaning.\n\n";
+    "every stage with its parameters, defaults, ranges and meaning.  An --out folder\n"
+    "that already holds files is refused unless --replace is given.\n\n";
 
 struct perturb_opts {
     const char *in, *out, *chain, *on, *layout;
     unsigned long long seed;
     long jobs;
-    int stats, quiet, list, allow_outside;
+    int stats, quiet, list, allow_outside, replace;
 };
 
 /* ---- --list ------------------------------------------------------------- */
@@ -193,6 +195,7 @@ static int perturb_write(const struct perturb_opts *o, const struct chain *ch,
     enum chain_on on;
     if (chain_on_parse(o->on, &on, e)) return err_wrap(e, "revisit perturb: --on");
     if (perturb_layout(o, rec, &layout, e) || perturb_check_out(o->out, rec, e)) return -1;
+    if (fileio_out_unused(o->out, o->replace, e)) return err_wrap(e, "revisit perturb");
     char text[4096];
     if (chain_format(ch, text, sizeof text) >= sizeof text)
         return err_set(e, "revisit perturb: the chain is longer than %zu characters", sizeof text);
@@ -212,10 +215,11 @@ out:
 
 int cmd_perturb(int argc, char **argv)
 {
-    struct perturb_opts o = {NULL, NULL, NULL, "query", NULL, 1, 0, 0, 0, 0, 0};
+    struct perturb_opts o = {NULL, NULL, NULL, "query", NULL, 1, 0, 0, 0, 0, 0, 0};
     const struct opt table[] = {
         {"--in", OPT_STR, &o.in, "REC", "recording to read (folder or recording.json)"},
-        {"--out", OPT_STR, &o.out, "DIR", "folder of the perturbed recording"},
+        {"--out", OPT_STR, &o.out, "DIR", "folder of the perturbed recording (new or empty)"},
+        {"--replace", OPT_FLAG, &o.replace, NULL, "write into an --out folder that already holds files"},
         {"--chain", OPT_STR, &o.chain, "CHAIN", "stages joined by '+' (see --list)"},
         {"--seed", OPT_U64, &o.seed, "S", "run seed of every draw (default 1)"},
         {"--jobs", OPT_INT, &o.jobs, "N", "threads (default: online cores)"},

@@ -4,6 +4,7 @@
 #include <string.h>
 
 #include "harness/cli/cmd.h"
+#include "harness/base/fileio.h"
 #include "harness/base/opt.h"
 #include "reports/report.h"
 
@@ -18,7 +19,8 @@ static const char usage[] =
     "the acceptance verdicts from DIR/verdicts.json, the safety caution and a\n"
     "reproducibility block.  Plots are drawn by gnuplot from the data files and\n"
     "scripts written to OUT/plots/; without gnuplot the report lists the plots it\n"
-    "skipped.  OUT defaults to DIR/report.\n\n";
+    "skipped.  OUT defaults to DIR/report; an OUT that already holds files is\n"
+    "refused unless --replace is given.\n\n";
 
 /* The command line, shell-quoted, for the reproducibility block. */
 static void join_command(int argc, char **argv, char *out, size_t n)
@@ -42,10 +44,11 @@ static void join_command(int argc, char **argv, char *out, size_t n)
 int cmd_report_main(int argc, char **argv)
 {
     const char *out = NULL, *format = NULL, *title = NULL;
-    int quiet = 0;
+    int quiet = 0, replace = 0;
     const struct opt opts[] = {
         {"--out", OPT_STR, &out, "DIR", "where report.md, report.html and plots/ go (default DIR/report)"},
         {"--format", OPT_STR, &format, "LIST", "md, html or md,html (default md,html)"},
+        {"--replace", OPT_FLAG, &replace, NULL, "write into an output folder that already holds files"},
         {"--title", OPT_STR, &title, "TEXT", "report title (default from the scenario or method)"},
         {"--quiet", OPT_FLAG, &quiet, NULL, "no progress bar"},
         {0}};
@@ -72,6 +75,10 @@ int cmd_report_main(int argc, char **argv)
     o.title = title;
     o.quiet = quiet;
     o.command = command;
+    char dest[4096];
+    if (out) snprintf(dest, sizeof dest, "%s", out);
+    else fileio_join(dest, sizeof dest, args.v[0], "report");
+    if (fileio_out_unused(dest, replace, &e)) return err_wrap(&e, "revisit report"), cmd_report(&e);
     struct report_result r;
     if (report_run(&o, &r, &e)) return cmd_report(&e);
     if (!quiet)
