@@ -8,6 +8,7 @@
 
 #include "harness/base/fileio.h"
 #include "harness/base/progress.h"
+#include "reports/rdoc.h"
 
 void report_opts_defaults(struct report_opts *o)
 {
@@ -190,16 +191,30 @@ static int draw_all(struct report_doc *d, struct plot_set *ps, int quiet, struct
     return rc;
 }
 
+/* Render the document with one of the rdoc writers into out/name, atomically. */
+static int render(const struct rdoc *doc, int (*write)(const struct rdoc *, FILE *, struct err *), const char *out,
+                  const char *name, struct err *e)
+{
+    char path[4200];
+    fileio_join(path, sizeof path, out, name);
+    struct afile a;
+    if (afile_open(&a, path, e)) return -1;
+    if (write(doc, a.f, e)) { afile_abort(&a); return -1; }
+    if (ferror(a.f)) { afile_abort(&a); return err_at(e, path, 0, "write failed"); }
+    return afile_commit(&a, e);
+}
+
 static int write_docs(struct report_doc *d, const char *out, struct err *e)
 {
     char path[4200];
     fileio_join(path, sizeof path, out, "scalars.csv");
     if (write_scalars(d, path, e)) return -1;
-    fileio_join(path, sizeof path, out, "report.md");
-    if (d->opts->md && report_md_write(d, path, e)) return -1;
-    fileio_join(path, sizeof path, out, "report.html");
-    if (d->opts->html && report_html_write(d, path, e)) return -1;
-    return 0;
+    struct rdoc *doc = report_build(d);
+    if (!doc) return err_set(e, "out of memory for the report");
+    int rc = d->opts->md ? render(doc, rdoc_md_write, out, "report.md", e) : 0;
+    if (!rc && d->opts->html) rc = render(doc, rdoc_html_write, out, "report.html", e);
+    rdoc_free(doc);
+    return rc;
 }
 
 int report_run(const struct report_opts *o, struct report_result *r, struct err *e)

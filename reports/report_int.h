@@ -1,4 +1,4 @@
-/* report_int.h: what report.c gathers and the two writers read. */
+/* report_int.h: what report.c gathers and the document builder reads. */
 #ifndef RV_REPORT_INT_H
 #define RV_REPORT_INT_H
 
@@ -58,7 +58,10 @@ long report_ok_cell(const struct rdata_set *s, const struct rstat_table *t, size
 struct progress;
 int report_cell_plots(struct report_doc *d, struct plot_set *ps, struct progress *pg, struct err *e);
 
-int report_md_write(const struct report_doc *d, const char *path, struct err *e);
-int report_html_write(const struct report_doc *d, const char *path, struct err *e);
+/* The whole report as one document tree (report_build.c), which report.c
+ * renders to Markdown and HTML; the caller frees it with rdoc_free.  NULL
+ * when out of memory (a tree that ran out later says so in rdoc_oom). */
+struct rdoc;
+struct rdoc *report_build(const struct report_doc *d);
 
 #endif

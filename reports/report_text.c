@@ -1,4 +1,4 @@
-/* report_text.c: the text both writers share: findings, cell values, caution. */
+/* report_text.c: text the report document uses: findings, cell values, caution. */
 #include "reports/report_int.h"
 
 #include <math.h>

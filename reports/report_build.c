@@ -1,0 +1,297 @@
+/* report_build.c: the report's content as one document tree (rdoc.h), which
+ * report.c renders to Markdown and HTML.  One function per section; a new
+ * section is one more entry in `sections`. */
+#include "reports/report_int.h"
+
+#include <math.h>
+#include <stddef.h>
+#include <string.h>
+
+#include "reports/rdoc.h"
+
+static const char *const kind_heading[PLOT_NKIND] = {
+    "Degradation curves", "PR curves", "Top views of the trajectory", "Distance matrices",
+    "Top-1 distance distributions",
+};
+
+static void sec_title(struct rdoc *r, const struct report_doc *d)
+{
+    rdoc_heading(r, 1, d->title);
+    rdoc_para(r, RDOC_CAUTION);
+    rdoc_strong(r, "Caution.");
+    rdoc_textf(r, " %s", report_caution);
+}
+
+static void overview_data(struct rdoc *r, const struct report_doc *d)
+{
+    const struct rdata_cell *c0 = &d->set->cells[0];
+    rdoc_item(r);
+    rdoc_text(r, "Map recording: ");
+    rdoc_text(r, c0->rec_map[0] ? c0->rec_map : "(not recorded)");
+    if (c0->rec_query[0]) { rdoc_text(r, "; query recording: "); rdoc_text(r, c0->rec_query); }
+    rdoc_textf(r, "; protocol %s, revisit within %.3g m, wrong beyond %.3g m, %s counting.",
+               c0->proto.mode == PROTOCOL_RELOC ? "reloc" : "loop", c0->proto.r_pos_m, c0->proto.r_neg_m,
+               c0->proto.counting == PROTOCOL_LENIENT ? "lenient" : "strict");
+    const struct report_overview *v = &d->ov;
+    if (!v->have) return;
+    rdoc_item(r);
+    rdoc_textf(r, "Scans: %zu map", v->map_scans);
+    if (v->query_scans) rdoc_textf(r, ", %zu query", v->query_scans);
+    rdoc_textf(r, "; map path %.1f m over %.1f s", v->map_len_m, v->map_dur_s);
+    if (v->query_scans) rdoc_textf(r, "; query path %.1f m over %.1f s", v->query_len_m, v->query_dur_s);
+    rdoc_text(r, ".");
+    rdoc_item(r);
+    rdoc_textf(r, "Revisits among %zu queries: %zu (same direction %zu, reverse %zu, crossing %zu)", v->queries,
+               v->revisits, v->kinds[RSTAT_SAME], v->kinds[RSTAT_REVERSE], v->kinds[RSTAT_CROSSING]);
+    if (v->cell_id[0]) { rdoc_text(r, ", from cell "); rdoc_text(r, v->cell_id); }
+    rdoc_text(r, ".");
+}
+
+static void sec_overview(struct rdoc *r, const struct report_doc *d)
+{
+    const struct rdata_set *s = d->set;
+    const struct rstat_table *t = d->table;
+    rdoc_heading(r, 2, "At a glance");
+    rdoc_list(r);
+    rdoc_item(r);
+    if (s->is_sweep) {
+        rdoc_textf(r, "Sweep of %zu cells", s->n);
+        if (s->scenario_name[0]) { rdoc_text(r, ", scenario "); rdoc_text(r, s->scenario_name); }
+        rdoc_text(r, ".");
+    } else {
+        rdoc_text(r, "One evaluation.");
+    }
+    overview_data(r, d);
+    rdoc_item(r);
+    rdoc_text(r, "Methods: ");
+    for (size_t m = 0; m < t->n_methods; m++) {
+        if (m) rdoc_text(r, "; ");
+        rdoc_text(r, t->methods[m]);
+        if (strcmp(t->methods[m], t->labels[m])) { rdoc_text(r, " = "); rdoc_code(r, t->labels[m]); }
+    }
+    rdoc_text(r, ".");
+    rdoc_item(r);
+    rdoc_text(r, "Conditions: ");
+    for (size_t c = 0; c < t->n_conds; c++) {
+        const struct rdata_cell *cc = &s->cells[t->cond_cell[c]];
+        if (c) rdoc_text(r, "; ");
+        rdoc_text(r, report_cond_name(t, c));
+        if (cc->chain[0]) { rdoc_text(r, " = "); rdoc_code(r, cc->chain); }
+    }
+    rdoc_text(r, ".");
+}
+
+static void verdict_row(struct rdoc *r, const struct rdata_verdict *v)
+{
+    rdoc_cell(r, 0); rdoc_text(r, v->text);
+    rdoc_cell(r, 0); rdoc_text(r, v->method);
+    rdoc_cell(r, 0); rdoc_text(r, v->cond);
+    rdoc_cell(r, 0); rdoc_num(r, "%.3f [%.3f, %.3f]", v->value, v->lo, v->hi);
+    rdoc_cell(r, 0); rdoc_text(r, v->target[0] ? v->target : "value"); rdoc_num(r, " %.3f", v->measured);
+    rdoc_cell(r, 0); rdoc_text(r, v->cmp); rdoc_num(r, " %.3f", v->threshold);
+    rdoc_cell(r, v->pass ? RDOC_PASS : RDOC_FAIL);
+    rdoc_strong(r, v->pass ? "pass" : "FAIL");
+}
+
+static void sec_verdicts(struct rdoc *r, const struct report_doc *d)
+{
+    static const char *const head[] = {"criterion", "method", "condition", "value [interval]", "judged",
+                                       "threshold", "verdict"};
+    const struct rdata_set *s = d->set;
+    rdoc_heading(r, 3, "Acceptance verdicts");
+    rdoc_para(r, 0);
+    if (!s->n_verdicts) {
+        rdoc_text(r, "No criteria results in this folder (");
+        rdoc_code(r, "verdicts.json");
+        rdoc_text(r, ", written by ");
+        rdoc_code(r, "revisit check");
+        rdoc_text(r, ").");
+        return;
+    }
+    size_t pass = 0;
+    for (size_t k = 0; k < s->n_verdicts; k++) pass += (size_t)s->verdicts[k].pass;
+    rdoc_textf(r, "%zu of %zu criteria passed.", pass, s->n_verdicts);
+    rdoc_table(r, 7, NULL);
+    for (size_t k = 0; k < 7; k++) { rdoc_cell(r, 0); rdoc_text(r, head[k]); }
+    for (size_t k = 0; k < s->n_verdicts; k++) verdict_row(r, &s->verdicts[k]);
+}
+
+static void sec_findings(struct rdoc *r, const struct report_doc *d)
+{
+    rdoc_heading(r, 3, "Findings");
+    if (!d->n_findings) {
+        rdoc_para(r, 0);
+        rdoc_text(r, "A single method on a single condition: nothing to compare.");
+        return;
+    }
+    rdoc_list(r);
+    for (size_t k = 0; k < d->n_findings; k++) { rdoc_item(r); rdoc_text(r, d->findings[k]); }
+}
+
+static void sec_tables(struct rdoc *r, const struct report_doc *d)
+{
+    const struct rstat_table *t = d->table;
+    rdoc_heading(r, 2, "Scalars");
+    rdoc_para(r, 0);
+    rdoc_text(r, "Mean over seeds with the 95% bootstrap interval in brackets (the mean of the per-seed "
+                 "bounds); ");
+    rdoc_em(r, "sd");
+    rdoc_text(r, " is the spread over seeds when there are several. All rows are in ");
+    rdoc_code(r, "scalars.csv");
+    rdoc_text(r, ".");
+    for (int mk = 0; mk < RDATA_NMETRIC; mk++) {
+        rdoc_heading(r, 3, rdata_metric_name(mk));
+        rdoc_table(r, t->n_methods + 1, NULL);
+        rdoc_cell(r, 0);
+        rdoc_text(r, "condition");
+        for (size_t m = 0; m < t->n_methods; m++) { rdoc_cell(r, 0); rdoc_text(r, t->methods[m]); }
+        for (size_t c = 0; c < t->n_conds; c++) {
+            rdoc_cell(r, 0);
+            rdoc_text(r, report_cond_name(t, c));
+            for (size_t m = 0; m < t->n_methods; m++) {
+                char cell[128];
+                report_cell_text(rstat_find(t, m, c), mk, cell, sizeof cell);
+                rdoc_cell(r, 0);
+                rdoc_num(r, "%s", cell);
+            }
+        }
+    }
+}
+
+static void sec_plots(struct rdoc *r, const struct report_doc *d)
+{
+    const struct plot_set *ps = d->plots;
+    rdoc_heading(r, 2, "Plots");
+    rdoc_para(r, 0);
+    rdoc_text(r, "Each plot's data file and gnuplot script lie beside it in ");
+    rdoc_code(r, "plots/");
+    rdoc_text(r, "; edit the script and run ");
+    rdoc_code(r, "gnuplot NAME.gp");
+    rdoc_text(r, " there to restyle it.");
+    for (int k = 0; k < PLOT_NKIND; k++) {
+        rdoc_heading(r, 3, kind_heading[k]);
+        size_t shown = 0;
+        for (size_t i = 0; i < ps->n; i++) {
+            const struct plot_item *it = &ps->items[i];
+            if ((int)it->kind != k) continue;
+            shown++;
+            char png[4300], rel[128];
+            int n1 = snprintf(png, sizeof png, "%s/%s.png", ps->dir, it->name);
+            int n2 = snprintf(rel, sizeof rel, "plots/%s", it->name);
+            if (n1 < 0 || (size_t)n1 >= sizeof png || n2 < 0 || (size_t)n2 >= sizeof rel) {
+                rdoc_para(r, 0);
+                rdoc_textf(r, "Plot %s: its path is too long to show.", it->name);
+                continue;
+            }
+            rdoc_figure(r, it->drawn ? png : NULL, rel);
+            rdoc_text(r, it->caption);
+        }
+        if (!shown) { rdoc_para(r, 0); rdoc_text(r, "None for this results folder."); }
+    }
+}
+
+static void sec_skipped(struct rdoc *r, const struct report_doc *d)
+{
+    const struct plot_set *ps = d->plots;
+    size_t skipped = 0;
+    for (size_t i = 0; i < ps->n; i++) skipped += !ps->items[i].drawn;
+    if (skipped) {
+        rdoc_heading(r, 2, "Skipped plots");
+        rdoc_para(r, 0);
+        rdoc_textf(r, "gnuplot was not found on PATH, so %zu plots were not drawn. Install it (Debian package ",
+                   skipped);
+        rdoc_code(r, "gnuplot-nox");
+        rdoc_text(r, ") and run ");
+        rdoc_code(r, "revisit report");
+        rdoc_text(r, " again, or run ");
+        rdoc_code(r, "gnuplot NAME.gp");
+        rdoc_text(r, " in ");
+        rdoc_code(r, "plots/");
+        rdoc_text(r, " for each:");
+        rdoc_list(r);
+        for (size_t i = 0; i < ps->n; i++) {
+            if (ps->items[i].drawn) continue;
+            char gp[80];
+            snprintf(gp, sizeof gp, "%s.gp", ps->items[i].name);  /* name < 64 bytes: fits */
+            rdoc_item(r);
+            rdoc_code(r, gp);
+            rdoc_textf(r, " (%s)", plot_kind_name(ps->items[i].kind));
+        }
+    }
+    if (!d->n_notes) return;
+    rdoc_heading(r, 2, "Plots not made");
+    rdoc_list(r);
+    for (size_t k = 0; k < d->n_notes; k++) { rdoc_item(r); rdoc_text(r, d->notes[k]); }
+}
+
+static void sec_failed(struct rdoc *r, const struct report_doc *d)
+{
+    size_t nf = 0;
+    for (size_t i = 0; i < d->set->n; i++) nf += !d->set->cells[i].ok;
+    if (!nf) return;
+    rdoc_heading(r, 2, "Failed cells");
+    rdoc_para(r, 0);
+    rdoc_textf(r, "%zu cells did not finish; their tables read ", nf);
+    rdoc_code(r, "failed");
+    rdoc_text(r, ".");
+    rdoc_list(r);
+    for (size_t i = 0; i < d->set->n; i++) {
+        const struct rdata_cell *c = &d->set->cells[i];
+        if (c->ok) continue;
+        rdoc_item(r);
+        rdoc_text(r, c->id);
+        rdoc_text(r, ": ");
+        rdoc_text(r, c->error[0] ? c->error : "no message");
+    }
+}
+
+/* "LABEL: a, b, c." as one list item, or "LABEL: NONE." */
+static void repro_list(struct rdoc *r, const char *label, const char *const *v, size_t n, const char *none)
+{
+    rdoc_item(r);
+    rdoc_textf(r, "%s: ", label);
+    for (size_t k = 0; k < n; k++) rdoc_textf(r, "%s%s", k ? ", " : "", v[k]);
+    rdoc_textf(r, "%s.", n ? "" : none);
+}
+
+static void sec_repro(struct rdoc *r, const struct report_doc *d)
+{
+    const struct rdata_set *s = d->set;
+    const char *v[REPORT_LIST_MAX];
+    rdoc_heading(r, 2, "Reproducibility");
+    rdoc_list(r);
+    rdoc_item(r);
+    rdoc_text(r, "Report written by revisit " RV_VERSION ".");
+    size_t n = report_distinct(s, offsetof(struct rdata_cell, software), v, REPORT_LIST_MAX);
+    repro_list(r, "Results written by", v, n, "(not recorded)");
+    n = report_distinct(s, offsetof(struct rdata_cell, scenario_hash), v, REPORT_LIST_MAX);
+    repro_list(r, "Scenario hash", v, n, "none (not a scenario run)");
+    unsigned long long seeds[REPORT_LIST_MAX];
+    size_t ns = report_seeds(s, seeds, REPORT_LIST_MAX);
+    rdoc_item(r);
+    rdoc_text(r, "Perturbation seeds: ");
+    for (size_t k = 0; k < ns; k++) rdoc_textf(r, "%s%llu", k ? ", " : "", seeds[k]);
+    rdoc_text(r, ".");
+    if (isfinite(s->boot_seed)) {
+        rdoc_item(r);
+        rdoc_textf(r, "Bootstrap: %.0f resamples, seed %.0f (scenario.json).", s->boot_resamples, s->boot_seed);
+    }
+    rdoc_item(r);
+    rdoc_text(r, "Commands (the results, then this report):");
+    rdoc_pre(r);
+    n = report_distinct(s, offsetof(struct rdata_cell, command), v, REPORT_LIST_MAX - 1);
+    v[n++] = d->opts->command ? d->opts->command : "revisit report";
+    for (size_t k = 0; k < n; k++) rdoc_line(r, v[k]);
+}
+
+typedef void (*section_fn)(struct rdoc *r, const struct report_doc *d);
+static const section_fn sections[] = {
+    sec_title, sec_overview, sec_verdicts, sec_findings, sec_tables, sec_plots, sec_skipped, sec_failed, sec_repro,
+};
+
+struct rdoc *report_build(const struct report_doc *d)
+{
+    struct rdoc *r = rdoc_new(d->title);
+    for (size_t k = 0; r && k < sizeof sections / sizeof sections[0]; k++) sections[k](r, d);
+    return r;
+}
