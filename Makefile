@@ -26,7 +26,7 @@ SAN     ?=
 ALL_CFLAGS := $(WARN) $(CFLAGS) $(SAN) -D_POSIX_C_SOURCE=200809L -D_DEFAULT_SOURCE \
               -DRV_VERSION='"$(VERSION)"' -DRV_PLUGIN_DIR='"$(PREFIX)/lib/revisit/plugins"' -I. $(PKG_CFLAGS) $(BLAS_CFLAGS) -MMD -MP
 HIDDEN  := -fvisibility=hidden
-LDLIBS  := $(PKG_LIBS) $(BLAS_LIBS) $(LAPACK_LIBS) -ldl -lpthread -lm
+LDLIBS  := $(PKG_LIBS) $(BLAS_LIBS) $(LAPACK_LIBS) -llzf -lbz2 -llz4 -lzstd -ldl -lpthread -lm
 
 # --- sources by layer ---------------------------------------------------------
 # One static library per folder, linked once in dependency order (a folder

@@ -8,7 +8,7 @@
 #          GNU Parallel (shard test), Chromium (report browser test)
 set -u
 goal=${1:-build}
-need=(libopenblas-dev liblapacke-dev libcjson-dev pkg-config)
+need=(libopenblas-dev liblapacke-dev libcjson-dev liblzf-dev libbz2-dev liblz4-dev libzstd-dev pkg-config)
 case "$goal" in
   build) ;;
   demo) need+=(gnuplot-nox) ;;

@@ -23,7 +23,7 @@ static const struct bad cases[] = {
     {"z.pcd", "FIELDS x y z\nSIZE 4 4 0\n", "z.pcd:2: SIZE entry 3 is '0', expected a whole number 1, 2, 4 or 8"},
     {"c.pcd", PCD_XYZ "COUNT 1 x 1\n", "c.pcd:4: COUNT entry 2 is 'x', expected a whole number from 1 to 8"},
     {"w.pcd", PCD_XYZ "WIDTH -3\n", "w.pcd:4: WIDTH is '-3', expected a whole number"},
-    {"d.pcd", PCD_XYZ "WIDTH 1\nDATA zipped\n", "d.pcd:5: DATA 'zipped', expected ascii or binary"},
+    {"d.pcd", PCD_XYZ "WIDTH 1\nDATA zipped\n", "d.pcd:5: DATA 'zipped', expected ascii, binary or binary_compressed"},
     {"h.pcd", PCD_XYZ "WIDTH 1\n", "h.pcd:4: header has no DATA line"},
     {"t.pcd", "FIELDS x y z\nSIZE 4 4 4\nWIDTH 1\nDATA ascii\n1 2 3\n", "t.pcd: header lacks TYPE"},
     {"p.pcd", PCD_XYZ "WIDTH 2\nHEIGHT 2\nPOINTS 3\nDATA ascii\n", "p.pcd: POINTS 3 does not equal WIDTH 2 x HEIGHT 2"},

@@ -5,7 +5,8 @@
  *   tool_scan convert IN OUT     read IN (layout by extension), write OUT:
  *                                .bin raw, .pcd PCD binary, .ply PLY binary,
  *                                .txt text; "-ascii" before the extension
- *                                (a-ascii.pcd, a-ascii.ply) writes ascii
+ *                                (a-ascii.pcd, a-ascii.ply) writes ascii;
+ *                                "-compressed.pcd" writes binary_compressed
  * Exit 2 with the message on stderr when a read or write fails.
  */
 #include <stdio.h>
@@ -46,6 +47,7 @@ int main(int argc, char **argv)
         if (!scan_read(argv[2], SCAN_AUTO, &c, &e)) {
             if (ends_with(out, "-ascii.pcd")) rc = pcd_write_ascii(out, &c, &e) ? 2 : 0;
             else if (ends_with(out, "-ascii.ply")) rc = ply_write_ascii(out, &c, &e) ? 2 : 0;
+            else if (ends_with(out, "-compressed.pcd")) rc = pcd_write_compressed(out, &c, &e) ? 2 : 0;
             else rc = scan_write(out, scan_layout_from_path(out), &c, &e) ? 2 : 0;
         }
     } else {

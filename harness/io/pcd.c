@@ -1,9 +1,14 @@
-/* pcd.c: PCD v0.7 reader (ascii, binary) and writers.
+/* pcd.c: PCD v0.7 reader (ascii, binary, binary_compressed) and writers.
  *
  * The file layout follows the PCD v0.7 file-format description: a text
  * header of keyword lines, then DATA and the body; a binary body holds the
  * points one after another, each the fields in header order, each field
- * COUNT values of SIZE bytes, little-endian.
+ * COUNT values of SIZE bytes, little-endian.  A binary_compressed body is
+ *
+ *     | uint32 packed size | uint32 unpacked size | LZF block (packed size) |
+ *
+ * and the unpacked bytes hold the fields one after another, each for all
+ * points (field 0 of every point, then field 1 of every point, ...).
  */
 #include "harness/io/pcd.h"
 
@@ -18,6 +23,8 @@
 #include <sys/stat.h>
 #include <unistd.h>
 
+#include <liblzf/lzf.h>
+
 #include "harness/base/fileio.h"
 #include "harness/io/scan_io.h"
 
@@ -27,7 +34,7 @@
 /* A scan file is at most the point bound times a generous record size. */
 #define PCD_FILE_MAX ((size_t)CLOUD_MAX_POINTS * 64)
 
-enum pcd_data { PCD_NONE = 0, PCD_ASCII, PCD_BINARY };
+enum pcd_data { PCD_NONE = 0, PCD_ASCII, PCD_BINARY, PCD_COMPRESSED };
 
 struct pcd_field {
     char name[32];
@@ -133,10 +140,8 @@ static int pcd_header_line(struct pcd_header *h, char *s, const char *path, long
         char *w = pcd_word(&s);
         if (w && !strcmp(w, "ascii")) h->data = PCD_ASCII;
         else if (w && !strcmp(w, "binary")) h->data = PCD_BINARY;
-        else if (w && !strcmp(w, "binary_compressed"))
-            return err_at(e, path, line, "DATA binary_compressed is not supported, expected ascii or binary "
-                          "(convert the file first)");
-        else return err_at(e, path, line, "DATA '%s', expected ascii or binary", w ? w : "");
+        else if (w && !strcmp(w, "binary_compressed")) h->data = PCD_COMPRESSED;
+        else return err_at(e, path, line, "DATA '%s', expected ascii, binary or binary_compressed", w ? w : "");
         return 0;
     }
     return err_at(e, path, line, "unknown header keyword '%s', expected VERSION, FIELDS, SIZE, TYPE, COUNT, "
@@ -189,7 +194,7 @@ static int pcd_parse_header(const unsigned char *buf, size_t len, const char *pa
     char tmp[4096];
     while (h->data == PCD_NONE) {
         if (pos >= len || pos > PCD_HEADER_MAX)
-            return err_at(e, path, line, "header has no DATA line, expected DATA ascii or DATA binary");
+            return err_at(e, path, line, "header has no DATA line, expected DATA ascii, binary or binary_compressed");
         const unsigned char *nl = memchr(buf + pos, '\n', len - pos);
         size_t ll = nl ? (size_t)(nl - (buf + pos)) : len - pos;
         line++;
@@ -365,6 +370,65 @@ static int pcd_body_binary(int fd, size_t size, const unsigned char *head, size_
     return rc;
 }
 
+static uint32_t pcd_u32le(const unsigned char *p)
+{
+    return (uint32_t)p[0] | (uint32_t)p[1] << 8 | (uint32_t)p[2] << 16 | (uint32_t)p[3] << 24;
+}
+
+/* Points from the unpacked field-after-field bytes u (h->points records). */
+static void pcd_convert_columns(const struct pcd_header *h, const unsigned char *u, struct cloud *c)
+{
+    const size_t n = h->points;
+    double v[PCD_MAX_FIELDS];
+    const int want[6] = {h->ix, h->iy, h->iz, h->ii, h->ir, h->it};
+    for (size_t k = 0; k < n; k++) {
+        for (int j = 0; j < 6; j++) {
+            if (want[j] < 0) continue;
+            const struct pcd_field *f = &h->f[want[j]];
+            size_t stride = (size_t)f->size * (size_t)f->count;
+            v[want[j]] = pcd_value(u + n * f->offset + k * stride, f->type, f->size);
+        }
+        pcd_store(c, k, h, v);
+    }
+    c->n = n;
+}
+
+/* A binary_compressed body in buf[h->body .. len): both sizes checked
+ * against the file and the header before anything is unpacked. */
+static int pcd_body_compressed(const unsigned char *buf, size_t len, const char *path,
+                               const struct pcd_header *h, struct cloud *c, struct err *e)
+{
+    size_t have = len - h->body;
+    if (have < 8)
+        return err_at(e, path, 0, "binary_compressed body at byte %zu is %zu bytes, expected at least 8 "
+                      "(packed and unpacked sizes)", h->body, have);
+    size_t packed = pcd_u32le(buf + h->body), unpacked = pcd_u32le(buf + h->body + 4);
+    size_t need = h->points * h->point_size;
+    if (unpacked != need)
+        return err_at(e, path, 0, "binary_compressed unpacked size %zu (byte %zu), expected %zu for POINTS %zu "
+                      "of %zu bytes", unpacked, h->body + 4, need, h->points, h->point_size);
+    if (packed > have - 8)
+        return err_at(e, path, 0, "binary_compressed packed size %zu (byte %zu) runs past the end of the file, "
+                      "expected at most %zu: file truncated", packed, h->body, have - 8);
+    if ((packed == 0) != (need == 0))
+        return err_at(e, path, 0, "binary_compressed packed size %zu for %zu unpacked bytes, expected %s",
+                      packed, need, need ? "a non-empty block" : "0");
+    if (pcd_prepare(c, h)) return err_at(e, path, 0, "out of memory for %zu points", h->points);
+    if (need == 0) return 0;
+    unsigned char *u = malloc(need);
+    if (!u) return err_at(e, path, 0, "out of memory for %zu bytes", need);
+    errno = 0;
+    unsigned got = lzf_decompress(buf + h->body + 8, (unsigned)packed, u, (unsigned)need);
+    int rc = 0;
+    if (got != need)
+        rc = err_at(e, path, 0, "binary_compressed block at byte %zu does not unpack (%s), expected %zu bytes",
+                    h->body + 8, got ? "too short" : errno == E2BIG ? "longer than stated" : "corrupt data", need);
+    else
+        pcd_convert_columns(h, u, c);
+    free(u);
+    return rc;
+}
+
 static int pcd_body_ascii(const unsigned char *buf, size_t len, const char *path,
                           const struct pcd_header *h, struct cloud *c, struct err *e)
 {
@@ -431,7 +495,7 @@ int pcd_read(const char *path, struct cloud *c, struct err *e)
     if (!rc && h.data == PCD_BINARY) {
         rc = pcd_body_binary(fd, size, buf, len, path, &h, c, e);
     } else if (!rc) {
-        /* ascii: the whole file as text */
+        /* ascii and binary_compressed: the whole file in memory */
         unsigned char *all = realloc(buf, size + 1);
         if (!all) rc = err_at(e, path, 0, "out of memory for %zu bytes", size);
         else {
@@ -439,7 +503,8 @@ int pcd_read(const char *path, struct cloud *c, struct err *e)
             rc = pcd_read_n(fd, buf + len, size - len, path, e);
             buf[size] = 0;
         }
-        if (!rc) rc = pcd_body_ascii(buf, size, path, &h, c, e);
+        if (!rc && h.data == PCD_COMPRESSED) rc = pcd_body_compressed(buf, size, path, &h, c, e);
+        else if (!rc) rc = pcd_body_ascii(buf, size, path, &h, c, e);
     }
     free(buf);
     if (fd >= 0) close(fd);
@@ -476,5 +541,56 @@ int pcd_write_ascii(const char *path, const struct cloud *c, struct err *e)
     if (afile_open(&a, path, e)) return -1;
     pcd_write_header(a.f, c, "ascii");
     scan_body_ascii(a.f, c);
+    return afile_commit(&a, e);
+}
+
+static void pcd_put_u32le(unsigned char *p, uint32_t v)
+{
+    for (int k = 0; k < 4; k++) p[k] = (unsigned char)(v >> (8 * k));
+}
+
+/* The cloud's fields one after another (x of every point, then y, ...),
+ * in the order and sizes pcd_write_header declares; *len bytes, malloc'ed. */
+static unsigned char *pcd_columns(const struct cloud *c, size_t *len)
+{
+    size_t n = c->n, rec = 16 + (c->ring ? 2 : 0) + (c->time ? 4 : 0);
+    *len = n * rec;
+    unsigned char *u = malloc(*len ? *len : 1), *p = u;
+    if (!u) return NULL;
+    for (int j = 0; j < 4; j++)
+        for (size_t k = 0; k < n; k++, p += 4) memcpy(p, c->pts + 4 * k + j, 4);
+    for (size_t k = 0; c->ring && k < n; k++, p += 2) {
+        p[0] = (unsigned char)(c->ring[k] & 0xff);
+        p[1] = (unsigned char)(c->ring[k] >> 8);
+    }
+    for (size_t k = 0; c->time && k < n; k++, p += 4) memcpy(p, c->time + k, 4);
+    return u;
+}
+
+int pcd_write_compressed(const char *path, const struct cloud *c, struct err *e)
+{
+    size_t len;
+    unsigned char *u = pcd_columns(c, &len);
+    if (!u) return err_at(e, path, 0, "out of memory for %zu points", c->n);
+    if (len > 0xffffffffu / 2) {
+        free(u);
+        return err_at(e, path, 0, "%zu points make %zu bytes, more than binary_compressed can hold", c->n, len);
+    }
+    /* LZF output stays under 104% of its input (liblzf's lzf.h) */
+    size_t cap = len + len / 16 + 64;
+    unsigned char *z = malloc(cap + 8);
+    unsigned packed = z && len ? lzf_compress(u, (unsigned)len, z + 8, (unsigned)cap) : 0;
+    free(u);
+    if (!z || (len && !packed)) {
+        free(z);
+        return err_at(e, path, 0, "%s", z ? "LZF compression failed" : "out of memory");
+    }
+    pcd_put_u32le(z, packed);
+    pcd_put_u32le(z + 4, (uint32_t)len);
+    struct afile a;
+    if (afile_open(&a, path, e)) { free(z); return -1; }
+    pcd_write_header(a.f, c, "binary_compressed");
+    fwrite(z, 1, 8 + (size_t)packed, a.f);
+    free(z);
     return afile_commit(&a, e);
 }
