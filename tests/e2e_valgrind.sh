@@ -13,7 +13,7 @@ fi
 if ! command -v valgrind >/dev/null; then
   expect "false" "valgrind is installed (make deps installs it)"; done_tests; exit 1
 fi
-VG="valgrind -q --error-exitcode=99 --leak-check=full --errors-for-leak-kinds=definite,indirect --show-leak-kinds=definite,indirect"
+VG="valgrind -q --error-exitcode=99 --suppressions=$REVISIT_ROOT/tests/valgrind.supp --leak-check=full --errors-for-leak-kinds=definite,indirect --show-leak-kinds=definite,indirect"
 core="test_cloud test_pool test_pose_algebra test_scan_formats test_recording_manifest
       test_perturb_parse test_metrics_pr test_metrics_csv test_metrics_gt test_plan_load
       test_report_escape"

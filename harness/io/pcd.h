@@ -24,7 +24,8 @@ int pcd_read(const char *path, struct cloud *c, struct err *e);
 int pcd_write_binary(const char *path, const struct cloud *c, struct err *e);
 /* The same content as DATA ascii (9 significant digits). */
 int pcd_write_ascii(const char *path, const struct cloud *c, struct err *e);
-/* The same content as DATA binary_compressed (LZF). */
+/* The same content as DATA binary_compressed (LZF).  liblzf may pick other
+ * matches from run to run, so the bytes can differ; what they unpack to cannot. */
 int pcd_write_compressed(const char *path, const struct cloud *c, struct err *e);
 
 #endif
