@@ -3,6 +3,7 @@
 #include <stdio.h>
 #include <string.h>
 
+#include "harness/base/blas.h"
 #include "harness/cli/cmd.h"
 
 struct cmd_row {
@@ -64,6 +65,9 @@ static int main_finish(int rc)
 
 int main(int argc, char **argv)
 {
+    /* Before anything else: this may re-execute the program once with a
+     * wider OpenBLAS kernel (see harness/base/blas.h). */
+    blas_choose_kernel(argv);
     /* A file-size limit (ulimit -f) must surface as a write error (EFBIG)
      * that the atomic writer reports, not as a silent kill mid-file. */
     signal(SIGXFSZ, SIG_IGN);
@@ -72,7 +76,9 @@ int main(int argc, char **argv)
         return main_finish(argc < 2 ? CMD_ERROR : CMD_OK);
     }
     if (!strcmp(argv[1], "--version")) {
-        printf("revisit %s\n", RV_VERSION);
+        char blas[256];
+        blas_describe(blas, sizeof blas);
+        printf("revisit %s\nBLAS: %s\n", RV_VERSION, blas);
         return main_finish(CMD_OK);
     }
     if (!strcmp(argv[1], "--commands")) {

@@ -10,6 +10,7 @@
 #include <string.h>
 
 #include "harness/run/desc_cache.h"
+#include "harness/base/blas.h"
 #include "harness/base/fileio.h"
 #include "harness/run/isolate.h"
 #include "harness/base/json_file.h"
@@ -211,7 +212,15 @@ static int ev_describe_set(struct ev_ctx *c, struct ev_set *set, struct err *e)
     }
     double t0 = progress_now();
     int isolated = c->s->isolate && !c->plug.ext;  /* external programs are separate processes already */
-    if (isolated ? ev_describe_isolated(c, set, e) : ev_describe_all(c, set, NULL, e)) return -1;
+    /* Describe is per scan: a method's small LAPACK calls gain nothing from
+     * OpenBLAS threads, whose idle workers then spin beside the describe
+     * pool.  One BLAS thread here; the count is restored for retrieval (a
+     * sweep running cells in parallel has set 1 already: nothing changes). */
+    int blas_n = blas_threads();
+    if (blas_n > 1) blas_set_threads(1);
+    int rc = isolated ? ev_describe_isolated(c, set, e) : ev_describe_all(c, set, NULL, e);
+    if (blas_n > 1) blas_set_threads(blas_n);
+    if (rc) return -1;
     c->sum.describe_s += progress_now() - t0;
     c->sum.described += set->n;
     return c->s->cache_dir ? desc_cache_store(c->s->cache_dir, &k, set->desc, set->key, e) : 0;

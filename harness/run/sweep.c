@@ -4,13 +4,13 @@
 #include <cjson/cJSON.h>
 #include <dirent.h>
 #include <errno.h>
-#include <cblas.h>
 #include <stdio.h>
 #include <stdlib.h>
 #include <string.h>
 #include <sys/stat.h>
 #include <unistd.h>
 
+#include "harness/base/blas.h"
 #include "harness/results/cell_json.h"
 #include "harness/results/cells.h"
 #include "harness/base/fileio.h"
@@ -302,7 +302,7 @@ int sweep_run(const struct plan *p, const struct sweep_opts *o, struct sweep_sta
      * does not survive a fork (isolated or external methods) made while
      * another cell is inside a threaded sgemm, and the parent then spins
      * for ever in the next call. */
-    if (pool_threads(o->jobs) > 1) openblas_set_num_threads(1);
+    if (pool_threads(o->jobs) > 1) blas_set_threads(1);
     progress_start(&c.prog, "sweep", (size_t)n, o->quiet);
     int rc = pool_run(n_lead, o->jobs, sw_cell, &c, e);
     c.todo = todo + n_lead;

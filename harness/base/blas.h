@@ -1,0 +1,50 @@
+/* blas.h: which OpenBLAS kernel runs, choosing a wider one when the library
+ * falls back, and how many threads OpenBLAS may use.
+ *
+ * OpenBLAS picks its kernel once, when the library is loaded, from the CPU
+ * model it knows; on a model it does not know it falls back to an old SSE
+ * kernel (e.g. "Prescott") even when the CPU has AVX2 and FMA, and runs
+ * sgemm several times slower.  The kernel can only be chosen before the
+ * library loads, through OPENBLAS_CORETYPE, so blas_choose_kernel re-executes
+ * the program once:
+ *
+ *     OPENBLAS_CORETYPE set by the user        keep it, never touch it
+ *     library kernel is AVX2 or newer          keep it
+ *     pre-AVX2 kernel, CPU has AVX2 and FMA    set OPENBLAS_CORETYPE=Haswell,
+ *                                              REVISIT_BLAS_FALLBACK=<old name>,
+ *                                              exec /proc/self/exe argv once
+ *     REVISIT_BLAS_FALLBACK already set        never exec again (no loop)
+ *
+ * Results do not depend on the kernel for the built-in dense paths (scores
+ * only rank candidates; distances are recomputed in double); methods that
+ * call LAPACK may differ in the last bits of a descriptor.
+ *
+ *     int main(int argc, char **argv) { blas_choose_kernel(argv); ... }
+ *     char txt[160]; blas_describe(txt, sizeof txt);   // for --version
+ *
+ * Failure contract: blas_choose_kernel returns only when no exec was needed
+ * or the exec failed (the environment is then restored and the library's
+ * own kernel kept); nothing here allocates or fails otherwise.  Thread count
+ * calls are process-wide (OpenBLAS has one setting): call them from one
+ * thread between parallel stages, never while another thread runs BLAS.
+ */
+#ifndef RV_BLAS_H
+#define RV_BLAS_H
+
+#include <stddef.h>
+
+/* Re-execute once with a wider kernel when the rules above ask for it. */
+void blas_choose_kernel(char **argv);
+
+/* The kernel OpenBLAS runs now, e.g. "Haswell" (never NULL). */
+const char *blas_kernel(void);
+
+/* One line for --version: library, kernel and how it was chosen, e.g.
+ * "OpenBLAS 0.3.21, kernel Haswell (chosen by revisit; the library picked Prescott)". */
+void blas_describe(char *buf, size_t size);
+
+/* OpenBLAS threads now, and a new count (>= 1); see the thread note above. */
+int blas_threads(void);
+void blas_set_threads(int n);
+
+#endif
