@@ -1,0 +1,280 @@
+/* test_scan_context_kernels.c: the Scan Context plugin's fast kernels
+ * against the plain ones they replaced (tests/sc_reference.h).
+ *
+ *   distance  Gram-matrix kernel vs. the scalar loop: within 1e-12 and the
+ *             same best shift, on random images and on every pair of real
+ *             scans; the AVX2 and the base kernel bit for bit equal; a copy
+ *             turned by whole sectors at distance exactly 0
+ *   image     boundary comparisons vs. atan2 binning: identical images and
+ *             keys on synthetic scans; points on and beside boundaries land
+ *             where sc_image.c's rule says
+ * Real scans come from `revisit synth` (REVISIT_BIN) in the working folder. */
+#include <stdio.h>
+#include <stdlib.h>
+#include <unistd.h>
+
+#include "harness/plugins/scan-context/scan_context.c"
+#include "harness/plugins/scan-context/sc_distance.c"
+#include "harness/plugins/scan-context/sc_image.c"
+#include "harness/io/recording.h"
+#include "tests/check.h"
+#include "tests/sc_reference.h"
+
+#define SCANS 24
+#define TOL 1e-12
+
+static unsigned rnd_state = 12345;
+static double rnd(void)
+{
+    rnd_state = rnd_state * 1103515245u + 12345u;
+    return (rnd_state >> 8) / 16777216.0;
+}
+
+static struct sc *make(int R, int S)
+{
+    double v[4] = {R, S, 80, 2};
+    void *inst;
+    uint32_t dim, kd;
+    char msg[64];
+    return sc_create(v, &inst, &dim, &kd, msg, sizeof msg) == RV_OK ? inst : NULL;
+}
+
+/* Compare the kernels on one pair; returns 1 when all agree.  The shift
+ * must be the reference's, unless the two are tied (within TOL) in the
+ * reference itself; *ties counts those. */
+static int agree(int R, int S, const float *a, const float *b, double *worst, int *ties)
+{
+    int32_t k0 = -1, k1 = -2, k2 = -3;
+    double d0 = scref_distance(R, S, a, b, &k0), d1 = sc_pair_base(R, S, a, b, &k1), d2 = d1;
+    if (__builtin_cpu_supports("avx2") && __builtin_cpu_supports("fma")) d2 = sc_pair_avx2(R, S, a, b, &k2);
+    else k2 = k1;
+    if (fabs(d0 - d1) > *worst) *worst = fabs(d0 - d1);
+    int shift_ok = k0 == k1;
+    if (!shift_ok) {
+        (*ties)++;
+        shift_ok = fabs(scref_distance_at(R, S, a, b, NULL, k1) - d0) <= TOL;
+    }
+    return fabs(d0 - d1) <= TOL && shift_ok && d1 == d2 && k1 == k2;
+}
+
+/* Turn an image by m sectors: column j moves to j + m. */
+static void turn_image(const float *in, float *out, int R, int S, int m)
+{
+    for (int j = 0; j < S; j++)
+        for (int r = 0; r < R; r++) out[((j + m) % S) * R + r] = in[j * R + r];
+}
+
+/* Random images: heights in [-1, 5), some empty columns and cells. */
+static void random_pairs(void)
+{
+    static const int shapes[][2] = {{20, 60}, {1, 4}, {7, 13}, {200, 9}, {3, 720}, {20, 61}};
+    static float a[200 * 720], b[200 * 720];
+    for (size_t s = 0; s < sizeof shapes / sizeof *shapes; s++) {
+        int R = shapes[s][0], S = shapes[s][1], bad = 0, ties = 0, turned_bad = 0;
+        double worst = 0;
+        for (int pair = 0; pair < 40; pair++) {
+            for (int c = 0; c < R * S; c++) {
+                a[c] = rnd() < 0.3 ? 0 : (float)(6 * rnd() - 1);
+                b[c] = rnd() < 0.3 ? 0 : (float)(6 * rnd() - 1);
+            }
+            for (int j = 0; j < S; j += 5)
+                for (int r = 0; r < R; r++) a[j * R + r] = 0, b[((j * 3) % S) * R + r] = 0;
+            bad += !agree(R, S, a, b, &worst, &ties);
+            int m = (int)(rnd() * S) % S;
+            int32_t k1 = -1, k2 = -1;
+            turn_image(a, b, R, S, m);
+            double d1 = sc_pair_base(R, S, a, b, &k1), d2 = d1;
+            if (__builtin_cpu_supports("avx2") && __builtin_cpu_supports("fma")) d2 = sc_pair_avx2(R, S, a, b, &k2);
+            else k2 = k1;
+            int filled = 0;
+            for (int c = 0; c < R * S; c++) filled |= a[c] != 0;
+            turned_bad += filled ? !(d1 == 0 && d2 == 0 && (k1 == m || R == 1) && k2 == k1) : !(d1 == 1 && d2 == 1);
+        }
+        CHECK(turned_bad == 0, "random images turned by whole sectors: distance exactly 0 and the turn as shift "
+                                "(an empty image: 1)");
+        char msg[200];
+        snprintf(msg, sizeof msg, "%d x %d random images: within %g of the scalar loop (worst %.2g), same shift "
+                 "(%d exact ties), AVX2 = base", R, S, TOL, worst, ties);
+        CHECK(bad == 0, msg);
+    }
+    for (int c = 0; c < 20 * 60; c++) a[c] = 0;
+    b[5] = 1;
+    int32_t k = -1;
+    CHECK(sc_pair_base(20, 60, a, b, &k) == 1.0 && k == 0, "no shared column: distance 1, shift 0");
+}
+
+static int load_scans(struct recording *rec, struct cloud *c)
+{
+    const char *bin = getenv("REVISIT_BIN");
+    char cmd[4200];
+    if (snprintf(cmd, sizeof cmd, "%s synth --scenario port --scans %d --out rec --quiet >/dev/null 2>&1",
+                 bin ? bin : "revisit", SCANS) >= (int)sizeof cmd)
+        return -1;
+    struct err e;
+    if (access("rec/recording.json", R_OK) && system(cmd)) return -1;
+    if (recording_load("rec", 0, rec, &e)) return -1;
+    for (size_t i = 0; i < rec->n && i < SCANS; i++)
+        if (cloud_init(&c[i]), recording_load_scan(rec, i, &c[i], NULL, &e)) return -1;
+    return rec->n >= SCANS ? 0 : -1;
+}
+
+/* Exact side of boundary k: products of a double and a float are exact
+ * in binary128 (53 + 24 < 113 bits), and the sign of a rounded difference
+ * is the sign of the difference (IEEE 754 rounding, common practice, no
+ * source). */
+static int oracle_after(const struct sc *s, int k, float x, float y)
+{
+    __float128 d = (__float128)s->bx[k] * y - (__float128)s->by[k] * x;
+    return d >= 0;
+}
+
+/* The exact sector of a point by the binary128 oracle. */
+static int oracle_sector(const struct sc *s, float x, float y)
+{
+    for (int k = 0; k < s->sectors; k++)
+        if (oracle_after(s, k, x, y) && !oracle_after(s, k + 1, x, y)) return k;
+    return -1;
+}
+
+/* Copy of scan c without the points within 1e-10 sectors (atan2) of a
+ * boundary into out; those must get their exact sector.  Returns how many
+ * were left out, or -1 when one of them is in the wrong sector. */
+static long off_boundary(const struct sc *s, const struct cloud *c, float *out, size_t *n_out)
+{
+    long near = 0, wrong = 0;
+    *n_out = 0;
+    for (size_t k = 0; k < c->n; k++) {
+        const float *p = c->pts + 4 * k;
+        double f = (atan2(p[1], p[0]) + M_PI) / (2 * M_PI) * s->sectors;
+        if (fabs(f - floor(f + 0.5)) < 1e-10 && !(p[0] == 0 && p[1] == 0)) {
+            near++;
+            wrong += sc_sector_of(s, p[0], p[1]) != oracle_sector(s, p[0], p[1]);
+        } else {
+            memcpy(out + 4 * *n_out, p, 16);
+            ++*n_out;
+        }
+    }
+    return wrong ? -1 : near;
+}
+
+static void real_scans(void)
+{
+    static struct cloud c[SCANS];
+    static float img[SCANS][1200], ref[1200], mine[1200], turned[1200];
+    struct recording rec;
+    CHECK(load_scans(&rec, c) == 0, "revisit synth gives 24 port scans");
+    struct sc *s = make(20, 60);
+    int same = 1, bad = 0, exact = 1;
+    size_t pts = 0;
+    long near = 0;
+    for (int i = 0; i < SCANS; i++) {
+        float key[20], rkey[20];
+        sc_image(s, c[i].pts, c[i].n, img[i], key);
+        float *kept = malloc(16 * (c[i].n + 1));
+        size_t nk;
+        long nb = kept ? off_boundary(s, &c[i], kept, &nk) : -1;
+        near = nb < 0 || near < 0 ? -1 : near + nb;
+        if (kept) {
+            sc_image(s, kept, nk, mine, key);
+            scref_image(20, 60, 80, 2, kept, nk, ref, rkey);
+            same &= !memcmp(mine, ref, sizeof ref) && !memcmp(key, rkey, sizeof key);
+        }
+        free(kept);
+        pts += c[i].n;
+    }
+    char msg[200];
+    snprintf(msg, sizeof msg, "%d synthetic scans (%zu points): the %ld points within 1e-10 sectors of a boundary "
+             "get their exact sector", SCANS, pts, near);
+    CHECK(near >= 0, msg);
+    snprintf(msg, sizeof msg, "%d synthetic scans without those points: images and keys equal the atan2 binning",
+             SCANS);
+    CHECK(same, msg);
+    double worst = 0;
+    int ties = 0;
+    for (int i = 0; i < SCANS; i++)
+        for (int j = 0; j < SCANS; j++) bad += !agree(20, 60, img[i], img[j], &worst, &ties);
+    snprintf(msg, sizeof msg, "every pair of real scans: within %g of the scalar loop (worst %.2g), same shift",
+             TOL, worst);
+    CHECK(bad == 0 && ties == 0, msg);
+    for (int i = 0; i < SCANS; i++) {
+        int m = (7 * i + 1) % 60;
+        int32_t k1 = -1, k2 = -1;
+        turn_image(img[i], turned, 20, 60, m);
+        double d = sc_pair_base(20, 60, img[i], turned, &k1), d2 = 0;
+        if (__builtin_cpu_supports("avx2") && __builtin_cpu_supports("fma")) d2 = sc_pair_avx2(20, 60, img[i], turned, &k2);
+        else k2 = k1;
+        exact &= d == 0 && d2 == 0 && k1 == m && k2 == m;
+    }
+    CHECK(exact, "real images turned by whole sectors: distance exactly 0, shift recovered, both kernels");
+    free(s);
+    for (int i = 0; i < SCANS; i++) cloud_free(&c[i]);
+    recording_free(&rec);
+}
+
+/* Float points nearest to a boundary, and their neighbours one unit in the
+ * last place away: the exact rule against the binary128 oracle. */
+static int near_boundary(const struct sc *s, int k)
+{
+    int S = s->sectors, bad = 0;
+    for (double r = 0.37; r < 80; r *= 1.7) {
+        float x0 = (float)(r * s->bx[k]), y0 = (float)(r * s->by[k]);
+        for (int dx = -1; dx <= 1; dx++)
+            for (int dy = -1; dy <= 1; dy++) {
+                float x = x0, y = y0;
+                for (int m = 0; m < (dx < 0 ? -dx : dx); m++) x = nextafterf(x, dx < 0 ? -INFINITY : INFINITY);
+                for (int m = 0; m < (dy < 0 ? -dy : dy); m++) y = nextafterf(y, dy < 0 ? -INFINITY : INFINITY);
+                if (x == 0 && y == 0) continue;
+                int want = oracle_after(s, k, x, y) ? k % S : (k + S - 1) % S;
+                bad += sc_sector_of(s, x, y) != want;
+            }
+    }
+    return bad;
+}
+
+/* Points on and beside boundaries go where sc_image.c's rule says; away
+ * from boundaries, to the sector atan2 names (C99 atan2, common practice,
+ * no source). */
+static void boundaries(void)
+{
+    static const int counts[] = {4, 6, 7, 60, 61, 360, 720};
+    for (size_t t = 0; t < sizeof counts / sizeof *counts; t++) {
+        int S = counts[t], near = 0, beside = 0, grid = 0;
+        struct sc *s = make(20, S);
+        for (int k = 0; k < S; k++) {
+            near += near_boundary(s, k);
+            double a = -M_PI + 2 * M_PI * k / S;
+            for (int side = -1; side <= 1; side += 2) {
+                double b = a + side * 1e-5;
+                int want = side < 0 ? (k + S - 1) % S : k;
+                beside += sc_sector_of(s, (float)(30 * cos(b)), (float)(30 * sin(b))) == want;
+            }
+        }
+        char msg[160];
+        snprintf(msg, sizeof msg, "%d sectors: float points at and one unit beside each boundary on the exact side "
+                 "(%d wrong), points 1e-5 rad beside (%d of %d)", S, near, beside, 2 * S);
+        CHECK(near == 0 && beside == 2 * S, msg);
+        for (int g = 0; g < 100000; g++) {
+            float x = (float)(100 * rnd() - 50), y = (float)(100 * rnd() - 50);
+            double f = (atan2(y, x) + M_PI) / (2 * M_PI) * S;
+            if (fabs(f - floor(f + 0.5)) < 1e-9) grid++;  /* within rounding of a boundary */
+            else grid += sc_sector_of(s, x, y) == ((int)f >= S ? S - 1 : (int)f);
+        }
+        snprintf(msg, sizeof msg, "%d sectors: 100000 random points away from boundaries get the atan2 sector", S);
+        CHECK(grid == 100000, msg);
+        CHECK(sc_sector_of(s, -5, 0.0f) == 0 && sc_sector_of(s, -5, -0.0f) == 0, "the -x axis is in sector 0");
+        CHECK(sc_sector_of(s, 0, 0) == S / 2 && sc_sector_of(s, 3, 0) == S / 2,
+              "the origin and the +x axis: the sector of azimuth 0");
+        if (S % 4 == 0)
+            CHECK(sc_sector_of(s, 0, 2) == 3 * S / 4 && sc_sector_of(s, 0, -2) == S / 4,
+                  "the y axis starts the sectors of azimuth +-pi/2");
+        free(s);
+    }
+}
+
+int main(void)
+{
+    random_pairs();
+    real_scans();
+    boundaries();
+    return check_done();
+}
