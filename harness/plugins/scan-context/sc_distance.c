@@ -26,7 +26,7 @@
 #include <math.h>
 #include <string.h>
 
-#include "sc.h"
+#include "harness/plugins/scan-context/sc.h"
 
 #define SC_TILE 2048                       /* doubles of b per tile (16 KB) */
 #define SC_PAD (SC_MAX_SECTORS + 8)        /* columns, padded to the block width */
@@ -95,7 +95,7 @@ SC_INLINE double sc_best(const struct sc_work *w, int32_t *aux)
 #define SC_NAME(x) sc_##x##_base
 #define SC_TARGET
 #define SC_KERNEL sc_pair_base
-#include "sc_kernel.h"
+#include "harness/plugins/scan-context/sc_kernel.h"
 #undef SC_VB
 #undef SC_NAME
 #undef SC_TARGET
@@ -106,7 +106,7 @@ SC_INLINE double sc_best(const struct sc_work *w, int32_t *aux)
 #define SC_NAME(x) sc_##x##_avx2
 #define SC_TARGET __attribute__((target("avx2,fma"), optimize("fp-contract=fast")))
 #define SC_KERNEL sc_pair_avx2
-#include "sc_kernel.h"
+#include "harness/plugins/scan-context/sc_kernel.h"
 
 sc_pair_fn sc_pair_pick(void)
 {

@@ -27,7 +27,7 @@
  */
 #include <math.h>
 
-#include "sc.h"
+#include "harness/plugins/scan-context/sc.h"
 
 #define SC_PI 3.14159265358979323846
 

@@ -22,7 +22,7 @@
 #include <stdlib.h>
 
 #include "harness/revisit_plugin.h"
-#include "sc.h"
+#include "harness/plugins/scan-context/sc.h"
 
 static const struct rv_setting sc_settings[] = {
     {"rings", RV_SET_INT, 20, 1, SC_MAX_RINGS, NULL, "number of range rings"},
