@@ -160,6 +160,8 @@ def main():
     os.makedirs(os.path.join(a.out, "cells"), exist_ok=True)
     with open(os.path.join(a.out, "scenario.json"), "w") as f:
         json.dump({"format": "revisit-sweep-1", "name": "fixture harbour loop",
+                   "description": "A made-up harbour loop for the report tests: two methods under a swept "
+                                  "sector and a dropout.",
                    "bootstrap": {"resamples": 200, "seed": 5}}, f)
     for mi, m in enumerate(methods):
         for ci, (cn, ch, ax, p) in enumerate(CONDITIONS[:a.conditions]):

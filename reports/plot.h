@@ -24,7 +24,7 @@
 #include "harness/base/err.h"
 #include "reports/rstat.h"
 
-enum plot_kind { PLOT_DEGRADATION, PLOT_PR, PLOT_TRAJ, PLOT_MATRIX, PLOT_HIST, PLOT_NKIND };
+enum plot_kind { PLOT_DEGRADATION, PLOT_PR, PLOT_TRAJ, PLOT_MATRIX, PLOT_HIST, PLOT_SUMMARY, PLOT_NKIND };
 
 struct plot_item {
     char name[64];               /* file stem in the plot folder */
@@ -76,6 +76,21 @@ int plot_matrix(struct plot_set *ps, const char *name, const char *title,
 /* 5. top-1 distance histograms with the two thresholds marked (NaN: not drawn). */
 int plot_hist(struct plot_set *ps, const char *name, const char *title, const struct rstat_hist *h,
               double tau_f1, double tau_r100, struct err *e);
+
+/* 6. the summary chart: n_rows rows (conditions, the first at the top),
+ * n_panels panels (metrics) side by side, per panel n_series methods, each
+ * a point with its interval and a dashed line at its baseline value.
+ * d[p * n_series + s] is method s in panel p; x, lo, hi hold n_rows values
+ * (NaN: no point).  Nothing is written when n_rows or the panels are 0. */
+struct plot_dots {
+    const char *name;            /* method (user text) */
+    const char *panel;           /* metric name */
+    size_t series;               /* method index, for the data file's comments */
+    const double *x, *lo, *hi;
+    double base;                 /* the baseline value; NaN: none */
+};
+int plot_summary(struct plot_set *ps, const char *name, const char *title, const char *const *rows, size_t n_rows,
+                 const struct plot_dots *d, size_t n_panels, size_t n_series, struct err *e);
 
 /* 1 when path holds a PNG signature and an IHDR chunk of non-zero size. */
 int plot_png_ok(const char *path, unsigned *w, unsigned *h);

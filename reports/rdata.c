@@ -270,6 +270,7 @@ static void sweep_scenario(struct rdata_set *s)
     cJSON *root = cJSON_Parse(text);
     free(text);
     json_str(root, "name", s->scenario_name, sizeof s->scenario_name);
+    json_str(root, "description", s->description, sizeof s->description);
     const cJSON *b = cJSON_GetObjectItemCaseSensitive(root, "bootstrap");
     s->boot_resamples = json_num(b, "resamples", NAN);
     s->boot_seed = json_num(b, "seed", NAN);

@@ -65,6 +65,7 @@ struct rdata_set {
     int is_sweep;
     char root[4096];
     char scenario_name[256];
+    char description[2048];    /* scenario.json "description"; "" when absent */
     double boot_resamples, boot_seed;  /* scenario.json "bootstrap"; NaN when absent */
     char verdict_file[64];     /* file the verdicts came from, "" when none */
     size_t n;                  /* cells, sorted by id */

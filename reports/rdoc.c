@@ -127,6 +127,16 @@ void rdoc_list(struct rdoc *d) { block(d, RDOC_LIST); }
 void rdoc_item(struct rdoc *d) { run(d, 0); }
 void rdoc_cell(struct rdoc *d, unsigned style) { run(d, style); }
 void rdoc_pre(struct rdoc *d) { block(d, RDOC_PRE); }
+void rdoc_toc(struct rdoc *d) { block(d, RDOC_TOC); }
+
+const struct rdoc_block *rdoc_toc_next(const struct rdoc *d, size_t *i)
+{
+    for (; *i < d->n; ++*i) {
+        const struct rdoc_block *h = &d->b[*i];
+        if (h->kind == RDOC_HEADING && h->level == 2 && h->n) { ++*i; return h; }
+    }
+    return NULL;
+}
 
 void rdoc_table(struct rdoc *d, size_t cols, const char *align)
 {

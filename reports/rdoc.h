@@ -34,7 +34,7 @@
 #include "harness/base/err.h"
 
 enum rdoc_span_kind { RDOC_TEXT, RDOC_NUM, RDOC_CODE, RDOC_STRONG, RDOC_EM, RDOC_LINK };
-enum rdoc_kind { RDOC_HEADING, RDOC_PARA, RDOC_LIST, RDOC_TABLE, RDOC_FIGURE, RDOC_PRE };
+enum rdoc_kind { RDOC_HEADING, RDOC_PARA, RDOC_LIST, RDOC_TABLE, RDOC_FIGURE, RDOC_PRE, RDOC_TOC };
 
 /* Styles of a paragraph or table cell (bits). */
 #define RDOC_CAUTION 1u   /* paragraph: the safety caution box */
@@ -93,6 +93,12 @@ void rdoc_cell(struct rdoc *d, unsigned style);
  * relative to the report.  The caption follows as spans. */
 void rdoc_figure(struct rdoc *d, const char *png, const char *rel);
 void rdoc_pre(struct rdoc *d);
+/* A table of contents: links to every level-2 heading of the document,
+ * wherever they come, rendered where this block stands. */
+void rdoc_toc(struct rdoc *d);
+/* For the renderers: the next level-2 heading at or after block *i (then
+ * *i moves past it), or NULL. */
+const struct rdoc_block *rdoc_toc_next(const struct rdoc *d, size_t *i);
 void rdoc_line(struct rdoc *d, const char *text);
 
 /* Spans into the newest run. */

@@ -11,14 +11,18 @@
 #define HTML_IMAGE_MAX ((size_t)64 << 20)
 
 /* Our own plain layout: one readable column, ruled tables, the palette's
- * indigo for headings; nothing depends on colour. */
+ * indigo for headings, its blue and burnt orange behind passed and failed
+ * verdicts (white text; tests/xcheck_report_palette.py checks contrast and
+ * colour-vision distance); every verdict carries its word and mark too, so
+ * nothing depends on colour. */
 static const char css[] =
     "body{font-family:sans-serif;max-width:1100px;margin:2em auto;padding:0 1em;color:#1a1a1a;line-height:1.45}"
     "h1,h2,h3{color:#1b1f4b}h2{border-bottom:2px solid #1b1f4b;padding-bottom:.2em;margin-top:2em}"
     ".caution{border:2px solid #a34a0c;padding:.6em 1em;background:#fff7ef}"
     "table{border-collapse:collapse;margin:.5em 0 1.5em}td,th{border:1px solid #999;padding:.25em .6em;"
     "text-align:left;font-variant-numeric:tabular-nums}th{background:#eef1f6}td.num,th.num{text-align:right}"
-    ".pass{font-weight:bold}.fail{font-weight:bold;text-decoration:underline}"
+    ".pass,.fail{font-weight:bold;color:#fff;white-space:nowrap}.pass{background:#2a7ab0}.fail{background:#a34a0c}"
+    "code,td{overflow-wrap:anywhere}.toc{margin:1em 0;line-height:1.8}"
     "figure{margin:1em 0 2em}figure img{max-width:100%;border:1px solid #ccc}"
     "figcaption{font-size:.92em}pre{background:#f4f4f4;padding:.6em;overflow-x:auto;white-space:pre-wrap}";
 
@@ -99,7 +103,19 @@ static int html_figure(FILE *f, const struct rdoc_block *b, struct err *e)
     return 0;
 }
 
-static int html_block(FILE *f, const struct rdoc_block *b, struct err *e)
+static void html_toc(FILE *f, const struct rdoc *d)
+{
+    fputs("<nav class=\"toc\"><strong>Contents:</strong>", f);
+    const struct rdoc_block *h;
+    for (size_t i = 0, k = 0; (h = rdoc_toc_next(d, &i)); k++) {
+        fprintf(f, "%s<a href=\"#%s\">", k ? " · " : " ", h->id);
+        html_run(f, &h->runs[0]);
+        fputs("</a>", f);
+    }
+    fputs("</nav>\n", f);
+}
+
+static int html_block(FILE *f, const struct rdoc *d, const struct rdoc_block *b, struct err *e)
 {
     switch (b->kind) {
     case RDOC_HEADING:
@@ -124,6 +140,7 @@ static int html_block(FILE *f, const struct rdoc_block *b, struct err *e)
         for (size_t k = 0; k < b->n; k++) { html_run(f, &b->runs[k]); fputc('\n', f); }
         fputs("</pre>\n", f);
         break;
+    case RDOC_TOC: html_toc(f, d); break;
     }
     return 0;
 }
@@ -135,7 +152,7 @@ int rdoc_html_write(const struct rdoc *d, FILE *f, struct err *e)
     esc_html(f, d->title);
     fprintf(f, "</title>\n<style>%s</style></head><body>\n", css);
     for (size_t i = 0; i < d->n; i++)
-        if (html_block(f, &d->b[i], e)) return -1;
+        if (html_block(f, d, &d->b[i], e)) return -1;
     fputs("</body></html>\n", f);
     return 0;
 }

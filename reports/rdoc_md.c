@@ -103,7 +103,19 @@ static void md_pre(FILE *f, const struct rdoc_block *b)
     fputs("\n\n", f);
 }
 
-static void md_block(FILE *f, const struct rdoc_block *b)
+static void md_toc(FILE *f, const struct rdoc *d)
+{
+    fputs("**Contents:**", f);
+    const struct rdoc_block *h;
+    for (size_t i = 0, k = 0; (h = rdoc_toc_next(d, &i)); k++) {
+        fputs(k ? " · [" : " [", f);
+        md_run(f, &h->runs[0]);
+        fprintf(f, "](#%s)", h->id);
+    }
+    fputs("\n\n", f);
+}
+
+static void md_block(FILE *f, const struct rdoc *d, const struct rdoc_block *b)
 {
     switch (b->kind) {
     case RDOC_HEADING:
@@ -124,12 +136,13 @@ static void md_block(FILE *f, const struct rdoc_block *b)
     case RDOC_TABLE: md_table(f, b); break;
     case RDOC_FIGURE: md_figure(f, b); break;
     case RDOC_PRE: md_pre(f, b); break;
+    case RDOC_TOC: md_toc(f, d); break;
     }
 }
 
 int rdoc_md_write(const struct rdoc *d, FILE *f, struct err *e)
 {
     if (d->oom) return err_set(e, "out of memory for the report");
-    for (size_t i = 0; i < d->n; i++) md_block(f, &d->b[i]);
+    for (size_t i = 0; i < d->n; i++) md_block(f, d, &d->b[i]);
     return 0;
 }

@@ -183,8 +183,9 @@ static void doc_title(struct report_doc *d, const struct report_opts *o)
 static int draw_all(struct report_doc *d, struct plot_set *ps, int quiet, struct err *e)
 {
     struct progress pg;
-    progress_start(&pg, "plots", 2 * d->table->n_conds + d->table->n_conds + 3 * d->table->n_methods, quiet);
-    int rc = plots_degradation(d, ps, &pg, e);
+    progress_start(&pg, "plots", 2 * d->table->n_conds + d->table->n_conds + 3 * d->table->n_methods + 1, quiet);
+    int rc = report_summary_plot(d, ps, &pg, e);
+    if (!rc) rc = plots_degradation(d, ps, &pg, e);
     if (!rc) rc = plots_pr(d, ps, &pg, e);
     if (!rc) rc = report_cell_plots(d, ps, &pg, e);
     progress_end(&pg);

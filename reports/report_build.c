@@ -11,7 +11,7 @@
 
 static const char *const kind_heading[PLOT_NKIND] = {
     "Degradation curves", "PR curves", "Top views of the trajectory", "Distance matrices",
-    "Top-1 distance distributions",
+    "Top-1 distance distributions", "Summary per condition",
 };
 
 static void sec_title(struct rdoc *r, const struct report_doc *d)
@@ -20,6 +20,12 @@ static void sec_title(struct rdoc *r, const struct report_doc *d)
     rdoc_para(r, RDOC_CAUTION);
     rdoc_strong(r, "Caution.");
     rdoc_textf(r, " %s", report_caution);
+    if (d->set->description[0]) {
+        rdoc_para(r, 0);
+        rdoc_strong(r, "Scenario.");
+        rdoc_textf(r, " %s", d->set->description);
+    }
+    rdoc_toc(r);
 }
 
 static void overview_data(struct rdoc *r, const struct report_doc *d)
@@ -81,16 +87,24 @@ static void sec_overview(struct rdoc *r, const struct report_doc *d)
     rdoc_text(r, ".");
 }
 
-static void verdict_row(struct rdoc *r, const struct rdata_verdict *v)
+/* The short name of a full method label ("At a glance" lists both). */
+static const char *short_name(const struct rstat_table *t, const char *label)
+{
+    for (size_t m = 0; m < t->n_methods; m++)
+        if (!strcmp(t->labels[m], label)) return t->methods[m];
+    return label;
+}
+
+static void verdict_row(struct rdoc *r, const struct rstat_table *t, const struct rdata_verdict *v)
 {
     rdoc_cell(r, 0); rdoc_text(r, v->text);
-    rdoc_cell(r, 0); rdoc_text(r, v->method);
+    rdoc_cell(r, 0); rdoc_text(r, short_name(t, v->method));
     rdoc_cell(r, 0); rdoc_text(r, v->cond);
     rdoc_cell(r, 0); rdoc_num(r, "%.3f [%.3f, %.3f]", v->value, v->lo, v->hi);
     rdoc_cell(r, 0); rdoc_text(r, v->target[0] ? v->target : "value"); rdoc_num(r, " %.3f", v->measured);
     rdoc_cell(r, 0); rdoc_text(r, v->cmp); rdoc_num(r, " %.3f", v->threshold);
     rdoc_cell(r, v->pass ? RDOC_PASS : RDOC_FAIL);
-    rdoc_strong(r, v->pass ? "pass" : "FAIL");
+    rdoc_strong(r, v->pass ? "\u2713 PASS" : "\u2717 FAIL");
 }
 
 static void sec_verdicts(struct rdoc *r, const struct report_doc *d)
@@ -98,7 +112,7 @@ static void sec_verdicts(struct rdoc *r, const struct report_doc *d)
     static const char *const head[] = {"criterion", "method", "condition", "value [interval]", "judged",
                                        "threshold", "verdict"};
     const struct rdata_set *s = d->set;
-    rdoc_heading(r, 3, "Acceptance verdicts");
+    rdoc_heading(r, 2, "Acceptance verdicts");
     rdoc_para(r, 0);
     if (!s->n_verdicts) {
         rdoc_text(r, "No criteria results in this folder (");
@@ -111,14 +125,14 @@ static void sec_verdicts(struct rdoc *r, const struct report_doc *d)
     size_t pass = 0;
     for (size_t k = 0; k < s->n_verdicts; k++) pass += (size_t)s->verdicts[k].pass;
     rdoc_textf(r, "%zu of %zu criteria passed.", pass, s->n_verdicts);
-    rdoc_table(r, 7, NULL);
+    rdoc_table(r, 7, "lllrrrl");
     for (size_t k = 0; k < 7; k++) { rdoc_cell(r, 0); rdoc_text(r, head[k]); }
-    for (size_t k = 0; k < s->n_verdicts; k++) verdict_row(r, &s->verdicts[k]);
+    for (size_t k = 0; k < s->n_verdicts; k++) verdict_row(r, d->table, &s->verdicts[k]);
 }
 
 static void sec_findings(struct rdoc *r, const struct report_doc *d)
 {
-    rdoc_heading(r, 3, "Findings");
+    rdoc_heading(r, 2, "Findings");
     if (!d->n_findings) {
         rdoc_para(r, 0);
         rdoc_text(r, "A single method on a single condition: nothing to compare.");
@@ -141,7 +155,12 @@ static void sec_tables(struct rdoc *r, const struct report_doc *d)
     rdoc_text(r, ".");
     for (int mk = 0; mk < RDATA_NMETRIC; mk++) {
         rdoc_heading(r, 3, rdata_metric_name(mk));
-        rdoc_table(r, t->n_methods + 1, NULL);
+        char align[RDOC_COLS_MAX + 1];
+        size_t cols = t->n_methods + 1 < RDOC_COLS_MAX ? t->n_methods + 1 : RDOC_COLS_MAX;
+        memset(align, 'r', cols);
+        align[0] = 'l';
+        align[cols] = 0;
+        rdoc_table(r, t->n_methods + 1, align);
         rdoc_cell(r, 0);
         rdoc_text(r, "condition");
         for (size_t m = 0; m < t->n_methods; m++) { rdoc_cell(r, 0); rdoc_text(r, t->methods[m]); }
@@ -158,6 +177,30 @@ static void sec_tables(struct rdoc *r, const struct report_doc *d)
     }
 }
 
+static void figure(struct rdoc *r, const struct plot_set *ps, const struct plot_item *it)
+{
+    char png[4300], rel[128];
+    int n1 = snprintf(png, sizeof png, "%s/%s.png", ps->dir, it->name);
+    int n2 = snprintf(rel, sizeof rel, "plots/%s", it->name);
+    if (n1 < 0 || (size_t)n1 >= sizeof png || n2 < 0 || (size_t)n2 >= sizeof rel) {
+        rdoc_para(r, 0);
+        rdoc_textf(r, "Plot %s: its path is too long to show.", it->name);
+        return;
+    }
+    rdoc_figure(r, it->drawn ? png : NULL, rel);
+    rdoc_text(r, it->caption);
+}
+
+/* The summary chart: one row per condition, even a single mount test. */
+static void sec_summary(struct rdoc *r, const struct report_doc *d)
+{
+    rdoc_heading(r, 2, kind_heading[PLOT_SUMMARY]);
+    size_t shown = 0;
+    for (size_t i = 0; i < d->plots->n; i++)
+        if (d->plots->items[i].kind == PLOT_SUMMARY) { figure(r, d->plots, &d->plots->items[i]); shown++; }
+    if (!shown) { rdoc_para(r, 0); rdoc_text(r, "No finished cell to summarise."); }
+}
+
 static void sec_plots(struct rdoc *r, const struct report_doc *d)
 {
     const struct plot_set *ps = d->plots;
@@ -169,22 +212,14 @@ static void sec_plots(struct rdoc *r, const struct report_doc *d)
     rdoc_code(r, "gnuplot NAME.gp");
     rdoc_text(r, " there to restyle it.");
     for (int k = 0; k < PLOT_NKIND; k++) {
+        if (k == PLOT_SUMMARY) continue;  /* on the first page */
         rdoc_heading(r, 3, kind_heading[k]);
         size_t shown = 0;
         for (size_t i = 0; i < ps->n; i++) {
             const struct plot_item *it = &ps->items[i];
             if ((int)it->kind != k) continue;
             shown++;
-            char png[4300], rel[128];
-            int n1 = snprintf(png, sizeof png, "%s/%s.png", ps->dir, it->name);
-            int n2 = snprintf(rel, sizeof rel, "plots/%s", it->name);
-            if (n1 < 0 || (size_t)n1 >= sizeof png || n2 < 0 || (size_t)n2 >= sizeof rel) {
-                rdoc_para(r, 0);
-                rdoc_textf(r, "Plot %s: its path is too long to show.", it->name);
-                continue;
-            }
-            rdoc_figure(r, it->drawn ? png : NULL, rel);
-            rdoc_text(r, it->caption);
+            figure(r, ps, it);
         }
         if (!shown) { rdoc_para(r, 0); rdoc_text(r, "None for this results folder."); }
     }
@@ -286,7 +321,8 @@ static void sec_repro(struct rdoc *r, const struct report_doc *d)
 
 typedef void (*section_fn)(struct rdoc *r, const struct report_doc *d);
 static const section_fn sections[] = {
-    sec_title, sec_overview, sec_verdicts, sec_findings, sec_tables, sec_plots, sec_skipped, sec_failed, sec_repro,
+    sec_title, sec_verdicts, sec_summary, sec_overview, sec_findings, sec_tables, sec_plots, sec_skipped,
+    sec_failed, sec_repro,
 };
 
 struct rdoc *report_build(const struct report_doc *d)

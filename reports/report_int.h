@@ -58,6 +58,10 @@ long report_ok_cell(const struct rdata_set *s, const struct rstat_table *t, size
 struct progress;
 int report_cell_plots(struct report_doc *d, struct plot_set *ps, struct progress *pg, struct err *e);
 
+/* The summary chart (report_summary.c): per condition and method the F1max
+ * and R@100P point and interval against the method's reference.  0 or -1. */
+int report_summary_plot(struct report_doc *d, struct plot_set *ps, struct progress *pg, struct err *e);
+
 /* The whole report as one document tree (report_build.c), which report.c
  * renders to Markdown and HTML; the caller frees it with rdoc_free.  NULL
  * when out of memory (a tree that ran out later says so in rdoc_oom). */

@@ -41,7 +41,7 @@ expect "[ $rc -eq 0 ]" "report on a sweep exits 0"
 R="$T/sweep/report"
 expect "[ -s $R/report.md ] && [ -s $R/report.html ] && [ -s $R/scalars.csv ]" "report.md, report.html and scalars.csv written under DIR/report"
 md=$(cat "$R/report.md")
-for h in "## At a glance" "### Acceptance verdicts" "### Findings" "## Scalars" "### F1max" "### R@100P" \
+for h in "## At a glance" "## Acceptance verdicts" "## Findings" "## Summary per condition" "## Scalars" "### F1max" "### R@100P" \
          "### EP" "### AP" "### recall@1" "## Plots" "### Degradation curves" "### PR curves" \
          "### Top views of the trajectory" "### Distance matrices" "### Top-1 distance distributions" \
          "## Reproducibility"; do
@@ -61,16 +61,28 @@ expect_in "$md" "| sector (width=90) |" "each swept value of one condition name 
 expect_in "$md" "| sector at 180 |" "a verdict names the axis value it judged"
 expect_in "$md" "sd " "tables show the spread over two seeds"
 expect_in "$md" "1 of 2 criteria passed." "the verdicts of verdicts.json are counted"
-expect_in "$md" "| **FAIL** |" "a failed criterion is marked in the verdict table"
+expect_in "$md" "| **✗ FAIL** |" "a failed criterion is marked in the verdict table, word and mark"
+expect_in "$md" "| **✓ PASS** |" "a passed criterion is marked, word and mark"
+expect_in "$md" "**Scenario.** A made-up harbour loop" "the scenario description stands on the first page"
+expect_in "$md" "**Contents:** [Acceptance verdicts](#acceptance-verdicts) · [Summary per condition](#summary-per-condition)" "a table of contents links the sections"
+expect_in "$md" "|---|---|---|---:|---:|---:|---|" "the verdict table right-aligns its number columns"
+expect_in "$md" "| condition | ring-key | plain-hist |
+|---|---:|---:|" "the scalar tables right-aligns the numbers"
+order=$(grep -n -e '^## Acceptance verdicts' -e '^## Summary per condition' -e '^## At a glance' "$R/report.md" | cut -d: -f2 | tr '\n' '/')
+expect "[ '$order' = '## Acceptance verdicts/## Summary per condition/## At a glance/' ]" "verdicts and the summary chart come first (got '$order')"
+ids=$(grep -o 'href="#[a-z0-9-]*"' "$R/report.html" | sed 's/href="#\(.*\)"/\1/' | sort -u)
+miss=0; for i in $ids; do grep -q "id=\"$i\"" "$R/report.html" || miss=$((miss + 1)); done
+expect "[ -n '$ids' ] && [ $miss -eq 0 ]" "every contents link of report.html has its heading ($miss missing)"
+expect "grep -q '<td class=\"fail\"><strong>✗ FAIL</strong></td>' '$R/report.html' && grep -q '\.fail{background:#a34a0c}' '$R/report.html'" "a failed verdict has its colour and mark in HTML"
 expect_in "$md" "is nearest its threshold: measured" "a finding names the criterion nearest its threshold"
 expect_in "$md" "![" "report.md embeds plot images"
 n=$(ls "$R"/plots/*.gp | wc -l)
-expect "[ $n -eq 13 ]" "13 plot scripts: 2 degradation, 5 PR, 2 x (top view, distances, matrix) (got $n)"
+expect "[ $n -eq 14 ]" "14 plot scripts: the summary, 2 degradation, 5 PR, 2 x (top view, distances, matrix) (got $n)"
 out=$($PY "$T/images.py" "$R/plots")
-expect "[ '$out' = '13 13' ]" "13 valid PNG and 13 SVG files that parse as XML (got '$out')"
+expect "[ '$out' = '14 14' ]" "14 valid PNG and 14 SVG files that parse as XML (got '$out')"
 html=$(cat "$R/report.html")
 imgs=$(grep -o '<img ' "$R/report.html" | wc -l)
-expect "[ $imgs -eq 13 ]" "report.html inlines all 13 images (got $imgs)"
+expect "[ $imgs -eq 14 ]" "report.html inlines all 14 images (got $imgs)"
 expect "! grep -q 'src=\"plots/' '$R/report.html'" "report.html refers to no outside image file"
 expect_in "$html" "never a substitute for it" "report.html carries the safety caution"
 # Tag balance by Python's html.parser (standard library, html.parser.HTMLParser).
@@ -144,7 +156,7 @@ ng=$(cat "$T/nogp/report.md")
 expect_in "$ng" "## Skipped plots" "without gnuplot the report has a skipped-plots section"
 expect_in "$ng" '`trajectory-0.gp` (trajectory top view)' "the skipped list names each plot and its kind"
 expect_in "$ng" "gnuplot-nox" "the report says how to get the plots"
-expect "[ \$(ls $T/nogp/plots/*.png 2>/dev/null | wc -l) -eq 0 ] && [ \$(ls $T/nogp/plots/*.gp | wc -l) -eq 13 ]" "no images, but every script and data file is written"
+expect "[ \$(ls $T/nogp/plots/*.png 2>/dev/null | wc -l) -eq 0 ] && [ \$(ls $T/nogp/plots/*.gp | wc -l) -eq 14 ]" "no images, but every script and data file is written"
 expect_in "$ng" "### F1max" "the tables are all there without gnuplot"
 expect "! grep -q '<img' $T/nogp/report.html" "the HTML has no broken image without gnuplot"
 

@@ -1,6 +1,8 @@
 #!/usr/bin/env bash
 # e2e_report_browser.sh: a real browser opens report.html from a file and
-# decodes every inlined image (non-zero natural width); a screenshot is kept.
+# decodes every inlined image (non-zero natural width); at 1400 px width the
+# first page of a sweep's report holds the title, caution, description,
+# verdicts and summary chart with no horizontal overflow.  Screenshots are kept.
 . "$(dirname "$0")/lib_e2e.sh"
 PY=/usr/bin/python3
 # The Debian launcher script adds seconds of start-up checks; the program it runs does the same job.
@@ -40,4 +42,28 @@ expect "! grep -q '<b>bold</b>' '$T/dom.html'" "no user markup became an element
 ok=$($PY -c 'import sys,struct; b=open(sys.argv[1],"rb").read(24); print(int(b[:8]==b"\x89PNG\r\n\x1a\n" and struct.unpack(">II",b[16:24])==(1200,2400)))' "$KEEP/report.png" 2>/dev/null)
 expect "[ '$ok' = 1 ]" "the screenshot is a 1200x2400 PNG"
 echo "screenshot: $KEEP/report.png"
+
+# --- the first page of a sweep's report at 1400 px ------------------------------
+LONG='ring-key:rings=20,sectors=60,height_bins=8,max_range=80,min_range=0.5,normalise=columnwise,lookahead=12,fallback=none'
+$PY "$REVISIT_ROOT/reports/fixture.py" "$T/sw" --seeds 2 --verdicts --method "$LONG" --method plain-hist
+"$REVISIT_BIN" report "$T/sw" --quiet; rc=$?
+expect "[ $rc -eq 0 ]" "the sweep report is written"
+PAGE=1800   # the first page: one 1400 x 1800 screen
+# The probe writes, once loaded: the document's scroll width, then for each
+# part (title, caution, description, verdict table, summary image) its bottom
+# edge in px (-1 when missing), then the summary image's natural width.
+sed 's|</body>|<script>window.addEventListener("load",function(){function b(e){return e?Math.ceil(e.getBoundingClientRect().bottom+window.scrollY):-1;}var d=document,s=d.getElementById("summary-per-condition"),v=d.getElementById("acceptance-verdicts"),f=s\&\&s.nextElementSibling,im=f\&\&f.querySelector("img"),t=v\&\&v.nextElementSibling\&\&v.nextElementSibling.nextElementSibling,ds=Array.prototype.filter.call(d.querySelectorAll("p"),function(p){return p.textContent.indexOf("Scenario.")===0;})[0];var o=d.createElement("pre");o.id="probe";o.textContent=[d.documentElement.scrollWidth,b(d.querySelector("h1")),b(d.querySelector(".caution")),b(ds),b(t\&\&t.tagName==="TABLE"?t:null),b(im),im?im.naturalWidth:0].join(" ");d.body.appendChild(o);});</script></body>|' \
+  "$T/sw/report/report.html" > "$T/sw/report/probe.html"
+timeout 120 "$BROWSER" "${flags[@]}" --user-data-dir="$T/profile2" --window-size=1400,$PAGE \
+  --screenshot="$KEEP/first-page.png" --dump-dom "file://$T/sw/report/probe.html" > "$T/dom2.html" 2>"$T/browser2.log"
+rc=$?
+expect "[ $rc -eq 0 ]" "the browser loads the sweep report (exit $rc)"
+read -r sw b_title b_caution b_desc b_verdicts b_summary nat <<< "$(sed -n 's|.*<pre id="probe">\([^<]*\)</pre>.*|\1|p' "$T/dom2.html")"
+expect "[ -n '$sw' ] && [ '$sw' -le 1400 ]" "no horizontal overflow at 1400 px (scroll width ${sw:-none})"
+for part in title caution desc verdicts summary; do
+  v=$(eval echo "\${b_$part:--1}")
+  expect "[ '$v' -gt 0 ] && [ '$v' -le $PAGE ]" "the $part ends within the first $PAGE px (bottom at $v)"
+done
+expect "[ '${nat:-0}' -gt 0 ]" "the summary chart decoded (natural width ${nat:-0})"
+echo "first page: $KEEP/first-page.png"
 done_tests

@@ -138,8 +138,30 @@ def main():
             check(abs(float(row["mean"]) - np.mean(vals)) < 1e-9, "scalars.csv mean of %s on %s equals numpy.mean" % (m, cond))
             check(abs(float(row["sd"]) - np.std(vals, ddof=1)) < 1e-9, "scalars.csv sd of %s on %s equals numpy.std(ddof=1)" % (m, cond))
             check(row["seeds"] == "3", "three seeds counted for %s on %s" % (m, cond))
+    summary_chart(sweep, plots)
     shutil.rmtree(tmp, ignore_errors=True)
     return done()
+
+
+def summary_chart(sweep, plots):
+    """Summary chart: per panel (F1max, R@100P), method and condition row, the
+    point is numpy.mean of the seeds' values and the interval numpy.mean of
+    their bounds; the dashed baseline is the method's unperturbed mean."""
+    gp = open(os.path.join(plots, "summary-by-condition.gp")).read()
+    check('set ytics ("none" 0, "sector (width=30)" 1)' in gp, "summary chart: one row per condition, in table order")
+    for p, key in enumerate(("f1max", "r100p")):
+        for m in (0, 1):
+            rows = load_block(os.path.join(plots, "summary-by-condition.dat"), p * 2 + m)
+            check(len(rows) == 2, "summary chart: both conditions of method %d on %s" % (m, key))
+            for c, row in enumerate(rows):
+                ms = [json.load(open(os.path.join(sweep, "cells", "m%d-c%d-s%d" % (m, c, s), "result.json")))
+                      ["metrics"][key] for s in (1, 2, 3)]
+                want = [c] + [np.mean([x[k] for x in ms]) for k in ("value", "lo", "hi")]
+                check(np.allclose(row, want, atol=1e-9), "summary chart: %s of method %d on row %d equals numpy.mean "
+                      "of value, lo, hi over seeds" % (key, m, c))
+                if c == 0:
+                    check(("set arrow from %.9g," % want[1]) in gp, "summary chart: the baseline of method %d on %s "
+                          "is its unperturbed mean" % (m, key))
 
 
 if __name__ == "__main__":

@@ -8,6 +8,10 @@ stay apart in grey and under simulated colour vision deficiencies.
   Fernandes, "A physiologically-based model for simulation of color vision
   deficiency", IEEE TVCG 2009, applied to linear RGB.  The matrix values
   below are quoted from memory of that paper.
+- Verdict colours of report.html: white text on the pass and fail
+  backgrounds has a contrast ratio of at least 4.5 (W3C, WCAG 2.0, 2008,
+  success criterion 1.4.3 and the "contrast ratio" definition), and the two
+  backgrounds are palette colours.
 - Thresholds (CIELAB L* rising by at least 5 per step; CIE76 distance of at
   least 15 between any two styles in every simulation) are our own design
   targets, not published limits.
@@ -66,8 +70,34 @@ def main():
         labs = [lab(np.array(m) @ linear(c)) for c in cols]
         dmin = min(np.linalg.norm(a - b) for a, b in itertools.combinations(labs, 2))
         check(dmin >= 15, "%s: every two styles differ by CIE76 >= 15 (min %.1f)" % (name, dmin))
+    verdict_colours(tmp, cols)
     shutil.rmtree(tmp, ignore_errors=True)
     return done()
+
+
+def contrast(a, b):
+    """WCAG 2.0 contrast ratio of two sRGB colours (relative luminance from linear RGB)."""
+    la, lb = (float(np.array([0.2126, 0.7152, 0.0722]) @ linear(c)) for c in (a, b))
+    return (max(la, lb) + 0.05) / (min(la, lb) + 0.05)
+
+
+def verdict_colours(tmp, palette):
+    subprocess.run(["env", "PATH=" + tmp + "/none", BIN, "report", tmp + "/one", "--quiet", "--format", "html",
+                    "--out", tmp + "/html"], check=True)
+    html = open(tmp + "/html/report.html").read()
+    bg = dict(re.findall(r"\.(pass|fail)\{background:(#[0-9a-f]{6})\}", html))
+    text = re.search(r"\.pass,\.fail\{[^}]*color:(#[0-9a-f]{3,6})", html)
+    check(set(bg) == {"pass", "fail"} and text is not None, "report.html styles passed and failed verdicts")
+    if set(bg) != {"pass", "fail"} or text is None:
+        return
+    fg = text.group(1) if len(text.group(1)) == 7 else "#" + "".join(ch * 2 for ch in text.group(1)[1:])
+    for k in ("pass", "fail"):
+        check(bg[k] in palette, "the %s background %s is a palette colour" % (k, bg[k]))
+        r = contrast(fg, bg[k])
+        check(r >= 4.5, "verdict text on the %s background: WCAG contrast %.2f >= 4.5" % (k, r))
+    for name, m in [("normal vision", np.eye(3))] + list(MACHADO_2009.items()):
+        d = np.linalg.norm(lab(np.array(m) @ linear(bg["pass"])) - lab(np.array(m) @ linear(bg["fail"])))
+        check(d >= 15, "%s: pass and fail backgrounds differ by CIE76 >= 15 (%.1f)" % (name, d))
 
 
 if __name__ == "__main__":
