@@ -2,6 +2,8 @@
  * reader and writer, one file each, checking file, line and expectation. */
 #include <stdio.h>
 #include <string.h>
+#include <sys/stat.h>
+#include <unistd.h>
 
 #include "harness/io/poses_io.h"
 #include "tests/check.h"
@@ -79,9 +81,29 @@ static void test_detect_and_write(void)
     CHECK_MSG(e.msg, "unknown pose layout 'tum', expected auto, csv, text or matrix", "the message lists the words");
 }
 
+/* A FIFO as the pose file or the times file is refused at once, never waited on. */
+static void test_fifo(void)
+{
+    unlink("pipe.csv");
+    CHECK(mkfifo("pipe.csv", 0600) == 0, "a FIFO can be made for the test");
+    put("ok.txt", ROW12);
+    alarm(20);  /* a reader that blocks on the FIFO dies here and the test fails */
+    struct poses ps;
+    struct err e;
+    e.msg[0] = 0;
+    CHECK(poses_read("pipe.csv", POSES_AUTO, NULL, &ps, &e) == -1, "a FIFO as the pose file is refused");
+    CHECK_MSG(e.msg, "pipe.csv: not a regular file (a FIFO)", "the message names the file and its kind");
+    e.msg[0] = 0;
+    CHECK(poses_read("ok.txt", POSES_MATRIX, "pipe.csv", &ps, &e) == -1, "a FIFO as the times file is refused");
+    CHECK_MSG(e.msg, "pipe.csv: not a regular file (a FIFO)", "the message names the times file");
+    alarm(0);
+    unlink("pipe.csv");
+}
+
 int main(void)
 {
     test_refusals();
+    test_fifo();
     test_detect_and_write();
     return check_done();
 }

@@ -5,6 +5,7 @@
 #include <stdio.h>
 #include <stdlib.h>
 #include <string.h>
+#include <sys/resource.h>
 
 #include "harness/base/fileio.h"
 #include "harness/io/poses_io.h"
@@ -137,9 +138,33 @@ static void test_writer_refusals(void)
     cloud_free(&c);
 }
 
+/* A scan list over the bound is refused before the JSON parser builds it:
+ * 10.2 million entries in a 20 MB file would cost about a gigabyte parsed. */
+static void test_scan_bound(void)
+{
+    const size_t n = RECORDING_MAX_SCANS + 200000;
+    FILE *f = fopen("r/recording.json", "w");
+    fputs("{\"format\": \"revisit-recording-1\", \"scans\": {\"files\": [0", f);
+    for (size_t k = 1; k < n; k++) fputs(",0", f);
+    fputs("]}}\n", f);
+    fclose(f);
+    struct rusage before, after;
+    getrusage(RUSAGE_SELF, &before);
+    struct recording r;
+    struct err e;
+    e.msg[0] = 0;
+    CHECK(recording_load("r", 0, &r, &e) == -1, "a manifest listing more than 10 million scans is refused");
+    CHECK_MSG(e.msg, "r/recording.json: more than 10069631 JSON values, expected at most 10000000 scans",
+              "the message names the manifest and the bound");
+    getrusage(RUSAGE_SELF, &after);
+    /* the file itself is read (20 MB); parsing it would add about 1 GB */
+    CHECK(after.ru_maxrss - before.ru_maxrss < 200 * 1024, "the refusal comes before the parse allocates");
+}
+
 int main(void)
 {
     test_edits();
+    test_scan_bound();
     test_writer_refusals();
     return check_done();
 }

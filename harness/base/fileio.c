@@ -71,29 +71,57 @@ int fileio_write(const char *path, const void *data, size_t len, struct err *e)
     return afile_commit(&a, e);
 }
 
+/* The kind of a non-regular file, for messages. */
+static const char *fileio_kind(mode_t m)
+{
+    return S_ISDIR(m) ? "a folder" : S_ISFIFO(m) ? "a FIFO" : S_ISCHR(m) ? "a character device"
+         : S_ISBLK(m) ? "a block device" : S_ISSOCK(m) ? "a socket" : "not a plain file";
+}
+
+int fileio_open_regular(const char *path, const char *what, int *fd, size_t *size, struct err *e)
+{
+    /* O_NONBLOCK: opening a FIFO without a writer would otherwise wait for ever */
+    *fd = open(path, O_RDONLY | O_NONBLOCK | O_CLOEXEC);
+    if (*fd < 0) return err_at(e, path, 0, "cannot open: %s", strerror(errno));
+    struct stat st;
+    int rc = 0, flags;
+    if (fstat(*fd, &st))
+        rc = err_at(e, path, 0, "cannot stat: %s", strerror(errno));
+    else if (!S_ISREG(st.st_mode))
+        rc = err_at(e, path, 0, "not a regular file (%s), expected %s", fileio_kind(st.st_mode), what);
+    else if ((flags = fcntl(*fd, F_GETFL)) < 0 || fcntl(*fd, F_SETFL, flags & ~O_NONBLOCK) < 0)
+        rc = err_at(e, path, 0, "cannot set blocking reads: %s", strerror(errno));
+    if (rc) {
+        close(*fd);
+        *fd = -1;
+        return -1;
+    }
+    if (size) *size = (size_t)st.st_size;
+    return 0;
+}
+
 int fileio_read(const char *path, size_t max_bytes, char **buf, size_t *len, struct err *e)
 {
     *buf = NULL;
     *len = 0;
-    FILE *f = fopen(path, "rb");
-    if (!f) return err_at(e, path, 0, "cannot open: %s", strerror(errno));
-    struct stat st;
-    if (fstat(fileno(f), &st) || !S_ISREG(st.st_mode)) {
-        fclose(f);
-        return err_at(e, path, 0, "not a regular file");
+    int fd;
+    size_t n;
+    if (fileio_open_regular(path, "a file to read", &fd, &n, e)) return -1;
+    if (n > max_bytes) {
+        close(fd);
+        return err_at(e, path, 0, "file is %zu bytes, more than the limit of %zu", n, max_bytes);
     }
-    if ((unsigned long long)st.st_size > max_bytes) {
-        fclose(f);
-        return err_at(e, path, 0, "file is %lld bytes, more than the limit of %zu",
-                      (long long)st.st_size, max_bytes);
-    }
-    size_t n = (size_t)st.st_size;
     char *b = malloc(n + 1);
-    if (!b) { fclose(f); return err_at(e, path, 0, "out of memory for %zu bytes", n); }
-    size_t got = n ? fread(b, 1, n, f) : 0;
-    int rerr = ferror(f);
-    fclose(f);
-    if (got != n || rerr) { free(b); return err_at(e, path, 0, "read failed after %zu of %zu bytes", got, n); }
+    if (!b) { close(fd); return err_at(e, path, 0, "out of memory for %zu bytes", n); }
+    size_t got = 0;
+    while (got < n) {
+        ssize_t r = read(fd, b + got, n - got);
+        if (r < 0 && errno == EINTR) continue;
+        if (r <= 0) break;
+        got += (size_t)r;
+    }
+    close(fd);
+    if (got != n) { free(b); return err_at(e, path, 0, "read failed after %zu of %zu bytes", got, n); }
     b[n] = 0;
     *buf = b;
     *len = n;

@@ -37,7 +37,15 @@ void afile_abort(struct afile *a);
 /* Write len bytes to path atomically. 0 or -1. */
 int fileio_write(const char *path, const void *data, size_t len, struct err *e);
 
+/* Open path for reading without blocking on a FIFO or device, refuse what
+ * is not a regular file ("not a regular file (a FIFO), expected WHAT"), then
+ * switch the descriptor back to blocking reads. The size goes to *size when
+ * size is not NULL. 0 with *fd open (the caller closes it), or -1 with *fd
+ * -1 and e naming the path. */
+int fileio_open_regular(const char *path, const char *what, int *fd, size_t *size, struct err *e);
+
 /* Read a whole file into a NUL-terminated malloc'ed buffer; the caller frees.
+ * Only regular files are read (fileio_open_regular).
  * Refuses files larger than max_bytes with a clear message. 0 or -1. */
 int fileio_read(const char *path, size_t max_bytes, char **buf, size_t *len, struct err *e);
 

@@ -336,6 +336,10 @@ static int pcd_body_binary(int fd, size_t size, const unsigned char *head, size_
     if (ps == 0 || have / ps < h->points)
         return err_at(e, path, 0, "binary body is %zu bytes, POINTS %zu needs %zu (%zu bytes per point): "
                       "file truncated at point %zu", have, h->points, h->points * ps, ps, ps ? have / ps : 0);
+    if (have != h->points * ps)
+        return err_at(e, path, 0, "binary body is %zu bytes, POINTS %zu needs %zu (%zu bytes per point): "
+                      "%zu bytes more than the header declares, expected POINTS to count every point",
+                      have, h->points, h->points * ps, ps, have - h->points * ps);
     if (pcd_prepare(c, h)) return err_at(e, path, 0, "out of memory for %zu points", h->points);
     size_t body = h->points * ps, fill = head_len - h->body, taken = 0, k = 0;
     if (fill > body) fill = body;
@@ -461,6 +465,10 @@ static int pcd_body_ascii(const unsigned char *buf, size_t len, const char *path
         pcd_store(c, k, h, v);
         c->n = k + 1;
     }
+    while (*s == '\n' || *s == '\r' || *s == ' ' || *s == '\t') { if (*s == '\n') line++; s++; }
+    if (*s)
+        return err_at(e, path, line, "more points than POINTS %zu declares, expected POINTS to count every point",
+                      h->points);
     return 0;
 }
 
@@ -469,11 +477,7 @@ static int pcd_body_ascii(const unsigned char *buf, size_t len, const char *path
 static int pcd_open(const char *path, int *fd, size_t *size, unsigned char **head, size_t *head_len,
                     struct err *e)
 {
-    *fd = open(path, O_RDONLY);
-    if (*fd < 0) return err_at(e, path, 0, "cannot open: %s", strerror(errno));
-    struct stat st;
-    if (fstat(*fd, &st) || !S_ISREG(st.st_mode)) return err_at(e, path, 0, "not a regular file, expected a scan file");
-    *size = (size_t)st.st_size;
+    if (fileio_open_regular(path, "a scan file", fd, size, e)) return -1;
     if (*size == 0) return err_at(e, path, 0, "file is empty, expected a scan");
     if (*size > PCD_FILE_MAX)
         return err_at(e, path, 0, "file is %zu bytes, more than the limit of %zu for a scan", *size, PCD_FILE_MAX);

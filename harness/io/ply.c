@@ -242,6 +242,29 @@ static size_t ply_item_bytes(const struct ply_element *el)
     return b;
 }
 
+/* The fewest body bytes one item can take: binary, every scalar and every
+ * list count (an empty list); ascii, one digit and one separator per value. */
+static size_t ply_item_min_bytes(const struct ply_element *el, int binary)
+{
+    size_t b = 0;
+    for (int k = 0; k < el->np; k++)
+        b += binary ? (size_t)(el->p[k].is_list ? el->p[k].count.size : el->p[k].type.size) : 2;
+    return b;
+}
+
+/* Refuse an element whose items cannot fit in the bytes left; an element
+ * without properties is bounded by the file size all the same. */
+static int ply_fits(const struct ply_cur *cur, const struct ply_element *el, struct err *e)
+{
+    size_t left = cur->len - cur->pos, ib = ply_item_min_bytes(el, cur->binary);
+    if (ib ? left / ib >= el->count : el->count <= cur->len) return 0;
+    if (!ib)
+        return err_at(e, cur->path, 0, "element %s has no properties and %zu items, more than the %zu bytes "
+                      "of the file, expected a property line or a smaller count", el->name, el->count, cur->len);
+    return err_at(e, cur->path, 0, "body is %zu bytes, too short for element %s %zu (at least %zu bytes each)",
+                  left, el->name, el->count, ib);
+}
+
 static int ply_vertices(struct ply_cur *cur, const struct ply_element *el, struct cloud *c, struct err *e)
 {
     struct ply_slots s;
@@ -249,9 +272,7 @@ static int ply_vertices(struct ply_cur *cur, const struct ply_element *el, struc
     if (el->count > CLOUD_MAX_POINTS)
         return err_at(e, cur->path, 0, "element vertex %zu is more than the limit of %zu points", el->count,
                       (size_t)CLOUD_MAX_POINTS);
-    size_t ib = ply_item_bytes(el), left = cur->len - cur->pos;
-    if ((cur->binary && ib && left / ib < el->count) || (!cur->binary && left / 2 / (size_t)el->np < el->count))
-        return err_at(e, cur->path, 0, "body is %zu bytes, too short for element vertex %zu", left, el->count);
+    if (ply_fits(cur, el, e)) return -1;
     free(c->ring); free(c->time);
     c->ring = NULL; c->time = NULL;
     if (cloud_reserve(c, el->count) || (s.r >= 0 && cloud_enable_ring(c)) || (s.t >= 0 && cloud_enable_time(c)))
@@ -281,10 +302,9 @@ static int ply_body(const unsigned char *buf, size_t len, const char *path, cons
             seen = 1;
             continue;
         }
+        if (ply_fits(&cur, el, e)) return -1;
         size_t ib = ply_item_bytes(el);
-        if (cur.binary && ib) {
-            if ((cur.len - cur.pos) / ib < el->count)
-                return err_at(e, path, 0, "element %s of %zu items runs past the end of the file", el->name, el->count);
+        if ((cur.binary && ib) || el->np == 0) {
             cur.pos += ib * el->count;
             continue;
         }

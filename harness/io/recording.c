@@ -439,6 +439,30 @@ static int rec_pair(const struct rec_ctx *x, const struct recording *rec, const 
     return 0;
 }
 
+/* Values the parser would build, counted before it runs: one more than the
+ * separators outside strings. A manifest holds the scan list, one number per
+ * sensor channel and a few dozen other keys. */
+#define REC_VALUES_MAX (RECORDING_MAX_SCANS + 65535 + 4096)
+
+static int rec_check_values(const char *file, const char *buf, size_t len, struct err *e)
+{
+    size_t n = 1;
+    int in_str = 0;
+    for (size_t k = 0; k < len; k++) {
+        char c = buf[k];
+        if (in_str) {
+            if (c == '\\') k++;
+            else if (c == '"') in_str = 0;
+        } else if (c == '"') {
+            in_str = 1;
+        } else if (c == ',' && ++n > REC_VALUES_MAX) {
+            return err_set(e, "%s: more than %zu JSON values, expected at most %zu scans (refused before parsing)",
+                           file, (size_t)REC_VALUES_MAX, RECORDING_MAX_SCANS);
+        }
+    }
+    return 0;
+}
+
 /* Parse buf as JSON; a syntax error becomes "FILE:LINE:COL: ...". */
 static cJSON *rec_parse_json(const char *file, const char *buf, size_t len, struct err *e)
 {
@@ -489,7 +513,7 @@ int recording_load(const char *path, int allow_outside, struct recording *rec, s
     char *buf;
     size_t len;
     if (fileio_read(rec->manifest, REC_MANIFEST_MAX, &buf, &len, e)) return -1;
-    cJSON *root = rec_parse_json(rec->manifest, buf, len, e);
+    cJSON *root = rec_check_values(rec->manifest, buf, len, e) ? NULL : rec_parse_json(rec->manifest, buf, len, e);
     free(buf);
     if (!root) return -1;
     struct poses ps = {0, NULL, POSES_AUTO};

@@ -109,23 +109,12 @@ static int scan_read_full(int fd, void *buf, size_t len, int *finite, const char
     return 0;
 }
 
-/* The regular-file size of an open descriptor. */
-static int scan_fd_size(int fd, const char *path, size_t *size, struct err *e)
-{
-    struct stat st;
-    if (fstat(fd, &st)) return err_at(e, path, 0, "cannot stat: %s", strerror(errno));
-    if (!S_ISREG(st.st_mode)) return err_at(e, path, 0, "not a regular file, expected a scan file");
-    *size = (size_t)st.st_size;
-    return 0;
-}
-
 static int scan_read_raw(const char *path, struct cloud *c, int *finite, struct err *e)
 {
-    int fd = open(path, O_RDONLY);
-    if (fd < 0) return err_at(e, path, 0, "cannot open: %s", strerror(errno));
+    int fd;
     size_t size;
     int rc = -1;
-    if (scan_fd_size(fd, path, &size, e)) goto done;
+    if (fileio_open_regular(path, "a scan file", &fd, &size, e)) return -1;
     if (size == 0) {
         err_at(e, path, 0, "file is empty, expected 16-byte float32 x y z i records");
         goto done;
@@ -211,8 +200,10 @@ static int scan_read_text_stream(FILE *f, const char *path, struct cloud *c, str
 
 static int scan_read_text(const char *path, struct cloud *c, struct err *e)
 {
-    FILE *f = fopen(path, "r");
-    if (!f) return err_at(e, path, 0, "cannot open: %s", strerror(errno));
+    int fd;
+    if (fileio_open_regular(path, "a scan file", &fd, NULL, e)) return -1;
+    FILE *f = fdopen(fd, "r");
+    if (!f) { close(fd); return err_at(e, path, 0, "cannot open: %s", strerror(errno)); }
     free(c->ring);
     free(c->time);
     c->ring = NULL;
@@ -262,12 +253,11 @@ int scan_slurp(const char *path, size_t max_bytes, unsigned char **buf, size_t *
 {
     *buf = NULL;
     *len = 0;
-    int fd = open(path, O_RDONLY);
-    if (fd < 0) return err_at(e, path, 0, "cannot open: %s", strerror(errno));
+    int fd;
     size_t size;
     int rc = -1;
     unsigned char *b = NULL;
-    if (scan_fd_size(fd, path, &size, e)) goto done;
+    if (fileio_open_regular(path, "a scan file", &fd, &size, e)) return -1;
     if (size == 0) { err_at(e, path, 0, "file is empty, expected a scan"); goto done; }
     if (size > max_bytes) {
         err_at(e, path, 0, "file is %zu bytes, more than the limit of %zu for a scan", size, max_bytes);
