@@ -1,6 +1,7 @@
 /* test_poses_refusals.c: layout detection and every refusal of the pose-file
  * reader and writer, one file each, checking file, line and expectation. */
 #include <stdio.h>
+#include <stdlib.h>
 #include <string.h>
 #include <sys/stat.h>
 #include <unistd.h>
@@ -100,8 +101,64 @@ static void test_fifo(void)
     unlink("pipe.csv");
 }
 
+/* n poses at times t0 + k * step (file units) */
+static void timed(struct poses *ps, size_t n, double t0, double step)
+{
+    ps->n = n;
+    ps->layout = POSES_TEXT;
+    ps->v = calloc(n, sizeof *ps->v);
+    for (size_t k = 0; k < n; k++) pose_identity(&ps->v[k], t0 + (double)k * step);
+}
+
+/* Pose times in s, ms, us or ns: a spinning sensor at 10 Hz gives one pose
+ * every 0.1 s (common practice, no source); the unit is told by the rate the
+ * median step implies and by the magnitude (an epoch in ns is about 1.7e18). */
+static void test_time_units(void)
+{
+    static const struct { double t0, step; enum poses_unit named, want; double t1_s; const char *what; } ok[] = {
+        {0, 0.1, POSES_UNIT_AUTO, POSES_UNIT_S, 0.1, "10 Hz in seconds stays seconds"},
+        {0, 100, POSES_UNIT_AUTO, POSES_UNIT_MS, 0.1, "10 Hz in ms is read as ms"},
+        {0, 1e5, POSES_UNIT_AUTO, POSES_UNIT_US, 0.1, "10 Hz in us is read as us"},
+        {0, 1e8, POSES_UNIT_AUTO, POSES_UNIT_NS, 0.1, "10 Hz in ns from 0 is read as ns"},
+        {1.7e18, 1e8, POSES_UNIT_AUTO, POSES_UNIT_NS, 1.7e9 + 0.1, "10 Hz in epoch ns is read as ns"},
+        {1.7e9, 0.1, POSES_UNIT_AUTO, POSES_UNIT_S, 1.7e9 + 0.1, "epoch seconds stay seconds"},
+        {0, 1e8, POSES_UNIT_NS, POSES_UNIT_NS, 0.1, "a named unit is applied"},
+    };
+    for (size_t k = 0; k < sizeof ok / sizeof ok[0]; k++) {
+        struct poses ps;
+        struct err e;
+        enum poses_unit used = POSES_UNIT_AUTO;
+        timed(&ps, 50, ok[k].t0, ok[k].step);
+        CHECK(!poses_apply_unit(&ps, ok[k].named, "p.txt", &used, &e) && used == ok[k].want, ok[k].what);
+        CHECK_NEAR(ps.v[1].t, ok[k].t1_s, 1e-6 * ok[k].t1_s, ok[k].what);
+        poses_free(&ps);
+    }
+    static const struct { double step; enum poses_unit named; const char *frag; } bad[] = {
+        {1e-5, POSES_UNIT_AUTO, "p.txt: pose times have a median step of 1e-05 and reach 0.00049: in s that is "
+                                "100000 Hz, expected a step of 0.001 to 10 s (0.1 to 1000 Hz)"},
+        {0.1, POSES_UNIT_NS, "p.txt: pose times have a median step of 0.1 and reach 4.9: in ns that is 1e+10 Hz"},
+        {100, POSES_UNIT_S, "p.txt: pose times have a median step of 100 and reach 4900: in s that is 0.01 Hz"},
+    };
+    for (size_t k = 0; k < sizeof bad / sizeof bad[0]; k++) {
+        struct poses ps;
+        struct err e;
+        e.msg[0] = 0;
+        enum poses_unit used = POSES_UNIT_AUTO;
+        timed(&ps, 50, 0, bad[k].step);
+        CHECK(poses_apply_unit(&ps, bad[k].named, "p.txt", &used, &e) == -1 && ps.v[1].t == bad[k].step,
+              "an implausible rate is refused and the times are left alone");
+        CHECK_MSG(e.msg, bad[k].frag, "the message gives the step, the rate and the expected range");
+        poses_free(&ps);
+    }
+    enum poses_unit u;
+    struct err e;
+    CHECK(poses_unit_parse("days", &u, &e) == -1, "an unknown unit word is refused");
+    CHECK_MSG(e.msg, "unknown time unit 'days', expected auto, s, ms, us or ns", "the message lists the words");
+}
+
 int main(void)
 {
+    test_time_units();
     test_refusals();
     test_fifo();
     test_detect_and_write();

@@ -204,8 +204,31 @@ static void test_pairing(void)
     puts_file("r5/poses.txt", "0 0 0 0 0 0 0 1\n0.1 0 0 0 0 0 0 0\n0.2 0 0 0 0 0 0 1\n");
     m = load_msg("r5", manifest_ok, 0);
     CHECK_MSG(m, "r5/poses.txt:2: quaternion (0 0 0 0) has zero norm", "a zero quaternion names file and line");
-    (void)r;
-    (void)e;
+    /* Frame-numbered scans with a dropped frame: the names are not times. */
+    make_folder("r8", 4, "%06d.bin", 0);
+    rename("r8/scans/000003.bin", "r8/scans/000004.bin");
+    m = load_msg("r8", manifest_ok, 0);
+    CHECK(m[0] == 0, "frame numbers with a gap (0 1 2 4) are not taken for times");
+    /* Pose times in nanoseconds at 10 Hz are read as nanoseconds, in the
+     * manifest's unit when it names one, and an implausible unit is refused. */
+    make_folder("r9", 5, "%06d.bin", 0);
+    puts_file("r9/poses.txt", "0 0 0 0 0 0 0 1\n100000000 2 0 0 0 0 0 1\n200000000 4 0 0 0 0 0 1\n"
+                              "300000000 6 0 0 0 0 0 1\n400000000 8 0 0 0 0 0 1\n");
+    puts_file("r9/recording.json", manifest_ok);
+    CHECK(!recording_load("r9", 0, &r, &e) && r.time_unit == POSES_UNIT_NS && !r.time_unit_named &&
+          fabs(r.poses[1].t - 0.1) < 1e-12 && fabs(r.poses[4].t - 0.4) < 1e-12,
+          "10 Hz pose times in ns are detected and read as seconds 0, 0.1, ... 0.4");
+    if (!e.msg[0]) recording_free(&r);
+    m = load_msg("r9", edit("\"layout\": \"text\"", "\"layout\": \"text\", \"time_unit\": \"ms\""), 0);
+    CHECK_MSG(m, "r9/poses.txt: pose times have a median step of 1e+08 and reach 4e+08: in ms that is 1e-05 Hz",
+              "a named unit giving an implausible rate is refused with the rate");
+    m = load_msg("r9", edit("\"layout\": \"text\"", "\"layout\": \"text\", \"time_unit\": \"days\""), 0);
+    CHECK_MSG(m, "r9/recording.json: $.poses.time_unit: unknown time unit 'days'", "an unknown unit word is named");
+    puts_file("r9/poses.txt", "0 0 0 0 0 0 0 1\n0.00001 2 0 0 0 0 0 1\n0.00002 4 0 0 0 0 0 1\n"
+                              "0.00003 6 0 0 0 0 0 1\n0.00004 8 0 0 0 0 0 1\n");
+    m = load_msg("r9", manifest_ok, 0);
+    CHECK_MSG(m, "r9/poses.txt: pose times have a median step of 1e-05", "a rate no unit explains is refused");
+    CHECK_MSG(m, "(name the unit with time_unit)", "the message says how to name the unit");
 }
 
 static void test_writer(void)

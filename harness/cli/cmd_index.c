@@ -24,14 +24,16 @@ static const char usage[] =
     "every name is a number).  The pose file is CSV with a header naming\n"
     "t,x,y,z,qx,qy,qz,qw, lines of 't x y z qx qy qz qw', or rows of 12 numbers\n"
     "(a 3x4 [R|t] matrix) with --times naming a file of one time per line; the\n"
-    "layout is detected unless --pose-layout names it.  Before anything is\n"
+    "layout is detected unless --pose-layout names it, and the time unit (s, ms,\n"
+    "us, ns) unless --time-unit names it: the median step between poses must be\n"
+    "1 ms to 10 s once read in that unit.  Before anything is\n"
     "written, the manifest is loaded back: scans and poses must pair up (one pose\n"
     "per scan; scan names that are times must match the pose times within 1 ms),\n"
     "the first scan must read, and the message says exactly where they do not.\n"
     "Paths are stored relative to the manifest's folder.\n\n";
 
 struct index_opts {
-    const char *dir, *poses, *times, *out, *pose_layout, *scan_layout, *pattern, *notes;
+    const char *dir, *poses, *times, *out, *pose_layout, *scan_layout, *pattern, *notes, *time_unit;
     long channels;
     int allow_outside, quiet;
 };
@@ -130,15 +132,20 @@ static int index_build(const struct index_opts *o, struct recording_manifest *m,
     if (sl == SCAN_AUTO) sl = scan_layout_from_path(paths[3]);
     enum poses_layout pl = POSES_AUTO;
     if (o->pose_layout && poses_layout_parse(o->pose_layout, &pl, e)) return err_wrap(e, "revisit index: --pose-layout");
+    enum poses_unit tu = POSES_UNIT_AUTO;
+    if (o->time_unit && poses_unit_parse(o->time_unit, &tu, e)) return err_wrap(e, "revisit index: --time-unit");
     struct poses ps;
     if (poses_read(o->poses, pl, o->times, &ps, e)) return -1;
     pl = ps.layout;
+    int rc = poses_apply_unit(&ps, tu, o->times ? o->times : o->poses, &tu, e);
     poses_free(&ps);
+    if (rc) return -1;
     s->channels = o->channels > 0 ? (int)o->channels : 1;
     if (o->notes && !(s->notes = strdup(o->notes))) return err_set(e, "out of memory");
     *m = (struct recording_manifest){.sensor = s, .scans_dir = paths[0], .scans_pattern = paths[3], .layout = sl,
                                      .poses_file = paths[1], .poses_layout = poses_layout_name(pl),
-                                     .poses_times = o->times ? paths[2] : NULL};
+                                     .poses_times = o->times ? paths[2] : NULL,
+                                     .poses_time_unit = poses_unit_name(tu)};
     return 0;
 }
 
@@ -166,8 +173,9 @@ static int index_run(const struct index_opts *o, struct err *e)
     unlink(check);
     if (!rc && !o->quiet) {
         double dur = r.n > 1 ? r.poses[r.n - 1].t - r.poses[0].t : 0;
-        printf("wrote %s: %zu scans (%s, %s/%s), %zu poses (%s), %d channels, %.3f s\n", o->out, r.n,
-               scan_layout_name(r.layout), paths[0], paths[3], r.n, m.poses_layout, s.channels, dur);
+        printf("wrote %s: %zu scans (%s, %s/%s), %zu poses (%s, times in %s%s), %d channels, %.3f s\n", o->out,
+               r.n, scan_layout_name(r.layout), paths[0], paths[3], r.n, m.poses_layout, m.poses_time_unit,
+               o->time_unit ? "" : ", detected", s.channels, dur);
     }
     if (loaded) recording_free(&r);
     recording_sensor_free(&s);
@@ -182,6 +190,8 @@ int cmd_index(int argc, char **argv)
         {"--times", OPT_STR, &o.times, "FILE", "times file (one per line) for the 3x4 layout"},
         {"--out", OPT_STR, &o.out, "FILE", "manifest to write (default DIR/recording.json)"},
         {"--pose-layout", OPT_STR, &o.pose_layout, "auto|csv|text|matrix", "pose file layout (default: detect)"},
+        {"--time-unit", OPT_STR, &o.time_unit, "auto|s|ms|us|ns",
+         "unit of the pose times (default: detect by magnitude and rate); stored in the manifest"},
         {"--scan-layout", OPT_STR, &o.scan_layout, "auto|raw|pcd|ply|text", "scan layout (default: by extension)"},
         {"--pattern", OPT_STR, &o.pattern, "GLOB", "scan file names in DIR (default: the most common scan extension)"},
         {"--channels", OPT_INT, &o.channels, "N", "sensor channels (default: from the ring field of the first scan)"},

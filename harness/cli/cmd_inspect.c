@@ -152,8 +152,9 @@ static void inspect_print_text(const struct recording *rec, const struct inspect
     const struct recording_sensor *s = &rec->sensor;
     printf("recording    %s\n", rec->manifest);
     printf("scans        %zu (%s layout)\n", st->n, scan_layout_name(rec->layout));
-    printf("duration     %.3f s (t %.6f .. %.6f), %.2f scans/s\n", st->duration_s, rec->poses[0].t,
-           rec->poses[st->n - 1].t, st->rate_hz);
+    printf("duration     %.3f s (t %.6f .. %.6f), %.2f scans/s, pose times in %s (%s)\n", st->duration_s,
+           rec->poses[0].t, rec->poses[st->n - 1].t, st->rate_hz, poses_unit_name(rec->time_unit),
+           rec->time_unit_named ? "named in the manifest" : "detected");
     printf("points       min %zu / median %zu / max %zu per scan (%zu scans read)\n", st->pts_min, st->pts_median,
            st->pts_max, st->readable);
     printf("path length  %.1f m\n", st->path_m);
@@ -192,6 +193,8 @@ static int inspect_print_json(const struct recording *rec, const struct inspect_
     cJSON_AddNumberToObject(o, "t_first", rec->poses[0].t);
     cJSON_AddNumberToObject(o, "t_last", rec->poses[st->n - 1].t);
     cJSON_AddNumberToObject(o, "rate_hz", st->rate_hz);
+    cJSON_AddStringToObject(o, "pose_time_unit", poses_unit_name(rec->time_unit));
+    cJSON_AddBoolToObject(o, "pose_time_unit_named", rec->time_unit_named);
     cJSON *p = cJSON_AddObjectToObject(o, "points_per_scan");
     cJSON_AddNumberToObject(p, "min", (double)st->pts_min);
     cJSON_AddNumberToObject(p, "median", (double)st->pts_median);

@@ -58,6 +58,27 @@ int poses_read_times(const char *path, double **t, size_t *n, struct err *e);
 
 void poses_free(struct poses *ps);
 
+/* Time units of a pose file. POSES_UNIT_AUTO: seconds when they give a
+ * plausible rate, else the first of ms, us, ns that does; the median step
+ * between poses must lie within [POSES_STEP_MIN_S, POSES_STEP_MAX_S] (1 kHz
+ * down to 0.1 Hz) and the largest time below POSES_TIME_MAX_S once scaled
+ * (an epoch in seconds is about 1.7e9). */
+enum poses_unit { POSES_UNIT_AUTO = 0, POSES_UNIT_S, POSES_UNIT_MS, POSES_UNIT_US, POSES_UNIT_NS };
+#define POSES_STEP_MIN_S 1e-3
+#define POSES_STEP_MAX_S 10.0
+#define POSES_TIME_MAX_S 1e11
+
+/* "auto" | "s" | "ms" | "us" | "ns"; -1 with e naming the words otherwise. */
+int poses_unit_parse(const char *name, enum poses_unit *out, struct err *e);
+const char *poses_unit_name(enum poses_unit unit);
+
+/* Scale the times of ps to seconds from unit (POSES_UNIT_AUTO detects); the
+ * unit applied goes to *used. Refuses, naming path, the median step and the
+ * rate it implies, when no unit (or not the one named) gives a plausible
+ * rate. 0, or -1 with e set and ps unchanged. */
+int poses_apply_unit(struct poses *ps, enum poses_unit unit, const char *path, enum poses_unit *used,
+                     struct err *e);
+
 /* Write n poses in layout (not POSES_AUTO), atomically, with 17 significant
  * digits so a read gives back the same doubles.  POSES_MATRIX writes the
  * times to times_path (required then, NULL otherwise). */

@@ -17,6 +17,7 @@
 
 #define REC_MANIFEST_MAX ((size_t)512 << 20)
 #define REC_TIME_TOL_S 1e-3
+#define REC_FRAME_MAX 1e6   /* whole-number scan names below this are frame numbers */
 
 /* What the parser needs while walking the manifest. */
 struct rec_ctx {
@@ -365,18 +366,23 @@ static int rec_scans(const struct rec_ctx *x, const cJSON *root, struct recordin
 static int rec_poses(const struct rec_ctx *x, const cJSON *root, struct recording *rec, struct poses *ps,
                      struct err *e)
 {
-    static const char *const keys[] = {"file", "layout", "times", NULL};
-    const cJSON *obj, *file, *lay, *times;
+    static const char *const keys[] = {"file", "layout", "times", "time_unit", NULL};
+    const cJSON *obj, *file, *lay, *times, *unit;
     if (rec_get(x, root, "$", "poses", cJSON_Object, 1, &obj, e) || rec_keys(x, obj, "$.poses", keys, e) ||
         rec_get(x, obj, "$.poses", "file", cJSON_String, 1, &file, e) ||
         rec_get(x, obj, "$.poses", "layout", cJSON_String, 0, &lay, e) ||
-        rec_get(x, obj, "$.poses", "times", cJSON_String, 0, &times, e)) return -1;
+        rec_get(x, obj, "$.poses", "times", cJSON_String, 0, &times, e) ||
+        rec_get(x, obj, "$.poses", "time_unit", cJSON_String, 0, &unit, e)) return -1;
     enum poses_layout layout = POSES_AUTO;
     if (lay && poses_layout_parse(lay->valuestring, &layout, e)) return err_wrap(e, "%s: $.poses.layout", x->file);
+    enum poses_unit tu = POSES_UNIT_AUTO;
+    if (unit && poses_unit_parse(unit->valuestring, &tu, e)) return err_wrap(e, "%s: $.poses.time_unit", x->file);
     char pp[RECORDING_PATH_MAX], tp[RECORDING_PATH_MAX];
     if (rec_path(x, rec->dir, file->valuestring, "$.poses.file", pp, sizeof pp, e)) return -1;
     if (times && rec_path(x, rec->dir, times->valuestring, "$.poses.times", tp, sizeof tp, e)) return -1;
-    return poses_read(pp, layout, times ? tp : NULL, ps, e);
+    if (poses_read(pp, layout, times ? tp : NULL, ps, e)) return -1;
+    rec->time_unit_named = tu != POSES_UNIT_AUTO;
+    return poses_apply_unit(ps, tu, times ? tp : pp, &rec->time_unit, e);
 }
 
 static int rec_perturbation(const struct rec_ctx *x, const cJSON *root, struct recording_perturbation *p,
@@ -421,14 +427,16 @@ static int rec_pair(const struct rec_ctx *x, const struct recording *rec, const 
         return err_set(e, "%s: %zu scans but %zu poses, expected one pose per scan (first scan %s, last %s)",
                        x->file, rec->n, ps->n, rec->scan_paths[0], rec->scan_paths[rec->n - 1]);
     double first = rec_stem_number(rec->scan_paths[0]), big = 0;
-    int is_index = 1;
+    int is_index = 1, frames = 1;
     for (size_t k = 0; k < rec->n; k++) {
         double v = rec_stem_number(rec->scan_paths[k]);
         if (isnan(v)) return 0;  /* names carry no time */
         if (v != first + (double)k) is_index = 0;
+        if (v != floor(v) || v >= REC_FRAME_MAX) frames = 0;
         if (v > big) big = v;
     }
-    if (is_index && first == floor(first)) return 0;
+    /* whole numbers counting up, or below a million: frame numbers, not times */
+    if ((is_index && first == floor(first)) || frames) return 0;
     double scale = big > 1e15 ? 1e-9 : 1.0;
     for (size_t k = 0; k < rec->n; k++) {
         double t = rec_stem_number(rec->scan_paths[k]) * scale;

@@ -19,7 +19,8 @@
  *     "scan_layout": "raw" | "pcd" | "ply" | "text" | "auto", required
  *     "poses": {"file": "poses.csv",                          required
  *               "layout": "csv" | "text" | "matrix" | "auto", optional, default auto
- *               "times": "times.txt"},                        optional (matrix layout)
+ *               "times": "times.txt",                         optional (matrix layout)
+ *               "time_unit": "s" | "ms" | "us" | "ns" | "auto"},  optional, default auto
  *     "perturbation": {"chain": "...", "seed": 7,             optional: written by
  *                      "on": "query", "source": "..."}          `revisit perturb`
  *   }
@@ -27,10 +28,13 @@
  * Relative paths resolve against the manifest's folder.  A path that leads
  * outside that folder (after following symbolic links) is refused unless
  * allow_outside is set.  Scans and poses must pair up: as many poses as scans,
- * and when every scan file name is a number that is not simply the index,
- * it must match the pose time within 1 ms (seconds, or nanoseconds when the
- * numbers are above 1e15).  More than RECORDING_MAX_SCANS scans is refused
- * before allocating.
+ * and when every scan file name is a number that is not a frame number (a
+ * whole number below a million, or whole numbers counting up by one), it
+ * must match the pose time within 1 ms (seconds, or nanoseconds when the
+ * numbers are above 1e15).  Pose times are scaled to seconds from
+ * poses.time_unit; "auto" detects the unit by magnitude and the rate the
+ * median step implies (poses_apply_unit), and an implausible rate is refused.
+ * More than RECORDING_MAX_SCANS scans is refused before allocating.
  *
  * READING
  *     struct recording r;
@@ -66,6 +70,7 @@
 #include "harness/base/cloud.h"
 #include "harness/base/err.h"
 #include "harness/base/pose.h"
+#include "harness/io/poses_io.h"
 #include "harness/io/scan_io.h"
 
 #define RECORDING_FORMAT "revisit-recording-1"
@@ -97,7 +102,9 @@ struct recording {
     size_t n;                           /* scans */
     char **scan_paths;                  /* n resolved paths */
     enum scan_layout layout;            /* from scan_layout (SCAN_AUTO: by extension) */
-    struct pose *poses;                 /* n poses, poses[i] belongs to scan i */
+    struct pose *poses;                 /* n poses, poses[i] belongs to scan i; times in seconds */
+    enum poses_unit time_unit;          /* unit the pose file's times were read in */
+    int time_unit_named;                /* 1: named by poses.time_unit, 0: detected */
     struct recording_sensor sensor;
     struct recording_perturbation perturbation;
 };
@@ -133,6 +140,7 @@ struct recording_manifest {
     const char *poses_file;
     const char *poses_layout;               /* "csv" | "text" | "matrix" | "auto" */
     const char *poses_times;                /* or NULL */
+    const char *poses_time_unit;            /* "s" | "ms" | "us" | "ns", or NULL (auto) */
     const struct recording_perturbation *perturbation;  /* or NULL */
 };
 int recording_write_manifest(const char *path, const struct recording_manifest *m,

@@ -74,6 +74,7 @@ static cJSON *rec_w_manifest(const struct recording_manifest *m)
     cJSON_AddStringToObject(poses, "file", m->poses_file);
     cJSON_AddStringToObject(poses, "layout", m->poses_layout ? m->poses_layout : "auto");
     if (m->poses_times) cJSON_AddStringToObject(poses, "times", m->poses_times);
+    if (m->poses_time_unit) cJSON_AddStringToObject(poses, "time_unit", m->poses_time_unit);
     if (m->perturbation && m->perturbation->present)
         cJSON_AddItemToObject(root, "perturbation", rec_w_perturbation(m->perturbation));
     return root;
