@@ -41,7 +41,8 @@ EOF
 R="$T/run"
 out=$("$REVISIT_BIN" index "$R/scans" --poses "$R/poses.csv" --channels 16 --out "$R/recording.json" 2>&1); rc=$?
 expect "[ $rc -eq 0 ]" "index writes a manifest for raw scans with CSV poses"
-expect_in "$out" "60 scans (raw, scans/*.bin), 60 poses (csv), 16 channels, 59.000 s" "index says what it found"
+expect_in "$out" "60 scans (raw, scans/*.bin), 60 poses (csv, times in s, detected), 16 channels, 59.000 s" \
+  "index says what it found"
 expect "grep -q '\"layout\":.*\"csv\"' '$R/recording.json'" "the detected pose layout is recorded"
 out=$("$REVISIT_BIN" index "$R/scans" --poses "$R/poses.csv" --channels 16 --out "$R/q.json" --quiet 2>&1)
 expect "[ $? -eq 0 ] && [ -z '$out' ] && [ -s '$R/q.json' ]" "index --quiet writes the manifest and prints nothing"
@@ -69,6 +70,39 @@ expect "[ $rc -eq 2 ]" "that manifest does not load without --allow-outside"
 printf 't,x,y,z,qx,qy,qz,qw\n0,0,0,0,0,0,0,1\n1,0,0,0,0,0,0\n' > "$T/p7.csv"
 err=$("$REVISIT_BIN" index "$R/scans" --poses "$T/p7.csv" --channels 16 --allow-outside 2>&1)
 expect_in "$err" "p7.csv:3: found 7 columns, expected 8" "a short pose line is named by file and line"
+
+# The same poses with times in nanoseconds (one scan a second: steps of 1e9).
+$PY - "$R" <<'EOF'
+import sys
+d = sys.argv[1]
+rows = open(d + "/poses.csv").read().splitlines()
+with open(d + "/poses_ns.csv", "w") as f:
+    f.write(rows[0] + "\n")
+    for r in rows[1:]:
+        c = r.split(",")
+        f.write(",".join(["%d" % round(float(c[0]) * 1e9)] + c[1:]) + "\n")
+EOF
+out=$("$REVISIT_BIN" index "$R/scans" --poses "$R/poses_ns.csv" --channels 16 --out "$R/ns.json" 2>&1); rc=$?
+expect "[ $rc -eq 0 ]" "index accepts pose times in nanoseconds"
+expect_in "$out" "60 poses (csv, times in ns, detected), 16 channels, 59.000 s" "index detects the unit and says so"
+expect "grep -q '\"time_unit\":[[:space:]]*\"ns\"' '$R/ns.json'" "the detected unit is stored in the manifest"
+out=$("$REVISIT_BIN" inspect "$R/ns.json" --quiet --radius 4.5)
+expect_in "$out" "duration     59.000 s" "inspect reads the nanosecond times as seconds"
+expect_in "$out" "pose times in ns (named in the manifest)" "inspect names the unit"
+# at 4.5 m the predecessor 1 s back is a neighbour: only the 30 s exclusion,
+# applied in seconds, keeps the count to what the times in seconds give
+want=$("$REVISIT_BIN" inspect "$R" --quiet --radius 4.5 | grep '^revisits')
+expect "[ -n '$want' ]" "the seconds recording gives a revisit count at 4.5 m"
+expect_in "$out" "$want" "nanosecond times give the revisits of the same times in seconds"
+$PY -c 'import json, sys; d = json.load(open(sys.argv[1])); del d["poses"]["time_unit"]; json.dump(d, open(sys.argv[2], "w"))' \
+  "$R/ns.json" "$R/ns_auto.json"
+out=$("$REVISIT_BIN" inspect "$R/ns_auto.json" --quiet --radius 4.5)
+expect_in "$out" "$want" "a manifest without time_unit detects nanoseconds too"
+expect_in "$out" "pose times in ns (detected)" "and says the unit was detected"
+err=$("$REVISIT_BIN" index "$R/scans" --poses "$R/poses_ns.csv" --channels 16 --time-unit s --out "$R/ns_s.json" 2>&1); rc=$?
+expect "[ $rc -eq 2 ] && [ ! -e '$R/ns_s.json' ]" "a named unit that gives an implausible rate is refused"
+expect_in "$err" "poses_ns.csv: pose times have a median step of 1e+09 and reach 1.059e+12: in s that is 1e-09 Hz" \
+  "the message gives the step and the rate it implies"
 
 out=$("$REVISIT_BIN" inspect "$R" --quiet); rc=$?
 expect "[ $rc -eq 0 ]" "inspect exits 0 when every scan reads"
@@ -129,7 +163,8 @@ with open(d + "/poses.txt", "w") as f:
 EOF2
 out=$("$REVISIT_BIN" index "$T/pcdrun" --poses "$T/pcdrun/poses.txt" 2>&1); rc=$?
 expect "[ $rc -eq 0 ]" "index of PCD scans with a ring field needs no --channels"
-expect_in "$out" "3 scans (pcd, ./*.pcd), 3 poses (text), 32 channels" "the channel count comes from the ring field"
+expect_in "$out" "3 scans (pcd, ./*.pcd), 3 poses (text, times in s, detected), 32 channels" \
+  "the channel count comes from the ring field"
 
 # Usage and input refusals of the two commands, each with its message.
 refuse() {  # expected-fragment description command...

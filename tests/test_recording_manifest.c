@@ -228,7 +228,7 @@ static void test_pairing(void)
                               "0.00003 6 0 0 0 0 0 1\n0.00004 8 0 0 0 0 0 1\n");
     m = load_msg("r9", manifest_ok, 0);
     CHECK_MSG(m, "r9/poses.txt: pose times have a median step of 1e-05", "a rate no unit explains is refused");
-    CHECK_MSG(m, "(name the unit with time_unit)", "the message says how to name the unit");
+    CHECK_MSG(m, "(name the unit: poses.time_unit, or index --time-unit)", "the message says how to name the unit");
 }
 
 static void test_writer(void)

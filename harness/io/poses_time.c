@@ -7,7 +7,8 @@
 #include <string.h>
 
 static const char *const poses_unit_names[] = {"auto", "s", "ms", "us", "ns"};
-static const double poses_unit_scale[] = {1, 1, 1e-3, 1e-6, 1e-9};
+/* per second; times are divided (exact for whole multiples, unlike 1e-9 *) */
+static const double poses_unit_per_s[] = {1, 1, 1e3, 1e6, 1e9};
 
 int poses_unit_parse(const char *name, enum poses_unit *out, struct err *e)
 {
@@ -44,9 +45,9 @@ static int poses_median_step(const struct poses *ps, double *step)
 /* 1 when times in unit u have a plausible magnitude and step. */
 static int poses_unit_fits(enum poses_unit u, double big, double step, size_t n)
 {
-    double s = poses_unit_scale[u];
-    if (big * s > POSES_TIME_MAX_S) return 0;
-    return n < 2 || (step * s >= POSES_STEP_MIN_S && step * s <= POSES_STEP_MAX_S);
+    double d = poses_unit_per_s[u];
+    if (big / d > POSES_TIME_MAX_S) return 0;
+    return n < 2 || (step / d >= POSES_STEP_MIN_S && step / d <= POSES_STEP_MAX_S);
 }
 
 int poses_apply_unit(struct poses *ps, enum poses_unit unit, const char *path, enum poses_unit *used,
@@ -60,16 +61,16 @@ int poses_apply_unit(struct poses *ps, enum poses_unit unit, const char *path, e
         for (u = POSES_UNIT_S; u <= POSES_UNIT_NS && !poses_unit_fits(u, big, step, ps->n); u++) {}
     if (u > POSES_UNIT_NS || !poses_unit_fits(u, big, step, ps->n)) {
         const char *as = unit == POSES_UNIT_AUTO ? "s" : poses_unit_names[u];
-        double sc = poses_unit_scale[unit == POSES_UNIT_AUTO ? POSES_UNIT_S : u];
+        double d = poses_unit_per_s[unit == POSES_UNIT_AUTO ? POSES_UNIT_S : u];
         return err_at(e, path, 0, "pose times have a median step of %.6g and reach %.6g: in %s that is "
                       "%.6g Hz, expected a step of %g to %g s (%g to %g Hz) and times below %g s%s",
-                      step, big, as, step > 0 ? 1 / (step * sc) : 0.0, POSES_STEP_MIN_S, POSES_STEP_MAX_S,
+                      step, big, as, step > 0 ? d / step : 0.0, POSES_STEP_MIN_S, POSES_STEP_MAX_S,
                       1 / POSES_STEP_MAX_S, 1 / POSES_STEP_MIN_S, POSES_TIME_MAX_S,
-                      unit == POSES_UNIT_AUTO ? " in s, ms, us or ns (name the unit with time_unit)" : "");
+                      unit == POSES_UNIT_AUTO ? " in any of s, ms, us, ns (name the unit: poses.time_unit, or index --time-unit)" : "");
     }
-    double s = poses_unit_scale[u];
-    if (s != 1)
-        for (size_t k = 0; k < ps->n; k++) ps->v[k].t *= s;
+    double d = poses_unit_per_s[u];
+    if (d != 1)
+        for (size_t k = 0; k < ps->n; k++) ps->v[k].t /= d;
     *used = u;
     return 0;
 }
