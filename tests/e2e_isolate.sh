@@ -1,9 +1,11 @@
 #!/usr/bin/env bash
-# e2e_isolate.sh: untrusted plugins under `revisit eval --isolate`.  Four
+# e2e_isolate.sh: untrusted plugins under `revisit eval --isolate`.  Five
 # plugins, built here from the public header alone, misbehave on scan 7:
-# a segfault, an abort, an endless loop, an unbounded allocation.  Each must
-# end in exit 2 with a message naming the method and the scan, with no
-# result written; a well-behaved plugin gives the same results isolated or not.
+# a segfault, an abort, an endless loop, an unbounded allocation, a call of
+# exit(0).  Each must end in exit 2 with a message naming the method (and
+# the scan when isolated), with no result written; a well-behaved plugin
+# gives the same results isolated or not.  In process, an abort and an
+# exit(0) must name the method too, and a sweep must not exit 0.
 . "$(dirname "$0")/lib_e2e.sh"
 R=$REVISIT_BIN
 cd "$T" || exit 2
@@ -27,6 +29,8 @@ static int run(void *inst, const struct rv_scan *s, float *d, float *k, char *m,
         for (volatile int x = 0; ; x++) {}
 #elif defined(ALLOC)
         for (;;) { char *q = malloc(1 << 26); if (!q) return RV_ERR_NOMEM; memset(q, 1, 1 << 26); }
+#elif defined(EXIT0)
+        exit(0);
 #endif
     }
     for (int b = 0; b < 4; b++) d[b] = (float)(s->n % (97 + b)) + (float)b;
@@ -37,7 +41,7 @@ static const struct rv_method m = {RV_ABI_VERSION, sizeof m, NAME, "1.0", "misbe
     NULL, 0, RV_DIST_L2, 0, mk, run, rm, NULL, NULL};
 RV_EXPORT const struct rv_method *rv_method_entry(void) { return &m; }
 SRC
-for v in GOOD SEGV ABRT LOOP ALLOC; do
+for v in GOOD SEGV ABRT LOOP ALLOC EXIT0; do
   n=$(echo "$v" | tr A-Z a-z)
   cc -std=c11 -O1 -shared -fPIC -Iinc -D$v -DNAME="\"$n\"" -o "$n.so" bad.c
   expect "[ -f $n.so ]" "the $n plugin builds from the public header"
@@ -68,4 +72,26 @@ out=$(run good); rc=$?
 expect "[ $rc -eq 0 ]" "a good plugin runs isolated (exit $rc: $out)"
 cmp -s plain/queries.csv out_good/queries.csv
 expect "[ $? -eq 0 ]" "isolated and in-process runs give identical per-query results"
+out=$(run exit0); rc=$?
+expect "[ $rc -eq 2 ] && [ ! -e out_exit0/result.json ]" "an isolated plugin calling exit(0) fails with exit 2 (got $rc)"
+expect_in "$out" "method 'exit0' on scan 7: the child exited with status" "the exit names method and scan"
+
+# In process: no child to watch, so the process itself must refuse to end as a success.
+inproc() { "$R" eval --map rec --method "./$1.so" --out "in_$1" --bootstrap 0 --quiet 2>&1; }
+out=$(inproc exit0); rc=$?
+expect "[ $rc -eq 2 ]" "an in-process plugin calling exit(0) ends eval with exit 2, not 0 (got $rc)"
+expect_in "$out" "revisit: method 'exit0' (./exit0.so) ended the process (exit) while it was running" \
+  "the exit names the method"
+expect "[ ! -e in_exit0/result.json ]" "no result is written"
+out=$(inproc abrt); rc=$?
+expect "[ $rc -ne 0 ]" "an in-process abort does not exit 0 (got $rc)"
+expect_in "$out" "revisit: method 'abrt' (./abrt.so) crashed with a fatal signal (SIGABRT)" "the abort names the method"
+cat > x.json <<'JSON'
+{"format": "revisit-sweep-1", "recordings": {"map": "rec"}, "bootstrap": {"resamples": 0},
+ "methods": [{"name": "./exit0.so"}], "conditions": [{"name": "clean"}]}
+JSON
+out=$("$R" sweep x.json --out sw_exit0 --quiet 2>&1); rc=$?
+expect "[ $rc -eq 2 ]" "a sweep whose in-process plugin calls exit(0) exits 2 (got $rc)"
+expect_in "$out" "method 'exit0' (./exit0.so) ended the process (exit)" "the sweep's exit names the method"
+expect "[ -z \"\$(ls sw_exit0/cells 2>/dev/null | grep -v '^\\.part-')\" ]" "no cell counts as done"
 done_tests

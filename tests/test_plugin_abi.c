@@ -31,6 +31,8 @@ static const char plugin_src[] =
     "  for (int b = 0; b < n; b++) d[b] = (float)(s->scale * (double)sc->n * (b + 1));\n"
     "#ifdef NANOUT\n  d[1] = NAN;\n#endif\n"
     "#ifdef CRASH\n  if (sc->index == 3) { volatile int *p = NULL; *p = 1; }\n#endif\n"
+    "#ifdef EXIT0\n  if (sc->index == 3) exit(0);\n#endif\n"
+    "#ifdef ABORT\n  if (sc->index == 3) abort();\n#endif\n"
     "#ifdef SLOW\n  usleep(30000);\n#endif\n"
     "#ifdef FAILDESC\n  snprintf(m, l, \"cannot use scan %u\", sc->index); return RV_ERR_INPUT;\n#endif\n"
     "  return RV_OK; }\n"
@@ -71,6 +73,8 @@ static void setup(void)
     CHECK(build("wrongdim", "-DWRONGDIM") == 0, "the wrong-dimension variant compiles");
     CHECK(build("crash", "-DCRASH") == 0, "the crashing variant compiles");
     CHECK(build("slow", "-DSLOW") == 0, "the slow variant compiles");
+    CHECK(build("exit0", "-DEXIT0") == 0, "the exiting variant compiles");
+    CHECK(build("abort", "-DABORT") == 0, "the aborting variant compiles");
     static const char *const more[][2] = {{"badschema", "-DBADSCHEMA"}, {"zerodim", "-DZERODIM"},
         {"faildesc", "-DFAILDESC"}, {"small", "-DSMALL"}, {"nocustomfn", "-DNOCUSTOMFN"}};
     for (size_t k = 0; k < sizeof more / sizeof *more; k++)
@@ -167,8 +171,9 @@ static void test_broken(void)
     plugin_close(&p);
 }
 
-/* The crash runs in a child: it must die, after printing which method crashed. */
-static void test_crash(void)
+/* Run describe on scans 0..4 of plugin so in a child with the crash notice;
+ * its stderr goes to buf, its wait status is returned. */
+static int run_child(const char *so, char *buf, size_t n)
 {
     int fds[2];
     CHECK(pipe(fds) == 0, "pipe for the child's stderr");
@@ -178,21 +183,41 @@ static void test_crash(void)
         struct plugin p;
         struct err e;
         float d[16];
-        if (plugin_open(&p, "./crash.so", NULL, &e)) _exit(3);
-        plugin_crash_notice(&p);
+        if (plugin_open(&p, so, NULL, &e)) _exit(3);
+        plugin_crash_notice();
         for (uint32_t i = 0; i < 5; i++) describe_once(&p, i, d, &e);
-        _exit(0);
+        plugin_close(&p);
+        exit(0);
     }
     close(fds[1]);
-    char buf[1024] = "";
     ssize_t got = 0, r;
-    while ((r = read(fds[0], buf + got, sizeof buf - 1 - (size_t)got)) > 0) got += r;
+    while ((r = read(fds[0], buf + got, n - 1 - (size_t)got)) > 0) got += r;
     buf[got > 0 ? got : 0] = 0;
     close(fds[0]);
     int st = 0;
     waitpid(pid, &st, 0);
+    return st;
+}
+
+/* A crash, an abort or an exit() inside a plugin: the process must not end
+ * as a success, and the message must name the method. */
+static void test_crash(void)
+{
+    char buf[1024];
+    int st = run_child("./crash.so", buf, sizeof buf);
     CHECK(WIFSIGNALED(st) && WTERMSIG(st) == SIGSEGV, "a crashing plugin still ends the process by its signal");
-    CHECK_MSG(buf, "revisit: method 'outside' (./crash.so) crashed with a fatal signal", "the crash names the method");
+    CHECK_MSG(buf, "revisit: method 'outside' (./crash.so) crashed with a fatal signal (SIGSEGV)",
+              "the crash names the method");
+    st = run_child("./abort.so", buf, sizeof buf);
+    CHECK(WIFSIGNALED(st) && WTERMSIG(st) == SIGABRT, "an aborting plugin ends the process by SIGABRT");
+    CHECK_MSG(buf, "revisit: method 'outside' (./abort.so) crashed with a fatal signal (SIGABRT)",
+              "the abort names the method");
+    st = run_child("./exit0.so", buf, sizeof buf);
+    CHECK(WIFEXITED(st) && WEXITSTATUS(st) == 2, "a plugin calling exit(0) ends the process with status 2, not 0");
+    CHECK_MSG(buf, "revisit: method 'outside' (./exit0.so) ended the process (exit) while it was running",
+              "the exit names the method");
+    st = run_child("./good.so", buf, sizeof buf);
+    CHECK(WIFEXITED(st) && WEXITSTATUS(st) == 0 && !buf[0], "a closed plugin leaves a normal exit alone");
 }
 
 int main(void)

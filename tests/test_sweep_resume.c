@@ -22,6 +22,7 @@ static int fake_run(const struct eval_spec *s, struct eval_summary *out, struct 
     (void)out;
     if (__atomic_add_fetch(&calls, 1, __ATOMIC_SEQ_CST) == stop_after) stop_flag = 1;
     if (!strcmp(s->method, "broken") && !broken_fixed) return err_set(e, "plugin 'broken': describe returned NaN");
+    if (!strcmp(s->method, "silent")) return 0;  /* says success, writes nothing */
     unsigned h = 5381;
     for (const char *c = s->chain ? s->chain : ""; *c; c++) h = h * 33 + (unsigned char)*c;
     h += (unsigned)s->seed * 7 + (unsigned)strlen(s->method);
@@ -159,6 +160,20 @@ int main(void)
     o.quiet = 1;
     CHECK(sweep_run(&q, &o, &st, &e) == -1, "a folder of another scenario is refused");
     CHECK_MSG(e.msg, "full/scenario.json: made by another scenario file", "the refusal names the folder");
+    plan_free(&q);
+
+    /* A runner that returns success without a result on disk fails its cell. */
+    static const char silent[] = "{\"format\": \"revisit-sweep-1\", \"recordings\": {\"map\": \"rec\"},\n"
+                                 " \"methods\": [{\"name\": \"silent\"}], \"conditions\": [{\"name\": \"clean\"}]}\n";
+    CHECK(!fileio_write("u.json", silent, strlen(silent), &e) && !plan_load(&q, "u.json", &e), "silent scenario");
+    o.out_dir = "silent";
+    CHECK(!sweep_run(&q, &o, &st, &e) && st.ran == 1 && st.failed == 1,
+          "a cell whose runner reported success without a result.json counts as failed");
+    r = slurp("silent/cells/silent__clean__s1/result.json");
+    CHECK(r && strstr(r, "\"status\":\t\"failed\"") &&
+          strstr(r, "method 'silent' reported success but no result.json was written"),
+          "its result.json says failed and why");
+    free(r);
     plan_free(&q);
 
     struct eval_spec s;

@@ -260,7 +260,7 @@ static int ev_setup(struct ev_ctx *c, struct err *e)
         chain_format(c->chain, c->chain_text, sizeof c->chain_text);
     }
     if (plugin_open(&c->plug, s->method, s->plugin_path, e)) return -1;
-    if (s->crash_notice) plugin_crash_notice(&c->plug);
+    if (s->crash_notice) plugin_crash_notice();
     if (s->time_limit_s > 0) c->plug.time_limit_s = s->time_limit_s;
     const struct chain *mch = c->chain && chain_on_map(c->on) ? c->chain : NULL;
     const struct chain *qch = c->chain && chain_on_query(c->on) ? c->chain : NULL;

@@ -40,7 +40,7 @@ struct eval_spec {
     int has_axis;              /* 1: condition.axis is written from the three below */
     const char *axis_stage, *axis_key;
     double axis_value;
-    int crash_notice;          /* 1: a crash in the method prints its name (one cell per process only) */
+    int crash_notice;          /* 1: a fatal signal prints the in-process methods open (plugin_crash_notice) */
     /* added with issue 10 (isolation) */
     double time_limit_s;       /* per-scan limit of the method (0 = 60 s); with isolate, a hang is stopped */
     size_t mem_limit_mb;       /* isolate: extra address space the child may take (0 = 4096 MiB) */

@@ -325,16 +325,24 @@ int plugin_open(struct plugin *p, const char *spec, const char *search_path, str
     int rc;
     if (!slash) {
         if (plugin_find(head, search_path, p->path, sizeof p->path, e)) return -1;
+        p->guard = plugin_guard_enter(head, p->path);
         rc = plugin_open_so(p, settings, e);
     } else {
         snprintf(p->path, sizeof p->path, "%s", head);
         struct stat st;
         if (stat(head, &st)) return err_set(e, "method '%s': no such file", head);
-        if (hl > 3 && !strcmp(head + hl - 3, ".so")) rc = plugin_open_so(p, settings, e);
+        int so = hl > 3 && !strcmp(head + hl - 3, ".so");
+        if (so) p->guard = plugin_guard_enter(head, p->path);
+        if (so) rc = plugin_open_so(p, settings, e);
         else if (access(head, X_OK) == 0) rc = plugin_open_external(p, settings, e);
         else return err_set(e, "method '%s': not a .so plugin and not an executable program", head);
     }
     if (rc) plugin_close(p);
+    if (!rc && p->guard) {
+        /* the table's name from now on */
+        plugin_guard_leave(p->guard);
+        p->guard = plugin_guard_enter(p->name, p->path);
+    }
     return rc;
 }
 
@@ -438,35 +446,6 @@ void plugin_close(struct plugin *p)
     p->so = NULL;
     external_stop(p->ext);
     p->ext = NULL;
-}
-
-/* Process-wide by nature: a fatal signal handler cannot take a context.
- * Written once before describing starts; never part of any result. */
-static char plugin_crash_text[256];
-static volatile sig_atomic_t plugin_crash_len;
-
-static void plugin_crash_handler(int sig)
-{
-    if (plugin_crash_len > 0) {
-        ssize_t w = write(2, plugin_crash_text, (size_t)plugin_crash_len);
-        (void)w;
-    }
-    signal(sig, SIG_DFL);
-    raise(sig);
-}
-
-void plugin_crash_notice(const struct plugin *p)
-{
-    static const int sigs[] = {SIGSEGV, SIGBUS, SIGFPE, SIGILL};
-    int n = snprintf(plugin_crash_text, sizeof plugin_crash_text,
-                     "revisit: method '%s' (%s) crashed with a fatal signal while running; "
-                     "the run stopped and nothing half-written was kept\n", p->name, p->path);
-    plugin_crash_len = n < 0 ? 0 : n >= (int)sizeof plugin_crash_text ? (int)sizeof plugin_crash_text - 1 : n;
-    for (size_t k = 0; k < sizeof sigs / sizeof *sigs; k++) {
-        struct sigaction sa;
-        memset(&sa, 0, sizeof sa);
-        sa.sa_handler = plugin_crash_handler;
-        sigemptyset(&sa.sa_mask);
-        sigaction(sigs[k], &sa, NULL);
-    }
+    plugin_guard_leave(p->guard);
+    p->guard = 0;
 }

@@ -48,6 +48,7 @@ struct plugin {
     enum rv_distance distance;
     uint32_t flags;
     double time_limit_s;    /* per scan, 0 = no limit */
+    int guard;              /* plugin_guard slot while a .so is open, else 0 */
 };
 
 /* Find, load, validate and instantiate.  0, or -1 with e set and p left
@@ -92,9 +93,19 @@ void plugin_unload(void *so);
  * into out. */
 void plugin_setting_text(const struct rv_setting *s, double v, char *out, size_t n);
 
-/* Install handlers that, if the process dies of SIGSEGV/SIGBUS/SIGFPE/SIGILL,
- * print "revisit: method 'NAME' crashed (signal ...)" before dying.  Call
- * after plugin_open; NOT thread-safe (process-wide, last call wins). */
-void plugin_crash_notice(const struct plugin *p);
+/* The methods loaded into this process (plugin_guard.c). plugin_open
+ * enters every .so it opens and plugin_close leaves it; while one is open,
+ * a call of exit() (by the plugin or anyone) prints "revisit: method 'NAME'
+ * (PATH) ended the process (exit) while it was running; ..." and ends the
+ * process with status 2, never 0. Enter returns a slot (0 when the table is
+ * full: that method is then not named); leave accepts 0. Thread-safe. */
+int plugin_guard_enter(const char *name, const char *path);
+void plugin_guard_leave(int slot);
+
+/* Install handlers that, if the process dies of SIGSEGV, SIGBUS, SIGFPE,
+ * SIGILL or SIGABRT, print "revisit: method 'NAME' (PATH) crashed with a
+ * fatal signal (SIGABRT) ..." naming every method open at that moment, then
+ * die of the signal. Process-wide; calling it again changes nothing. */
+void plugin_crash_notice(void);
 
 #endif

@@ -100,6 +100,7 @@ void sweep_cell_spec(const struct plan *p, size_t k, const struct sweep_opts *o,
     s->jobs = o->cell_jobs > 0 ? o->cell_jobs : 1;
     s->quiet = 1;
     s->isolate = o->isolate;
+    s->crash_notice = !o->isolate;
     s->has_axis = c->has_axis;
     s->axis_stage = c->has_axis ? d->axis_stage : NULL;
     s->axis_key = c->has_axis ? d->axis_key : NULL;
@@ -198,6 +199,13 @@ static int sw_cell(void *arg, size_t task, int worker, struct err *e)
     if (rc && pool_stop_requested()) {           /* hard stop: the cell did not finish */
         c->state[task] = SW_LEFT;
         return sw_remove_tree(part, e);
+    }
+    char res[SW_PATH];
+    snprintf(res, sizeof res, "%s/result.json", part);
+    if (!rc && access(res, F_OK)) {              /* success is what is on disk, not what was said */
+        rc = -1;
+        snprintf(ce.msg, sizeof ce.msg, "method '%s' reported success but no result.json was written",
+                 s.method);
     }
     if (rc && sw_write_failed(c->p, k, part, ce.msg[0] ? ce.msg : "method failed", e)) return -1;
     if (rename(part, done)) {
