@@ -11,9 +11,11 @@ R=$REVISIT_BIN
 cd "$T" || exit 2
 mkdir -p inc && cp "$REVISIT_ROOT/harness/revisit_plugin.h" inc/
 cat > bad.c <<'SRC'
+#include <stdio.h>
 #include <stdlib.h>
 #include <string.h>
 #include <signal.h>
+#include <unistd.h>
 #include "revisit_plugin.h"
 static int mk(const double *v, void **inst, uint32_t *dim, uint32_t *kd, char *m, size_t l)
 { (void)v; (void)m; (void)l; *inst = NULL; *dim = 4; *kd = 0; return RV_OK; }
@@ -31,6 +33,15 @@ static int run(void *inst, const struct rv_scan *s, float *d, float *k, char *m,
         for (;;) { char *q = malloc(1 << 26); if (!q) return RV_ERR_NOMEM; memset(q, 1, 1 << 26); }
 #elif defined(EXIT0)
         exit(0);
+#elif defined(FORK)
+        pid_t c = fork();
+        if (c == 0) {  /* let go of the test's pipes, so only the group kill can end it early */
+            for (int fd = 0; fd < 3; fd++) close(fd);
+            execlp("sleep", "sleep", "300", (char *)NULL);
+            _exit(1);
+        }
+        FILE *f = fopen("fork_so.pid", "w");
+        if (f) { fprintf(f, "%d\n", (int)c); fclose(f); }
 #endif
     }
     for (int b = 0; b < 4; b++) d[b] = (float)(s->n % (97 + b)) + (float)b;
@@ -41,9 +52,9 @@ static const struct rv_method m = {RV_ABI_VERSION, sizeof m, NAME, "1.0", "misbe
     NULL, 0, RV_DIST_L2, 0, mk, run, rm, NULL, NULL};
 RV_EXPORT const struct rv_method *rv_method_entry(void) { return &m; }
 SRC
-for v in GOOD SEGV ABRT LOOP ALLOC EXIT0; do
+for v in GOOD SEGV ABRT LOOP ALLOC EXIT0 FORK; do
   n=$(echo "$v" | tr A-Z a-z)
-  cc -std=c11 -O1 -shared -fPIC -Iinc -D$v -DNAME="\"$n\"" -o "$n.so" bad.c
+  cc -std=c11 -O1 -D_DEFAULT_SOURCE -shared -fPIC -Iinc -D$v -DNAME="\"$n\"" -o "$n.so" bad.c
   expect "[ -f $n.so ]" "the $n plugin builds from the public header"
 done
 "$R" synth --scenario port --scans 40 --out rec --quiet > /dev/null 2>&1
@@ -94,4 +105,71 @@ out=$("$R" sweep x.json --out sw_exit0 --quiet 2>&1); rc=$?
 expect "[ $rc -eq 2 ]" "a sweep whose in-process plugin calls exit(0) exits 2 (got $rc)"
 expect_in "$out" "method 'exit0' (./exit0.so) ended the process (exit)" "the sweep's exit names the method"
 expect "[ -z \"\$(ls sw_exit0/cells 2>/dev/null | grep -v '^\\.part-')\" ]" "no cell counts as done"
+# External programs run under --time-limit and --mem-limit too, in eval and
+# in sweep, and what they start ends with them.  The program answers every
+# scan; on scan 3 it first sleeps 3 s (SLOW), or touches 1 GiB (HOG), or
+# leaves a child process behind (FORK).
+cat > ext.py <<'PY'
+#!/usr/bin/python3
+import os, struct, subprocess, sys, time
+mode = sys.argv[1].split("=")[1] if len(sys.argv) > 1 else "none"
+inp, out = sys.stdin.buffer, sys.stdout.buffer
+sys.stderr = open(os.devnull, "w")
+name = b"ext-" + mode.encode()
+out.write(b"RVH1" + struct.pack("<III", 4, 0, len(name)) + name); out.flush()
+while True:
+    h = inp.read(20)
+    if len(h) < 20:
+        break
+    idx, stamp, n = struct.unpack("<IdI", h[4:20])
+    inp.read(16 * n)
+    if idx == 3 and mode == "slow":
+        time.sleep(3)
+    if idx == 3 and mode == "hog":
+        b = bytearray(1 << 30)
+        for i in range(0, len(b), 4096):
+            b[i] = 1
+    if idx == 3 and mode == "fork":
+        p = subprocess.Popen(["sleep", "300"], stdin=subprocess.DEVNULL, stdout=subprocess.DEVNULL,
+                             stderr=subprocess.DEVNULL)
+        open("fork.pid", "w").write(str(p.pid))
+    out.write(b"RVD1" + struct.pack("<II4f", idx, 4, n % 97, n % 89, 1, 2)); out.flush()
+PY
+chmod +x ext.py
+ext() { "$R" eval --map rec --method "./ext.py:mode=$1" --out "ext_$1" --bootstrap 0 --quiet "${@:2}" 2>&1; }
+out=$(ext slow --time-limit 1); rc=$?
+expect "[ $rc -eq 2 ] && [ ! -e ext_slow/result.json ]" "an external program slower than --time-limit fails the eval (got $rc)"
+expect_in "$out" "external method 'ext-slow' (./ext.py): no answer for scan 3 within 1 s (time-out)" \
+  "the time-out named is the one given"
+out=$(ext hog --mem-limit 300); rc=$?
+expect "[ $rc -eq 2 ]" "an external program over --mem-limit fails the eval (got $rc)"
+expect_in "$out" "external method 'ext-hog' (./ext.py): closed its output for scan 3" "the failure names program and scan"
+out=$(ext hog); rc=$?
+expect "[ $rc -eq 0 ]" "the same program within the default limit finishes (exit $rc: $out)"
+cat > xs.json <<'JSON'
+{"format": "revisit-sweep-1", "recordings": {"map": "rec"}, "bootstrap": {"resamples": 0},
+ "methods": [{"name": "./ext.py", "variants": [{"mode": "slow"}, {"mode": "hog"}, {"mode": "none"}]}],
+ "conditions": [{"name": "clean"}]}
+JSON
+out=$("$R" sweep xs.json --out sw_lim --quiet --jobs 1 --time-limit 1 --mem-limit 300 2>&1); rc=$?
+expect "[ $rc -eq 2 ]" "a sweep with --time-limit and --mem-limit fails the cells over them (got $rc)"
+nfail=$(grep -l '"status":[[:space:]]*"failed"' sw_lim/cells/*/result.json 2>/dev/null | wc -l)
+nok=$(grep -l '"status":[[:space:]]*"ok"' sw_lim/cells/*/result.json 2>/dev/null | wc -l)
+expect "[ $nfail -eq 2 ] && [ $nok -eq 1 ]" "the slow and the hungry cells fail, the plain one finishes ($nfail failed, $nok ok)"
+expect "grep -q 'within 1 s (time-out)' sw_lim/cells/*/result.json" "the sweep's time-out is the one given"
+rm -f fork.pid
+out=$(ext fork); rc=$?
+expect "[ $rc -eq 0 ] && [ -s fork.pid ]" "a program that leaves a child behind finishes (exit $rc)"
+alive() { [ -r "/proc/$1/stat" ] && ! awk '{ exit !($3 == "Z") }' "/proc/$1/stat" 2>/dev/null; }
+pid=$(cat fork.pid 2>/dev/null || echo 0)
+for i in $(seq 50); do alive "$pid" || break; sleep 0.1; done
+expect "! alive $pid" "the child of an external program does not outlive the run"
+[ "$pid" -gt 0 ] && kill -9 "$pid" 2>/dev/null
+rm -f fork_so.pid
+out=$(run fork); rc=$?
+expect "[ $rc -eq 0 ] && [ -s fork_so.pid ]" "an isolated plugin that starts a process finishes (exit $rc: $out)"
+pid=$(cat fork_so.pid 2>/dev/null || echo 0)
+for i in $(seq 50); do alive "$pid" || break; sleep 0.1; done
+expect "! alive $pid" "a process started by an isolated plugin does not outlive the describe step"
+[ "$pid" -gt 0 ] && kill -9 "$pid" 2>/dev/null
 done_tests

@@ -4,7 +4,9 @@
 #include <stdio.h>
 #include <stdlib.h>
 #include <string.h>
+#include <signal.h>
 #include <sys/stat.h>
+#include <unistd.h>
 
 #include "harness/run/external.h"
 #include "harness/run/plugin_host.h"
@@ -110,10 +112,107 @@ static void test_failures(void)
     CHECK_MSG(e.msg, "external method ./absent.py: not an executable program", "the missing program is named");
 }
 
+/* One scan through a program started under lim. */
+static int try_limits(const char *name, const struct external_limits *lim, struct err *e)
+{
+    struct external *x;
+    if (external_start_limits(&x, name, NULL, 0, lim, e)) return -1;
+    float pts[8] = {1, 2, 3, 0, 4, 5, 6, 0}, d[4];
+    struct rv_scan s = {2, pts, NULL, NULL, 0, 5, 0};
+    int rc = external_describe(x, &s, d, e);
+    external_stop(x);
+    return rc;
+}
+
+/* 1 when process pid is gone or a zombie within about 3 s. */
+static int gone(long pid)
+{
+    for (int k = 0; k < 300; k++) {
+        char path[64], st[512] = "";
+        snprintf(path, sizeof path, "/proc/%ld/stat", pid);
+        FILE *f = fopen(path, "r");
+        if (!f) return 1;
+        size_t n = fread(st, 1, sizeof st - 1, f);
+        fclose(f);
+        st[n] = 0;
+        const char *close_paren = strrchr(st, ')');
+        if (close_paren && close_paren[1] == ' ' && close_paren[2] == 'Z') return 1;
+        usleep(10000);
+    }
+    return 0;
+}
+
+#define ANSWER "sys.stdin.buffer.read(52)\nout.write(b'RVD1' + struct.pack('<II4f', 5, 4, 1, 2, 3, 4)); out.flush()\n" \
+               "sys.stdin.buffer.read()\n"
+
+/* The limits a program runs under: memory, the answer wait, its children. */
+static void test_limits(void)
+{
+    struct err e = {{0}};
+    /* a 1 GiB buffer, touched page by page, against a 256 MiB address space */
+    script("hog.py", "hello()\nsys.stderr = open('/dev/null', 'w')\nb = bytearray(1 << 30)\n"
+                     "for i in range(0, len(b), 4096): b[i] = 1\n" ANSWER);
+    struct external_limits lim = {5, 20, (size_t)256 << 20};
+    CHECK(try_limits("./hog.py", &lim, &e) == -1, "a program over its memory limit fails");
+    CHECK_MSG(e.msg, "external method 'fake' (./hog.py): closed its output for scan 5; it exited with status 1",
+              "the failure names the program and its exit");
+    lim.mem_bytes = 0;
+    CHECK(try_limits("./hog.py", &lim, &e) == 0, "the same program without the limit answers (the limit made the difference)");
+    script("slow.py", "hello()\ntime.sleep(1.5)\n" ANSWER);
+    struct external_limits quick = {5, 0.5, 0};
+    CHECK(try_limits("./slow.py", &quick, &e) == -1, "a program slower than the answer wait is stopped");
+    CHECK_MSG(e.msg, "no answer for scan 5 within 0.5 s (time-out)", "the wait named is the one given");
+    /* a child the program starts ends with the program's process group */
+    script("forks.py", "import subprocess\np = subprocess.Popen(['sleep', '300'])\n"
+                       "open('forks.pid', 'w').write(str(p.pid))\nhello()\n" ANSWER);
+    struct external_limits plain = {5, 5, 0};
+    unlink("forks.pid");
+    CHECK(try_limits("./forks.py", &plain, &e) == 0, "a program that starts a child answers");
+    FILE *f = fopen("forks.pid", "r");
+    long pid = 0;
+    CHECK(f && fscanf(f, "%ld", &pid) == 1 && pid > 0, "the child's pid was written");
+    if (f) fclose(f);
+    CHECK(pid > 0 && gone(pid), "the program's child does not outlive the program");
+    if (pid > 0) kill((pid_t)pid, SIGKILL);
+}
+
+/* An error frame longer than the message the host keeps, or cut short. */
+static void test_error_frames(void)
+{
+    struct err e = {{0}};
+    script("longerr.py", "hello()\nsys.stdin.buffer.read(52)\nm = b'x' * 300\n"
+                         "out.write(b'RVE1' + struct.pack('<I', len(m)) + m); out.flush()\n");
+    CHECK(try_prog("./longerr.py", 20, 5, &e) == -1, "a long error frame is an error");
+    CHECK_MSG(e.msg, "on scan 5: xxxxxxxxxx", "its first bytes are the message");
+    CHECK_MSG(e.msg, "[error frame of 300 bytes, the first 255 shown]", "the message says it was cut and where");
+    script("cuterr.py", "hello()\nsys.stdin.buffer.read(52)\nm = b'cannot read this scan'\n"
+                        "out.write(b'RVE1' + struct.pack('<I', 100000) + m); out.flush()\n");
+    CHECK(try_prog("./cuterr.py", 20, 5, &e) == -1, "an error frame cut short is an error");
+    CHECK_MSG(e.msg, "error frame of 100000 bytes cut short after 21: cannot read this scan",
+              "what arrived is shown, with the length it claimed");
+}
+
+/* Setting values of an external program may hold '/' and ':'. */
+static void test_setting_paths(void)
+{
+    script("args.py", "n = ','.join(sys.argv[1:]).encode()\n"
+                      "out.write(b'RVH1' + struct.pack('<III', 4, 0, len(n)) + n); out.flush()\nsys.stdin.buffer.read()\n");
+    struct plugin p;
+    struct err e = {{0}};
+    int ok = plugin_open(&p, "./args.py:path=/tmp/a:b,n=2", NULL, &e) == 0;
+    CHECK(ok, "a setting value with '/' and ':' starts the program");
+    if (!ok) fprintf(stderr, "%s\n", e.msg);
+    CHECK(ok && !strcmp(p.name, "path=/tmp/a:b,n=2"), "the program gets each setting whole as an argument");
+    if (ok) plugin_close(&p);
+}
+
 int main(void)
 {
     const char *root = getenv("REVISIT_ROOT");
     test_same_as_plugin(root ? root : ".");
     test_failures();
+    test_limits();
+    test_error_frames();
+    test_setting_paths();
     return check_done();
 }

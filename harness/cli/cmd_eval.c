@@ -25,6 +25,8 @@ static const char usage[] =
     "--isolate describes in a child process with a per-scan time-out\n"
     "(--time-limit) and a memory limit (--mem-limit): a method that crashes,\n"
     "hangs or allocates without bound fails with a message naming it and the scan.\n"
+    "External programs always run under both limits, in a process group of their\n"
+    "own that ends with them.\n"
     "An --out folder that already holds files is refused unless --replace is given.\n\n";
 
 struct eval_opts {
@@ -113,8 +115,9 @@ int cmd_eval(int argc, char **argv)
         {"--replace", OPT_FLAG, &o.replace, NULL, "write into an --out folder that already holds files"},
         {"--jobs", OPT_INT, &o.jobs, "N", "threads (default: all cores)"},
         {"--isolate", OPT_FLAG, &o.isolate, NULL, "describe in a child process (crash, hang and memory safe)"},
-        {"--time-limit", OPT_DOUBLE, &o.time_s, "S", "most seconds per scan for the method (default 60)"},
-        {"--mem-limit", OPT_INT, &o.mem_mb, "MiB", "with --isolate: memory the method may take (default 4096)"},
+        {"--time-limit", OPT_DOUBLE, &o.time_s, "S",
+         "most seconds per scan (default 60; external programs 10); isolated and external methods are stopped"},
+        {"--mem-limit", OPT_INT, &o.mem_mb, "MiB", "memory an isolated method or external program may take (default 4096)"},
         {"--quiet", OPT_FLAG, &o.quiet, NULL, "no progress bar"},
         {0}};
     struct opt_args args;

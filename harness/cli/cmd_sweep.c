@@ -121,7 +121,7 @@ int cmd_sweep(int argc, char **argv)
     struct sweep_opts o;
     sweep_opts_defaults(&o);
     const char *shard = NULL;
-    long jobs = 0, cell_jobs = 1;
+    long jobs = 0, cell_jobs = 1, mem_mb = 0;
     int dry = 0;
     const struct opt opts[] = {
         {"--out", OPT_STR, &o.out_dir, "DIR", "sweep folder (cells, summary); required"},
@@ -130,6 +130,9 @@ int cmd_sweep(int argc, char **argv)
         {"--cell-jobs", OPT_INT, &cell_jobs, "N", "threads inside each cell (default 1)"},
         {"--plugin-path", OPT_STR, &o.plugin_path, "DIRS", "extra plugin folders, ':'-separated"},
         {"--isolate", OPT_FLAG, &o.isolate, NULL, "run each method in a child process"},
+        {"--time-limit", OPT_DOUBLE, &o.time_limit_s, "S",
+         "most seconds per scan (default 60; external programs 10); isolated and external methods are stopped"},
+        {"--mem-limit", OPT_INT, &mem_mb, "MiB", "memory an isolated method or external program may take (default 4096)"},
         {"--retry-failed", OPT_FLAG, &o.retry_failed, NULL, "run again the cells that failed before"},
         {"--dry-run", OPT_FLAG, &dry, NULL, "print the cells and the estimated work, run nothing"},
         {"--quiet", OPT_FLAG, &o.quiet, NULL, "no progress bar or totals"},
@@ -147,10 +150,15 @@ int cmd_sweep(int argc, char **argv)
     else if (shard && plan_parse_shard(shard, &o.shard_i, &o.shard_n, &e)) err_wrap(&e, "revisit sweep: --shard");
     else if (jobs < 0 || jobs > 256 || cell_jobs < 1 || cell_jobs > 256)
         err_set(&e, "revisit sweep: --jobs expects 0 (online cores) to 256 and --cell-jobs 1 to 256");
+    else if (o.time_limit_s < 0 || o.time_limit_s > 1e6)
+        err_set(&e, "revisit sweep: --time-limit expects seconds from 0 to 1000000, got %g", o.time_limit_s);
+    else if (mem_mb < 0 || mem_mb > (1L << 24))
+        err_set(&e, "revisit sweep: --mem-limit expects MiB from 1 to 16777216, got %ld", mem_mb);
     else e.msg[0] = 0;
     if (e.msg[0]) return cmd_report(&e);
     o.jobs = (int)jobs;
     o.cell_jobs = (int)cell_jobs;
+    o.mem_limit_mb = (size_t)mem_mb;
     o.run = eval_run;
     o.stop = &sweep_stop;
     struct plan p;

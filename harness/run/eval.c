@@ -172,7 +172,7 @@ static int ev_describe_isolated(struct ev_ctx *c, struct ev_set *set, struct err
     char who[128];
     snprintf(who, sizeof who, "method '%s'", c->plug.name);
     struct isolate_opts o = {who, "scan", c->plug.time_limit_s > 0 ? c->plug.time_limit_s : PLUGIN_TIME_LIMIT_S,
-                             (c->s->mem_limit_mb ? c->s->mem_limit_mb : 4096) << 20};
+                             (c->s->mem_limit_mb ? c->s->mem_limit_mb : EVAL_MEM_LIMIT_MB) << 20};
     float *desc = set->desc, *key = set->key;
     c->iso_set = set;
     int rc = isolate_run(&o, ev_isolated_child, c, shared, e);
@@ -259,9 +259,9 @@ static int ev_setup(struct ev_ctx *c, struct err *e)
         if (chain_parse(s->chain, &c->chain, e)) return -1;
         chain_format(c->chain, c->chain_text, sizeof c->chain_text);
     }
-    if (plugin_open(&c->plug, s->method, s->plugin_path, e)) return -1;
+    struct plugin_limits lim = {s->time_limit_s, (s->mem_limit_mb ? s->mem_limit_mb : EVAL_MEM_LIMIT_MB) << 20};
+    if (plugin_open_limits(&c->plug, s->method, s->plugin_path, &lim, e)) return -1;
     if (s->crash_notice) plugin_crash_notice();
-    if (s->time_limit_s > 0) c->plug.time_limit_s = s->time_limit_s;
     const struct chain *mch = c->chain && chain_on_map(c->on) ? c->chain : NULL;
     const struct chain *qch = c->chain && chain_on_query(c->on) ? c->chain : NULL;
     c->mset = (struct ev_set){&c->map, mch, 0, c->map.n, NULL, NULL, NULL, NULL};

@@ -12,6 +12,8 @@
 #ifndef RV_EVAL_H
 #define RV_EVAL_H
 
+#define EVAL_MEM_LIMIT_MB ((size_t)4096)  /* default --mem-limit */
+
 #include <stdint.h>
 #include "harness/base/err.h"
 #include "metrics/protocol.h"
@@ -42,8 +44,10 @@ struct eval_spec {
     double axis_value;
     int crash_notice;          /* 1: a fatal signal prints the in-process methods open (plugin_crash_notice) */
     /* added with issue 10 (isolation) */
-    double time_limit_s;       /* per-scan limit of the method (0 = 60 s); with isolate, a hang is stopped */
-    size_t mem_limit_mb;       /* isolate: extra address space the child may take (0 = 4096 MiB) */
+    double time_limit_s;       /* per-scan limit (0 = 60 s in-process or isolated, 10 s for an external
+                                  program); isolated and external methods are stopped when they hang */
+    size_t mem_limit_mb;       /* address space an isolated child may add, or an external program may
+                                  use (0 = EVAL_MEM_LIMIT_MB) */
 };
 
 struct eval_summary {

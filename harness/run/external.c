@@ -9,6 +9,7 @@
 #include <stdio.h>
 #include <stdlib.h>
 #include <string.h>
+#include <sys/resource.h>
 #include <sys/socket.h>
 #include <sys/wait.h>
 #include <time.h>
@@ -92,10 +93,12 @@ static void ext_reap(struct external *x, int force, char *why, size_t n)
         nanosleep(&ts, NULL);
     }
     if (r == 0) {
+        kill(-x->pid, SIGKILL);
         kill(x->pid, SIGKILL);
         r = waitpid(x->pid, &st, 0);
         snprintf(why, n, "it was stopped");
     }
+    kill(-x->pid, SIGKILL);  /* what it started ends with it (the group outlives its leader) */
     if (r == x->pid && WIFEXITED(st)) snprintf(why, n, "it exited with status %d", WEXITSTATUS(st));
     else if (r == x->pid && WIFSIGNALED(st) && !force) snprintf(why, n, "it died of signal %d", WTERMSIG(st));
     x->pid = -1;
@@ -130,11 +133,17 @@ static int ext_spawn(struct external *x, const char *const *args, int nargs, str
         return err_set(e, "external method %s: cannot fork: %s", x->prog, strerror(errno));
     }
     if (pid == 0) {
+        setpgid(0, 0);
+        if (x->mem_bytes) {
+            struct rlimit rl = {(rlim_t)x->mem_bytes, (rlim_t)x->mem_bytes};
+            if (setrlimit(RLIMIT_AS, &rl)) _exit(126);
+        }
         dup2(sv[1], 0);
         dup2(sv[1], 1);
         execv(x->prog, argv);
         _exit(127);
     }
+    setpgid(pid, pid);  /* both sides, so the group exists before either goes on */
     close(sv[1]);
     x->pid = pid;
     x->fd = sv[0];
@@ -174,13 +183,21 @@ int external_start(struct external **xp, const char *prog, const char *const *ar
 int external_start_waits(struct external **xp, const char *prog, const char *const *args, int nargs,
                          double hello_timeout_s, double timeout_s, struct err *e)
 {
+    struct external_limits lim = {hello_timeout_s, timeout_s, 0};
+    return external_start_limits(xp, prog, args, nargs, &lim, e);
+}
+
+int external_start_limits(struct external **xp, const char *prog, const char *const *args, int nargs,
+                          const struct external_limits *lim, struct err *e)
+{
     *xp = NULL;
     struct external *x = calloc(1, sizeof *x);
     if (!x) return err_set(e, "out of memory");
     x->fd = -1;
     x->pid = -1;
-    x->timeout_s = timeout_s > 0 ? timeout_s : 10;
-    x->hello_timeout_s = hello_timeout_s > 0 ? hello_timeout_s : 10;
+    x->timeout_s = lim->scan_s > 0 ? lim->scan_s : EXTERNAL_SCAN_S;
+    x->hello_timeout_s = lim->hello_s > 0 ? lim->hello_s : EXTERNAL_HELLO_S;
+    x->mem_bytes = lim->mem_bytes;
     snprintf(x->prog, sizeof x->prog, "%s", prog);
     snprintf(x->name, sizeof x->name, "%s", strrchr(prog, '/') ? strrchr(prog, '/') + 1 : prog);
     if (access(prog, X_OK)) {
@@ -212,6 +229,25 @@ static int ext_send_scan(struct external *x, const struct rv_scan *s, double dl)
     return w;
 }
 
+/* An error frame of len bytes: its first bytes become the message, however
+ * long the frame says it is and however much of it arrives. */
+static int ext_error_frame(struct external *x, uint32_t index, uint32_t len, double dl, const char *what,
+                           struct err *e)
+{
+    char msg[256];
+    size_t got = 0, take = len < sizeof msg - 1 ? len : sizeof msg - 1;
+    while (got < take && !ext_read(x->fd, msg + got, 1, dl)) got++;
+    msg[got] = 0;
+    ext_fail(x, EXT_IO, what, e);
+    if (got < take)
+        return err_set(e, "external method '%s' on scan %u: error frame of %u bytes cut short after %zu: %s",
+                       x->name, index, len, got, got ? msg : "(nothing)");
+    if (take < len)
+        return err_set(e, "external method '%s' on scan %u: %s [error frame of %u bytes, the first %zu shown]",
+                       x->name, index, msg, len, take);
+    return err_set(e, "external method '%s' on scan %u: %s", x->name, index, msg);
+}
+
 int external_describe(struct external *x, const struct rv_scan *s, float *desc, struct err *e)
 {
     char what[64];
@@ -223,15 +259,7 @@ int external_describe(struct external *x, const struct rv_scan *s, float *desc, 
     if (w) return ext_fail(x, w, what, e);
     unsigned char h[12];
     if ((w = ext_read(x->fd, h, 8, dl))) return ext_fail(x, w, what, e);
-    if (!memcmp(h, "RVE1", 4)) {
-        char msg[256];
-        uint32_t len = ext_get_u32(h + 4);
-        uint32_t take = len < sizeof msg - 1 ? len : (uint32_t)sizeof msg - 1;
-        w = ext_read(x->fd, msg, take, dl);
-        msg[w ? 0 : take] = 0;
-        ext_fail(x, EXT_IO, what, e);
-        return err_set(e, "external method '%s' on scan %u: %s", x->name, s->index, msg);
-    }
+    if (!memcmp(h, "RVE1", 4)) return ext_error_frame(x, s->index, ext_get_u32(h + 4), dl, what, e);
     if (memcmp(h, "RVD1", 4) || ext_get_u32(h + 4) != s->index) {
         ext_fail(x, EXT_IO, what, e);
         return err_set(e, "external method '%s' on scan %u: answered garbage (expected a descriptor frame "

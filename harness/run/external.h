@@ -35,6 +35,7 @@
 
 #define EXTERNAL_MAX_DIM (1u << 22)
 #define EXTERNAL_HELLO_S 10.0   /* default wait for the hello */
+#define EXTERNAL_SCAN_S 10.0    /* default wait for each answer */
 
 struct external {
     pid_t pid;
@@ -45,10 +46,26 @@ struct external {
     enum rv_distance distance;  /* RV_DIST_L2 or RV_DIST_COSINE */
     double timeout_s;       /* per scan */
     double hello_timeout_s; /* for the hello */
+    size_t mem_bytes;       /* RLIMIT_AS of the program, 0 = none */
 };
 
-/* Start prog, read and check its hello.  0, or -1 with e set (nothing left
- * running). */
+/* What a program may take: the waits, and the address space it may use
+ * (setrlimit RLIMIT_AS before exec; 0 = no limit). The program runs in a
+ * process group of its own, ended whole (SIGKILL) when it is stopped, so
+ * children it starts do not outlive it. */
+struct external_limits {
+    double hello_s;         /* wait for the hello (0: EXTERNAL_HELLO_S) */
+    double scan_s;          /* wait for each answer (0: EXTERNAL_SCAN_S) */
+    size_t mem_bytes;
+};
+
+/* Start prog under lim, read and check its hello.  0, or -1 with e set
+ * (nothing left running). */
+int external_start_limits(struct external **x, const char *prog, const char *const *args, int nargs,
+                          const struct external_limits *lim, struct err *e);
+
+/* Start prog, read and check its hello, no memory limit.  0, or -1 with e
+ * set (nothing left running). */
 int external_start(struct external **x, const char *prog, const char *const *args, int nargs,
                    double timeout_s, struct err *e);
 /* The same with the hello wait given apart (external_start waits the larger
@@ -60,7 +77,8 @@ int external_start_waits(struct external **x, const char *prog, const char *cons
  * stopped; later calls fail at once). */
 int external_describe(struct external *x, const struct rv_scan *s, float *desc, struct err *e);
 
-/* Close the socket, wait up to timeout_s for the exit, then kill.  Accepts NULL. */
+/* Close the socket, wait half a second for the exit, then kill; the
+ * program's process group is ended either way.  Accepts NULL. */
 void external_stop(struct external *x);
 
 #endif

@@ -81,6 +81,7 @@ static size_t iso_vm_bytes(void)
 
 static void iso_child(const struct isolate_opts *o, isolate_fn fn, void *ctx, void *shared, int fd)
 {
+    setpgid(0, 0);            /* a group of its own, ended whole by iso_reap */
     signal(SIGINT, SIG_IGN);  /* the parent decides what an interrupt means */
     /* Fatal signals kill the child outright, whatever handlers the host had
      * (a sanitizer's, a crash notice), so the parent can name the signal. */
@@ -120,11 +121,15 @@ static int iso_read(int fd, void *p, size_t n, double timeout_s)
     return 1;
 }
 
+/* Wait for the child; its process group is ended after it, so processes
+ * a plugin started do not outlive the describe step. */
 static int iso_reap(pid_t pid, int kill_first)
 {
     int st = 0;
+    if (kill_first) kill(-pid, SIGKILL);
     if (kill_first) kill(pid, SIGKILL);
     while (waitpid(pid, &st, 0) < 0 && errno == EINTR) {}
+    kill(-pid, SIGKILL);
     return st;
 }
 
@@ -156,6 +161,7 @@ int isolate_run(const struct isolate_opts *o, isolate_fn fn, void *ctx, void *sh
         close(fds[0]);
         iso_child(o, fn, ctx, shared, fds[1]);
     }
+    setpgid(pid, pid);
     close(fds[1]);
     int fd = fds[0], rc = -1, started = 0;
     uint64_t unit = 0;

@@ -15,6 +15,10 @@
  *     if (isolate_run(&opt, work, ctx, buf, e)) ...
  *     ... read buf ... isolate_shared_free(buf, bytes);
  *
+ * The child runs in a process group of its own; when it ends (or is
+ * stopped) the whole group is killed, so processes a plugin started in the
+ * child do not outlive the describe step.
+ *
  * What it protects: the harness process (its memory, finished results) from
  * a plugin that crashes, hangs or allocates without bound.  What it does
  * not: the child runs with the user's rights, so a malicious plugin can

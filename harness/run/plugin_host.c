@@ -290,7 +290,8 @@ static int plugin_open_so(struct plugin *p, const char *settings, struct err *e)
 }
 
 /* External program: settings become "key=value" arguments. */
-static int plugin_open_external(struct plugin *p, const char *settings, struct err *e)
+static int plugin_open_external(struct plugin *p, const char *settings, const struct plugin_limits *lim,
+                                struct err *e)
 {
     char buf[2048] = "";
     const char *args[64];
@@ -298,7 +299,10 @@ static int plugin_open_external(struct plugin *p, const char *settings, struct e
     if (settings) snprintf(buf, sizeof buf, "%s", settings);
     for (char *save = NULL, *kv = strtok_r(buf, ",", &save); kv && nargs < 64; kv = strtok_r(NULL, ",", &save))
         args[nargs++] = kv;
-    if (external_start(&p->ext, p->path, args, nargs, 10.0, e)) return -1;
+    double scan_s = lim && lim->time_s > 0 ? lim->time_s : EXTERNAL_SCAN_S;
+    struct external_limits xl = {scan_s > EXTERNAL_HELLO_S ? scan_s : EXTERNAL_HELLO_S, scan_s,
+                                 lim ? lim->mem_bytes : 0};
+    if (external_start_limits(&p->ext, p->path, args, nargs, &xl, e)) return -1;
     snprintf(p->name, sizeof p->name, "%s", p->ext->name);
     snprintf(p->version, sizeof p->version, "external");
     p->dim = p->ext->dim;
@@ -310,14 +314,39 @@ static int plugin_open_external(struct plugin *p, const char *settings, struct e
     return 0;
 }
 
+/* Where the name or path of spec ends: a NAME ends at the first ':'; a
+ * PATH at the first ':' before which an existing file is named (setting
+ * values may hold '/' and ':'), else at the first ':'. */
+static size_t plugin_spec_head(const char *spec)
+{
+    const char *first = strchr(spec, ':');
+    if (!strchr(spec, '/') || !first) return first ? (size_t)(first - spec) : strlen(spec);
+    for (const char *c = first; c; c = strchr(c + 1, ':')) {
+        char head[4096];
+        struct stat st;
+        size_t hl = (size_t)(c - spec);
+        if (hl >= sizeof head) break;
+        memcpy(head, spec, hl);
+        head[hl] = 0;
+        if (!stat(head, &st) && S_ISREG(st.st_mode)) return hl;
+    }
+    return (size_t)(first - spec);
+}
+
 int plugin_open(struct plugin *p, const char *spec, const char *search_path, struct err *e)
 {
+    return plugin_open_limits(p, spec, search_path, NULL, e);
+}
+
+int plugin_open_limits(struct plugin *p, const char *spec, const char *search_path,
+                       const struct plugin_limits *lim, struct err *e)
+{
     memset(p, 0, sizeof *p);
-    p->time_limit_s = PLUGIN_TIME_LIMIT_S;
+    p->time_limit_s = lim && lim->time_s > 0 ? lim->time_s : PLUGIN_TIME_LIMIT_S;
     char head[4096];
-    const char *slash = strrchr(spec, '/');
-    const char *colon = strchr(slash ? slash : spec, ':');
-    size_t hl = colon ? (size_t)(colon - spec) : strlen(spec);
+    size_t hl = plugin_spec_head(spec);
+    const char *slash = memchr(spec, '/', hl);
+    const char *colon = spec[hl] == ':' ? spec + hl : NULL;
     if (hl == 0 || hl >= sizeof head) return err_set(e, "method '%s': expected NAME[:key=value,...]", spec);
     memcpy(head, spec, hl);
     head[hl] = 0;
@@ -334,7 +363,7 @@ int plugin_open(struct plugin *p, const char *spec, const char *search_path, str
         int so = hl > 3 && !strcmp(head + hl - 3, ".so");
         if (so) p->guard = plugin_guard_enter(head, p->path);
         if (so) rc = plugin_open_so(p, settings, e);
-        else if (access(head, X_OK) == 0) rc = plugin_open_external(p, settings, e);
+        else if (access(head, X_OK) == 0) rc = plugin_open_external(p, settings, lim, e);
         else return err_set(e, "method '%s': not a .so plugin and not an executable program", head);
     }
     if (rc) plugin_close(p);

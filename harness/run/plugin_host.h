@@ -55,6 +55,20 @@ struct plugin {
  * closed (nothing to free). */
 int plugin_open(struct plugin *p, const char *spec, const char *search_path, struct err *e);
 
+/* What a method may take. time_s: seconds per scan (0: PLUGIN_TIME_LIMIT_S
+ * for a .so, checked after each scan; EXTERNAL_SCAN_S for an external
+ * program, which is stopped when it does not answer in time). mem_bytes:
+ * the address space of an external program (0: none); a .so runs in the
+ * host and is limited only when isolated (eval_spec.isolate). */
+struct plugin_limits {
+    double time_s;
+    size_t mem_bytes;
+};
+
+/* plugin_open under lim (NULL: the defaults). */
+int plugin_open_limits(struct plugin *p, const char *spec, const char *search_path,
+                       const struct plugin_limits *lim, struct err *e);
+
 /* Describe one scan into desc (dim floats) and key (key_dim floats; may be
  * NULL when key_dim is 0).  On -1, e reads
  * "method 'NAME' on scan 12: ..." and desc/key are unspecified. */

@@ -101,6 +101,8 @@ void sweep_cell_spec(const struct plan *p, size_t k, const struct sweep_opts *o,
     s->quiet = 1;
     s->isolate = o->isolate;
     s->crash_notice = !o->isolate;
+    s->time_limit_s = o->time_limit_s;
+    s->mem_limit_mb = o->mem_limit_mb;
     s->has_axis = c->has_axis;
     s->axis_stage = c->has_axis ? d->axis_stage : NULL;
     s->axis_key = c->has_axis ? d->axis_key : NULL;

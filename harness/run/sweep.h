@@ -41,6 +41,8 @@ struct sweep_opts {
     int cell_jobs;               /* threads inside one cell (default 1) */
     int quiet;
     int isolate;                 /* eval_spec.isolate */
+    double time_limit_s;         /* eval_spec.time_limit_s */
+    size_t mem_limit_mb;         /* eval_spec.mem_limit_mb */
     int retry_failed;            /* run again the cells whose result says "failed" */
     const char *plugin_path;
     sweep_run_fn run;            /* eval_run in the command */
