@@ -1,8 +1,45 @@
-/* protocol.c: protocol defaults and range checks. */
+/* protocol.c: protocol names, defaults and range checks. */
 #include "metrics/protocol.h"
 
 #include <math.h>
 #include <stdio.h>
+#include <string.h>
+
+const char *const protocol_mode_names[] = {"loop", "reloc", NULL};
+const char *const protocol_counting_names[] = {"strict", "lenient", NULL};
+
+const char *protocol_mode_name(enum protocol_mode m)
+{
+    return m == PROTOCOL_RELOC ? protocol_mode_names[1] : protocol_mode_names[0];
+}
+
+const char *protocol_counting_name(enum protocol_counting c)
+{
+    return c == PROTOCOL_LENIENT ? protocol_counting_names[1] : protocol_counting_names[0];
+}
+
+static int protocol_pick(const char *const *names, const char *s)
+{
+    for (int k = 0; s && names[k]; k++)
+        if (!strcmp(names[k], s)) return k;
+    return -1;
+}
+
+int protocol_mode_parse(const char *s, enum protocol_mode *out)
+{
+    int k = protocol_pick(protocol_mode_names, s);
+    if (k < 0) return -1;
+    *out = (enum protocol_mode)k;
+    return 0;
+}
+
+int protocol_counting_parse(const char *s, enum protocol_counting *out)
+{
+    int k = protocol_pick(protocol_counting_names, s);
+    if (k < 0) return -1;
+    *out = (enum protocol_counting)k;
+    return 0;
+}
 
 void protocol_defaults(struct protocol *p)
 {

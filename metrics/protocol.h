@@ -28,6 +28,16 @@ struct protocol {
     int top_k;            /* candidates kept per query (default 25) */
 };
 
+/* The one table of protocol names: "loop", "reloc" (enum order) and
+ * "strict", "lenient", each list NULL-terminated for the parsers that offer
+ * them as choices.  A name gives its value: 0, or -1 when s is none of them. */
+extern const char *const protocol_mode_names[];
+extern const char *const protocol_counting_names[];
+const char *protocol_mode_name(enum protocol_mode m);
+const char *protocol_counting_name(enum protocol_counting c);
+int protocol_mode_parse(const char *s, enum protocol_mode *out);
+int protocol_counting_parse(const char *s, enum protocol_counting *out);
+
 /* Fill the defaults above. Cannot fail. */
 void protocol_defaults(struct protocol *p);
 

@@ -104,12 +104,12 @@ def write_cell(out, method, cond, chain, axis, seed, p_good, poses, truths):
         for i, c in rows:
             f.write(",".join([str(i)] + ["%d,%g" % (j, d) for j, d in c]) + "\n")
     with open(os.path.join(out, "poses.csv"), "w") as f:
-        f.write("set,index,t,x,y,z\n")
+        f.write("# revisit scan poses, format 1\nset,index,t,x,y,z\n")
         for i, p in enumerate(poses):
             f.write("map,%d,%g,%g,%g,%g\n" % (i, p[0], p[1], p[2], p[3]))
     idx = list(range(0, len(poses), 4))
     with open(os.path.join(out, "matrix.csv"), "w") as f:
-        f.write("#rows," + ",".join(map(str, idx)) + "\n#cols," + ",".join(map(str, idx)) + "\n")
+        f.write("# revisit distance matrix, format 1\n#rows," + ",".join(map(str, idx)) + "\n#cols," + ",".join(map(str, idx)) + "\n")
         for i in idx:
             f.write(",".join("%.4f" % (rng.uniform(0.05, 0.3) if dist(poses[i], poses[j]) <= 3 else
                                        rng.uniform(0.4, 1.0)) for j in idx) + "\n")
@@ -184,7 +184,7 @@ def write_verdicts(out, method):
                    "threshold": thr, "value": r["value"], "lo": r["lo"], "hi": r["hi"],
                    "measured": r["value"], "seeds": 1, "pass": r["value"] >= thr})
     with open(os.path.join(out, "verdicts.json"), "w") as f:
-        json.dump(vs, f, indent=1)
+        json.dump({"format": "revisit-verdicts-1", "criteria": vs}, f, indent=1)
 
 
 if __name__ == "__main__":

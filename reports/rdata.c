@@ -9,6 +9,8 @@
 #include <sys/stat.h>
 
 #include "harness/base/fileio.h"
+#include "harness/results/cells.h"
+#include "harness/results/result_json.h"
 
 #define RDATA_JSON_MAX ((size_t)256 << 20)
 
@@ -28,42 +30,6 @@ static double json_num(const cJSON *o, const char *key, double dflt)
 {
     const cJSON *v = cJSON_GetObjectItemCaseSensitive(o, key);
     return cJSON_IsNumber(v) ? v->valuedouble : dflt;
-}
-
-/* Parse text as JSON; on failure the message names line and column. */
-static cJSON *json_parse(const char *text, const char *path, struct err *e)
-{
-    const char *end = NULL;
-    cJSON *root = cJSON_ParseWithLengthOpts(text, strlen(text), &end, 0);
-    if (!root) {
-        long line, col;
-        err_line_col(text, end ? (size_t)(end - text) : 0, &line, &col);
-        err_set(e, "%s:%ld:%ld: not valid JSON, expected an object", path, line, col);
-        return NULL;
-    }
-    if (!cJSON_IsObject(root)) {
-        cJSON_Delete(root);
-        err_set(e, "%s:1:1: top level is not an object, expected an object", path);
-        return NULL;
-    }
-    return root;
-}
-
-static void cell_protocol(const cJSON *p, struct protocol *pr)
-{
-    protocol_defaults(pr);
-    if (!cJSON_IsObject(p)) return;
-    char mode[16] = "", counting[16] = "";
-    json_str(p, "mode", mode, sizeof mode);
-    json_str(p, "counting", counting, sizeof counting);
-    if (!strcmp(mode, "reloc")) pr->mode = PROTOCOL_RELOC;
-    if (!strcmp(counting, "lenient")) pr->counting = PROTOCOL_LENIENT;
-    pr->r_pos_m = json_num(p, "r_pos_m", pr->r_pos_m);
-    pr->r_neg_m = json_num(p, "r_neg_m", pr->r_pos_m);
-    pr->exclusion_s = json_num(p, "exclusion_s", pr->exclusion_s);
-    pr->exclusion_scans = (long)json_num(p, "exclusion_scans", -1);
-    pr->top_k = (int)json_num(p, "top_k", pr->top_k);
-    pr->planar = cJSON_IsTrue(cJSON_GetObjectItemCaseSensitive(p, "planar"));
 }
 
 static void cell_condition(const cJSON *c, struct rdata_cell *cell)
@@ -149,32 +115,26 @@ static void cell_header(const cJSON *root, struct rdata_cell *c)
     const cJSON *cnt = cJSON_GetObjectItemCaseSensitive(root, "counts");
     c->queries = (size_t)json_num(cnt, "queries", 0);
     c->revisits = (size_t)json_num(cnt, "revisits", 0);
-    char status[16] = "ok";
-    json_str(root, "status", status, sizeof status);
-    c->ok = !strcmp(status, "ok");
     json_str(root, "error", c->error, sizeof c->error);
 }
 
 int rdata_cell_parse(const char *text, const char *path, struct rdata_cell *c, struct err *e)
 {
-    cJSON *root = json_parse(text, path, e);
+    cJSON *root = result_json_parse(text, strlen(text), path, e);
     if (!root) return -1;
-    char format[64] = "";
-    json_str(root, "format", format, sizeof format);
-    if (strcmp(format, "revisit-result-1")) {
-        cJSON_Delete(root);
-        return err_at(e, path, 0, "format is '%s', expected 'revisit-result-1'", format);
-    }
     if (!cJSON_IsObject(cJSON_GetObjectItemCaseSensitive(root, "method"))) {
         cJSON_Delete(root);
         return err_at(e, path, 0, "no method object, expected \"method\": {\"name\": ...}");
     }
     cell_header(root, c);
     cell_condition(cJSON_GetObjectItemCaseSensitive(root, "condition"), c);
-    cell_protocol(cJSON_GetObjectItemCaseSensitive(root, "protocol"), &c->proto);
+    result_json_protocol(root, &c->proto);
     cell_metrics(cJSON_GetObjectItemCaseSensitive(root, "metrics"), c);
     int rc = cell_curve(cJSON_GetObjectItemCaseSensitive(root, "curve"), path, c, e);
+    int ok = rc ? 0 : result_json_status(root, path, e);
     cJSON_Delete(root);
+    if (ok < 0) rc = -1;
+    c->ok = ok == 1;
     if (rc) rdata_cell_free(c);
     return rc;
 }
@@ -186,7 +146,7 @@ static int cell_read(const char *dir, const char *id, struct rdata_cell *c, stru
     snprintf(c->dir, sizeof c->dir, "%s", dir);
     char path[4200], *text;
     size_t len;
-    fileio_join(path, sizeof path, dir, "result.json");
+    if (results_path(path, sizeof path, dir, RESULTS_RESULT, e)) return -1;
     if (fileio_read(path, RDATA_JSON_MAX, &text, &len, e)) return -1;
     int rc = rdata_cell_parse(text, path, c, e);
     free(text);
@@ -211,7 +171,7 @@ static int name_cmp(const void *a, const void *b)
 }
 
 /* The sorted names of the subfolders of cells/ that hold a result.json. */
-static int cell_names(const char *cells, char ***names, size_t *n, struct err *e)
+static int cell_names(const char *root, const char *cells, char ***names, size_t *n, struct err *e)
 {
     *names = NULL;
     *n = 0;
@@ -223,8 +183,7 @@ static int cell_names(const char *cells, char ***names, size_t *n, struct err *e
     while ((de = readdir(d))) {
         if (de->d_name[0] == '.') continue;
         char p[4400];
-        snprintf(p, sizeof p, "%s/%s/result.json", cells, de->d_name);
-        if (!is_file(p)) continue;
+        if (results_cell_path(p, sizeof p, root, de->d_name, RESULTS_RESULT, NULL) || !is_file(p)) continue;
         if (*n == cap) {
             cap = cap ? 2 * cap : 16;
             char **g = realloc(*names, cap * sizeof *g);
@@ -242,18 +201,18 @@ static int cell_names(const char *cells, char ***names, size_t *n, struct err *e
 static int sweep_cells(struct rdata_set *s, struct err *e)
 {
     char cells[4200];
-    fileio_join(cells, sizeof cells, s->root, "cells");
-    char **names;
-    size_t n;
-    int rc = cell_names(cells, &names, &n, e);
+    char **names = NULL;
+    size_t n = 0;
+    int rc = results_cell_path(cells, sizeof cells, s->root, NULL, NULL, e);
+    if (!rc) rc = cell_names(s->root, cells, &names, &n, e);
     if (!rc && n == 0)
         rc = err_at(e, cells, 0, "no cell holds a result.json, expected cells/ID/result.json");
     if (!rc && !(s->cells = calloc(n, sizeof *s->cells)))
         rc = err_at(e, cells, 0, "out of memory for %zu cells", n);
     for (size_t k = 0; !rc && k < n; k++) {
         char dir[4500];
-        snprintf(dir, sizeof dir, "%s/%s", cells, names[k]);
-        rc = cell_read(dir, names[k], &s->cells[k], e);
+        rc = results_cell_path(dir, sizeof dir, s->root, names[k], NULL, e);
+        if (!rc) rc = cell_read(dir, names[k], &s->cells[k], e);
         if (!rc) s->n++;
     }
     for (size_t k = 0; k < n; k++) free(names[k]);
@@ -265,7 +224,7 @@ static void sweep_scenario(struct rdata_set *s)
 {
     char path[4200], *text;
     size_t len;
-    fileio_join(path, sizeof path, s->root, "scenario.json");
+    if (results_path(path, sizeof path, s->root, RESULTS_SCENARIO, NULL)) return;
     if (fileio_read(path, RDATA_JSON_MAX, &text, &len, NULL)) return;
     cJSON *root = cJSON_Parse(text);
     free(text);
@@ -283,8 +242,8 @@ int rdata_load(const char *dir, struct rdata_set *s, struct err *e)
     s->boot_resamples = s->boot_seed = NAN;
     snprintf(s->root, sizeof s->root, "%s", dir);
     char p1[4200], p2[4200];
-    fileio_join(p1, sizeof p1, dir, "result.json");
-    fileio_join(p2, sizeof p2, dir, "cells");
+    if (results_path(p1, sizeof p1, dir, RESULTS_RESULT, e) || results_cell_path(p2, sizeof p2, dir, NULL, NULL, e))
+        return -1;
     int rc;
     if (!is_dir(dir)) {
         return err_at(e, dir, 0, "no such folder, expected a results folder");

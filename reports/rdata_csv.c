@@ -1,4 +1,5 @@
-/* rdata_csv.c: poses.csv, queries.csv, matrix.csv and the verdicts file. */
+/* rdata_csv.c: poses.csv, queries.csv, matrix.csv (read by harness/results/)
+ * as the report sees them, and the verdicts file. */
 #include "reports/rdata.h"
 
 #include <cjson/cJSON.h>
@@ -9,67 +10,30 @@
 #include <string.h>
 
 #include "harness/base/fileio.h"
+#include "harness/results/cells.h"
+#include "harness/results/format.h"
+#include "harness/results/matrix_csv.h"
+#include "harness/results/poses_csv.h"
+#include "harness/results/queries_csv.h"
 
 #define RDATA_CSV_MAX ((size_t)1 << 30)
-#define RDATA_INDEX_MAX 100000000L
 
-/* Next line of a buffer: NUL-terminates it in place and advances *pos. */
-static char *next_line(char *buf, size_t len, size_t *pos)
+static int track_fill(struct rdata_track *t, const struct poses_csv_set *s)
 {
-    if (*pos >= len) return NULL;
-    char *line = buf + *pos;
-    char *nl = memchr(line, '\n', len - *pos);
-    if (nl) { *nl = 0; *pos = (size_t)(nl - buf) + 1; }
-    else *pos = len;
-    size_t l = strlen(line);
-    if (l && line[l - 1] == '\r') line[l - 1] = 0;
-    return line;
-}
-
-static int blank(const char *s)
-{
-    while (isspace((unsigned char)*s)) s++;
-    return *s == 0;
-}
-
-/* Read one number field ending at ',' or end of line.  NaN for "nan" or empty. */
-static int field_num(char **p, double *v)
-{
-    char *s = *p, *end;
-    while (*s == ' ') s++;
-    if (*s == ',' || *s == 0) { *v = NAN; }
-    else {
-        errno = 0;
-        *v = strtod(s, &end);
-        if (end == s) return -1;
-        s = end;
+    size_t n = s->n ? s->n : 1;
+    t->has = malloc(n);
+    double **arr[4] = {&t->t, &t->x, &t->y, &t->z};
+    int bad = !t->has;
+    for (int k = 0; k < 4; k++) bad |= !(*arr[k] = malloc(n * sizeof(double)));
+    if (bad) return -1;
+    t->n = s->n;
+    memset(t->has, 1, n);
+    memcpy(t->t, s->t, s->n * sizeof *s->t);
+    for (size_t i = 0; i < s->n; i++) {
+        t->x[i] = s->xyz[3 * i];
+        t->y[i] = s->xyz[3 * i + 1];
+        t->z[i] = s->xyz[3 * i + 2];
     }
-    while (*s == ' ') s++;
-    if (*s == ',') s++;
-    else if (*s) return -1;
-    *p = s;
-    return 0;
-}
-
-static int track_put(struct rdata_track *t, long idx, const double v[4])
-{
-    if ((size_t)idx >= t->n) {
-        size_t n = (size_t)idx + 1, cap = t->n;
-        while (cap < n) cap = cap ? 2 * cap : 64;
-        unsigned char *h = realloc(t->has, cap);
-        if (!h) return -1;
-        t->has = h;
-        double **arr[4] = {&t->t, &t->x, &t->y, &t->z};
-        for (int k = 0; k < 4; k++) {
-            double *g = realloc(*arr[k], cap * sizeof(double));
-            if (!g) return -1;
-            *arr[k] = g;
-        }
-        memset(t->has + t->n, 0, cap - t->n);
-        t->n = n;
-    }
-    t->has[idx] = 1;
-    t->t[idx] = v[0]; t->x[idx] = v[1]; t->y[idx] = v[2]; t->z[idx] = v[3];
     return 0;
 }
 
@@ -85,44 +49,18 @@ void rdata_poses_free(struct rdata_poses *p)
     track_free(&p->query);
 }
 
-static int pose_row(char *line, const char *path, long ln, struct rdata_poses *p, struct err *e)
-{
-    char *comma = strchr(line, ',');
-    if (!comma) return err_at(e, path, ln, "no comma, expected set,index,t,x,y,z");
-    *comma = 0;
-    struct rdata_track *t = !strcmp(line, "map") ? &p->map : !strcmp(line, "query") ? &p->query : NULL;
-    if (!t) return err_at(e, path, ln, "set '%.40s' unknown, expected map or query", line);
-    char *s = comma + 1, *end;
-    long idx = strtol(s, &end, 10);
-    if (end == s || *end != ',' || idx < 0 || idx > RDATA_INDEX_MAX)
-        return err_at(e, path, ln, "bad scan index, expected a whole number from 0 to %ld", RDATA_INDEX_MAX);
-    s = end + 1;
-    double v[4];
-    for (int k = 0; k < 4; k++)
-        if (field_num(&s, &v[k]) || !isfinite(v[k]))
-            return err_at(e, path, ln, "field %d is not a finite number, expected set,index,t,x,y,z", k + 3);
-    if (track_put(t, idx, v)) return err_at(e, path, ln, "out of memory");
-    return 0;
-}
-
 int rdata_poses_load(const char *path, struct rdata_poses *p, struct err *e)
 {
     memset(p, 0, sizeof *p);
-    char *buf;
-    size_t len, pos = 0;
-    if (fileio_read(path, RDATA_CSV_MAX, &buf, &len, e)) return -1;
-    char *line;
-    long ln = 0;
-    int rc = 0;
-    while (!rc && (line = next_line(buf, len, &pos))) {
-        ln++;
-        if (line[0] == '#' || blank(line) || !strncmp(line, "set,", 4)) continue;
-        rc = pose_row(line, path, ln, p, e);
+    struct poses_csv pc;
+    if (poses_csv_read(path, &pc, e)) return -1;
+    int rc = track_fill(&p->map, &pc.set[POSES_CSV_MAP]) || track_fill(&p->query, &pc.set[POSES_CSV_QUERY]);
+    poses_csv_free(&pc);
+    if (rc) {
+        rdata_poses_free(p);
+        return err_at(e, path, 0, "out of memory");
     }
-    free(buf);
-    if (!rc && !p->map.n && !p->query.n) rc = err_at(e, path, 0, "no pose rows, expected set,index,t,x,y,z");
-    if (rc) rdata_poses_free(p);
-    return rc;
+    return 0;
 }
 
 void rdata_queries_free(struct rdata_queries *q)
@@ -132,51 +70,23 @@ void rdata_queries_free(struct rdata_queries *q)
     q->n = 0;
 }
 
-static int query_row(char *s, const char *path, long ln, struct rdata_top1 *r, struct err *e)
-{
-    char *end;
-    r->query = strtol(s, &end, 10);
-    if (end == s || r->query < 0 || (*end && *end != ','))
-        return err_at(e, path, ln, "bad query index, expected query,cand,dist,...");
-    r->cand = -1;
-    r->dist = NAN;
-    if (!*end) return 0;
-    s = end + 1;
-    if (blank(s)) return 0;
-    r->cand = strtol(s, &end, 10);
-    if (end == s || *end != ',' || r->cand < 0)
-        return err_at(e, path, ln, "bad candidate index, expected query,cand,dist,...");
-    s = end + 1;
-    r->dist = strtod(s, &end);
-    if (end == s || (*end && *end != ',') || isnan(r->dist))
-        return err_at(e, path, ln, "bad distance, expected a number after the candidate");
-    return 0;
-}
-
 int rdata_queries_load(const char *path, struct rdata_queries *q, struct err *e)
 {
     memset(q, 0, sizeof *q);
-    char *buf;
-    size_t len, pos = 0, cap = 0;
-    if (fileio_read(path, RDATA_CSV_MAX, &buf, &len, e)) return -1;
-    char *line;
-    long ln = 0;
-    int rc = 0;
-    while (!rc && (line = next_line(buf, len, &pos))) {
-        ln++;
-        if (line[0] == '#' || blank(line) || !strncmp(line, "query", 5)) continue;
-        if (q->n == cap) {
-            cap = cap ? 2 * cap : 256;
-            struct rdata_top1 *g = realloc(q->q, cap * sizeof *g);
-            if (!g) { rc = err_at(e, path, ln, "out of memory"); break; }
-            q->q = g;
-        }
-        rc = query_row(line, path, ln, &q->q[q->n], e);
-        if (!rc) q->n++;
+    struct queries_csv qc;
+    if (queries_csv_read(path, &qc, e)) return -1;
+    if (!(q->q = malloc((qc.n_rows ? qc.n_rows : 1) * sizeof *q->q))) {
+        queries_csv_free(&qc);
+        return err_at(e, path, 0, "out of memory");
     }
-    free(buf);
-    if (rc) rdata_queries_free(q);
-    return rc;
+    for (size_t r = 0; r < qc.n_rows; r++) {
+        int any = qc.off[r + 1] > qc.off[r];
+        q->q[r] = (struct rdata_top1){(long)qc.query[r], any ? qc.c[qc.off[r]].idx : -1,
+                                     any ? qc.c[qc.off[r]].dist : NAN};
+    }
+    q->n = qc.n_rows;
+    queries_csv_free(&qc);
+    return 0;
 }
 
 void rdata_matrix_free(struct rdata_matrix *m)
@@ -187,67 +97,13 @@ void rdata_matrix_free(struct rdata_matrix *m)
     memset(m, 0, sizeof *m);
 }
 
-/* "#rows,3,7,9" -> a malloc'ed list of indices. */
-static int index_line(char *line, const char *tag, const char *path, long ln,
-                      long **out, size_t *n, struct err *e)
-{
-    size_t tl = strlen(tag);
-    if (!line || strncmp(line, tag, tl) || (line[tl] && line[tl] != ','))
-        return err_at(e, path, ln, "line does not start with '%s', expected %s then indices", tag, tag);
-    size_t cap = 1;
-    for (char *c = line; *c; c++) cap += *c == ',';
-    if (!(*out = malloc(cap * sizeof **out))) return err_at(e, path, ln, "out of memory");
-    *n = 0;
-    char *s = line + tl;
-    while (*s == ',') {
-        char *end;
-        long v = strtol(++s, &end, 10);
-        if (end == s || v < 0) return err_at(e, path, ln, "index %zu is not a whole number >= 0", *n + 1);
-        (*out)[(*n)++] = v;
-        s = end;
-    }
-    if (*s) return err_at(e, path, ln, "unexpected text '%.20s', expected comma-separated indices", s);
-    return 0;
-}
-
-static int matrix_rows(char *buf, size_t len, size_t *pos, const char *path, long *ln,
-                       struct rdata_matrix *m, struct err *e)
-{
-    if (!m->rows || !m->cols) return err_at(e, path, 0, "empty matrix, expected at least one row and column");
-    if (!(m->d = malloc(m->rows * m->cols * sizeof *m->d))) return err_at(e, path, 0, "out of memory");
-    size_t r = 0;
-    char *line;
-    while ((line = next_line(buf, len, pos))) {
-        (*ln)++;
-        if (blank(line)) continue;
-        if (r == m->rows) return err_at(e, path, *ln, "more than %zu distance rows, expected one per #rows index", m->rows);
-        char *s = line;
-        for (size_t c = 0; c < m->cols; c++) {
-            if (!*s && c < m->cols) return err_at(e, path, *ln, "%zu distances, expected %zu", c, m->cols);
-            if (field_num(&s, &m->d[r * m->cols + c]))
-                return err_at(e, path, *ln, "distance %zu is not a number, expected %zu numbers", c + 1, m->cols);
-        }
-        if (*s) return err_at(e, path, *ln, "more than %zu distances, expected %zu", m->cols, m->cols);
-        r++;
-    }
-    if (r != m->rows) return err_at(e, path, 0, "%zu distance rows, expected %zu", r, m->rows);
-    return 0;
-}
-
 int rdata_matrix_load(const char *path, struct rdata_matrix *m, struct err *e)
 {
+    struct matrix_csv mc;
     memset(m, 0, sizeof *m);
-    char *buf;
-    size_t len, pos = 0;
-    if (fileio_read(path, RDATA_CSV_MAX, &buf, &len, e)) return -1;
-    long ln = 1;
-    int rc = index_line(next_line(buf, len, &pos), "#rows", path, ln, &m->row_idx, &m->rows, e);
-    ln++;
-    if (!rc) rc = index_line(next_line(buf, len, &pos), "#cols", path, ln, &m->col_idx, &m->cols, e);
-    if (!rc) rc = matrix_rows(buf, len, &pos, path, &ln, m, e);
-    free(buf);
-    if (rc) rdata_matrix_free(m);
-    return rc;
+    if (matrix_csv_read(path, &mc, e)) return -1;
+    *m = (struct rdata_matrix){mc.rows, mc.cols, mc.row_idx, mc.col_idx, mc.d};
+    return 0;
 }
 
 static void verdict_fill(const cJSON *o, struct rdata_verdict *v)
@@ -275,13 +131,14 @@ static void verdict_fill(const cJSON *o, struct rdata_verdict *v)
     v->pass = cJSON_IsTrue(cJSON_GetObjectItemCaseSensitive(o, "pass"));
 }
 
-/* DIR/verdicts.json: a list of criterion results, or an object holding the
- * list under "criteria".  Absent file: no verdicts, not an error. */
+/* DIR/verdicts.json: {"format": "revisit-verdicts-1", "criteria": [...]}, or
+ * the bare list written before the format key.  Absent file: no verdicts,
+ * not an error. */
 int rdata_verdicts_read(struct rdata_set *s, struct err *e)
 {
     char path[4200], *text;
     size_t len;
-    fileio_join(path, sizeof path, s->root, "verdicts.json");
+    if (results_path(path, sizeof path, s->root, RESULTS_VERDICTS, e)) return -1;
     FILE *f = fopen(path, "rb");
     if (!f) return 0;
     fclose(f);
@@ -299,6 +156,8 @@ int rdata_verdicts_read(struct rdata_set *s, struct err *e)
     int rc = 0;
     if (!cJSON_IsArray(list)) {
         rc = err_at(e, path, 0, "no list of criteria, expected a list or {\"criteria\": [...]}");
+    } else if (list != root && results_format_json(root, "verdicts", path, e)) {
+        rc = -1;
     } else {
         size_t n = (size_t)cJSON_GetArraySize(list);
         s->verdicts = calloc(n ? n : 1, sizeof *s->verdicts);

@@ -69,31 +69,30 @@ static void file_checks(void)
 {
     struct err e = {{0}};
     struct rdata_poses p;
-    put("p1.csv", "set,index,t,x,y,z\nmap,0,0,1,2,3\nmap,2,1,4,5,6\nquery,0,9,7,8,9\n");
+    put("p1.csv", "# revisit scan poses, format 1\nset,index,t,x,y,z\nmap,0,0,1,2,3\nmap,1,1,4,5,6\nquery,0,9,7,8,9\n");
     CHECK(rdata_poses_load("p1.csv", &p, &e) == 0, "poses.csv with both sets loads");
-    CHECK(p.map.n == 3 && p.map.has[0] && !p.map.has[1] && p.map.has[2] && p.map.x[2] == 4,
-          "map poses are indexed by scan, gaps marked");
+    CHECK(p.map.n == 2 && p.map.has[0] && p.map.has[1] && p.map.x[1] == 4, "map poses are indexed by scan");
     CHECK(p.query.n == 1 && p.query.z[0] == 9, "query poses are kept apart");
     rdata_poses_free(&p);
     put("p2.csv", "set,index,t,x,y,z\nmap,0,0,1,2,3\nmap,1,0,1,zz,3\n");
     CHECK(rdata_poses_load("p2.csv", &p, &e) < 0, "a non-number pose field is refused");
-    CHECK_MSG(e.msg, "p2.csv:3: field 5 is not a finite number", "the bad pose field is placed by line");
-    put("p3.csv", "side,0,0,1,2,3\n");
+    CHECK_MSG(e.msg, "p2.csv:3: field 5 'zz' is not a finite number", "the bad pose field is placed by line");
+    put("p3.csv", "set,index,t,x,y,z\nside,0,0,1,2,3\n");
     CHECK(rdata_poses_load("p3.csv", &p, &e) < 0, "an unknown set is refused");
     CHECK_MSG(e.msg, "set 'side' unknown, expected map or query", "the unknown set is named");
 
     struct rdata_queries q;
-    put("q1.csv", "# c\nquery,cand,dist\n5,3,0.25,4,0.5\n6\n7,\n");
+    put("q1.csv", "# c\nquery,cand,dist\n5,3,0.25,4,0.5\n6\n7\n");
     CHECK(rdata_queries_load("q1.csv", &q, &e) == 0, "queries.csv loads");
     CHECK(q.n == 3 && q.q[0].query == 5 && q.q[0].cand == 3 && q.q[0].dist == 0.25, "the top candidate is kept");
     CHECK(q.q[1].cand == -1 && q.q[2].cand == -1, "a query without candidates has cand -1");
     rdata_queries_free(&q);
     put("q2.csv", "5,3,x\n");
     CHECK(rdata_queries_load("q2.csv", &q, &e) < 0, "a bad distance is refused");
-    CHECK_MSG(e.msg, "q2.csv:1: bad distance", "the bad distance is placed");
+    CHECK_MSG(e.msg, "q2.csv:1: field 3: distance 'x' is not a finite number", "the bad distance is placed");
 
     struct rdata_matrix m;
-    put("m1.csv", "#rows,0,4\n#cols,1,2,3\n0.1,0.2,0.3\n0.4,nan,0.6\n");
+    put("m1.csv", "# revisit distance matrix, format 1\n#rows,0,4\n#cols,1,2,3\n0.1,0.2,0.3\n0.4,nan,0.6\n");
     CHECK(rdata_matrix_load("m1.csv", &m, &e) == 0, "matrix.csv loads");
     CHECK(m.rows == 2 && m.cols == 3 && m.row_idx[1] == 4 && m.col_idx[2] == 3 && m.d[5] == 0.6 && isnan(m.d[4]),
           "indices and distances are read, nan kept");
@@ -120,9 +119,13 @@ static void message_checks(void)
 
     struct rdata_poses p;
     const struct { const char *text, *frag, *desc; } poses[] = {
-        {"map 0 0 1 2 3\n", "p.csv:1: no comma, expected set,index,t,x,y,z", "a pose row without commas"},
-        {"map,-4,0,1,2,3\n", "p.csv:1: bad scan index", "a negative scan index"},
-        {"# only a comment\n", "p.csv: no pose rows", "a pose file without rows"},
+        {"set,index,t,x,y,z\nmap 0 0 1 2 3\n", "p.csv:2: 1 fields, expected 6", "a pose row without commas"},
+        {"set,index,t,x,y,z\nmap,-4,0,1,2,3\n", "p.csv:2: map index '-4', expected 0", "a negative scan index"},
+        {"set,index,t,x,y,z\nmap,0,0,1,2,3\nmap,2,0,1,2,3\n", "p.csv:3: map index '2', expected 1", "a gap in the scan indices"},
+        {"# only a comment\nset,index,t,x,y,z\n", "p.csv: no pose rows", "a pose file without rows"},
+        {"map,0,0,1,2,3\n", "p.csv:1: expected the header 'set,index,t,x,y,z'", "a pose file without its header"},
+        {"set,index,t,x,y,z\nmap,0,0,1,2,3,xyz\n", "p.csv:2: 7 fields, expected 6", "a pose row with a trailing field"},
+        {"# revisit per-query results, format 1\nset,index,t,x,y,z\n", "p.csv:1: a per-query results file", "a queries file as poses"},
     };
     for (size_t k = 0; k < sizeof poses / sizeof poses[0]; k++) {
         put("p.csv", poses[k].text);
@@ -131,8 +134,9 @@ static void message_checks(void)
     }
     struct rdata_queries q;
     const struct { const char *text, *frag, *desc; } queries[] = {
-        {"x,1,0.5\n", "q.csv:1: bad query index", "a non-numeric query index"},
-        {"4,y,0.5\n", "q.csv:1: bad candidate index", "a non-numeric candidate"},
+        {"1,x,0.5\n", "q.csv:1: field 2: candidate 'x' is not a whole number", "a non-numeric candidate"},
+        {"4,y,0.5\n", "q.csv:1: field 2: candidate 'y' is not a whole number", "a non-numeric candidate"},
+        {"# revisit per-query results, format 7\n4,1,0.5\n", "q.csv:1: per-query results format 7, expected format 1", "a queries file of another version"},
     };
     for (size_t k = 0; k < sizeof queries / sizeof queries[0]; k++) {
         put("q.csv", queries[k].text);
@@ -148,6 +152,8 @@ static void message_checks(void)
         {"#rows,1\n#cols,1\n0.5,0.7\n", "m.csv:3: more than 1 distances", "an over-long distance row"},
         {"#rows,1,2\n#cols,1\n0.5\n", "m.csv: 1 distance rows, expected 2", "a missing distance row"},
         {"#rows,1\n#cols,1\nabc\n", "m.csv:3: distance 1 is not a number", "a non-numeric distance"},
+        {"# revisit distance matrix, format 3\n#rows,1\n#cols,1\n0\n", "m.csv:1: distance matrix format 3, expected format 1",
+         "a matrix of another version"},
     };
     for (size_t k = 0; k < sizeof mats / sizeof mats[0]; k++) {
         put("m.csv", mats[k].text);

@@ -124,11 +124,14 @@ int main(void)
 
     /* A bad poses.csv in a cell is named with its line. */
     static const char *const bad_poses[][2] = {
-        {"set,index,t,x,y,z\nmap,0,0,0,0\n", "poses.csv:2: expected set,index,t,x,y,z"},
-        {"map,0,0,0,0,0\nroad,1,1,10,0,0\n", "poses.csv:2: set 'road', expected map or query"},
-        {"map,0,0,0,0,0\nmap,5,1,10,0,0\n", "poses.csv:2: index 5, expected 1"},
+        {"set,index,t,x,y,z\nmap,0,0,0,0\n", "poses.csv:2: 5 fields, expected 6: set,index,t,x,y,z"},
+        {"set,index,t,x,y,z\nmap,0,0,0,0,0\nroad,1,1,10,0,0\n", "poses.csv:3: set 'road' unknown, expected map or query"},
+        {"set,index,t,x,y,z\nmap,0,0,0,0,0\nmap,5,1,10,0,0\n", "poses.csv:3: map index '5', expected 1"},
+        {"map,0,0,0,0,0\nmap,1,1,10,0,0\n", "poses.csv:1: expected the header 'set,index,t,x,y,z'"},
+        {"set,index,t,x,y,z\nmap,0,0,0,0,0xyz\n", "poses.csv:2: field 6 '0xyz' is not a finite number"},
+        {"# revisit scan poses, format 2\nset,index,t,x,y,z\nmap,0,0,0,0,0\n", "poses.csv:1: scan poses format 2, expected format 1"},
     };
-    for (int b = 0; b < 3; b++) {
+    for (int b = 0; b < 6; b++) {
         CHECK(!put("out/cells/a__mount__s1/poses.csv", bad_poses[b][0]), "bad poses written");
         CHECK(!summary_load(&s, &p, "out", &e), "the folder still loads");
         CHECK(summary_judge(&s, &v, &n, &e) == -1, "a bad poses.csv stops the paired difference");
@@ -138,7 +141,7 @@ int main(void)
     CHECK(!put("out/cells/a__mount__s1/poses.csv", poses), "poses restored");
 
     /* A failed cell is an error for the criteria that need it. */
-    CHECK(!put("out/cells/a__mount__s2/result.json", "{\"status\": \"failed\", \"error\": \"plugin 'a': crashed\"}"),
+    CHECK(!put("out/cells/a__mount__s2/result.json", "{\"format\": \"revisit-result-1\", \"status\": \"failed\", \"error\": \"plugin 'a': crashed\"}"),
           "cell marked failed");
     CHECK(!summary_load(&s, &p, "out", &e) && s.n_failed == 1, "the failed cell is counted");
     CHECK(summary_judge(&s, &v, &n, &e) == -1, "a failed cell makes the check an error");
@@ -146,7 +149,7 @@ int main(void)
     summary_free(&s);
 
     /* A cell of another scenario is refused. */
-    CHECK(!put("out/cells/a__mount__s2/result.json", "{\"status\": \"ok\", \"scenario_hash\": \"0000000000000000\"}"),
+    CHECK(!put("out/cells/a__mount__s2/result.json", "{\"format\": \"revisit-result-1\", \"status\": \"ok\", \"scenario_hash\": \"0000000000000000\"}"),
           "foreign cell");
     CHECK(summary_load(&s, &p, "out", &e) == -1, "a cell with another scenario hash is refused");
     CHECK_MSG(e.msg, "scenario_hash 0000000000000000, expected", "the message names both hashes");

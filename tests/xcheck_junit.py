@@ -85,7 +85,9 @@ try:
           "special characters survive escaping")
     check(fails and "0.35" in fails[0].find("failure").get("message"), "the failure message carries the value")
     with open(os.path.join(out, "verdicts.json")) as f:
-        ver = json.load(f)
+        doc = json.load(f)
+    check(doc.get("format") == "revisit-verdicts-1", "verdicts.json names its format")
+    ver = doc.get("criteria", [])
     keys = {"criterion", "metric", "method", "condition", "value", "lo", "hi", "threshold",
             "comparator", "target", "pass"}
     check(len(ver) == 3 and all(keys <= set(v) for v in ver), "verdicts.json has every agreed key")

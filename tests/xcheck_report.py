@@ -59,7 +59,7 @@ def main():
     tau = res["metrics"]["f1max"]["threshold"]
 
     P = {}
-    for row in csv.DictReader(open(os.path.join(cell, "poses.csv"))):
+    for row in csv.DictReader(ln for ln in open(os.path.join(cell, "poses.csv")) if not ln.startswith("# ")):
         P[int(row["index"])] = (float(row["t"]), float(row["x"]), float(row["y"]), float(row["z"]))
     idx = np.array(sorted(P))
     xyz = np.array([P[i][1:] for i in idx])
@@ -113,7 +113,7 @@ def main():
     check(("from %.9g," % tau) in gp, "the F1max threshold of result.json is marked")
 
     # Matrix truth rings against the k-d tree.
-    rows = [ln for ln in open(os.path.join(cell, "matrix.csv"))]
+    rows = [ln for ln in open(os.path.join(cell, "matrix.csv")) if not ln.startswith("# ")]
     ri = [int(v) for v in rows[0].strip().split(",")[1:]]
     ci = [int(v) for v in rows[1].strip().split(",")[1:]]
     want_pairs = set()

@@ -6,6 +6,7 @@
 
 #include "harness/cli/cmd.h"
 #include "harness/base/fileio.h"
+#include "harness/results/cells.h"
 #include "harness/results/junit.h"
 #include "harness/base/opt.h"
 #include "harness/plan/plan.h"
@@ -69,15 +70,14 @@ static int check_run(const char *scen, const char *dir, const char *junit, struc
     struct summary s;
     struct summary_verdict *v = NULL;
     size_t n = 0;
-    char path[4200], *text, hash[17];
-    size_t len;
+    char hash[17], path[4200];
     if (plan_load(&p, scen, e)) return CMD_ERROR;
     int rc = CMD_ERROR;
-    snprintf(path, sizeof path, "%s/scenario.json", dir);
-    if (fileio_read(path, (size_t)4 << 20, &text, &len, e)) { err_wrap(e, "%s is not a sweep folder", dir); goto out; }
-    plan_hash_hex(text, len, hash);
-    free(text);
-    if (strcmp(hash, p.hash)) { err_at(e, path, 0, "made by another scenario file (hash %s), expected %s of %s", hash, p.hash, scen); goto out; }
+    if (results_sweep_hash(dir, hash, e) || results_path(path, sizeof path, dir, RESULTS_SCENARIO, e)) goto out;
+    if (strcmp(hash, p.hash)) {
+        err_at(e, path, 0, "made by another scenario file (hash %s), expected %s of %s", hash, p.hash, scen);
+        goto out;
+    }
     if (!p.n_criteria) { err_at(e, scen, 0, "criteria: none given, expected at least one criterion to check"); goto out; }
     if (summary_load(&s, &p, dir, e)) goto out;
     if (!summary_judge(&s, &v, &n, e)) {

@@ -27,23 +27,16 @@ static const char usage[] =
 /* Hash of SHARD/scenario.json into out[17]. 0 or -1. */
 static int merge_hash(const char *dir, char out[17], struct err *e)
 {
-    char path[4200], *text;
-    size_t len;
-    snprintf(path, sizeof path, "%s/scenario.json", dir);
-    if (fileio_read(path, (size_t)4 << 20, &text, &len, e))
-        return err_wrap(e, "revisit merge: %s is not a sweep folder", dir);
-    plan_hash_hex(text, len, out);
-    free(text);
-    return 0;
+    return results_sweep_hash(dir, out, e) ? err_wrap(e, "revisit merge") : 0;
 }
 
 /* Copy the regular files of src into a new folder dst (via a .part folder). */
-static int merge_copy_cell(const char *src, const char *cells, const char *id, struct err *e)
+static int merge_copy_cell(const char *src, const char *out, const char *id, struct err *e)
 {
     char part[4200], dst[4200];
-    snprintf(part, sizeof part, "%s/.part-%s", cells, id);
-    snprintf(dst, sizeof dst, "%s/%s", cells, id);
-    if (fileio_mkdirs(part, e)) return -1;
+    if (results_cell_part(part, sizeof part, out, id, e) || results_cell_path(dst, sizeof dst, out, id, NULL, e) ||
+        fileio_mkdirs(part, e))
+        return -1;
     DIR *d = opendir(src);
     if (!d) return err_at(e, src, 0, "cannot open folder: %s", strerror(errno));
     struct dirent *de;
@@ -69,13 +62,12 @@ static int merge_one(const struct plan *p, const char *shard, const char *out, s
 {
     struct summary s;
     if (summary_load(&s, p, shard, e)) return -1;   /* checks every cell's scenario hash */
-    char cells[4200], src[4400];
-    snprintf(cells, sizeof cells, "%s/cells", out);
+    char src[4400];
     int rc = 0;
     for (size_t k = 0; k < p->n_cells && !rc; k++) {
         if (!s.cells[k].done || results_cell_done(out, p->cells[k].id)) continue;
-        snprintf(src, sizeof src, "%s/cells/%s", shard, p->cells[k].id);
-        rc = merge_copy_cell(src, cells, p->cells[k].id, e);
+        rc = results_cell_path(src, sizeof src, shard, p->cells[k].id, NULL, e) ||
+             merge_copy_cell(src, out, p->cells[k].id, e);
         *copied += !rc;
     }
     summary_free(&s);
@@ -93,8 +85,7 @@ static int merge_run(const char *out, int n, const char *const *dirs, int quiet,
                           h, first, dirs[0]);
     }
     struct plan p;
-    snprintf(path, sizeof path, "%s/scenario.json", dirs[0]);
-    if (plan_load(&p, path, e)) return -1;
+    if (results_path(path, sizeof path, dirs[0], RESULTS_SCENARIO, e) || plan_load(&p, path, e)) return -1;
     size_t copied = 0;
     int rc = sweep_prepare(&p, out, e);
     for (int k = 0; k < n && !rc; k++) rc = merge_one(&p, dirs[k], out, &copied, e);

@@ -16,12 +16,16 @@
 #include "harness/base/pool.h"
 #include "harness/io/poses_io.h"
 #include "harness/base/progress.h"
+#include "harness/results/cells.h"
+#include "harness/results/format.h"
+#include "harness/results/poses_csv.h"
 #include "harness/results/queries_csv.h"
+#include "harness/results/result_json.h"
 #include "harness/io/recording.h"
 #include "harness/results/result_metrics.h"
 #include "metrics/boot.h"
 
-#define MT_FILE_MAX ((size_t)1 << 32)
+#define MT_FILE_MAX ((size_t)1 << 32)   /* --only lists */
 
 static const char usage[] =
     "usage: revisit metrics --results FILE [--poses FILE | --rec REC]\n"
@@ -98,53 +102,14 @@ static int mt_load(const char *poses, const char *rec, struct mt_set *s, struct 
     return rc;
 }
 
-/* One "set,index,t,x,y,z" row into the map or query set. */
-static int mt_folder_row(char *line, const char *path, long ln, struct mt_set sets[2], struct err *e)
-{
-    char set[16];
-    unsigned long idx;
-    double v[4];
-    int used = 0;
-    if (sscanf(line, "%15[^,],%lu,%lf,%lf,%lf,%lf%n", set, &idx, &v[0], &v[1], &v[2], &v[3], &used) != 6 ||
-        line[used] != 0)
-        return err_at(e, path, ln, "expected 'set,index,t,x,y,z', got '%.60s'", line);
-    int k = !strcmp(set, "map") ? 0 : !strcmp(set, "query") ? 1 : -1;
-    if (k < 0) return err_at(e, path, ln, "set '%s', expected map or query", set);
-    if (idx >= sets[k].n) return err_at(e, path, ln, "%s index %lu out of order, expected indices 0, 1, 2, ...", set, idx);
-    sets[k].t[idx] = v[0];
-    memcpy(sets[k].xyz + 3 * idx, v + 1, 3 * sizeof *v);
-    return 0;
-}
-
-/* poses.csv of a results folder: count the rows of each set, then fill. */
+/* poses.csv of a results folder: its map and query sets move into map and qry. */
 static int mt_load_folder(const char *path, struct mt_set *map, struct mt_set *qry, struct err *e)
 {
-    char *buf;
-    size_t len, count[2] = {0, 0};
-    if (fileio_read(path, MT_FILE_MAX, &buf, &len, e)) return -1;
-    for (char *p = buf; (p = strstr(p, "\nmap,")); p++) count[0]++;
-    for (char *p = buf; (p = strstr(p, "\nquery,")); p++) count[1]++;
-    struct mt_set sets[2] = {{0}, {0}};
-    int rc = mt_set_alloc(&sets[0], count[0], e) || mt_set_alloc(&sets[1], count[1], e) ? -1 : 0;
-    long ln = 0;
-    for (char *p = buf, *nl; !rc && p && *p; p = nl ? nl + 1 : NULL) {
-        nl = strchr(p, '\n');
-        if (nl) *nl = 0;
-        if (nl && nl > p && nl[-1] == '\r') nl[-1] = 0;
-        if (++ln == 1) {
-            if (strcmp(p, "set,index,t,x,y,z")) rc = err_at(e, path, 1, "expected the header 'set,index,t,x,y,z'");
-            continue;
-        }
-        if (*p && *p != '#') rc = mt_folder_row(p, path, ln, sets, e);
-    }
-    free(buf);
-    for (int k = 0; k < 2 && !rc; k++)
-        for (size_t i = 0; i < sets[k].n && !rc; i++)
-            if (isnan(sets[k].t[i]))
-                rc = err_at(e, path, 0, "%s scan %zu has no row, expected one row per scan", k ? "query" : "map", i);
-    if (rc) { mt_set_free(&sets[0]); mt_set_free(&sets[1]); return -1; }
-    *map = sets[0];
-    *qry = sets[1];
+    struct poses_csv p;
+    if (poses_csv_read(path, &p, e)) return -1;
+    struct mt_set *dst[2] = {map, qry};
+    for (int k = 0; k < 2; k++)
+        *dst[k] = (struct mt_set){p.set[k].xyz, p.set[k].t, p.set[k].n};
     return 0;
 }
 
@@ -186,39 +151,28 @@ static int mt_load_only(const char *path, size_t **idx, size_t *n, struct err *e
 /* A results folder's result.json gives the protocol the results were made
  * under; fill every protocol option not given on the command line from it,
  * so scoring the folder again reproduces its numbers.  No result.json, or
- * one without "protocol": nothing changes.  mode/counting point into bufs. */
-static int mt_folder_protocol(const char *results, struct opt_protocol *op, char bufs[2][16],
-                              int *used, struct err *e)
+ * one without "protocol": nothing changes. */
+static int mt_folder_protocol(const char *results, struct opt_protocol *op, int *used, struct err *e)
 {
-    char dir[4096], path[4200], *text;
-    size_t len;
+    char dir[4096], path[4200];
     struct stat st;
     fileio_dirname(dir, sizeof dir, results);
-    fileio_join(path, sizeof path, dir, "result.json");
+    if (results_path(path, sizeof path, dir, RESULTS_RESULT, e)) return -1;
     if (stat(path, &st)) return 0;
-    if (fileio_read(path, (size_t)64 << 20, &text, &len, e)) return -1;
-    cJSON *root = cJSON_Parse(text);
-    free(text);
-    const cJSON *pr = cJSON_GetObjectItemCaseSensitive(root, "protocol");
-    if (!cJSON_IsObject(pr)) { cJSON_Delete(root); return 0; }
-    const char *keys[2] = {"mode", "counting"};
-    const char **dst[2] = {&op->mode, &op->counting};
-    for (int k = 0; k < 2; k++) {
-        const cJSON *v = cJSON_GetObjectItemCaseSensitive(pr, keys[k]);
-        if (!*dst[k] && cJSON_IsString(v)) {
-            snprintf(bufs[k], 16, "%s", v->valuestring);
-            *dst[k] = bufs[k];
-        }
-    }
-    const cJSON *v;
-    if (isnan(op->r_pos) && cJSON_IsNumber(v = cJSON_GetObjectItemCaseSensitive(pr, "r_pos_m"))) op->r_pos = v->valuedouble;
-    if (isnan(op->r_neg) && cJSON_IsNumber(v = cJSON_GetObjectItemCaseSensitive(pr, "r_neg_m"))) op->r_neg = v->valuedouble;
-    if (isnan(op->excl_s) && cJSON_IsNumber(v = cJSON_GetObjectItemCaseSensitive(pr, "exclusion_s"))) op->excl_s = v->valuedouble;
-    if (op->excl_scans < 0 && cJSON_IsNumber(v = cJSON_GetObjectItemCaseSensitive(pr, "exclusion_scans")))
-        op->excl_scans = (long)v->valuedouble;
-    if (op->top_k < 0 && cJSON_IsNumber(v = cJSON_GetObjectItemCaseSensitive(pr, "top_k"))) op->top_k = (long)v->valuedouble;
-    if (cJSON_IsTrue(cJSON_GetObjectItemCaseSensitive(pr, "planar"))) op->planar = 1;
+    cJSON *root = result_json_load(path, e);
+    if (!root) return -1;
+    struct protocol p;
+    int has = result_json_protocol(root, &p);
     cJSON_Delete(root);
+    if (!has) return 0;
+    if (!op->mode) op->mode = protocol_mode_name(p.mode);
+    if (!op->counting) op->counting = protocol_counting_name(p.counting);
+    if (isnan(op->r_pos)) op->r_pos = p.r_pos_m;
+    if (isnan(op->r_neg)) op->r_neg = p.r_neg_m;
+    if (isnan(op->excl_s)) op->excl_s = p.exclusion_s;
+    if (op->excl_scans < 0) op->excl_scans = p.exclusion_scans;
+    if (op->top_k < 0) op->top_k = p.top_k;
+    if (p.planar) op->planar = 1;
     *used = 1;
     return 0;
 }
@@ -280,7 +234,7 @@ static int mt_poses(struct mt_run *r, struct err *e)
     char dir[4096], path[4200];
     struct stat st;
     fileio_dirname(dir, sizeof dir, o->results);
-    fileio_join(path, sizeof path, dir, "poses.csv");
+    if (results_path(path, sizeof path, dir, RESULTS_POSES, e)) return -1;
     if (stat(path, &st))
         return err_set(e, "revisit metrics: no poses: give --poses FILE or --rec REC (no %s beside the results)", path);
     return mt_load_folder(path, &r->map, &r->qry, e);
@@ -398,7 +352,9 @@ static int mt_json(const struct mt_run *r, int argc, char **argv, struct err *e)
         snprintf(cmdline + at, sizeof cmdline - at, " %s", argv[k]);
     }
     cJSON *root = cJSON_CreateObject();
-    cJSON_AddStringToObject(root, "format", "revisit-result-1");
+    char format[64];
+    results_format_json_name(format, sizeof format, "result");
+    cJSON_AddStringToObject(root, "format", format);
     cJSON_AddStringToObject(root, "software", "revisit " RV_VERSION);
     cJSON_AddStringToObject(root, "command", cmdline);
     cJSON_AddStringToObject(root, "results", r->o.results);
@@ -462,9 +418,8 @@ int cmd_metrics(int argc, char **argv)
         return err_set(&e, "revisit metrics: --bootstrap expects 0 to 1000000 resamples, got %ld", r.o.bootstrap),
                cmd_report(&e);
     if (!op.mode && (r.o.qposes || r.o.qrec)) op.mode = "reloc";
-    char bufs[2][16];
     int from_folder = 0;
-    if (!r.o.poses && !r.o.rec && mt_folder_protocol(r.o.results, &op, bufs, &from_folder, &e))
+    if (!r.o.poses && !r.o.rec && mt_folder_protocol(r.o.results, &op, &from_folder, &e))
         return cmd_report(&e);
     if (from_folder && !r.o.quiet)
         fprintf(stderr, "revisit metrics: protocol of the results folder (its result.json), options given override it\n");

@@ -18,21 +18,10 @@ int opt_protocol_finish(const struct opt_protocol *op, const char *cmd,
                         struct protocol *p, struct err *e)
 {
     protocol_defaults(p);
-    static const char *const modes[] = {"loop", "reloc", NULL};
-    static const char *const countings[] = {"strict", "lenient", NULL};
-    if (op->mode) {
-        int k = 0;
-        while (modes[k] && strcmp(modes[k], op->mode)) k++;
-        if (!modes[k]) return err_set(e, "revisit %s: --mode expects loop or reloc, got '%s'", cmd, op->mode);
-        p->mode = (enum protocol_mode)k;
-    }
-    if (op->counting) {
-        int k = 0;
-        while (countings[k] && strcmp(countings[k], op->counting)) k++;
-        if (!countings[k])
-            return err_set(e, "revisit %s: --counting expects strict or lenient, got '%s'", cmd, op->counting);
-        p->counting = (enum protocol_counting)k;
-    }
+    if (op->mode && protocol_mode_parse(op->mode, &p->mode))
+        return err_set(e, "revisit %s: --mode expects loop or reloc, got '%s'", cmd, op->mode);
+    if (op->counting && protocol_counting_parse(op->counting, &p->counting))
+        return err_set(e, "revisit %s: --counting expects strict or lenient, got '%s'", cmd, op->counting);
     if (!isnan(op->r_pos)) p->r_pos_m = op->r_pos;
     p->r_neg_m = isnan(op->r_neg) ? p->r_pos_m : op->r_neg;
     if (!isnan(op->excl_s)) p->exclusion_s = op->excl_s;

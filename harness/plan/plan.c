@@ -205,8 +205,6 @@ static int pl_protocol(const struct pl *c, const cJSON *root, struct plan *p)
 {
     static const char *const keys[] = {"mode", "radius_m", "radius_neg_m", "exclude_s",
                                        "exclude_scans", "planar", "counting", "top_k", NULL};
-    static const char *const modes[] = {"loop", "reloc", NULL};
-    static const char *const countings[] = {"strict", "lenient", NULL};
     struct protocol *q = &p->protocol;
     protocol_defaults(q);
     q->mode = p->query_rec ? PROTOCOL_RELOC : PROTOCOL_LOOP;
@@ -216,11 +214,11 @@ static int pl_protocol(const struct pl *c, const cJSON *root, struct plan *p)
     const char *s = NULL;
     int k;
     if (pl_str(c, o, "protocol", "mode", 0, &s)) return -1;
-    if (s && pl_pick(c, "protocol.mode", s, modes, &k)) return -1;
+    if (s && pl_pick(c, "protocol.mode", s, protocol_mode_names, &k)) return -1;
     if (s) q->mode = (enum protocol_mode)k;
     s = NULL;
     if (pl_str(c, o, "protocol", "counting", 0, &s)) return -1;
-    if (s && pl_pick(c, "protocol.counting", s, countings, &k)) return -1;
+    if (s && pl_pick(c, "protocol.counting", s, protocol_counting_names, &k)) return -1;
     if (s) q->counting = (enum protocol_counting)k;
     double neg = NAN, scans = -1, topk = q->top_k;
     if (pl_num(c, o, "protocol", "radius_m", 1e-9, 1e6, &q->r_pos_m) ||

@@ -11,6 +11,7 @@
 #include <string.h>
 
 #include "harness/base/fileio.h"
+#include "harness/results/format.h"
 
 #define QCSV_MAX_BYTES ((size_t)1 << 34)
 
@@ -121,6 +122,8 @@ static int qcsv_parse(struct qcsv_build *b, char *buf, struct err *e)
         line++;
         char *s = qcsv_trim(p);
         p = nl ? nl + 1 : NULL;
+        if (*s == '#' && !seen_data && results_format_line(s, RESULTS_QUERIES_KIND, b->q->path, line, e) < 0)
+            return -1;
         if (!*s || *s == '#') continue;
         if (!seen_data++ && isalpha((unsigned char)*s)) {
             if (strncmp(s, "query", 5))
@@ -229,7 +232,8 @@ int queries_csv_write(const char *path, const struct pr_lists *l, struct err *e)
 {
     struct afile a;
     if (afile_open(&a, path, e)) return -1;
-    fprintf(a.f, "# revisit per-query results, format 1\nquery,cand,dist,cand,dist,...\n");
+    results_format_write(a.f, RESULTS_QUERIES_KIND);
+    fputs("query,cand,dist,cand,dist,...\n", a.f);
     for (size_t i = 0; i < l->n_query; i++) {
         fprintf(a.f, "%zu", i);
         for (size_t k = l->off[i]; k < l->off[i + 1]; k++)

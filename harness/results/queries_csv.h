@@ -6,7 +6,9 @@
  *   42,3,0.412,7,0.533
  *   43
  *
- * Lines starting with '#' and blank lines are skipped; the `query,...`
+ * Lines starting with '#' and blank lines are skipped (a format line of
+ * another kind or version before the data is refused, harness/results/
+ * format.h); the `query,...`
  * header is optional (first data line only).  A row is a query scan index,
  * then (candidate map index, descriptor distance) pairs, best first.  A
  * query with no candidate is its index alone; a query with no row has no

@@ -72,14 +72,14 @@ int result_metrics_add(cJSON *root, const struct pr_scalars *point, const struct
 cJSON *result_metrics_protocol(const struct protocol *p)
 {
     cJSON *o = cJSON_CreateObject();
-    cJSON_AddStringToObject(o, "mode", p->mode == PROTOCOL_RELOC ? "reloc" : "loop");
+    cJSON_AddStringToObject(o, "mode", protocol_mode_name(p->mode));
     cJSON_AddNumberToObject(o, "r_pos_m", p->r_pos_m);
     cJSON_AddNumberToObject(o, "r_neg_m", p->r_neg_m);
     cJSON_AddNumberToObject(o, "exclusion_s", p->exclusion_s);
     if (p->exclusion_scans >= 0) cJSON_AddNumberToObject(o, "exclusion_scans", (double)p->exclusion_scans);
     else cJSON_AddNullToObject(o, "exclusion_scans");
     cJSON_AddBoolToObject(o, "planar", p->planar);
-    cJSON_AddStringToObject(o, "counting", p->counting == PROTOCOL_LENIENT ? "lenient" : "strict");
+    cJSON_AddStringToObject(o, "counting", protocol_counting_name(p->counting));
     cJSON_AddNumberToObject(o, "top_k", p->top_k);
     return o;
 }

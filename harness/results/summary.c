@@ -11,9 +11,9 @@
 #include "harness/base/fileio.h"
 #include "harness/base/json_file.h"
 #include "harness/results/cells.h"
+#include "harness/results/format.h"
+#include "harness/results/result_json.h"
 #include "metrics/boot.h"
-
-#define SM_RESULT_MAX ((size_t)64 << 20)
 
 /* Metrics in the tables, in result.json's key names. */
 static const char *const sm_metrics[] = {"f1max", "r100p", "p_r0", "ep", "ap", "recall_at_1",
@@ -25,20 +25,17 @@ static int sm_load_cell(struct summary *s, size_t k, struct err *e)
     const char *id = s->p->cells[k].id;
     struct summary_cell *c = &s->cells[k];
     if (!results_cell_done(s->dir, id)) return 0;
-    char path[4200], *text;
-    size_t len;
-    snprintf(path, sizeof path, "%s/cells/%s/result.json", s->dir, id);
-    if (fileio_read(path, SM_RESULT_MAX, &text, &len, e)) return -1;
-    c->result = cJSON_ParseWithLength(text, len);
-    free(text);
-    if (!c->result || !cJSON_IsObject(c->result)) return err_at(e, path, 0, "not valid JSON, expected a result object");
+    char path[4200];
+    if (results_cell_path(path, sizeof path, s->dir, id, RESULTS_RESULT, e)) return -1;
+    if (!(c->result = result_json_load(path, e))) return -1;
     const cJSON *h = cJSON_GetObjectItemCaseSensitive(c->result, "scenario_hash");
     if (cJSON_IsString(h) && strcmp(h->valuestring, s->p->hash))
         return err_at(e, path, 0, "scenario_hash %s, expected %s (a cell of another scenario file)",
                       h->valuestring, s->p->hash);
-    const cJSON *st = cJSON_GetObjectItemCaseSensitive(c->result, "status");
+    int ok = result_json_status(c->result, path, e);
+    if (ok < 0) return -1;
     c->done = 1;
-    c->ok = cJSON_IsString(st) && !strcmp(st->valuestring, "ok");
+    c->ok = ok;
     s->n_done++;
     if (c->ok) s->n_ok++;
     else s->n_failed++;
@@ -122,8 +119,7 @@ static int sm_write_cells_csv(const struct summary *s, struct err *e)
 {
     char path[4200];
     struct afile a;
-    snprintf(path, sizeof path, "%s/summary.csv", s->dir);
-    if (afile_open(&a, path, e)) return -1;
+    if (results_path(path, sizeof path, s->dir, RESULTS_SUMMARY_CSV, e) || afile_open(&a, path, e)) return -1;
     fputs("cell,method,condition,axis_stage,axis_key,axis_value,seed,status,queries,revisits", a.f);
     for (int m = 0; sm_metrics[m]; m++) fprintf(a.f, ",%s,%s_lo,%s_hi", sm_metrics[m], sm_metrics[m], sm_metrics[m]);
     fputc('\n', a.f);
@@ -176,8 +172,7 @@ static int sm_write_groups_csv(const struct summary *s, struct err *e)
 {
     char path[4200];
     struct afile a;
-    snprintf(path, sizeof path, "%s/summary_seeds.csv", s->dir);
-    if (afile_open(&a, path, e)) return -1;
+    if (results_path(path, sizeof path, s->dir, RESULTS_SUMMARY_SEEDS, e) || afile_open(&a, path, e)) return -1;
     fputs("method,condition,axis_stage,axis_key,axis_value,seeds,ok", a.f);
     for (int m = 0; sm_metrics[m]; m++)
         fprintf(a.f, ",%s_mean,%s_sd,%s_min,%s_max", sm_metrics[m], sm_metrics[m], sm_metrics[m], sm_metrics[m]);
@@ -250,10 +245,11 @@ static cJSON *sm_group_json(const struct summary *s, size_t k, size_t end)
 
 static int sm_write_json(const struct summary *s, struct err *e)
 {
-    char path[4200];
-    snprintf(path, sizeof path, "%s/summary.json", s->dir);
+    char path[4200], format[64];
+    if (results_path(path, sizeof path, s->dir, RESULTS_SUMMARY_JSON, e)) return -1;
+    results_format_json_name(format, sizeof format, "summary");
     cJSON *root = cJSON_CreateObject();
-    cJSON_AddStringToObject(root, "format", "revisit-summary-1");
+    cJSON_AddStringToObject(root, "format", format);
     cJSON_AddStringToObject(root, "scenario_hash", s->p->hash);
     cJSON_AddNumberToObject(root, "cells_total", (double)s->p->n_cells);
     cJSON_AddNumberToObject(root, "cells_done", (double)s->n_done);

@@ -10,93 +10,45 @@
 
 #include "harness/base/fileio.h"
 #include "harness/base/json_file.h"
+#include "harness/results/cells.h"
+#include "harness/results/format.h"
+#include "harness/results/poses_csv.h"
 #include "harness/results/queries_csv.h"
 #include "metrics/boot.h"
 #include "metrics/gt.h"
 #include "metrics/pr.h"
 
-#define SV_FILE_MAX ((size_t)1 << 30)
-
-/* ---- reading a cell's poses.csv ----------------------------------------- */
-
-struct sv_poses {
-    size_t n[2];          /* 0: map, 1: query */
-    double *xyz[2], *t[2];
-};
-
-static void sv_poses_free(struct sv_poses *ps)
-{
-    for (int s = 0; s < 2; s++) { free(ps->xyz[s]); free(ps->t[s]); }
-}
-
-/* "set,index,t,x,y,z" rows; index must run 0, 1, ... within each set. */
-static int sv_read_poses(const char *dir, struct sv_poses *ps, struct err *e)
-{
-    char path[4200], *text, *save = NULL;
-    size_t len, cap[2] = {0, 0}, line = 0;
-    memset(ps, 0, sizeof *ps);
-    snprintf(path, sizeof path, "%s/poses.csv", dir);
-    if (fileio_read(path, SV_FILE_MAX, &text, &len, e)) return -1;
-    int rc = 0;
-    for (char *l = strtok_r(text, "\n", &save); l && !rc; l = strtok_r(NULL, "\n", &save)) {
-        line++;
-        char set[16];
-        long idx;
-        double t, x, y, z;
-        if (l[0] == '#' || !strncmp(l, "set,", 4)) continue;
-        if (sscanf(l, "%15[^,],%ld,%lf,%lf,%lf,%lf", set, &idx, &t, &x, &y, &z) != 6) {
-            rc = err_at(e, path, (long)line, "expected set,index,t,x,y,z");
-            break;
-        }
-        int s = !strcmp(set, "query");
-        if (!s && strcmp(set, "map")) { rc = err_at(e, path, (long)line, "set '%s', expected map or query", set); break; }
-        if (idx != (long)ps->n[s]) { rc = err_at(e, path, (long)line, "index %ld, expected %zu", idx, ps->n[s]); break; }
-        if (ps->n[s] == cap[s]) {
-            cap[s] = cap[s] ? 2 * cap[s] : 256;
-            double *a = realloc(ps->xyz[s], 3 * cap[s] * sizeof *a), *b = a ? realloc(ps->t[s], cap[s] * sizeof *b) : NULL;
-            if (a) ps->xyz[s] = a;
-            if (b) ps->t[s] = b;
-            if (!a || !b) { rc = err_at(e, path, (long)line, "out of memory"); break; }
-        }
-        double *p = ps->xyz[s] + 3 * ps->n[s];
-        p[0] = x; p[1] = y; p[2] = z;
-        ps->t[s][ps->n[s]++] = t;
-    }
-    free(text);
-    if (rc) sv_poses_free(ps);
-    return rc;
-}
-
 /* The scored query set of one cell, rebuilt from its folder. */
 static int sv_cell_set(const struct summary *s, size_t k, struct pr_set **out, struct err *e)
 {
-    char dir[4200];
-    snprintf(dir, sizeof dir, "%s/cells/%s", s->dir, s->p->cells[k].id);
-    struct sv_poses ps;
-    if (sv_read_poses(dir, &ps, e)) return -1;
+    const char *id = s->p->cells[k].id;
+    char path[4300];
+    struct poses_csv ps;
+    if (results_cell_path(path, sizeof path, s->dir, id, RESULTS_POSES, e) || poses_csv_read(path, &ps, e))
+        return err_wrap(e, "cell %s", id);
     int reloc = s->p->protocol.mode == PROTOCOL_RELOC;
-    int ms = ps.n[0] ? 0 : 1;   /* loop mode may list the one recording as either set */
-    struct gt_poses map = {ps.xyz[ms], ps.t[ms], ps.n[ms]}, query = {ps.xyz[1], ps.t[1], ps.n[1]};
+    const struct poses_csv_set *m = &ps.set[ps.set[POSES_CSV_MAP].n ? POSES_CSV_MAP : POSES_CSV_QUERY];
+    const struct poses_csv_set *qs = &ps.set[POSES_CSV_QUERY];   /* loop mode may list the one recording as either set */
+    struct gt_poses map = {m->xyz, m->t, m->n}, query = {qs->xyz, qs->t, qs->n};
     struct gt *g = NULL;
     struct queries_csv q;
     size_t *off = NULL;
     struct pr_cand *c = NULL;
-    char path[4300];
-    snprintf(path, sizeof path, "%s/queries.csv", dir);
     memset(&q, 0, sizeof q);
     int rc = gt_build(&s->p->protocol, &map, reloc ? &query : NULL, NULL, 0, &g, e);
+    if (!rc) rc = results_cell_path(path, sizeof path, s->dir, id, RESULTS_QUERIES, e);
     if (!rc) rc = queries_csv_read(path, &q, e);
     if (!rc) rc = queries_csv_lists(&q, g, &off, &c, e);
     if (!rc) {
         struct pr_lists pl = {g->n_query, off, c};
         rc = pr_set_build(g, &pl, out, e);
     }
-    if (rc) err_wrap(e, "cell %s", s->p->cells[k].id);
+    if (rc) err_wrap(e, "cell %s", id);
     free(off);
     free(c);
     queries_csv_free(&q);
     gt_free(g);
-    sv_poses_free(&ps);
+    poses_csv_free(&ps);
     return rc;
 }
 
@@ -266,8 +218,11 @@ static void sv_add_num(cJSON *o, const char *key, double x)
 int summary_write_verdicts(const struct summary *s, const struct summary_verdict *v, size_t n, struct err *e)
 {
     const struct plan *p = s->p;
-    cJSON *root = cJSON_CreateArray();
-    for (size_t k = 0; k < n; k++) {
+    cJSON *root = cJSON_CreateObject(), *list = cJSON_AddArrayToObject(root, "criteria");
+    char format[64];
+    results_format_json_name(format, sizeof format, "verdicts");
+    cJSON_AddStringToObject(root, "format", format);
+    for (size_t k = 0; list && k < n; k++) {
         const struct plan_criterion *r = &p->criteria[v[k].criterion];
         cJSON *o = cJSON_CreateObject();
         cJSON_AddStringToObject(o, "criterion", r->text);
@@ -286,9 +241,12 @@ int summary_write_verdicts(const struct summary *s, const struct summary_verdict
         cJSON_AddStringToObject(o, "target", plan_target_name(r->target));
         cJSON_AddNumberToObject(o, "seeds", (double)v[k].seeds);
         cJSON_AddBoolToObject(o, "pass", v[k].pass);
-        cJSON_AddItemToArray(root, o);
+        cJSON_AddItemToArray(list, o);
     }
     char path[4200];
-    snprintf(path, sizeof path, "%s/verdicts.json", s->dir);
+    if (results_path(path, sizeof path, s->dir, RESULTS_VERDICTS, e)) {
+        cJSON_Delete(root);
+        return -1;
+    }
     return json_file_write(path, root, e);
 }

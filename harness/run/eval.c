@@ -14,6 +14,10 @@
 #include "harness/base/fileio.h"
 #include "harness/run/isolate.h"
 #include "harness/base/json_file.h"
+#include "harness/results/cells.h"
+#include "harness/results/format.h"
+#include "harness/results/matrix_csv.h"
+#include "harness/results/poses_csv.h"
 #include "harness/results/queries_csv.h"
 #include "harness/run/plugin_host.h"
 #include "harness/base/pool.h"
@@ -351,17 +355,8 @@ static int ev_metrics(struct ev_ctx *c, const struct pr_lists *l, struct err *e)
 
 static int ev_write_poses(const struct ev_ctx *c, const char *path, struct err *e)
 {
-    struct afile a;
-    if (afile_open(&a, path, e)) return -1;
-    fprintf(a.f, "set,index,t,x,y,z\n");
-    const struct ev_set *sets[2] = {&c->mset, &c->qset};
-    static const char *const names[2] = {"map", "query"};
-    for (int k = 0; k < 2; k++)
-        for (size_t i = 0; i < sets[k]->n; i++) {
-            const double *p = sets[k]->xyz + 3 * i;
-            fprintf(a.f, "%s,%zu,%.17g,%.17g,%.17g,%.17g\n", names[k], i, sets[k]->t[i], p[0], p[1], p[2]);
-        }
-    return afile_commit(&a, e);
+    struct poses_csv_set map = {c->mset.n, c->mset.t, c->mset.xyz}, query = {c->qset.n, c->qset.t, c->qset.xyz};
+    return poses_csv_write(path, &map, &query, e);
 }
 
 /* Up to `most` evenly spaced indices of 0..n-1 into idx; returns how many. */
@@ -385,17 +380,13 @@ static int ev_write_matrix(const struct ev_ctx *c, const char *path, struct err 
     size_t most = c->plug.distance == RV_DIST_CUSTOM ? 60 : 400;
     size_t ri[400], ci[400];
     size_t nr = ev_spread(c->qset.n, most, ri), nc = ev_spread(c->mset.n, most, ci);
-    struct afile a;
-    if (afile_open(&a, path, e)) return -1;
-    fprintf(a.f, "#rows");
-    for (size_t k = 0; k < nr; k++) fprintf(a.f, ",%zu", ri[k]);
-    fprintf(a.f, "\n#cols");
-    for (size_t k = 0; k < nc; k++) fprintf(a.f, ",%zu", ci[k]);
-    fprintf(a.f, "\n");
+    double *d = malloc((nr * nc + 1) * sizeof *d);
+    if (!d) return err_at(e, path, 0, "out of memory for a %zu x %zu distance matrix", nr, nc);
     for (size_t r = 0; r < nr; r++)
-        for (size_t k = 0; k < nc; k++)
-            fprintf(a.f, "%.6g%c", ev_pair(c, ri[r], ci[k]), k + 1 < nc ? ',' : '\n');
-    return afile_commit(&a, e);
+        for (size_t k = 0; k < nc; k++) d[r * nc + k] = ev_pair(c, ri[r], ci[k]);
+    int rc = matrix_csv_write(path, ri, nr, ci, nc, d, e);
+    free(d);
+    return rc;
 }
 
 static void ev_num(cJSON *o, const char *key, double v)
@@ -489,7 +480,9 @@ static cJSON *ev_result_json(const struct ev_ctx *c)
 {
     const struct eval_spec *s = c->s;
     cJSON *o = cJSON_CreateObject();
-    cJSON_AddStringToObject(o, "format", "revisit-result-1");
+    char format[64];
+    results_format_json_name(format, sizeof format, "result");
+    cJSON_AddStringToObject(o, "format", format);
     cJSON_AddStringToObject(o, "software", "revisit " RV_VERSION);
     ev_str(o, "command", s->command);
     ev_str(o, "scenario_hash", s->scenario_hash);
@@ -522,14 +515,12 @@ static cJSON *ev_result_json(const struct ev_ctx *c)
 static int ev_write(const struct ev_ctx *c, const struct pr_lists *l, struct err *e)
 {
     char path[4200];
-    if (fileio_mkdirs(c->s->out_dir, e)) return -1;
-    fileio_join(path, sizeof path, c->s->out_dir, "queries.csv");
-    if (queries_csv_write(path, l, e)) return -1;
-    fileio_join(path, sizeof path, c->s->out_dir, "poses.csv");
-    if (ev_write_poses(c, path, e)) return -1;
-    fileio_join(path, sizeof path, c->s->out_dir, "matrix.csv");
-    if (ev_write_matrix(c, path, e)) return -1;
-    fileio_join(path, sizeof path, c->s->out_dir, "result.json");
+    const char *dir = c->s->out_dir;
+    if (fileio_mkdirs(dir, e)) return -1;
+    if (results_path(path, sizeof path, dir, RESULTS_QUERIES, e) || queries_csv_write(path, l, e)) return -1;
+    if (results_path(path, sizeof path, dir, RESULTS_POSES, e) || ev_write_poses(c, path, e)) return -1;
+    if (results_path(path, sizeof path, dir, RESULTS_MATRIX, e) || ev_write_matrix(c, path, e)) return -1;
+    if (results_path(path, sizeof path, dir, RESULTS_RESULT, e)) return -1;
     return json_file_write(path, ev_result_json(c), e);
 }
 

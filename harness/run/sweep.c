@@ -13,6 +13,8 @@
 #include "harness/base/blas.h"
 #include "harness/results/cell_json.h"
 #include "harness/results/cells.h"
+#include "harness/results/format.h"
+#include "harness/results/result_json.h"
 #include "harness/base/fileio.h"
 #include "harness/base/json_file.h"
 #include "harness/base/pool.h"
@@ -54,11 +56,9 @@ int sweep_prepare(const struct plan *p, const char *out_dir, struct err *e)
     char path[SW_PATH], hash[17];
     char *text = NULL;
     size_t len;
-    snprintf(path, sizeof path, "%s/cells", out_dir);
-    if (fileio_mkdirs(path, e)) return -1;
-    snprintf(path, sizeof path, "%s/cache", out_dir);
-    if (fileio_mkdirs(path, e)) return -1;
-    snprintf(path, sizeof path, "%s/scenario.json", out_dir);
+    if (results_cell_path(path, sizeof path, out_dir, NULL, NULL, e) || fileio_mkdirs(path, e)) return -1;
+    if (results_path(path, sizeof path, out_dir, "cache", e) || fileio_mkdirs(path, e)) return -1;
+    if (results_path(path, sizeof path, out_dir, RESULTS_SCENARIO, e)) return -1;
     if (!access(path, F_OK)) {
         if (fileio_read(path, SW_SCENARIO_MAX, &text, &len, e)) return -1;
         plan_hash_hex(text, len, hash);
@@ -129,7 +129,7 @@ static cJSON *sw_condition_json(const struct plan *p, size_t k)
 static int sw_write_cell(const struct plan *p, size_t k, const char *part, struct err *e)
 {
     char path[SW_PATH];
-    snprintf(path, sizeof path, "%s/cell.json", part);
+    if (results_path(path, sizeof path, part, "cell.json", e)) return -1;
     cJSON *o = cJSON_CreateObject();
     cJSON_AddStringToObject(o, "format", "revisit-cell-1");
     cJSON_AddStringToObject(o, "id", p->cells[k].id);
@@ -144,11 +144,13 @@ static int sw_write_cell(const struct plan *p, size_t k, const char *part, struc
 static int sw_write_failed(const struct plan *p, size_t k, const char *part, const char *msg, struct err *e)
 {
     char path[SW_PATH];
-    snprintf(path, sizeof path, "%s/result.json", part);
+    if (results_path(path, sizeof path, part, RESULTS_RESULT, e)) return -1;
     const char *label = p->methods[p->cells[k].method].label;
     const char *colon = strchr(label, ':');
     cJSON *o = cJSON_CreateObject();
-    cJSON_AddStringToObject(o, "format", "revisit-result-1");
+    char format[64];
+    results_format_json_name(format, sizeof format, "result");
+    cJSON_AddStringToObject(o, "format", format);
     cJSON_AddStringToObject(o, "software", "revisit " RV_VERSION);
     cJSON_AddStringToObject(o, "scenario_hash", p->hash);
     cJSON *m = cJSON_AddObjectToObject(o, "method");
@@ -186,8 +188,9 @@ static int sw_cell(void *arg, size_t task, int worker, struct err *e)
     const char *id = c->p->cells[k].id;
     if (c->o->stop && *c->o->stop) { c->state[task] = SW_LEFT; return 0; }
     char part[SW_PATH], done[SW_PATH];
-    snprintf(part, sizeof part, "%s/cells/.part-%s", c->o->out_dir, id);
-    snprintf(done, sizeof done, "%s/cells/%s", c->o->out_dir, id);
+    if (results_cell_part(part, sizeof part, c->o->out_dir, id, e) ||
+        results_cell_path(done, sizeof done, c->o->out_dir, id, NULL, e))
+        return -1;
     /* A failed cell being retried leaves first; until the rerun ends it is not done. */
     if (sw_remove_tree(part, e) || (c->o->retry_failed && sw_remove_tree(done, e)) ||
         fileio_mkdirs(part, e) || sw_write_cell(c->p, k, part, e))
@@ -226,14 +229,15 @@ static int sw_clear_parts(const struct plan *p, const struct sweep_opts *o, stru
 {
     const char *out_dir = o->out_dir;
     char cells[SW_PATH];
-    snprintf(cells, sizeof cells, "%s/cells", out_dir);
+    if (results_cell_path(cells, sizeof cells, out_dir, NULL, NULL, e)) return -1;
     DIR *d = opendir(cells);
     if (!d) return err_at(e, cells, 0, "cannot open folder: %s", strerror(errno));
     struct dirent *de;
     int rc = 0;
     while (!rc && (de = readdir(d))) {
-        if (strncmp(de->d_name, ".part-", 6)) continue;
-        long k = plan_find_cell(p, de->d_name + 6);
+        const char *id = results_part_id(de->d_name);
+        if (!id) continue;
+        long k = plan_find_cell(p, id);
         if (k >= 0 && !plan_in_shard((size_t)k, o->shard_i, o->shard_n)) continue;
         char sub[SW_PATH];
         snprintf(sub, sizeof sub, "%s/%s", cells, de->d_name);
@@ -246,14 +250,10 @@ static int sw_clear_parts(const struct plan *p, const struct sweep_opts *o, stru
 /* 1 when the done cell's result.json says "failed". */
 static int sw_cell_failed(const char *out_dir, const char *id)
 {
-    char path[SW_PATH], *text;
-    size_t len;
-    snprintf(path, sizeof path, "%s/cells/%s/result.json", out_dir, id);
-    if (fileio_read(path, (size_t)64 << 20, &text, &len, NULL)) return 0;
-    cJSON *r = cJSON_ParseWithLength(text, len);
-    free(text);
-    const cJSON *st = cJSON_GetObjectItemCaseSensitive(r, "status");
-    int failed = cJSON_IsString(st) && !strcmp(st->valuestring, "failed");
+    char path[SW_PATH];
+    if (results_cell_path(path, sizeof path, out_dir, id, RESULTS_RESULT, NULL)) return 0;
+    cJSON *r = result_json_load(path, NULL);
+    int failed = r && result_json_status(r, path, NULL) == 0;
     cJSON_Delete(r);
     return failed;
 }

@@ -1,0 +1,141 @@
+/* matrix_csv.c: read and write matrix.csv of a results folder. */
+#include "harness/results/matrix_csv.h"
+
+#include <errno.h>
+#include <math.h>
+#include <stdlib.h>
+#include <string.h>
+
+#include "harness/base/fileio.h"
+#include "harness/results/format.h"
+
+#define MCSV_MAX_BYTES ((size_t)1 << 30)
+
+/* Next line of a buffer: NUL-terminates it in place and advances *pos. */
+static char *mcsv_next_line(char *buf, size_t len, size_t *pos)
+{
+    if (*pos >= len) return NULL;
+    char *line = buf + *pos;
+    char *nl = memchr(line, '\n', len - *pos);
+    if (nl) { *nl = 0; *pos = (size_t)(nl - buf) + 1; }
+    else *pos = len;
+    size_t l = strlen(line);
+    if (l && line[l - 1] == '\r') line[l - 1] = 0;
+    return line;
+}
+
+static int mcsv_blank(const char *s)
+{
+    while (*s == ' ' || *s == '\t') s++;
+    return *s == 0;
+}
+
+/* Read one number field ending at ',' or end of line.  NaN for "nan" or empty. */
+static int mcsv_field(char **p, double *v)
+{
+    char *s = *p, *end;
+    while (*s == ' ') s++;
+    if (*s == ',' || *s == 0) { *v = NAN; }
+    else {
+        errno = 0;
+        *v = strtod(s, &end);
+        if (end == s) return -1;
+        s = end;
+    }
+    while (*s == ' ') s++;
+    if (*s == ',') s++;
+    else if (*s) return -1;
+    *p = s;
+    return 0;
+}
+
+/* "#rows,3,7,9" -> a malloc'ed list of indices. */
+static int mcsv_index_line(char *line, const char *tag, const char *path, long ln,
+                           long **out, size_t *n, struct err *e)
+{
+    size_t tl = strlen(tag);
+    if (!line || strncmp(line, tag, tl) || (line[tl] && line[tl] != ','))
+        return err_at(e, path, ln, "line does not start with '%s', expected %s then indices", tag, tag);
+    size_t cap = 1;
+    for (char *c = line; *c; c++) cap += *c == ',';
+    if (!(*out = malloc(cap * sizeof **out))) return err_at(e, path, ln, "out of memory");
+    *n = 0;
+    char *s = line + tl;
+    while (*s == ',') {
+        char *end;
+        long v = strtol(++s, &end, 10);
+        if (end == s || v < 0) return err_at(e, path, ln, "index %zu is not a whole number >= 0", *n + 1);
+        (*out)[(*n)++] = v;
+        s = end;
+    }
+    if (*s) return err_at(e, path, ln, "unexpected text '%.20s', expected comma-separated indices", s);
+    return 0;
+}
+
+static int mcsv_rows(char *buf, size_t len, size_t *pos, const char *path, long *ln,
+                     struct matrix_csv *m, struct err *e)
+{
+    if (!m->rows || !m->cols) return err_at(e, path, 0, "empty matrix, expected at least one row and column");
+    if (!(m->d = malloc(m->rows * m->cols * sizeof *m->d))) return err_at(e, path, 0, "out of memory");
+    size_t r = 0;
+    char *line;
+    while ((line = mcsv_next_line(buf, len, pos))) {
+        (*ln)++;
+        if (mcsv_blank(line)) continue;
+        if (r == m->rows) return err_at(e, path, *ln, "more than %zu distance rows, expected one per #rows index", m->rows);
+        char *s = line;
+        for (size_t c = 0; c < m->cols; c++) {
+            if (!*s && c < m->cols) return err_at(e, path, *ln, "%zu distances, expected %zu", c, m->cols);
+            if (mcsv_field(&s, &m->d[r * m->cols + c]))
+                return err_at(e, path, *ln, "distance %zu is not a number, expected %zu numbers", c + 1, m->cols);
+        }
+        if (*s) return err_at(e, path, *ln, "more than %zu distances, expected %zu", m->cols, m->cols);
+        r++;
+    }
+    if (r != m->rows) return err_at(e, path, 0, "%zu distance rows, expected %zu", r, m->rows);
+    return 0;
+}
+
+int matrix_csv_read(const char *path, struct matrix_csv *m, struct err *e)
+{
+    memset(m, 0, sizeof *m);
+    char *buf;
+    size_t len, pos = 0;
+    if (fileio_read(path, MCSV_MAX_BYTES, &buf, &len, e)) return -1;
+    long ln = 1;
+    char *line = mcsv_next_line(buf, len, &pos);
+    int rc = line ? results_format_line(line, RESULTS_MATRIX_KIND, path, ln, e) : 0;
+    if (rc == 1) line = mcsv_next_line(buf, len, &pos), ln++, rc = 0;
+    if (!rc) rc = mcsv_index_line(line, "#rows", path, ln, &m->row_idx, &m->rows, e);
+    ln++;
+    if (!rc) rc = mcsv_index_line(mcsv_next_line(buf, len, &pos), "#cols", path, ln, &m->col_idx, &m->cols, e);
+    if (!rc) rc = mcsv_rows(buf, len, &pos, path, &ln, m, e);
+    free(buf);
+    if (rc) matrix_csv_free(m);
+    return rc;
+}
+
+void matrix_csv_free(struct matrix_csv *m)
+{
+    free(m->row_idx);
+    free(m->col_idx);
+    free(m->d);
+    memset(m, 0, sizeof *m);
+}
+
+int matrix_csv_write(const char *path, const size_t *row_idx, size_t rows, const size_t *col_idx,
+                     size_t cols, const double *d, struct err *e)
+{
+    struct afile a;
+    if (afile_open(&a, path, e)) return -1;
+    results_format_write(a.f, RESULTS_MATRIX_KIND);
+    fprintf(a.f, "#rows");
+    for (size_t k = 0; k < rows; k++) fprintf(a.f, ",%zu", row_idx[k]);
+    fprintf(a.f, "\n#cols");
+    for (size_t k = 0; k < cols; k++) fprintf(a.f, ",%zu", col_idx[k]);
+    fprintf(a.f, "\n");
+    for (size_t r = 0; r < rows; r++)
+        for (size_t k = 0; k < cols; k++)
+            fprintf(a.f, "%.6g%c", d[r * cols + k], k + 1 < cols ? ',' : '\n');
+    return afile_commit(&a, e);
+}
