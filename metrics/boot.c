@@ -13,7 +13,7 @@
 #include <stdlib.h>
 #include <string.h>
 
-#include "metrics/merr.h"
+#include "harness/base/err.h"
 
 #define BOOT_MAX_THREADS 64
 
@@ -87,7 +87,7 @@ static int boot_run(const struct pr_set *a, const struct pr_set *b, int resample
     if (!failed) boot_worker(&jobs[0]);
     for (int t = 1; t <= started; t++) pthread_join(tid[t], NULL);
     for (int t = 0; t < threads; t++) failed |= jobs[t].failed;
-    if (failed) return merr_set(e, "bootstrap: out of memory or cannot start %d threads", threads);
+    if (failed) return err_set(e, "bootstrap: out of memory or cannot start %d threads", threads);
     return 0;
 }
 
@@ -124,8 +124,8 @@ static void boot_interval(const double *vals, int nsets, int resamples, int m, i
 
 static int boot_args(int resamples, double level, struct err *e)
 {
-    if (resamples < 1) return merr_set(e, "bootstrap: %d resamples, expected at least 1", resamples);
-    if (!(level > 0 && level < 1)) return merr_set(e, "bootstrap: level %g, expected a number between 0 and 1", level);
+    if (resamples < 1) return err_set(e, "bootstrap: %d resamples, expected at least 1", resamples);
+    if (!(level > 0 && level < 1)) return err_set(e, "bootstrap: level %g, expected a number between 0 and 1", level);
     return 0;
 }
 
@@ -144,14 +144,14 @@ int boot_percentile_ticked(const struct pr_set *s, int resamples, uint64_t seed,
     double *col = malloc((size_t)resamples * sizeof *col);
     if (!vals || !col) {
         free(vals); free(col);
-        return merr_set(e, "bootstrap: out of memory for %d resamples", resamples);
+        return err_set(e, "bootstrap: out of memory for %d resamples", resamples);
     }
     /* Resample over sorted positions instead of query slots: the same
      * distribution (a relabelling of the queries), but the weights are then
      * read in order, which is much kinder to the cache. */
     struct pr_set seq = *s;
     seq.o = malloc((s->n ? s->n : 1) * sizeof *seq.o);
-    if (!seq.o) { free(vals); free(col); return merr_set(e, "bootstrap: out of memory for %zu queries", s->n); }
+    if (!seq.o) { free(vals); free(col); return err_set(e, "bootstrap: out of memory for %zu queries", s->n); }
     for (size_t k = 0; k < s->n; k++) { seq.o[k] = s->o[k]; seq.o[k].slot = k; }
     int rc = boot_run(&seq, NULL, resamples, seed, threads, tick, vals, e);
     free(seq.o);
@@ -171,14 +171,14 @@ int boot_percentile_ticked(const struct pr_set *s, int resamples, uint64_t seed,
 static int boot_same_queries(const struct pr_set *a, const struct pr_set *b, struct err *e)
 {
     size_t n = a->n, *q = malloc((n ? n : 1) * sizeof *q);
-    if (!q) return merr_set(e, "paired bootstrap: out of memory for %zu queries", n);
+    if (!q) return err_set(e, "paired bootstrap: out of memory for %zu queries", n);
     for (size_t k = 0; k < n; k++) q[k] = SIZE_MAX;
     for (size_t k = 0; k < n; k++)
         if (b->o[k].slot < n) q[b->o[k].slot] = b->o[k].query;
     for (size_t k = 0; k < n; k++) {
         const struct pr_outcome *x = &a->o[k];
         if (x->slot >= n || q[x->slot] != x->query) {
-            merr_set(e, "paired bootstrap: slot %zu holds query %zu in the first set only, "
+            err_set(e, "paired bootstrap: slot %zu holds query %zu in the first set only, "
                      "expected both sets to score the same queries", x->slot, x->query);
             free(q);
             return -1;
@@ -194,13 +194,13 @@ int boot_paired_diff(const struct pr_set *a, const struct pr_set *b, int resampl
 {
     if (boot_args(resamples, level, e)) return -1;
     if (a->n != b->n)
-        return merr_set(e, "paired bootstrap: %zu and %zu scored queries, expected the same queries", a->n, b->n);
+        return err_set(e, "paired bootstrap: %zu and %zu scored queries, expected the same queries", a->n, b->n);
     if (boot_same_queries(a, b, e)) return -1;
     double *vals = malloc((size_t)resamples * 2 * PR_N_METRICS * sizeof *vals);
     double *col = malloc((size_t)resamples * sizeof *col);
     if (!vals || !col) {
         free(vals); free(col);
-        return merr_set(e, "bootstrap: out of memory for %d resamples", resamples);
+        return err_set(e, "bootstrap: out of memory for %d resamples", resamples);
     }
     if (boot_run(a, b, resamples, seed, threads, NULL, vals, e)) { free(vals); free(col); return -1; }
     struct boot_paired r;
@@ -220,10 +220,10 @@ int boot_paired_diff(const struct pr_set *a, const struct pr_set *b, int resampl
 
 int boot_spread_of(const double *v, size_t n, struct boot_spread *out, struct err *e)
 {
-    if (n == 0) return merr_set(e, "spread over seeds: no values, expected at least one");
+    if (n == 0) return err_set(e, "spread over seeds: no values, expected at least one");
     double sum = 0, lo = INFINITY, hi = -INFINITY;
     for (size_t i = 0; i < n; i++) {
-        if (!isfinite(v[i])) return merr_set(e, "spread over seeds: value %zu is not finite", i);
+        if (!isfinite(v[i])) return err_set(e, "spread over seeds: value %zu is not finite", i);
         sum += v[i];
         if (v[i] < lo) lo = v[i];
         if (v[i] > hi) hi = v[i];

@@ -17,7 +17,7 @@
 #include <stdlib.h>
 #include <string.h>
 
-#include "metrics/merr.h"
+#include "harness/base/err.h"
 
 #define GT_LEAF 32
 
@@ -305,25 +305,25 @@ static int gt_check_input(const struct protocol *p, const struct gt_poses *map,
                           const struct gt_poses *query, struct err *e)
 {
     char msg[256];
-    if (protocol_check(p, msg, sizeof msg)) return merr_set(e, "%s", msg);
+    if (protocol_check(p, msg, sizeof msg)) return err_set(e, "%s", msg);
     if (p->mode == PROTOCOL_LOOP && query)
-        return merr_set(e, "loop mode takes one recording, expected no separate query poses");
+        return err_set(e, "loop mode takes one recording, expected no separate query poses");
     if (p->mode == PROTOCOL_RELOC && !query)
-        return merr_set(e, "reloc mode needs query poses, expected a map and a query recording");
+        return err_set(e, "reloc mode needs query poses, expected a map and a query recording");
     if (p->mode == PROTOCOL_LOOP && p->exclusion_scans < 0 && !map->t)
-        return merr_set(e, "a time exclusion needs timestamps, expected one time per scan");
+        return err_set(e, "a time exclusion needs timestamps, expected one time per scan");
     const struct gt_poses *sets[2] = {map, query};
     for (int s = 0; s < 2; s++) {
         const struct gt_poses *ps = sets[s];
         if (!ps) continue;
-        if (ps->n && !ps->xyz) return merr_set(e, "%s poses have no positions", s ? "query" : "map");
+        if (ps->n && !ps->xyz) return err_set(e, "%s poses have no positions", s ? "query" : "map");
         for (size_t i = 0; i < ps->n; i++) {
             const double *x = ps->xyz + 3 * i;
             if (!isfinite(x[0]) || !isfinite(x[1]) || !isfinite(x[2]))
-                return merr_set(e, "%s scan %zu has a non-finite position, expected finite x, y, z in metres",
+                return err_set(e, "%s scan %zu has a non-finite position, expected finite x, y, z in metres",
                                 s ? "query" : "map", i);
             if (ps->t && !isfinite(ps->t[i]))
-                return merr_set(e, "%s scan %zu has a non-finite time, expected seconds",
+                return err_set(e, "%s scan %zu has a non-finite time, expected seconds",
                                 s ? "query" : "map", i);
         }
     }
@@ -371,7 +371,7 @@ static int gt_mark_subset(struct gt *g, const size_t *subset, size_t n_subset, s
     }
     for (size_t k = 0; k < n_subset; k++) {
         if (subset[k] >= g->n_query)
-            return merr_set(e, "query subset entry %zu is scan %zu, expected an index below %zu",
+            return err_set(e, "query subset entry %zu is scan %zu, expected an index below %zu",
                             k, subset[k], g->n_query);
         g->q[subset[k]].used = 1;
     }
@@ -385,10 +385,10 @@ int gt_build(const struct protocol *p, const struct gt_poses *map,
     if (gt_check_input(p, map, query, e)) return -1;
     struct gt *g = calloc(1, sizeof *g);
     struct kd_tree tree = {0};
-    if (!g) return merr_set(e, "out of memory building ground truth");
+    if (!g) return err_set(e, "out of memory building ground truth");
     g->p = *p;
     if (gt_alloc(g, map, query) || kd_build(&tree, g->map_xyz, g->map_t, g->n_map)) {
-        merr_set(e, "out of memory building ground truth for %zu scans", map->n);
+        err_set(e, "out of memory building ground truth for %zu scans", map->n);
         goto fail;
     }
     if (gt_mark_subset(g, subset, n_subset, e)) goto fail;

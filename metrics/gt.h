@@ -26,7 +26,7 @@
  * Ownership: gt_build copies what it needs; the caller's arrays may go away
  * afterwards.  The caller frees the result with gt_free (accepts NULL).
  * A built struct gt is read-only, so any number of threads may query it.
- * Links against libc and libm only (struct err is used as a plain buffer).
+ * Links against libc, libm and harness/base/ (errors through err_set).
  */
 #ifndef RV_GT_H
 #define RV_GT_H

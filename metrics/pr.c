@@ -11,7 +11,7 @@
 #include <stdlib.h>
 #include <string.h>
 
-#include "metrics/merr.h"
+#include "harness/base/err.h"
 
 static const char *const pr_names[PR_N_METRICS] = {
     "f1max", "r100p", "p_r0", "ep", "ap",
@@ -48,16 +48,16 @@ static int pr_row(const struct gt *g, const struct pr_lists *l, size_t i,
         long j = l->c[k].idx;
         double d = l->c[k].dist;
         if (j < 0 || (size_t)j >= g->n_map)
-            return merr_set(e, "query %zu: candidate %ld is out of range, expected a map index from 0 to %zu",
+            return err_set(e, "query %zu: candidate %ld is out of range, expected a map index from 0 to %zu",
                             i, j, g->n_map ? g->n_map - 1 : 0);
         if (gt_is_future(g, i, (size_t)j))
             return (size_t)j == i
-                ? merr_set(e, "query %zu lists itself, expected earlier scans only in loop mode", i)
-                : merr_set(e, "query %zu lists scan %ld, a later scan; loop mode expects earlier scans only", i, j);
+                ? err_set(e, "query %zu lists itself, expected earlier scans only in loop mode", i)
+                : err_set(e, "query %zu lists scan %ld, a later scan; loop mode expects earlier scans only", i, j);
         if (!isfinite(d))
-            return merr_set(e, "query %zu: candidate %ld has a non-finite distance, expected a finite number", i, j);
+            return err_set(e, "query %zu: candidate %ld has a non-finite distance, expected a finite number", i, j);
         if (d < prev)
-            return merr_set(e, "query %zu: distance %g after %g, expected candidates best first (increasing distance)",
+            return err_set(e, "query %zu: distance %g after %g, expected candidates best first (increasing distance)",
                             i, d, prev);
         prev = d;
         if (!gt_is_candidate(g, i, (size_t)j)) { (*excluded)++; continue; }
@@ -83,10 +83,10 @@ int pr_set_build(const struct gt *g, const struct pr_lists *l, struct pr_set **o
                  struct err *e)
 {
     if (l->n_query != g->n_query)
-        return merr_set(e, "results have %zu query rows, expected %zu (one per query scan)",
+        return err_set(e, "results have %zu query rows, expected %zu (one per query scan)",
                         l->n_query, g->n_query);
     struct pr_set *s = pr_set_alloc(g->n_used);
-    if (!s) return merr_set(e, "out of memory for %zu query outcomes", g->n_used);
+    if (!s) return err_set(e, "out of memory for %zu query outcomes", g->n_used);
     s->n_map = g->n_map;
     s->counting = g->p.counting;
     size_t slot = 0;
@@ -105,9 +105,9 @@ int pr_set_from_outcomes(const struct pr_outcome *o, size_t n, size_t n_map,
                          struct err *e)
 {
     for (size_t k = 0; k < n; k++)
-        if (isnan(o[k].d1)) return merr_set(e, "query %zu has a NaN top-1 distance, expected a number", o[k].query);
+        if (isnan(o[k].d1)) return err_set(e, "query %zu has a NaN top-1 distance, expected a number", o[k].query);
     struct pr_set *s = pr_set_alloc(n);
-    if (!s) return merr_set(e, "out of memory for %zu query outcomes", n);
+    if (!s) return err_set(e, "out of memory for %zu query outcomes", n);
     if (n) memcpy(s->o, o, n * sizeof *o);
     s->n_map = n_map;
     s->counting = counting;
@@ -241,7 +241,7 @@ int pr_curve_build(const struct pr_set *s, struct pr_curve **out, struct err *e)
     double *buf = c ? malloc(6 * cap * sizeof *buf) : NULL;
     if (!buf) {
         free(c);
-        return merr_set(e, "out of memory for a curve of %zu points", s->n);
+        return err_set(e, "out of memory for a curve of %zu points", s->n);
     }
     c->threshold = buf;
     c->precision = buf + cap;

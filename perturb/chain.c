@@ -21,7 +21,7 @@ int chain_on_parse(const char *text, enum chain_on *out, struct err *e)
             *out = (enum chain_on)k;
             return 0;
         }
-    return stage_fail(e, "unknown chain target '%s', expected query, map or both",
+    return err_set(e, "unknown chain target '%s', expected query, map or both",
                    text ? text : "");
 }
 
@@ -78,7 +78,7 @@ static int perr(const struct parser *p, size_t pos, const char *fmt, ...)
     int show = (int)(len - from < 120 ? len - from : 120);
     const char *dots = from ? "..." : "";
     int caret = (int)(pos - from + strlen(dots));
-    return stage_fail(p->e, "chain:%zu: %s\n  %s%.*s\n  %*s^", pos + 1, what, dots, show,
+    return err_set(p->e, "chain:%zu: %s\n  %s%.*s\n  %*s^", pos + 1, what, dots, show,
                    p->text + from, caret, "");
 }
 
@@ -282,7 +282,7 @@ int chain_parse(const char *text, struct chain **out, struct err *e)
     *out = NULL;
     struct parser p = {text ? text : "", 0, e};
     struct chain *ch = calloc(1, sizeof *ch);
-    if (!ch) return stage_fail(e, "chain: out of memory");
+    if (!ch) return err_set(e, "chain: out of memory");
     for (;;) {
         if (ch->n == CHAIN_MAX_STAGES) {
             chain_free(ch);

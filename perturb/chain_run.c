@@ -133,7 +133,7 @@ int chain_apply_set(const struct chain *ch, struct cloud *c, uint64_t run_seed, 
                     uint32_t scan_index, struct chain_scratch *s, struct chain_stats *stats,
                     struct err *e)
 {
-    if (set == UINT32_MAX) return stage_fail(e, "chain: set number %u is reserved", set);
+    if (set == UINT32_MAX) return err_set(e, "chain: set number %u is reserved", set);
     uint64_t key = (uint64_t)set << 32 | scan_index;   /* never RNG_RECORDING */
     if (stats) {
         memset(stats, 0, sizeof *stats);
@@ -148,7 +148,7 @@ int chain_apply_set(const struct chain *ch, struct cloud *c, uint64_t run_seed, 
             if (e) {
                 char what[ERR_MSG_MAX];
                 snprintf(what, sizeof what, "%s", e->msg);
-                stage_fail(e, "chain stage %zu (%s): %s", i + 1, st->def->info.name, what);
+                err_set(e, "chain stage %zu (%s): %s", i + 1, st->def->info.name, what);
             }
             return -1;
         }
@@ -161,16 +161,6 @@ int chain_apply_set(const struct chain *ch, struct cloud *c, uint64_t run_seed, 
 }
 
 /* ---- helpers for the stage files ---------------------------------------- */
-
-int stage_fail(struct err *e, const char *fmt, ...)
-{
-    if (!e) return -1;
-    va_list ap;
-    va_start(ap, fmt);
-    vsnprintf(e->msg, sizeof e->msg, fmt, ap);
-    va_end(ap);
-    return -1;
-}
 
 double stage_value(const struct stage *st, int k, struct rng *r, double lo, double hi)
 {

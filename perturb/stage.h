@@ -90,9 +90,6 @@ const struct stage_def *stage_def_at(size_t i);
 
 /* The parameter k: st->v[k], or when random a uniform draw in [lo, hi). */
 double stage_value(const struct stage *st, int k, struct rng *r, double lo, double hi);
-/* Fill e->msg (e may be NULL) from a format; returns -1.  perturb/ writes
- * its own messages so the library needs libc alone (not harness/base/err.c). */
-int stage_fail(struct err *e, const char *fmt, ...) __attribute__((format(printf, 2, 3)));
 /* Scratch bytes (contents undefined); NULL when out of memory. */
 void *stage_buf(struct chain_scratch *s, size_t bytes);
 

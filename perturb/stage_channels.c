@@ -78,7 +78,7 @@ static int channels_apply(const struct stage *st, struct cloud *c, struct rng *r
         /* the recovered channels live in the scratch cloud's ring array */
         if (cloud_reserve(&s->tmp, c->n ? c->n : 1) || cloud_enable_ring(&s->tmp) ||
             stage_channels_recover(c, st->v[CH_GAP], s->tmp.ring, s) < 0)
-            return stage_fail(e, "out of memory recovering channels of %zu points", c->n);
+            return err_set(e, "out of memory recovering channels of %zu points", c->n);
         ring = s->tmp.ring;
     }
     size_t j = 0;

@@ -207,7 +207,7 @@ static int clutter_apply(const struct stage *st, struct cloud *c, struct rng *r,
     v.res = st->v[CL_RES];
     v.res_az = 360.0 / (double)v.naz;
     v.mask = stage_buf(s, (size_t)(v.naz * v.nel) * sizeof *v.mask);
-    if (!v.mask) return stage_fail(e, "out of memory for a %ld x %ld view image", v.naz, v.nel);
+    if (!v.mask) return err_set(e, "out of memory for a %ld x %ld view image", v.naz, v.nel);
     memset(v.mask, 0, (size_t)(v.naz * v.nel) * sizeof *v.mask);
     for (int q = 0; q < n; q++) {
         rc[q] = box_rect(&b[q], &v);
@@ -223,7 +223,7 @@ static int clutter_apply(const struct stage *st, struct cloud *c, struct rng *r,
     float inten = (float)(isum / (double)c->n);
     clutter_shadow(c, &v, b);
     if (clutter_returns(c, &v, b, n, rc, el_lo, el_hi, inten))
-        return stage_fail(e, "out of memory adding occluder returns");
+        return err_set(e, "out of memory adding occluder returns");
     return 0;
 }
 

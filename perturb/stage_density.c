@@ -67,13 +67,13 @@ static int density_apply(const struct stage *st, struct cloud *c, struct rng *r,
     struct cloud *t = &s->tmp;
     if (!v || cloud_reserve(t, c->n) || (c->ring && cloud_enable_ring(t)) ||
         (c->time && cloud_enable_time(t)))
-        return stage_fail(e, "out of memory for voxels of %zu points", c->n);
+        return err_set(e, "out of memory for voxels of %zu points", c->n);
     for (size_t k = 0; k < c->n; k++) {
         const float *p = c->pts + 4 * k;
         if (!isfinite(p[0]) || !isfinite(p[1]) || !isfinite(p[2]))
-            return stage_fail(e, "point %zu has a non-finite coordinate, expected finite ones", k);
+            return err_set(e, "point %zu has a non-finite coordinate, expected finite ones", k);
         if (voxel_key(p, leaf, &v[k].key))
-            return stage_fail(e, "point %zu at (%g, %g, %g) is beyond %ld voxels of %g m, expected "
+            return err_set(e, "point %zu at (%g, %g, %g) is beyond %ld voxels of %g m, expected "
                            "a larger leaf", k, c->pts[4 * k], c->pts[4 * k + 1], c->pts[4 * k + 2],
                            DEN_HALF, leaf);
         v[k].idx = (uint32_t)k;

@@ -122,7 +122,7 @@ static int drop_bursts(struct cloud *c, double p, double mean, struct rng *r,
     double want = 8.0 * 2.0 * 360.0 * p / mean + 64;
     size_t cap = want < DROP_MAX_BLOCKS ? (size_t)want : DROP_MAX_BLOCKS;
     double *edge = stage_buf(s, (cap + 1) * sizeof *edge);
-    if (!edge) return stage_fail(e, "out of memory for %zu dropout blocks", cap);
+    if (!edge) return err_set(e, "out of memory for %zu dropout blocks", cap);
     double start = 360.0 * rng_uniform(r);
     int first;
     size_t m = drop_blocks(p, mean, r, edge, cap, &first);
