@@ -13,14 +13,35 @@
 
 #include "harness/base/err.h"
 
-static const char *const pr_names[PR_N_METRICS] = {
-    "f1max", "r100p", "p_r0", "ep", "ap",
-    "recall_at_1", "recall_at_5", "recall_at_10", "recall_at_25", "recall_at_1pct",
+static const struct pr_metric_def pr_table[PR_N_METRICS] = {
+    [PR_F1MAX] = {"f1max", "F1max", PR_HIGHER_BETTER, "largest F1 score over all distance thresholds"},
+    [PR_R100P] = {"r100p", "R@100P", PR_HIGHER_BETTER, "largest recall with no false positive accepted"},
+    [PR_P_R0] = {"p_r0", "P@R0", PR_HIGHER_BETTER, "precision at the lowest non-zero recall"},
+    [PR_EP] = {"ep", "EP", PR_HIGHER_BETTER, "extended precision, (P@R0 + R@100P) / 2"},
+    [PR_AP] = {"ap", "AP", PR_HIGHER_BETTER, "average precision, the area under the PR curve"},
+    [PR_RECALL_1] = {"recall_at_1", "recall@1", PR_HIGHER_BETTER, "share of revisits with a correct first candidate"},
+    [PR_RECALL_5] = {"recall_at_5", "recall@5", PR_HIGHER_BETTER, "share of revisits with a correct candidate among the first 5"},
+    [PR_RECALL_10] = {"recall_at_10", "recall@10", PR_HIGHER_BETTER, "share of revisits with a correct candidate among the first 10"},
+    [PR_RECALL_25] = {"recall_at_25", "recall@25", PR_HIGHER_BETTER, "share of revisits with a correct candidate among the first 25"},
+    [PR_RECALL_1PCT] = {"recall_at_1pct", "recall@1%", PR_HIGHER_BETTER,
+                        "the same among the first 1% of the map scans (at least 1)"},
 };
+
+const struct pr_metric_def *pr_metric_def(enum pr_metric m)
+{
+    return (unsigned)m < PR_N_METRICS ? &pr_table[m] : NULL;
+}
 
 const char *pr_metric_name(enum pr_metric m)
 {
-    return (unsigned)m < PR_N_METRICS ? pr_names[m] : "?";
+    return (unsigned)m < PR_N_METRICS ? pr_table[m].key : "?";
+}
+
+int pr_metric_find(const char *key)
+{
+    for (int m = 0; key && m < PR_N_METRICS; m++)
+        if (!strcmp(pr_table[m].key, key)) return m;
+    return -1;
 }
 
 /* ---- outcome sets -------------------------------------------------------- */

@@ -108,8 +108,26 @@ void pr_scalars_compute(const struct pr_set *s, const uint32_t *w, struct pr_sca
 int pr_curve_build(const struct pr_set *s, struct pr_curve **out, struct err *e);
 void pr_curve_free(struct pr_curve *c);
 
+/* The one table of metrics, in enum order: what criteria accept, what the
+ * summary tables and result.json hold, what the report labels.  A new
+ * metric is a row here, its enum value and its computation. */
+enum pr_better { PR_HIGHER_BETTER = 1, PR_LOWER_BETTER = -1 };
+
+struct pr_metric_def {
+    const char *key;           /* result.json key, criteria name: "f1max" */
+    const char *label;         /* for tables and plots: "F1max" */
+    enum pr_better better;     /* which way is better */
+    const char *description;   /* one line */
+};
+
+/* Row m of the table; NULL when m is out of range. */
+const struct pr_metric_def *pr_metric_def(enum pr_metric m);
+
 /* "f1max", "r100p", "p_r0", "ep", "ap", "recall_at_1", ... "recall_at_1pct":
- * the keys of result.json. */
+ * the keys of result.json ("?" out of range). */
 const char *pr_metric_name(enum pr_metric m);
+
+/* The metric with this key, or -1 when none has it. */
+int pr_metric_find(const char *key);
 
 #endif

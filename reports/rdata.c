@@ -11,14 +11,16 @@
 #include "harness/base/fileio.h"
 #include "harness/results/cells.h"
 #include "harness/results/result_json.h"
+#include "metrics/pr.h"
 
 #define RDATA_JSON_MAX ((size_t)256 << 20)
 
-static const char *const metric_names[RDATA_NMETRIC] = {"F1max", "R@100P", "EP", "AP", "recall@1"};
-static const char *const metric_keys[RDATA_NMETRIC] = {"f1max", "r100p", "ep", "ap", "recall_at_1"};
+/* The metrics the report's tables show, as rows of the metric table
+ * (metrics/pr.h), which gives their keys and labels. */
+static const enum pr_metric rdata_metrics[RDATA_NMETRIC] = {PR_F1MAX, PR_R100P, PR_EP, PR_AP, PR_RECALL_1};
 
-const char *rdata_metric_name(int k) { return metric_names[k]; }
-const char *rdata_metric_key(int k) { return metric_keys[k]; }
+const char *rdata_metric_name(int k) { return pr_metric_def(rdata_metrics[k])->label; }
+const char *rdata_metric_key(int k) { return pr_metric_def(rdata_metrics[k])->key; }
 
 static void json_str(const cJSON *o, const char *key, char *out, size_t n)
 {
@@ -51,7 +53,7 @@ static void cell_condition(const cJSON *c, struct rdata_cell *cell)
 static void cell_metrics(const cJSON *m, struct rdata_cell *cell)
 {
     for (int k = 0; k < RDATA_NMETRIC; k++) {
-        const cJSON *o = cJSON_GetObjectItemCaseSensitive(m, metric_keys[k]);
+        const cJSON *o = cJSON_GetObjectItemCaseSensitive(m, rdata_metric_key(k));
         struct rdata_metric *r = &cell->m[k];
         r->present = cJSON_IsObject(o) && cJSON_IsNumber(cJSON_GetObjectItemCaseSensitive(o, "value"));
         r->value = r->present ? json_num(o, "value", NAN) : NAN;

@@ -46,7 +46,7 @@ tamper() {
   done
 }
 # poses.csv: line 1 the format line, line 2 the header, line 3 map scan 0
-tamper noheader poses.csv '1,2d' "1: expected the header 'set,index,t,x,y,z'"
+tamper noheader poses.csv '/^set,index/d' "2: expected the header 'set,index,t,x,y,z'"
 tamper trailing poses.csv '3s/$/xyz/' "3: field 6"
 tamper extrafield poses.csv '3s/$/,xyz/' "3: 7 fields, expected 6"
 tamper index poses.csv '4s/^map,1,/map,999,/' "4: map index '999', expected 1"

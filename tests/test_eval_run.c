@@ -71,8 +71,12 @@ static void test_folder(void)
     char *poses = slurp("o1/poses.csv"), *mx = slurp("o1/matrix.csv");
     size_t lines = 0;
     for (char *p = poses; p && *p; p++) lines += *p == '\n';
-    CHECK(poses && !strncmp(poses, "set,index,t,x,y,z\nmap,0,", 24) && lines == 481, "poses.csv: header, map and query rows");
-    CHECK(mx && !strncmp(mx, "#rows,0,", 8) && strstr(mx, "\n#cols,0,"), "matrix.csv starts with the row and column indices");
+    static const char pose_head[] = "# revisit scan poses, format 1\nset,index,t,x,y,z\nmap,0,";
+    static const char mx_head[] = "# revisit distance matrix, format 1\n#rows,0,";
+    CHECK(poses && !strncmp(poses, pose_head, strlen(pose_head)) && lines == 482,
+          "poses.csv: format line, header, map and query rows");
+    CHECK(mx && !strncmp(mx, mx_head, strlen(mx_head)) && strstr(mx, "\n#cols,0,"),
+          "matrix.csv: format line, then the row and column indices");
     free(poses);
     free(mx);
 }

@@ -2,6 +2,7 @@
  * path of every bad value. */
 #include <stdlib.h>
 #include "harness/plan/plan.h"
+#include "metrics/pr.h"
 #include "tests/check.h"
 
 static const char good[] =
@@ -192,11 +193,31 @@ static void check_bad_criteria(void)
               "criteria[0].value: condition 'c' has no axis, expected no value", "a value for a plain condition is refused");
     CHECK(!strcmp(bad(CRIT("{\"metric\": \"recall_at_5\", \"condition\": \"c\", \"comparator\": \"<\", \"threshold\": 1}")),
                   "(accepted)"), "recall_at_K is a known metric");
+    CHECK_MSG(bad(CRIT("{\"metric\": \"recall_at_3\", \"condition\": \"c\", \"comparator\": \">=\", \"threshold\": 1}")),
+              "criteria[0].metric: 'recall_at_3' is not known, expected f1max, r100p, p_r0, ep, ap",
+              "a recall@K no result holds is refused, naming the table's metrics");
+}
+
+/* Every metric of the table (metrics/pr.h) is a criterion, and the
+ * refusal lists every one of them. */
+static void check_metric_table(void)
+{
+    char text[1024], desc[128], msg[1024];
+    snprintf(msg, sizeof msg, "%s", bad(CRIT("{\"metric\": \"nope\", \"condition\": \"c\", \"comparator\": \">=\", \"threshold\": 1}")));
+    for (int m = 0; m < PR_N_METRICS; m++) {
+        const char *key = pr_metric_name((enum pr_metric)m);
+        snprintf(text, sizeof text, CRIT("{\"metric\": \"%s\", \"condition\": \"c\", \"comparator\": \">=\", \"threshold\": 0}"), key);
+        snprintf(desc, sizeof desc, "criteria accept the table's metric %s", key);
+        CHECK(!strcmp(bad(text), "(accepted)"), desc);
+        snprintf(desc, sizeof desc, "the refusal of an unknown metric lists %s", key);
+        CHECK_MSG(msg, key, desc);
+    }
 }
 
 int main(void)
 {
     check_good();
+    check_metric_table();
     check_chain_axis();
     check_bad();
     check_bad_criteria();

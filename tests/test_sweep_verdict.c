@@ -6,6 +6,7 @@
 #include "harness/base/fileio.h"
 #include "harness/results/summary.h"
 #include "harness/run/sweep.h"
+#include "metrics/pr.h"
 #include "tests/check.h"
 
 /* Loop mode, 6 scans on a line: 3, 4, 5 revisit 0, 1, 2 (0 m apart); 0, 1, 2
@@ -65,6 +66,27 @@ static int put_cell(const char *id, const char *q, double v, double lo, double h
     return fileio_write(path, text, (size_t)n, &e);
 }
 
+/* Every metric of the table (metrics/pr.h) has its columns in both
+ * summary tables. */
+static void check_table_columns(void)
+{
+    static const char *const files[2] = {"out/summary.csv", "out/summary_seeds.csv"};
+    static const char *const forms[2] = {",%s,%s_lo,%s_hi", ",%s_mean,%s_sd,%s_min"};
+    for (int f = 0; f < 2; f++) {
+        char *text = NULL, want[128], desc[160];
+        size_t len;
+        struct err e;
+        if (fileio_read(files[f], 1 << 20, &text, &len, &e)) { CHECK(0, "summary file readable"); continue; }
+        for (int m = 0; m < PR_N_METRICS; m++) {
+            const char *k = pr_metric_name((enum pr_metric)m);
+            snprintf(want, sizeof want, forms[f], k, k, k);
+            snprintf(desc, sizeof desc, "%s holds metric %s of the table", files[f], k);
+            CHECK(strstr(text, want) != NULL, desc);
+        }
+        free(text);
+    }
+}
+
 int main(void)
 {
     struct err e;
@@ -120,6 +142,7 @@ int main(void)
     CHECK(!fileio_read("out/summary.csv", 1 << 20, &text, &len, &e), "summary.csv readable");
     CHECK(strstr(text, "a__mount__s2,\"a\",mount,,,,2,ok,6,3,0.666666667,0.5,0.8"), "a cell row");
     free(text);
+    check_table_columns();
     summary_free(&s);
 
     /* A bad poses.csv in a cell is named with its line. */

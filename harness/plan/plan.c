@@ -9,6 +9,7 @@
 #include <string.h>
 
 #include "harness/base/fileio.h"
+#include "metrics/pr.h"
 
 #define PLAN_FILE_MAX ((size_t)4 << 20)
 #define JP 256   /* room for one JSON path */
@@ -460,16 +461,17 @@ static int pl_conditions(const struct pl *c, const cJSON *root, struct plan *p)
 
 /* ---- criteria ----------------------------------------------------------- */
 
-static int pl_metric_known(const char *m)
+/* "f1max, r100p, ..., recall_at_1pct": the keys of the metric table. */
+static void pl_metric_keys(char *out, size_t n)
 {
-    static const char *const names[] = {"f1max", "r100p", "p_r0", "ep", "ap", "recall_at_1pct", NULL};
-    for (int k = 0; names[k]; k++)
-        if (!strcmp(names[k], m)) return 1;
-    long n;
-    char *end;
-    if (strncmp(m, "recall_at_", 10) || !m[10]) return 0;
-    n = strtol(m + 10, &end, 10);
-    return !*end && n >= 1;
+    size_t at = 0;
+    out[0] = 0;
+    for (int m = 0; m < PR_N_METRICS && at < n; m++) {
+        int k = snprintf(out + at, n - at, "%s%s", m ? (m + 1 < PR_N_METRICS ? ", " : " or ") : "",
+                         pr_metric_name((enum pr_metric)m));
+        if (k < 0) break;
+        at += (size_t)k;
+    }
 }
 
 /* Condition by name, and the axis value when the condition has an axis. */
@@ -534,8 +536,11 @@ static int pl_criterion(const struct pl *c, const cJSON *o, const char *jp, cons
         pl_str(c, o, jp, "comparator", 1, &cmp))
         return -1;
     pl_join(sub, jp, "metric");
-    if (!pl_metric_known(metric))
-        return pl_fail(c, sub, "'%s' is not known, expected f1max, r100p, p_r0, ep, ap, recall_at_1pct or recall_at_K", metric);
+    if (pr_metric_find(metric) < 0) {
+        char keys[512];
+        pl_metric_keys(keys, sizeof keys);
+        return pl_fail(c, sub, "'%s' is not known, expected %s", metric, keys);
+    }
     if (!(r->metric = pl_dup(metric))) return pl_fail(c, jp, "out of memory");
     pl_join(sub, jp, "target");
     if (pl_pick(c, sub, target, targets, &k)) return -1;

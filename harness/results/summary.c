@@ -14,11 +14,14 @@
 #include "harness/results/format.h"
 #include "harness/results/result_json.h"
 #include "metrics/boot.h"
+#include "metrics/pr.h"
 
-/* Metrics in the tables, in result.json's key names. */
-static const char *const sm_metrics[] = {"f1max", "r100p", "p_r0", "ep", "ap", "recall_at_1",
-                                         "recall_at_5", "recall_at_10", "recall_at_25",
-                                         "recall_at_1pct", NULL};
+/* The metrics of the tables: every row of the metric table (metrics/pr.h),
+ * by its result.json key; NULL past the last. */
+static const char *sm_metric(int m)
+{
+    return m < PR_N_METRICS ? pr_metric_name((enum pr_metric)m) : NULL;
+}
 
 static int sm_load_cell(struct summary *s, size_t k, struct err *e)
 {
@@ -121,7 +124,7 @@ static int sm_write_cells_csv(const struct summary *s, struct err *e)
     struct afile a;
     if (results_path(path, sizeof path, s->dir, RESULTS_SUMMARY_CSV, e) || afile_open(&a, path, e)) return -1;
     fputs("cell,method,condition,axis_stage,axis_key,axis_value,seed,status,queries,revisits", a.f);
-    for (int m = 0; sm_metrics[m]; m++) fprintf(a.f, ",%s,%s_lo,%s_hi", sm_metrics[m], sm_metrics[m], sm_metrics[m]);
+    for (int m = 0; sm_metric(m); m++) fprintf(a.f, ",%s,%s_lo,%s_hi", sm_metric(m), sm_metric(m), sm_metric(m));
     fputc('\n', a.f);
     for (size_t k = 0; k < s->p->n_cells; k++) {
         const struct summary_cell *c = &s->cells[k];
@@ -132,9 +135,9 @@ static int sm_write_cells_csv(const struct summary *s, struct err *e)
         long q = c->ok ? sm_count(c->result, "queries") : -1, r = c->ok ? sm_count(c->result, "revisits") : -1;
         sm_num(a.f, q < 0 ? NAN : (double)q);
         sm_num(a.f, r < 0 ? NAN : (double)r);
-        for (int m = 0; sm_metrics[m]; m++) {
+        for (int m = 0; sm_metric(m); m++) {
             double v = NAN, lo = NAN, hi = NAN;
-            summary_metric(s, k, sm_metrics[m], &v, &lo, &hi);
+            summary_metric(s, k, sm_metric(m), &v, &lo, &hi);
             sm_num(a.f, v);
             sm_num(a.f, lo);
             sm_num(a.f, hi);
@@ -174,8 +177,8 @@ static int sm_write_groups_csv(const struct summary *s, struct err *e)
     struct afile a;
     if (results_path(path, sizeof path, s->dir, RESULTS_SUMMARY_SEEDS, e) || afile_open(&a, path, e)) return -1;
     fputs("method,condition,axis_stage,axis_key,axis_value,seeds,ok", a.f);
-    for (int m = 0; sm_metrics[m]; m++)
-        fprintf(a.f, ",%s_mean,%s_sd,%s_min,%s_max", sm_metrics[m], sm_metrics[m], sm_metrics[m], sm_metrics[m]);
+    for (int m = 0; sm_metric(m); m++)
+        fprintf(a.f, ",%s_mean,%s_sd,%s_min,%s_max", sm_metric(m), sm_metric(m), sm_metric(m), sm_metric(m));
     fputc('\n', a.f);
     for (size_t k = 0, end; k < s->p->n_cells; k = end) {
         end = sm_group_end(s->p, k);
@@ -183,9 +186,9 @@ static int sm_write_groups_csv(const struct summary *s, struct err *e)
         for (size_t j = k; j < end; j++) ok += (size_t)s->cells[j].ok;
         sm_keys(a.f, s->p, k);
         fprintf(a.f, ",%zu,%zu", end - k, ok);
-        for (int m = 0; sm_metrics[m]; m++) {
+        for (int m = 0; sm_metric(m); m++) {
             struct boot_spread sp;
-            sm_spread(s, k, end, sm_metrics[m], &sp);
+            sm_spread(s, k, end, sm_metric(m), &sp);
             sm_num(a.f, sp.n ? sp.mean : NAN);
             sm_num(a.f, sp.n ? sp.sd : NAN);
             sm_num(a.f, sp.n ? sp.min : NAN);
@@ -230,11 +233,11 @@ static cJSON *sm_group_json(const struct summary *s, size_t k, size_t end)
     cJSON_AddNumberToObject(o, "seeds", (double)(end - k));
     cJSON_AddNumberToObject(o, "ok", (double)ok);
     cJSON *ms = cJSON_AddObjectToObject(o, "metrics");
-    for (int m = 0; sm_metrics[m]; m++) {
+    for (int m = 0; sm_metric(m); m++) {
         struct boot_spread sp;
-        sm_spread(s, k, end, sm_metrics[m], &sp);
+        sm_spread(s, k, end, sm_metric(m), &sp);
         if (!sp.n) continue;
-        cJSON *x = cJSON_AddObjectToObject(ms, sm_metrics[m]);
+        cJSON *x = cJSON_AddObjectToObject(ms, sm_metric(m));
         cJSON_AddNumberToObject(x, "mean", sp.mean);
         cJSON_AddNumberToObject(x, "sd", sp.sd);
         cJSON_AddNumberToObject(x, "min", sp.min);

@@ -52,13 +52,6 @@ static int sv_cell_set(const struct summary *s, size_t k, struct pr_set **out, s
     return rc;
 }
 
-static int sv_metric_index(const char *name)
-{
-    for (int m = 0; m < PR_N_METRICS; m++)
-        if (!strcmp(pr_metric_name((enum pr_metric)m), name)) return m;
-    return -1;
-}
-
 /* Cells of method m, condition cond, at the axis value when has: indices
  * into *out (malloc'ed), count returned; (size_t)-1 when out of memory. */
 static size_t sv_group(const struct plan *p, size_t m, size_t cond, int has, double value, size_t **out)
@@ -134,7 +127,7 @@ static int sv_pair(const struct summary *s, size_t a, size_t b, int m, double *d
 static int sv_paired(const struct summary *s, const struct plan_criterion *r, const size_t *g, size_t n,
                      const size_t *base, size_t nb, struct summary_verdict *v, struct err *e)
 {
-    int m = sv_metric_index(r->metric);
+    int m = pr_metric_find(r->metric);
     if (m < 0) return err_at(e, s->p->path, 0, "metric '%s' has no paired bootstrap, expected one of the result keys", r->metric);
     double sum = 0, lo = INFINITY, hi = -INFINITY;
     for (size_t j = 0; j < n; j++) {
