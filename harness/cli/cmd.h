@@ -1,11 +1,12 @@
 /* cmd.h: the subcommands of `revisit`.
  *
  * To add a command:
- *   1. write harness/cmd_NAME.c with `int cmd_NAME(int argc, char **argv)`,
- *      a static usage text and an option table handed to opt_parse();
- *      `--help` prints usage + options to stdout and returns 0;
- *   2. declare it below and add a row to the table in harness/cli/main.c;
- *   3. nothing to add to the Makefile (every .c file in harness/ is picked up);
+ *   1. write harness/cli/cmd_NAME.c with `int cmd_NAME(int argc, char **argv)`,
+ *      a static description text `about` and an option table handed to
+ *      cmd_parse(), which prints `--help` (usage line, about, options);
+ *   2. declare it below and add a row (name, handler, usage line, summary)
+ *      to the table in harness/cli/cmd_table.c;
+ *   3. nothing to add to the Makefile (every .c file in harness/cli/ is picked up);
  *   4. add tests (tests/e2e_help.sh runs --help on every row already);
  *   5. document it in README.md (usage) and DEVELOPERS.md if it adds a module.
  *
@@ -16,9 +17,38 @@
 #ifndef RV_CMD_H
 #define RV_CMD_H
 
+#include <stddef.h>
+#include <stdio.h>
+
 #include "harness/base/err.h"
+#include "harness/base/opt.h"
 
 enum { CMD_OK = 0, CMD_FAIL = 1, CMD_ERROR = 2, CMD_INTERRUPTED = 130 };
+
+/* cmd_parse's "no help asked, no error: go on with the command". */
+#define CMD_GO_ON (-1)
+
+/* A row of the command table (harness/cli/cmd_table.c). */
+struct cmd_row {
+    const char *name;
+    int (*fn)(int argc, char **argv);
+    const char *usage;      /* after "usage: revisit ", e.g. "check SCENARIO DIR [--junit FILE]" */
+    const char *summary;    /* the line `revisit --help` shows */
+};
+
+/* Row i of the table, NULL past the last; the row of a name, NULL if none. */
+const struct cmd_row *cmd_at(size_t i);
+const struct cmd_row *cmd_find(const char *name);
+
+/* `revisit NAME --help`: the usage line of NAME's row, about (the command's
+ * own description, ending in a blank line), then the options of opts. */
+void cmd_print_help(FILE *f, const char *name, const char *about, const struct opt *opts);
+
+/* opt_parse for command name, then --help printed by cmd_print_help.
+ * CMD_GO_ON when the command should go on; else the exit code to return
+ * (CMD_OK after the help, CMD_ERROR after a printed error). */
+int cmd_parse(const char *name, const char *about, int argc, char **argv, const struct opt *opts,
+              struct opt_args *a, struct err *e);
 
 /* Print "revisit: <msg>" to stderr and return CMD_ERROR. */
 int cmd_report(const struct err *e);

@@ -12,8 +12,7 @@
 #include "harness/plan/plan.h"
 #include "harness/results/summary.h"
 
-static const char usage[] =
-    "usage: revisit check SCENARIO DIR [--junit FILE]\n\n"
+static const char about[] =
     "Judge the scenario's acceptance criteria on the finished sweep in DIR: one\n"
     "line per criterion and method with the measured value, its interval and\n"
     "PASS or FAIL; DIR/verdicts.json holds the same.  Exit 0 when every\n"
@@ -108,12 +107,8 @@ int cmd_check(int argc, char **argv)
         {0}};
     struct opt_args a;
     struct err e;
-    if (opt_parse("check", argc, argv, opts, &a, &e)) return cmd_report(&e);
-    if (a.help) {
-        fputs(usage, stdout);
-        opt_print_help(stdout, opts);
-        return CMD_OK;
-    }
+    int go = cmd_parse("check", about, argc, argv, opts, &a, &e);
+    if (go != CMD_GO_ON) return go;
     if (a.n != 2) {
         err_set(&e, "revisit check: expected SCENARIO and DIR, got %d arguments", a.n);
         return cmd_report(&e);

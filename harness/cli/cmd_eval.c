@@ -10,9 +10,7 @@
 #include "harness/base/opt.h"
 #include "harness/cli/opt_protocol.h"
 
-static const char usage[] =
-    "usage: revisit eval --map REC [--query REC] --method NAME[:key=value,...] --out DIR\n"
-    "                    [--chain CHAIN --on query|map|both --seed S] [protocol options]\n\n"
+static const char about[] =
     "Describe every scan of REC (and of the query recording) with the method,\n"
     "perturbed by CHAIN where asked, find each query's top-K candidates, score\n"
     "them against the poses and write DIR/result.json (every scalar with its\n"
@@ -122,12 +120,8 @@ int cmd_eval(int argc, char **argv)
         {0}};
     struct opt_args args;
     struct err e;
-    if (opt_parse("eval", argc, argv, table, &args, &e)) return cmd_report(&e);
-    if (args.help) {
-        fputs(usage, stdout);
-        opt_print_help(stdout, table);
-        return CMD_OK;
-    }
+    int go = cmd_parse("eval", about, argc, argv, table, &args, &e);
+    if (go != CMD_GO_ON) return go;
     if (args.n) return err_set(&e, "revisit eval: unexpected argument '%s'", args.v[0]), cmd_report(&e);
     struct eval_spec s;
     if (eval_finish_spec(&o, &s, &e)) return cmd_report(&e);

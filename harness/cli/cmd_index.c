@@ -15,8 +15,7 @@
 #include "harness/io/poses_io.h"
 #include "harness/io/recording.h"
 
-static const char usage[] =
-    "usage: revisit index DIR --poses FILE [--times FILE] [--out DIR/recording.json]\n\n"
+static const char about[] =
     "Write a recording manifest for an existing folder of scans and a pose file,\n"
     "so that no one writes one by hand.  The scans are the files in DIR with the\n"
     "most common scan extension (.bin raw float32 x y z i, .pcd, .ply, .txt), or\n"
@@ -201,12 +200,8 @@ int cmd_index(int argc, char **argv)
         {0}};
     struct opt_args a;
     struct err e;
-    if (opt_parse("index", argc, argv, opts, &a, &e)) return cmd_report(&e);
-    if (a.help) {
-        fputs(usage, stdout);
-        opt_print_help(stdout, opts);
-        return CMD_OK;
-    }
+    int go = cmd_parse("index", about, argc, argv, opts, &a, &e);
+    if (go != CMD_GO_ON) return go;
     if (a.n != 1) return err_set(&e, "revisit index: expected one folder of scans, got %d arguments", a.n), cmd_report(&e);
     if (!o.poses) return err_set(&e, "revisit index: option '--poses' is required"), cmd_report(&e);
     o.dir = a.v[0];

@@ -18,8 +18,7 @@
 /* A scan with fewer points than this share of the median is suspicious. */
 #define INSPECT_FEW_SHARE 0.1
 
-static const char usage[] =
-    "usage: revisit inspect REC [--json]\n\n"
+static const char about[] =
     "Read every scan of a recording (a folder holding recording.json, or the\n"
     "manifest itself) and print what to check before an evaluation: scan count,\n"
     "duration, points per scan (min / median / max), path length, how many scans\n"
@@ -282,12 +281,8 @@ int cmd_inspect(int argc, char **argv)
         {0}};
     struct opt_args a;
     struct err e;
-    if (opt_parse("inspect", argc, argv, opts, &a, &e)) return cmd_report(&e);
-    if (a.help) {
-        fputs(usage, stdout);
-        opt_print_help(stdout, opts);
-        return CMD_OK;
-    }
+    int go = cmd_parse("inspect", about, argc, argv, opts, &a, &e);
+    if (go != CMD_GO_ON) return go;
     if (a.n != 1) return err_set(&e, "revisit inspect: expected one recording, got %d arguments", a.n), cmd_report(&e);
     o.rec = a.v[0];
     int failed = 0;

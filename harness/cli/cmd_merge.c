@@ -16,8 +16,7 @@
 
 #define MERGE_FILE_MAX ((size_t)1 << 30)
 
-static const char usage[] =
-    "usage: revisit merge --out DIR SHARD_DIR...\n\n"
+static const char about[] =
     "Join the sweep folders written by 'revisit sweep --shard I/N' (or by runs\n"
     "on several machines) into DIR: every finished cell is copied atomically,\n"
     "cells already in DIR are kept, and the summary is written over all of them.\n"
@@ -111,12 +110,8 @@ int cmd_merge(int argc, char **argv)
         {0}};
     struct opt_args a;
     struct err e;
-    if (opt_parse("merge", argc, argv, opts, &a, &e)) return cmd_report(&e);
-    if (a.help) {
-        fputs(usage, stdout);
-        opt_print_help(stdout, opts);
-        return CMD_OK;
-    }
+    int go = cmd_parse("merge", about, argc, argv, opts, &a, &e);
+    if (go != CMD_GO_ON) return go;
     if (!out || a.n < 1) {
         err_set(&e, !out ? "revisit merge: option '--out' is required"
                          : "revisit merge: expected one or more shard folders");

@@ -7,8 +7,7 @@
 #include "harness/base/opt.h"
 #include "harness/run/plugin_host.h"
 
-static const char usage[] =
-    "usage: revisit methods [NAME|PATH.so] [--plugin-path DIRS]\n\n"
+static const char about[] =
     "List every descriptor method on the plugin search path (--plugin-path, then\n"
     "REVISIT_PLUGIN_PATH, then the install folder) with its settings and\n"
     "defaults; with NAME, describe that one: distance, flags, each setting's\n"
@@ -92,12 +91,8 @@ int cmd_methods(int argc, char **argv)
         {0}};
     struct opt_args args;
     struct err e;
-    if (opt_parse("methods", argc, argv, table, &args, &e)) return cmd_report(&e);
-    if (args.help) {
-        fputs(usage, stdout);
-        opt_print_help(stdout, table);
-        return CMD_OK;
-    }
+    int go = cmd_parse("methods", about, argc, argv, table, &args, &e);
+    if (go != CMD_GO_ON) return go;
     if (args.n > 1) return err_set(&e, "revisit methods: expected at most one NAME, got %d", args.n), cmd_report(&e);
     if (args.n ? methods_one(args.v[0], search, &e) : methods_all(search, &e)) return cmd_report(&e);
     return CMD_OK;

@@ -27,11 +27,7 @@
 
 #define MT_FILE_MAX ((size_t)1 << 32)   /* --only lists */
 
-static const char usage[] =
-    "usage: revisit metrics --results FILE [--poses FILE | --rec REC]\n"
-    "                       [--query-poses FILE | --query-rec REC] [protocol options]\n"
-    "                       [--only FILE] [--against FILE] [--bootstrap N] [--seed S]\n"
-    "                       [--json OUT]\n\n"
+static const char about[] =
     "Score retrieval results made by any program.  FILE is a per-query results CSV\n"
     "(lines 'query,cand,dist,cand,dist,...', best first; '#' comments; see\n"
     "DEVELOPERS.md \"Results folder\").  Ground truth comes from the poses: a pose\n"
@@ -406,12 +402,8 @@ int cmd_metrics(int argc, char **argv)
         {0}};
     struct opt_args a;
     struct err e;
-    if (opt_parse("metrics", argc, argv, opts, &a, &e)) return cmd_report(&e);
-    if (a.help) {
-        fputs(usage, stdout);
-        opt_print_help(stdout, opts);
-        return CMD_OK;
-    }
+    int go = cmd_parse("metrics", about, argc, argv, opts, &a, &e);
+    if (go != CMD_GO_ON) return go;
     if (a.n) return err_set(&e, "revisit metrics: unexpected argument '%s'", a.v[0]), cmd_report(&e);
     if (!r.o.results) return err_set(&e, "revisit metrics: option '--results' is required"), cmd_report(&e);
     if (r.o.bootstrap < 0 || r.o.bootstrap > 1000000)

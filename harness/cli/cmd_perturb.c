@@ -14,10 +14,7 @@
 #include "harness/io/recording.h"
 #include "perturb/chain.h"
 
-static const char usage[] =
-    "usage: revisit perturb --in REC --out DIR --chain CHAIN [--seed S] [--jobs N]\n"
-    "                       [--on query|map|both] [--layout raw|pcd|ply] [--stats] [--quiet]\n"
-    "       revisit perturb --list\n\n"
+static const char about[] =
     "Apply a perturbation chain to every scan of recording REC (a folder or its\n"
     "recording.json) and write a new recording to DIR: the perturbed scans, the\n"
     "same poses, and a manifest that records the chain (normalised), the seed and\n"
@@ -232,12 +229,8 @@ int cmd_perturb(int argc, char **argv)
         {0}};
     struct opt_args args;
     struct err e = {{0}};
-    if (opt_parse("perturb", argc, argv, table, &args, &e)) return cmd_report(&e);
-    if (args.help) {
-        fputs(usage, stdout);
-        opt_print_help(stdout, table);
-        return CMD_OK;
-    }
+    int go = cmd_parse("perturb", about, argc, argv, table, &args, &e);
+    if (go != CMD_GO_ON) return go;
     if (o.list) {
         perturb_list();
         return CMD_OK;

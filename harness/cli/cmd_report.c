@@ -8,9 +8,7 @@
 #include "harness/base/opt.h"
 #include "reports/report.h"
 
-static const char usage[] =
-    "usage: revisit report DIR [--out DIR] [--format md,html] [--title TEXT] [--quiet]\n"
-    "\n"
+static const char about[] =
     "Turn a results folder (one 'revisit eval --out' folder, or a sweep folder with\n"
     "cells/) into report.md and one self-contained report.html: tables of F1max,\n"
     "R@100P, EP, AP and recall@1 with 95% intervals per method and condition,\n"
@@ -54,12 +52,8 @@ int cmd_report_main(int argc, char **argv)
         {0}};
     struct opt_args args;
     struct err e = {{0}};
-    if (opt_parse("report", argc, argv, opts, &args, &e)) return cmd_report(&e);
-    if (args.help) {
-        fputs(usage, stdout);
-        opt_print_help(stdout, opts);
-        return CMD_OK;
-    }
+    int go = cmd_parse("report", about, argc, argv, opts, &args, &e);
+    if (go != CMD_GO_ON) return go;
     if (args.n != 1) {
         err_set(&e, "revisit report: expected one results folder, got %d arguments (see 'revisit report --help')",
                 args.n);

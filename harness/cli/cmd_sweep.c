@@ -14,8 +14,7 @@
 #include "harness/run/sweep.h"
 #include "perturb/chain.h"
 
-static const char usage[] =
-    "usage: revisit sweep SCENARIO --out DIR [options]\n\n"
+static const char about[] =
     "Expand a scenario file (methods x setting variants x conditions x axis values\n"
     "x seeds) into cells and run them, each cell written atomically into\n"
     "DIR/cells/ID/.  A rerun skips finished cells, so an interrupted sweep loses\n"
@@ -139,12 +138,8 @@ int cmd_sweep(int argc, char **argv)
         {0}};
     struct opt_args a;
     struct err e;
-    if (opt_parse("sweep", argc, argv, opts, &a, &e)) return cmd_report(&e);
-    if (a.help) {
-        fputs(usage, stdout);
-        opt_print_help(stdout, opts);
-        return CMD_OK;
-    }
+    int go = cmd_parse("sweep", about, argc, argv, opts, &a, &e);
+    if (go != CMD_GO_ON) return go;
     if (a.n != 1) err_set(&e, "revisit sweep: expected one scenario file, got %d arguments", a.n);
     else if (!o.out_dir && !dry) err_set(&e, "revisit sweep: option '--out' is required");
     else if (shard && plan_parse_shard(shard, &o.shard_i, &o.shard_n, &e)) err_wrap(&e, "revisit sweep: --shard");

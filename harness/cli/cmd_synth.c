@@ -10,9 +10,7 @@
 #include "scenarios/synconf.h"
 #include "scenarios/synth.h"
 
-static const char usage[] =
-    "usage: revisit synth --scenario NAME|FILE --out DIR [--seed S] [--scans N | --duration S]\n"
-    "                     [--sensor NAME|FILE] [--jobs N] [--quiet]\n\n"
+static const char about[] =
     "Make a synthetic recording: a procedural district (built in: port, campus,\n"
     "suburb) driven along a route that revisits places in the same direction, in\n"
     "reverse and crossing at right angles, with parked vehicles moved between\n"
@@ -62,12 +60,8 @@ int cmd_synth(int argc, char **argv)
         {"--quiet", OPT_FLAG, &quiet, NULL, "no progress bar"},
         {0}};
     struct opt_args args;
-    if (opt_parse("synth", argc, argv, opts, &args, &e)) return cmd_report(&e);
-    if (args.help) {
-        fputs(usage, stdout);
-        opt_print_help(stdout, opts);
-        return CMD_OK;
-    }
+    int go = cmd_parse("synth", about, argc, argv, opts, &args, &e);
+    if (go != CMD_GO_ON) return go;
     for (int k = 1; k < argc; k++) if (!strncmp(argv[k], "--seed", 6)) seed_given = 1;
     if (args.n) { err_set(&e, "revisit synth: unexpected argument '%s'", args.v[0]); return cmd_report(&e); }
     if (!scenario || !out) {

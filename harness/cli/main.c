@@ -1,31 +1,10 @@
-/* main.c: the `revisit` command table and dispatcher. */
+/* main.c: the `revisit` dispatcher over the command table (cmd_table.c). */
 #include <signal.h>
 #include <stdio.h>
 #include <string.h>
 
 #include "harness/base/blas.h"
 #include "harness/cli/cmd.h"
-
-struct cmd_row {
-    const char *name;
-    int (*fn)(int argc, char **argv);
-    const char *summary;
-};
-
-static const struct cmd_row commands[] = {
-    {"index", cmd_index, "write recording.json for a folder of scans and a pose file"},
-    {"inspect", cmd_inspect, "scan count, duration, points, path length, revisits and suspicious scans of a recording"},
-    {"eval", cmd_eval, "one evaluation: describe, retrieve, score against poses, write a results folder"},
-    {"metrics", cmd_metrics, "score a per-query results CSV from any program against poses"},
-    {"methods", cmd_methods, "list the descriptor methods found and their settings"},
-    {"sweep", cmd_sweep, "run a scenario file's grid of cells, resumably, in shards if asked"},
-    {"merge", cmd_merge, "join the folders of a sharded sweep"},
-    {"check", cmd_check, "judge a sweep against the scenario's acceptance criteria (JUnit XML too)"},
-    {"synth", cmd_synth, "make a synthetic recording of an invented district with every kind of revisit"},
-    {"perturb", cmd_perturb, "write a perturbed copy of a recording (seeded chain of stages); --list the stages"},
-    {"report", cmd_report_main, "Markdown and HTML report of a results folder: tables, plots, verdicts"},
-    {NULL, NULL, NULL},
-};
 
 static const char caution[] =
     "Caution: results on recorded or synthetic data do not show that a vehicle is\n"
@@ -40,8 +19,8 @@ static void main_help(FILE *f)
                "Robustness benchmarking for LiDAR place recognition: perturb recorded\n"
                "scans, run descriptor methods, score precision-recall against poses.\n\n"
                "commands:\n");
-    for (const struct cmd_row *c = commands; c->name; c++)
-        fprintf(f, "  %-10s %s\n", c->name, c->summary);
+    const struct cmd_row *c;
+    for (size_t k = 0; (c = cmd_at(k)); k++) fprintf(f, "  %-10s %s\n", c->name, c->summary);
     fprintf(f, "\n'revisit <command> --help' describes one command.\n"
                "exit codes: 0 done, 1 a check or criterion failed, 2 usage or input error,\n"
                "130 interrupted.\n\n%s", caution);
@@ -82,11 +61,12 @@ int main(int argc, char **argv)
         return main_finish(CMD_OK);
     }
     if (!strcmp(argv[1], "--commands")) {
-        for (const struct cmd_row *c = commands; c->name; c++) printf("%s\n", c->name);
+        const struct cmd_row *c;
+        for (size_t k = 0; (c = cmd_at(k)); k++) printf("%s\n", c->name);
         return main_finish(CMD_OK);
     }
-    for (const struct cmd_row *c = commands; c->name; c++)
-        if (!strcmp(argv[1], c->name)) return main_finish(c->fn(argc - 1, argv + 1));
+    const struct cmd_row *c = cmd_find(argv[1]);
+    if (c) return main_finish(c->fn(argc - 1, argv + 1));
     fprintf(stderr, "revisit: unknown command '%s' (see 'revisit --help')\n", argv[1]);
     return main_finish(CMD_ERROR);
 }
