@@ -12,12 +12,12 @@
 
 /* ---- where a chain applies ---------------------------------------------- */
 
-static const char *const on_names[] = {"query", "map", "both", NULL};
+const char *const chain_on_names[] = {"query", "map", "both", NULL};
 
 int chain_on_parse(const char *text, enum chain_on *out, struct err *e)
 {
-    for (int k = 0; on_names[k]; k++)
-        if (text && !strcmp(text, on_names[k])) {
+    for (int k = 0; chain_on_names[k]; k++)
+        if (text && !strcmp(text, chain_on_names[k])) {
             *out = (enum chain_on)k;
             return 0;
         }
@@ -27,7 +27,7 @@ int chain_on_parse(const char *text, enum chain_on *out, struct err *e)
 
 const char *chain_on_name(enum chain_on on)
 {
-    return (unsigned)on < 3 ? on_names[on] : "?";
+    return (unsigned)on < 3 ? chain_on_names[on] : "?";
 }
 
 int chain_on_map(enum chain_on on) { return on == CHAIN_ON_MAP || on == CHAIN_ON_BOTH; }

@@ -55,6 +55,9 @@
 
 enum chain_on { CHAIN_ON_QUERY, CHAIN_ON_MAP, CHAIN_ON_BOTH };
 
+/* The one table of side names, in enum order, NULL-terminated (for parsers
+ * that offer them as choices, such as the scenario loader). */
+extern const char *const chain_on_names[];
 /* "query" | "map" | "both" -> *out. 0 or -1 (message lists the choices). */
 int chain_on_parse(const char *text, enum chain_on *out, struct err *e);
 /* The word for an enum value ("query", "map", "both"). */

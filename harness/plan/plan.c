@@ -10,6 +10,7 @@
 
 #include "harness/base/fileio.h"
 #include "metrics/pr.h"
+#include "perturb/chain.h"
 
 #define PLAN_FILE_MAX ((size_t)4 << 20)
 #define JP 256   /* room for one JSON path */
@@ -403,7 +404,6 @@ static int pl_cond(const struct pl *c, const cJSON *o, const char *jp, struct pl
                    const uint64_t *seeds, size_t n_seeds)
 {
     static const char *const keys[] = {"name", "chain", "on", "axis", "seeds", NULL};
-    static const char *const ons[] = {"query", "map", "both", NULL};
     const char *name = NULL, *chain = NULL, *on = NULL;
     char sub[JP];
     int k;
@@ -415,7 +415,7 @@ static int pl_cond(const struct pl *c, const cJSON *o, const char *jp, struct pl
     for (size_t j = 0; j < p->n_conds; j++)
         if (!strcmp(p->conds[j].name, name)) return pl_fail(c, sub, "condition '%s' given twice", name);
     pl_join(sub, jp, "on");
-    if (on && pl_pick(c, sub, on, ons, &k)) return -1;
+    if (on && pl_pick(c, sub, on, chain_on_names, &k)) return -1;
     d->name = pl_dup(name);
     d->chain = pl_dup(chain);
     d->on = pl_dup(on);

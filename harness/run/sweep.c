@@ -13,6 +13,7 @@
 #include "harness/base/blas.h"
 #include "harness/results/cell_json.h"
 #include "harness/results/cells.h"
+#include "perturb/chain.h"
 #include "harness/results/format.h"
 #include "harness/results/result_json.h"
 #include "harness/base/fileio.h"
@@ -339,14 +340,14 @@ int sweep_run(const struct plan *p, const struct sweep_opts *o, struct sweep_sta
 static size_t sw_cell_work(const struct plan *p, size_t k, size_t n_map, size_t n_query, unsigned *shared)
 {
     const struct plan_cell *c = &p->cells[k];
-    const char *on = p->conds[c->cond].on;
     int reloc = p->query_rec != NULL;
-    if (!on) on = reloc ? "query" : "both";
+    enum chain_on on = reloc ? CHAIN_ON_QUERY : CHAIN_ON_BOTH;
+    if (p->conds[c->cond].on) chain_on_parse(p->conds[c->cond].on, &on, NULL);  /* checked by the loader */
     size_t q = reloc ? n_query : n_map;
     *shared = 0;
     if (!c->chain) { *shared = reloc ? 3 : 1; return 0; }
-    if (!strcmp(on, "both")) return n_map + (reloc ? n_query : 0);
-    if (!strcmp(on, "query")) { *shared = 1; return q; }
+    if (on == CHAIN_ON_BOTH) return n_map + (reloc ? n_query : 0);
+    if (on == CHAIN_ON_QUERY) { *shared = 1; return q; }
     *shared = reloc ? 2 : 1;  /* map only: the queries stay unperturbed */
     return n_map;
 }
