@@ -306,6 +306,56 @@ int chain_parse(const char *text, struct chain **out, struct err *e)
     return 0;
 }
 
+/* Stage st of ch with parameter k set to value, checked as the parser
+ * checks a number given in the text. */
+static int with_set(struct stage *st, int k, double value, struct err *e)
+{
+    const struct chain_stage_info *in = &st->def->info;
+    const struct chain_param_info *pi = &in->params[k];
+    if (pi->kind != CHAIN_NUM)
+        return err_set(e, "%s.%s takes %s, not a swept number", in->name, pi->key, pi->expect);
+    if (!(value >= pi->min && value <= pi->max))
+        return err_set(e, "%s.%s = %g is out of range, expected %s", in->name, pi->key, value, pi->expect);
+    st->v[k] = value;
+    st->random &= ~(1u << k);
+    const char *why = NULL;
+    int bad = st->def->check ? st->def->check(st, &why) : -1;
+    if (bad >= 0)
+        return err_set(e, "%s.%s = %g: '%s' %s", in->name, pi->key, value, in->params[bad].key, why);
+    return 0;
+}
+
+int chain_with_value(const struct chain *ch, const char *stage, const char *key, double value,
+                     struct chain **out, struct err *e)
+{
+    *out = NULL;
+    const struct stage_def *d = def_find(stage, strlen(stage));
+    char names[400];
+    if (!d) return err_set(e, "unknown stage '%s', expected one of %s", stage, stage_names(names, sizeof names));
+    int k = find_param(&d->info, key, strlen(key));
+    if (k < 0)
+        return err_set(e, "stage '%s' has no parameter '%s', expected one of %s", stage, key,
+                       param_names(&d->info, names, sizeof names));
+    struct chain *c = calloc(1, sizeof *c);
+    if (!c) return err_set(e, "chain: out of memory");
+    if (ch) *c = *ch;
+    size_t i = 0;
+    while (i < c->n && c->st[i].def != d) i++;
+    if (i == c->n) {
+        if (c->n == CHAIN_MAX_STAGES) {
+            chain_free(c);
+            return err_set(e, "no room to add stage '%s', expected at most %d stages", stage, CHAIN_MAX_STAGES);
+        }
+        stage_defaults(&c->st[c->n++], d);
+    }
+    if (with_set(&c->st[i], k, value, e)) {
+        chain_free(c);
+        return -1;
+    }
+    *out = c;
+    return 0;
+}
+
 void chain_free(struct chain *ch)
 {
     free(ch);

@@ -76,6 +76,16 @@ int chain_parse(const char *text, struct chain **out, struct err *e);
 /* Accepts NULL. */
 void chain_free(struct chain *ch);
 
+/* A new chain: ch (NULL: the empty chain) with parameter key of stage set
+ * to value, in the first stage of that name, or in that stage appended with
+ * its defaults when ch has none.  The value is checked as the parser checks
+ * one written in the text.  The caller frees *out with chain_free.  0, or -1
+ * with *out = NULL and e set ("sector.width = 400 is out of range, expected
+ * a number of degrees from 0 to 360"; an unknown stage or key; a chain
+ * already holding CHAIN_MAX_STAGES stages). */
+int chain_with_value(const struct chain *ch, const char *stage, const char *key, double value,
+                     struct chain **out, struct err *e);
+
 /* Number of stages and the name of stage i (i < count). */
 size_t chain_stage_count(const struct chain *ch);
 const char *chain_stage_name(const struct chain *ch, size_t i);

@@ -155,7 +155,9 @@ expect_in "$(cat err)" "n.json: recordings.map: " "and names the key"
 sed 's/sector:at=random/sectr:at=random/' s.json > u.json
 "$REVISIT_BIN" sweep u.json --out u 2>err; rc=$?
 expect "[ $rc -eq 2 ] && [ ! -d u ]" "a bad chain is refused before any cell runs"
-expect_in "$(cat err)" "u.json: conditions[1]: chain 'sectr:at=random+sector:width=0': chain:1: unknown stage 'sectr'" "and names the condition"
+expect_in "$(cat err)" "u.json: conditions[1].chain: chain:1: unknown stage 'sectr'" "and names the condition"
+expect_in "$(cat err)" "  sectr:at=random
+" "and shows the chain as written, not one with the axis stage added"
 
 # A failing method makes failed cells; the sweep goes on and exits 2.
 sed 's/"range-height", "variants": \[{"range_bins": 12}, {"range_bins": 16}\]/"no-such-method"/' s.json > f.json

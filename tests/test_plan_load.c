@@ -53,8 +53,10 @@ static void check_good(void)
     CHECK(p.conds[2].seeds[0] == 7, "a condition's own seed list wins");
     CHECK(!strcmp(p.cells[0].id, "scan-context_rings-20__clean__s1"), "cell id of the first cell");
     CHECK(!strcmp(p.cells[3].id, "scan-context_rings-20__sector_width-90__s1"), "cell id of an axis cell");
-    CHECK(p.cells[3].chain && !strcmp(p.cells[3].chain, "yaw:deg=random+sector:width=90"),
-          "the axis stage is appended to the chain");
+    CHECK(p.cells[3].chain && !strcmp(p.cells[3].chain, "yaw+sector"),
+          "the axis stage is appended to the parsed chain (normalised: random yaw and width 90 are the defaults)");
+    CHECK(p.cells[4 + 2].chain && !strcmp(p.cells[4 + 2].chain, "yaw+sector:width=180"), "an axis value off the default");
+    CHECK(!strcmp(p.conds[1].chain, "yaw:deg=random") && p.conds[1].parsed, "the condition keeps the chain as written, parsed");
     CHECK(p.cells[0].chain == NULL, "a clean cell has no chain");
     CHECK(!strcmp(p.map_rec, "dir/rec"), "the recording resolves against the scenario's folder");
     CHECK(p.protocol.r_pos_m == 4 && p.protocol.r_neg_m == 4, "radius_m sets both radii");
@@ -84,6 +86,42 @@ static void check_chain_axis(void)
           "the axis value replaces the key in the existing stage");
     CHECK(!strcmp(p.cells[0].id, "m__s_width-45.5__s1"), "axis value appears in the id");
     plan_free(&p);
+}
+
+/* Chains are parsed at load; messages quote the chain as the user wrote
+ * it, and an axis value is checked against its stage's range. */
+static void check_chain_text(void)
+{
+    CHECK_MSG(bad(HEAD M1 "\"conditions\": [{\"name\": \"s\", \"chain\": \"sectr:at=random\", "
+                  "\"axis\": {\"stage\": \"sector\", \"key\": \"width\", \"values\": [0]}}]}"),
+              "sw.json: conditions[0].chain: chain:1: unknown stage 'sectr'", "a bad chain is refused at load");
+    CHECK(!strstr(bad(HEAD M1 "\"conditions\": [{\"name\": \"s\", \"chain\": \"sectr:at=random\", "
+                      "\"axis\": {\"stage\": \"sector\", \"key\": \"width\", \"values\": [0]}}]}"), "sector:width"),
+          "the message shows the chain as written, not one with the axis stage added");
+    CHECK_MSG(bad(HEAD M1 "\"conditions\": [{\"name\": \"s\", \"axis\": {\"stage\": \"sector\", \"key\": \"width\", "
+                  "\"values\": [90, 400]}}]}"),
+              "conditions[0].axis.values[1]: sector.width = 400 is out of range", "an axis value out of range is refused at load");
+    CHECK_MSG(bad(HEAD M1 "\"conditions\": [{\"name\": \"s\", \"axis\": {\"stage\": \"sector\", \"key\": \"wide\", "
+                  "\"values\": [90]}}]}"),
+              "conditions[0].axis.values[0]: stage 'sector' has no parameter 'wide'", "an unknown axis key is refused at load");
+    /* A chain longer than 4 KiB as written (spaces between tokens): the axis
+     * stage is still set, nothing is cut. */
+    size_t pad = 5000;
+    char *t = malloc(pad + 512);
+    int at = snprintf(t, pad + 512, HEAD M1 "\"conditions\": [{\"name\": \"s\", \"chain\": \"yaw:deg=random");
+    memset(t + at, ' ', pad);
+    snprintf(t + at + pad, 512, "+dropout:p=0.25\", \"axis\": {\"stage\": \"sector\", \"key\": \"width\", "
+             "\"values\": [30, 60]}}]}");
+    struct plan p;
+    struct err e;
+    int rc = plan_parse(&p, t, strlen(t), "sw.json", &e);
+    CHECK(rc == 0, "a chain of more than 4 KiB loads");
+    if (!rc) {
+        CHECK(p.n_cells == 2 && !strcmp(p.cells[1].chain, "yaw+dropout:p=0.25+sector:width=60"),
+              "past 4 KiB the axis stage is still set and no stage is cut");
+        plan_free(&p);
+    }
+    free(t);
 }
 
 static void check_bad(void)
@@ -219,6 +257,7 @@ int main(void)
     check_good();
     check_metric_table();
     check_chain_axis();
+    check_chain_text();
     check_bad();
     check_bad_criteria();
     char num[64];

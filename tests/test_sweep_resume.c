@@ -178,7 +178,7 @@ int main(void)
 
     struct eval_spec s;
     sweep_cell_spec(&p, 5, &o, "x", "c", &s);
-    CHECK(!strcmp(s.chain, "yaw+sector:width=90") && s.seed == 2 && !strcmp(s.condition, "sec") &&
+    CHECK(!strcmp(s.chain, "yaw+sector") && s.seed == 2 && !strcmp(s.condition, "sec") &&
           !strcmp(s.scenario_hash, p.hash) && s.jobs == 1, "a cell's eval spec carries chain, seed, condition, hash");
     plan_free(&p);
     return check_done();

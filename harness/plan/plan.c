@@ -420,6 +420,9 @@ static int pl_cond(const struct pl *c, const cJSON *o, const char *jp, struct pl
     d->chain = pl_dup(chain);
     d->on = pl_dup(on);
     if (!d->name || (chain && !d->chain) || (on && !d->on)) return pl_fail(c, jp, "out of memory");
+    pl_join(sub, jp, "chain");
+    struct err ce;
+    if (chain && chain_parse(chain, &d->parsed, &ce)) return pl_fail(c, sub, "%s", ce.msg);
     const cJSON *ax = pl_get(o, "axis");
     pl_join(sub, jp, "axis");
     if (ax && pl_axis(c, ax, sub, d)) return -1;
@@ -594,44 +597,30 @@ static int pl_criteria(const struct pl *c, const cJSON *root, struct plan *p)
 
 /* ---- grid expansion ----------------------------------------------------- */
 
-/* The chain with stage:key=value set: an existing stage of that name gets
- * the key replaced or added, otherwise the stage is appended.
- *     "yaw:deg=random", sector, width, 90  ->  "yaw:deg=random+sector:width=90"
- *     "sector:width=30,at=180", sector, width, 90  ->  "sector:width=90,at=180"  */
-static char *pl_chain_with(const char *chain, const char *stage, const char *key, double value)
+/* The normalised text of ch (perturb/chain.h chain_format), malloc'ed at
+ * the length it needs; NULL when out of memory. */
+static char *pl_chain_text(const struct chain *ch)
 {
-    char num[64], out[4096] = "";
-    plan_format_number(num, sizeof num, value);
-    int placed = 0;
-    const char *s = chain ? chain : "";
-    while (*s) {
-        const char *end = strchr(s, '+');
-        size_t len = end ? (size_t)(end - s) : strlen(s);
-        const char *colon = memchr(s, ':', len);
-        size_t nlen = colon ? (size_t)(colon - s) : len;
-        char part[1024];
-        snprintf(part, sizeof part, "%.*s", (int)len, s);
-        if (!placed && nlen == strlen(stage) && !strncmp(s, stage, nlen)) {
-            char params[1024] = "";
-            const char *q = colon ? colon + 1 : NULL;
-            while (q && q < s + len) {
-                const char *qe = memchr(q, ',', (size_t)(s + len - q));
-                size_t ql = qe ? (size_t)(qe - q) : (size_t)(s + len - q);
-                const char *eq = memchr(q, '=', ql);
-                size_t kl = eq ? (size_t)(eq - q) : ql;
-                if (!(kl == strlen(key) && !strncmp(q, key, kl)))
-                    snprintf(params + strlen(params), sizeof params - strlen(params), ",%.*s", (int)ql, q);
-                q = qe ? qe + 1 : NULL;
-            }
-            snprintf(part, sizeof part, "%s:%s=%s%s", stage, key, num, params);
-            placed = 1;
-        }
-        snprintf(out + strlen(out), sizeof out - strlen(out), "%s%s", out[0] ? "+" : "", part);
-        s = end ? end + 1 : s + len;
-    }
-    if (!placed)
-        snprintf(out + strlen(out), sizeof out - strlen(out), "%s%s:%s=%s", out[0] ? "+" : "", stage, key, num);
-    return pl_dup(out);
+    char one[1];
+    size_t n = chain_format(ch, one, sizeof one);
+    char *t = malloc(n + 1);
+    if (t && chain_format(ch, t, n + 1) != n) { free(t); t = NULL; }
+    return t;
+}
+
+/* The chain of an axis cell: the condition's parsed chain with the axis
+ * parameter set to value (never a rewrite of the text the user wrote). */
+static int pl_axis_chain(const struct pl *c, const struct plan_cond *d, size_t ci, size_t vi, char **out)
+{
+    struct chain *ch = NULL;
+    struct err ce;
+    char jp[JP];
+    snprintf(jp, sizeof jp, "conditions[%zu].axis.values[%zu]", ci, vi);
+    if (chain_with_value(d->parsed, d->axis_stage, d->axis_key, d->values[vi], &ch, &ce))
+        return pl_fail(c, jp, "%s", ce.msg);
+    *out = pl_chain_text(ch);
+    chain_free(ch);
+    return *out ? 0 : pl_fail(c, jp, "out of memory");
 }
 
 /* Method label as id text: "scan-context:rings=20,sectors=60" -> "scan-context_rings-20_sectors-60". */
@@ -650,7 +639,8 @@ static void pl_id_part(char *out, size_t n, const char *label)
     out[j] = 0;
 }
 
-static int pl_cell(struct plan *p, size_t m, size_t ci, long vi, uint64_t seed, struct plan_cell *cell)
+static int pl_cell(const struct pl *c, struct plan *p, size_t m, size_t ci, long vi, uint64_t seed,
+                   struct plan_cell *cell)
 {
     const struct plan_cond *d = &p->conds[ci];
     char mid[96], val[64] = "";
@@ -664,10 +654,9 @@ static int pl_cell(struct plan *p, size_t m, size_t ci, long vi, uint64_t seed, 
         cell->axis_value = d->values[vi];
         plan_format_number(num, sizeof num, d->values[vi]);
         snprintf(val, sizeof val, "_%s-%s", d->axis_key, num);
-        cell->chain = pl_chain_with(d->chain, d->axis_stage, d->axis_key, d->values[vi]);
-        if (!cell->chain) return -1;
+        if (pl_axis_chain(c, d, ci, (size_t)vi, &cell->chain)) return -1;
     } else if (d->chain && !(cell->chain = pl_dup(d->chain))) {
-        return -1;
+        return pl_fail(c, "conditions", "out of memory");
     }
     snprintf(cell->id, sizeof cell->id, "%s__%s%s__s%llu", mid, d->name, val, (unsigned long long)seed);
     return 0;
@@ -686,8 +675,8 @@ static int pl_expand(const struct pl *c, struct plan *p)
             size_t nv = d->n_values ? d->n_values : 1;
             for (size_t v = 0; v < nv; v++)
                 for (size_t s = 0; s < d->n_seeds; s++)
-                    if (pl_cell(p, m, ci, d->n_values ? (long)v : -1, d->seeds[s], &p->cells[p->n_cells++]))
-                        return pl_fail(c, "", "out of memory");
+                    if (pl_cell(c, p, m, ci, d->n_values ? (long)v : -1, d->seeds[s], &p->cells[p->n_cells++]))
+                        return -1;
         }
     for (size_t k = 0; k < p->n_cells; k++)
         if (plan_find_cell(p, p->cells[k].id) != (long)k)
@@ -753,6 +742,7 @@ void plan_free(struct plan *p)
     for (size_t k = 0; k < p->n_conds; k++) {
         struct plan_cond *d = &p->conds[k];
         free(d->name); free(d->chain); free(d->on); free(d->axis_stage); free(d->axis_key);
+        chain_free(d->parsed);
         free(d->values); free(d->seeds);
     }
     for (size_t k = 0; k < p->n_cells; k++) free(p->cells[k].chain);

@@ -28,6 +28,7 @@
 #include <stdint.h>
 #include "harness/base/err.h"
 #include "metrics/protocol.h"
+#include "perturb/chain.h"
 
 #define PLAN_FORMAT "revisit-sweep-1"
 #define PLAN_ID_MAX 160
@@ -38,7 +39,8 @@ struct plan_method {
 
 struct plan_cond {
     char *name;
-    char *chain;          /* NULL: no perturbation besides the axis stage */
+    char *chain;          /* the chain as the user wrote it; NULL: none besides the axis stage */
+    struct chain *parsed; /* chain parsed at load (perturb/chain.h); NULL when chain is */
     char *on;             /* "query" | "map" | "both" | NULL (eval's default) */
     char *axis_stage, *axis_key;  /* NULL when the condition has no axis */
     size_t n_values;
@@ -53,7 +55,9 @@ struct plan_cell {
     int has_axis;
     double axis_value;
     uint64_t seed;
-    char *chain;          /* full chain for this cell (axis stage filled in), or NULL */
+    char *chain;          /* the cell's chain, or NULL: the condition's text as written, or
+                           * for an axis cell the normalised text (chain_format) of the
+                           * parsed chain with the axis parameter set */
 };
 
 enum plan_target { PLAN_MEAN, PLAN_LO, PLAN_HI, PLAN_DIFF, PLAN_DIFF_LO, PLAN_DIFF_HI };

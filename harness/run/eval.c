@@ -261,7 +261,10 @@ static int ev_setup(struct ev_ctx *c, struct err *e)
     if (s->on && chain_on_parse(s->on, &c->on, e)) return -1;
     if (s->chain && *s->chain) {
         if (chain_parse(s->chain, &c->chain, e)) return -1;
-        chain_format(c->chain, c->chain_text, sizeof c->chain_text);
+        size_t n = chain_format(c->chain, c->chain_text, sizeof c->chain_text);
+        if (n >= sizeof c->chain_text)
+            return err_set(e, "eval: the chain's normalised text is %zu bytes, expected at most %zu", n,
+                           sizeof c->chain_text - 1);
     }
     struct plugin_limits lim = {s->time_limit_s, (s->mem_limit_mb ? s->mem_limit_mb : EVAL_MEM_LIMIT_MB) << 20};
     if (plugin_open_limits(&c->plug, s->method, s->plugin_path, &lim, e)) return -1;
