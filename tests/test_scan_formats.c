@@ -373,8 +373,45 @@ static void test_names(void)
           "the extension decides, case-insensitively, dots in folders ignored");
 }
 
+/* Every row of the format table is reachable the ways commands reach it:
+ * by its word, by each of its extensions, and through scan_write and
+ * scan_read (a round trip keeps the points). */
+static void test_table(void)
+{
+    const struct scan_format *f;
+    size_t rows = 0;
+    struct cloud c, back;
+    cloud_init(&c);
+    cloud_init(&back);
+    cloud_push(&c, 1.5f, -2.25f, 3.0f, 0.5f);
+    cloud_push(&c, 4.0f, 5.0f, -6.5f, 1.0f);
+    for (size_t i = 0; (f = scan_format_at(i)); i++, rows++) {
+        char desc[128], path[64];
+        enum scan_layout l = SCAN_AUTO;
+        struct err e;
+        snprintf(desc, sizeof desc, "the word '%s' names its row", f->name);
+        CHECK(!scan_layout_parse(f->name, &l, &e) && l == f->layout && scan_format_of(l) == f, desc);
+        for (int x = 0; x < SCAN_FORMAT_EXTS && f->exts[x]; x++) {
+            snprintf(path, sizeof path, "scan%s", f->exts[x]);
+            snprintf(desc, sizeof desc, "extension %s finds the %s row", f->exts[x], f->name);
+            CHECK(scan_layout_from_path(path) == f->layout, desc);
+        }
+        snprintf(path, sizeof path, "table%s", scan_layout_ext(f->layout));
+        snprintf(desc, sizeof desc, "a %s file written through the table reads back by its extension", f->name);
+        CHECK(!scan_write(path, f->layout, &c, &e) && !scan_read(path, SCAN_AUTO, &back, &e) && back.n == 2 &&
+              CLOUD_X(&back, 1) == 4.0f && CLOUD_Z(&back, 1) == -6.5f, desc);
+    }
+    CHECK(rows == 4, "four formats in the table: raw, pcd, ply, text");
+    char list[128];
+    scan_format_list(list, sizeof list, ", ", " or ", SCAN_LIST_RECORDING);
+    CHECK(!strcmp(list, "raw, pcd or ply"), "recordings are written in the formats the table marks");
+    cloud_free(&c);
+    cloud_free(&back);
+}
+
 int main(void)
 {
+    test_table();
     test_raw();
     test_read_finite();
     test_text();

@@ -37,12 +37,15 @@ struct index_opts {
     int allow_outside, quiet;
 };
 
-/* Count regular files in dir by known scan extension; pick the most common,
- * leaving out the pose and times files themselves. */
+/* Count regular files in dir by the extensions of the scan-format table
+ * (scan_io.h); pick the most common, leaving out the pose and times files. */
 static int index_pick_pattern(const struct index_opts *o, char *pat, size_t n, struct err *e)
 {
-    static const char *const exts[] = {".bin", ".pcd", ".ply", ".txt", ".xyz", ".csv"};
-    size_t count[6] = {0};
+    const char *exts[32];
+    size_t count[32] = {0}, n_ext = 0;
+    const struct scan_format *f;
+    for (size_t i = 0; (f = scan_format_at(i)); i++)
+        for (int x = 0; x < SCAN_FORMAT_EXTS && f->exts[x] && n_ext < 32; x++) exts[n_ext++] = f->exts[x];
     char rp[PATH_MAX] = "", rt[PATH_MAX] = "";
     if (!realpath(o->poses, rp)) rp[0] = 0;
     if (o->times && !realpath(o->times, rt)) rt[0] = 0;
@@ -54,14 +57,16 @@ static int index_pick_pattern(const struct index_opts *o, char *pat, size_t n, s
         char path[PATH_MAX], real[PATH_MAX];
         fileio_join(path, sizeof path, o->dir, de->d_name);
         if (realpath(path, real) && (!strcmp(real, rp) || !strcmp(real, rt))) continue;
-        for (int k = 0; k < 6; k++) count[k] += !strcmp(dot, exts[k]);
+        for (size_t k = 0; k < n_ext; k++) count[k] += !strcmp(dot, exts[k]);
     }
     closedir(d);
-    int best = 0;
-    for (int k = 1; k < 6; k++) if (count[k] > count[best]) best = k;
-    if (!count[best])
-        return err_at(e, o->dir, 0, "no scan files found, expected files ending in .bin, .pcd, .ply, .txt, "
-                      ".xyz or .csv (or name them with --pattern)");
+    size_t best = 0;
+    for (size_t k = 1; k < n_ext; k++) if (count[k] > count[best]) best = k;
+    if (!count[best]) {
+        char list[128];
+        scan_format_list(list, sizeof list, ", ", " or ", SCAN_LIST_EXTS);
+        return err_at(e, o->dir, 0, "no scan files found, expected files ending in %s (or name them with --pattern)", list);
+    }
     snprintf(pat, n, "*%s", exts[best]);
     return 0;
 }
@@ -184,6 +189,8 @@ static int index_run(const struct index_opts *o, struct err *e)
 int cmd_index(int argc, char **argv)
 {
     struct index_opts o = {0};
+    char layouts[96] = "auto|";   /* the words of the scan-format table */
+    scan_format_list(layouts + 5, sizeof layouts - 5, "|", "|", SCAN_LIST_NAMES);
     const struct opt opts[] = {
         {"--poses", OPT_STR, &o.poses, "FILE", "pose file (CSV, text or 3x4 rows); required"},
         {"--times", OPT_STR, &o.times, "FILE", "times file (one per line) for the 3x4 layout"},
@@ -191,7 +198,7 @@ int cmd_index(int argc, char **argv)
         {"--pose-layout", OPT_STR, &o.pose_layout, "auto|csv|text|matrix", "pose file layout (default: detect)"},
         {"--time-unit", OPT_STR, &o.time_unit, "auto|s|ms|us|ns",
          "unit of the pose times (default: detect by magnitude and rate); stored in the manifest"},
-        {"--scan-layout", OPT_STR, &o.scan_layout, "auto|raw|pcd|ply|text", "scan layout (default: by extension)"},
+        {"--scan-layout", OPT_STR, &o.scan_layout, layouts, "scan layout (default: by extension)"},
         {"--pattern", OPT_STR, &o.pattern, "GLOB", "scan file names in DIR (default: the most common scan extension)"},
         {"--channels", OPT_INT, &o.channels, "N", "sensor channels (default: from the ring field of the first scan)"},
         {"--notes", OPT_STR, &o.notes, "TEXT", "free text stored in the sensor description"},

@@ -158,19 +158,23 @@ static void print_stats(const struct chain *ch, const struct chain_stats *t, siz
            dropped);
 }
 
-/* Output layout: --layout, else the input's (text input becomes pcd). */
+/* Output layout: --layout, else the input's (input in a layout recordings
+ * are not written in, such as text, becomes pcd). */
 static int perturb_layout(const struct perturb_opts *o, const struct recording *rec,
                           enum scan_layout *out, struct err *e)
 {
     if (o->layout) {
         if (scan_layout_parse(o->layout, out, e)) return err_wrap(e, "revisit perturb: --layout");
-        if (*out == SCAN_RAW || *out == SCAN_PCD || *out == SCAN_PLY) return 0;
-        return err_set(e, "revisit perturb: option '--layout' expects raw, pcd or ply, got '%s'",
-                       o->layout);
+        const struct scan_format *f = scan_format_of(*out);
+        if (f && f->recording) return 0;
+        char names[128];
+        scan_format_list(names, sizeof names, ", ", " or ", SCAN_LIST_RECORDING);
+        return err_set(e, "revisit perturb: option '--layout' expects %s, got '%s'", names, o->layout);
     }
     enum scan_layout l = rec->layout;
     if (l == SCAN_AUTO && rec->n) l = scan_layout_from_path(rec->scan_paths[0]);
-    *out = (l == SCAN_RAW || l == SCAN_PLY) ? l : SCAN_PCD;
+    const struct scan_format *f = scan_format_of(l);
+    *out = f && f->recording ? l : SCAN_PCD;
     return 0;
 }
 
@@ -212,6 +216,9 @@ out:
 
 int cmd_perturb(int argc, char **argv)
 {
+    char lhelp[128], names[64];   /* the layouts of the scan-format table recordings are written in */
+    scan_format_list(names, sizeof names, ", ", " or ", SCAN_LIST_RECORDING);
+    snprintf(lhelp, sizeof lhelp, "%s scan files (default: as input)", names);
     struct perturb_opts o = {NULL, NULL, NULL, "query", NULL, 1, 0, 0, 0, 0, 0, 0};
     const struct opt table[] = {
         {"--in", OPT_STR, &o.in, "REC", "recording to read (folder or recording.json)"},
@@ -221,7 +228,7 @@ int cmd_perturb(int argc, char **argv)
         {"--seed", OPT_U64, &o.seed, "S", "run seed of every draw (default 1)"},
         {"--jobs", OPT_INT, &o.jobs, "N", "threads (default: online cores)"},
         {"--on", OPT_STR, &o.on, "SIDE", "query, map or both: recorded in the manifest"},
-        {"--layout", OPT_STR, &o.layout, "L", "raw, pcd or ply scan files (default: as input)"},
+        {"--layout", OPT_STR, &o.layout, "L", lhelp},
         {"--stats", OPT_FLAG, &o.stats, NULL, "print points in and out of every stage"},
         {"--allow-outside", OPT_FLAG, &o.allow_outside, NULL, "accept input paths outside REC"},
         {"--list", OPT_FLAG, &o.list, NULL, "print every stage and its parameters"},

@@ -104,9 +104,12 @@ int recording_writer_begin(struct recording_writer *w, const char *dir,
 {
     memset(w, 0, sizeof *w);
     recording_sensor_init(&w->sensor);
-    if (layout != SCAN_RAW && layout != SCAN_PCD && layout != SCAN_PLY)
-        return err_at(e, dir, 0, "recordings are written in the raw, pcd or ply layout, not %s",
-                      scan_layout_name(layout));
+    const struct scan_format *f = scan_format_of(layout);
+    if (!f || !f->recording) {
+        char names[128];
+        scan_format_list(names, sizeof names, ", ", " or ", SCAN_LIST_RECORDING);
+        return err_at(e, dir, 0, "recordings are written in the %s layout, not %s", names, scan_layout_name(layout));
+    }
     if (!sensor || sensor->channels < 1 || sensor->channels > 65535)
         return err_at(e, dir, 0, "sensor channels must be from 1 to 65535");
     if (strlen(dir) + 32 >= sizeof w->dir) return err_at(e, dir, 0, "path too long");

@@ -1,4 +1,4 @@
-/* scan_io.c: raw and text scans, layout names, dispatch to PCD / PLY. */
+/* scan_io.c: the scan-format table, dispatch through it, raw and text scans. */
 #include "harness/io/scan_io.h"
 
 #include <ctype.h>
@@ -18,52 +18,96 @@
 #define SCAN_RAW_RECORD 16
 #define SCAN_TEXT_LINE_MAX 4096
 
-static const struct {
-    enum scan_layout layout;
-    const char *name, *ext;
-} scan_layouts[] = {
-    {SCAN_AUTO, "auto", ""},
-    {SCAN_RAW, "raw", ".bin"},
-    {SCAN_PCD, "pcd", ".pcd"},
-    {SCAN_PLY, "ply", ".ply"},
-    {SCAN_TEXT, "text", ".txt"},
+static int scan_read_raw_any(const char *path, struct cloud *c, struct err *e);
+static int scan_read_text(const char *path, struct cloud *c, struct err *e);
+
+/* The one table of scan formats: name, extensions (the first is written),
+ * reader, writer, whether recordings may be written in it, and what a file
+ * of it keeps.  index, perturb, synth and the recording writer ask here. */
+static const struct scan_format scan_formats[] = {
+    {SCAN_RAW, "raw", {".bin"}, scan_read_raw_any, scan_write_raw, 1, "x y z intensity as float32"},
+    {SCAN_PCD, "pcd", {".pcd"}, pcd_read, pcd_write_binary, 1, "x y z intensity, ring and time when present"},
+    {SCAN_PLY, "ply", {".ply"}, ply_read, ply_write_binary, 1, "x y z intensity, ring and time when present"},
+    {SCAN_TEXT, "text", {".txt", ".xyz", ".csv"}, scan_read_text, scan_write_text, 0, "x y z [intensity] as text"},
 };
-#define SCAN_N_LAYOUTS (sizeof scan_layouts / sizeof scan_layouts[0])
+#define SCAN_N_FORMATS (sizeof scan_formats / sizeof scan_formats[0])
+
+const struct scan_format *scan_format_at(size_t i)
+{
+    return i < SCAN_N_FORMATS ? &scan_formats[i] : NULL;
+}
+
+const struct scan_format *scan_format_of(enum scan_layout layout)
+{
+    for (size_t k = 0; k < SCAN_N_FORMATS; k++)
+        if (scan_formats[k].layout == layout) return &scan_formats[k];
+    return NULL;
+}
+
+/* The entries of the list asked for, in table order; their count. */
+static size_t scan_entries(int what, const char *v[], size_t most)
+{
+    size_t n = 0;
+    for (size_t k = 0; k < SCAN_N_FORMATS; k++) {
+        const struct scan_format *f = &scan_formats[k];
+        if (what == SCAN_LIST_EXTS)
+            for (int x = 0; x < SCAN_FORMAT_EXTS && f->exts[x] && n < most; x++) v[n++] = f->exts[x];
+        else if ((what == SCAN_LIST_NAMES || f->recording) && n < most)
+            v[n++] = f->name;
+    }
+    return n;
+}
+
+void scan_format_list(char *out, size_t n, const char *sep, const char *last, int what)
+{
+    const char *v[SCAN_N_FORMATS * SCAN_FORMAT_EXTS];
+    size_t m = scan_entries(what, v, sizeof v / sizeof v[0]), at = 0;
+    out[0] = 0;
+    for (size_t k = 0; k < m; k++) {
+        int w = snprintf(out + at, n - at, "%s%s", !k ? "" : k + 1 < m ? sep : last, v[k]);
+        if (w < 0 || (size_t)w >= n - at) {   /* no room: keep the whole entries so far */
+            out[at] = 0;
+            return;
+        }
+        at += (size_t)w;
+    }
+}
 
 int scan_layout_parse(const char *name, enum scan_layout *out, struct err *e)
 {
-    for (size_t k = 0; k < SCAN_N_LAYOUTS; k++)
-        if (!strcmp(name, scan_layouts[k].name)) {
-            *out = scan_layouts[k].layout;
+    if (!strcmp(name, "auto")) {
+        *out = SCAN_AUTO;
+        return 0;
+    }
+    for (size_t k = 0; k < SCAN_N_FORMATS; k++)
+        if (!strcmp(name, scan_formats[k].name)) {
+            *out = scan_formats[k].layout;
             return 0;
         }
-    return err_set(e, "unknown scan layout '%s', expected auto, raw, pcd, ply or text", name);
+    char names[128];
+    scan_format_list(names, sizeof names, ", ", " or ", SCAN_LIST_NAMES);
+    return err_set(e, "unknown scan layout '%s', expected auto, %s", name, names);
 }
 
 const char *scan_layout_name(enum scan_layout layout)
 {
-    for (size_t k = 0; k < SCAN_N_LAYOUTS; k++)
-        if (scan_layouts[k].layout == layout) return scan_layouts[k].name;
-    return "?";
+    const struct scan_format *f = scan_format_of(layout);
+    return layout == SCAN_AUTO ? "auto" : f ? f->name : "?";
 }
 
 const char *scan_layout_ext(enum scan_layout layout)
 {
-    for (size_t k = 0; k < SCAN_N_LAYOUTS; k++)
-        if (scan_layouts[k].layout == layout) return scan_layouts[k].ext;
-    return "";
+    const struct scan_format *f = scan_format_of(layout);
+    return f ? f->exts[0] : "";
 }
 
 enum scan_layout scan_layout_from_path(const char *path)
 {
     const char *slash = strrchr(path, '/');
     const char *dot = strrchr(slash ? slash : path, '.');
-    if (!dot) return SCAN_AUTO;
-    if (!strcasecmp(dot, ".bin")) return SCAN_RAW;
-    if (!strcasecmp(dot, ".pcd")) return SCAN_PCD;
-    if (!strcasecmp(dot, ".ply")) return SCAN_PLY;
-    if (!strcasecmp(dot, ".txt") || !strcasecmp(dot, ".xyz") || !strcasecmp(dot, ".csv"))
-        return SCAN_TEXT;
+    for (size_t k = 0; dot && k < SCAN_N_FORMATS; k++)
+        for (int x = 0; x < SCAN_FORMAT_EXTS && scan_formats[k].exts[x]; x++)
+            if (!strcasecmp(dot, scan_formats[k].exts[x])) return scan_formats[k].layout;
     return SCAN_AUTO;
 }
 
@@ -213,20 +257,22 @@ static int scan_read_text(const char *path, struct cloud *c, struct err *e)
     return rc;
 }
 
+static int scan_read_raw_any(const char *path, struct cloud *c, struct err *e)
+{
+    return scan_read_raw(path, c, NULL, e);
+}
+
 int scan_read(const char *path, enum scan_layout layout, struct cloud *c, struct err *e)
 {
     c->n = 0;
     if (layout == SCAN_AUTO) layout = scan_layout_from_path(path);
-    int rc;
-    switch (layout) {
-    case SCAN_RAW: rc = scan_read_raw(path, c, NULL, e); break;
-    case SCAN_PCD: rc = pcd_read(path, c, e); break;
-    case SCAN_PLY: rc = ply_read(path, c, e); break;
-    case SCAN_TEXT: rc = scan_read_text(path, c, e); break;
-    default:
-        return err_at(e, path, 0, "unknown scan file extension, expected .bin, .pcd, .ply, "
-                      ".txt, .xyz or .csv (or name the layout)");
+    const struct scan_format *f = scan_format_of(layout);
+    if (!f) {
+        char exts[128];
+        scan_format_list(exts, sizeof exts, ", ", " or ", SCAN_LIST_EXTS);
+        return err_at(e, path, 0, "unknown scan file extension, expected %s (or name the layout)", exts);
     }
+    int rc = f->read(path, c, e);
     if (rc) c->n = 0;
     return rc;
 }
@@ -334,12 +380,11 @@ int scan_write_text(const char *path, const struct cloud *c, struct err *e)
 
 int scan_write(const char *path, enum scan_layout layout, const struct cloud *c, struct err *e)
 {
-    switch (layout) {
-    case SCAN_RAW: return scan_write_raw(path, c, e);
-    case SCAN_PCD: return pcd_write_binary(path, c, e);
-    case SCAN_PLY: return ply_write_binary(path, c, e);
-    case SCAN_TEXT: return scan_write_text(path, c, e);
-    default: return err_at(e, path, 0, "no writer for layout '%s', expected raw, pcd, ply or text",
-                           scan_layout_name(layout));
+    const struct scan_format *f = scan_format_of(layout);
+    if (!f || !f->write) {
+        char names[128];
+        scan_format_list(names, sizeof names, ", ", " or ", SCAN_LIST_NAMES);
+        return err_at(e, path, 0, "no writer for layout '%s', expected %s", scan_layout_name(layout), names);
     }
+    return f->write(path, c, e);
 }

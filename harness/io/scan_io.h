@@ -39,8 +39,34 @@ enum scan_layout {
     SCAN_TEXT
 };
 
-/* "auto" | "raw" | "pcd" | "ply" | "text" -> layout; -1 with e naming the
- * accepted words otherwise. */
+/* One row of the scan-format table (scan_io.c), the one place a format is
+ * registered: the word, the extensions (the first is the one written), the
+ * reader and writer, and whether recordings may be written in it. */
+#define SCAN_FORMAT_EXTS 4
+struct scan_format {
+    enum scan_layout layout;
+    const char *name;                       /* "pcd" */
+    const char *exts[SCAN_FORMAT_EXTS];     /* ".pcd"; NULL after the last */
+    int (*read)(const char *path, struct cloud *c, struct err *e);
+    int (*write)(const char *path, const struct cloud *c, struct err *e);
+    int recording;                          /* recordings may be written in it */
+    const char *keeps;                      /* what a file of it holds of a point */
+};
+
+/* Row i of the table, NULL past the last; the row of a layout (NULL for
+ * SCAN_AUTO). */
+const struct scan_format *scan_format_at(size_t i);
+const struct scan_format *scan_format_of(enum scan_layout layout);
+
+/* The table as a list for messages and help into out (size n): every
+ * format's word, the words of those recordings may be written in, or every
+ * extension; entries joined by sep, the last by last ("raw, pcd or ply",
+ * "raw|pcd|ply").  Cannot fail (cut at a whole entry when out is small). */
+enum { SCAN_LIST_NAMES, SCAN_LIST_RECORDING, SCAN_LIST_EXTS };
+void scan_format_list(char *out, size_t n, const char *sep, const char *last, int what);
+
+/* "auto" or a format's word -> layout; -1 with e naming the accepted words
+ * otherwise. */
 int scan_layout_parse(const char *name, enum scan_layout *out, struct err *e);
 /* The word for a layout ("raw", ...). */
 const char *scan_layout_name(enum scan_layout layout);
