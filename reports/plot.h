@@ -72,7 +72,7 @@ int plot_traj(struct plot_set *ps, const char *name, const char *title, const st
               const struct rstat_outcomes *o, struct err *e);
 /* 4. the distance matrix as an image; true marks rows x cols (1 = true revisit). */
 int plot_matrix(struct plot_set *ps, const char *name, const char *title,
-                const struct rdata_matrix *m, const unsigned char *truth, struct err *e);
+                const struct matrix_csv *m, const unsigned char *truth, struct err *e);
 /* 5. top-1 distance histograms with the two thresholds marked (NaN: not drawn). */
 int plot_hist(struct plot_set *ps, const char *name, const char *title, const struct rstat_hist *h,
               double tau_f1, double tau_r100, struct err *e);

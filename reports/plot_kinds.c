@@ -178,7 +178,7 @@ int plot_traj(struct plot_set *ps, const char *name, const char *title, const st
     return plot_finish(ps, name, title, PLOT_TRAJ, e);
 }
 
-static int matrix_data(struct plot_set *ps, const char *name, const struct rdata_matrix *m,
+static int matrix_data(struct plot_set *ps, const char *name, const struct matrix_csv *m,
                        const unsigned char *truth, size_t *n_true, struct err *e)
 {
     struct afile a;
@@ -206,7 +206,7 @@ static void index_tics(FILE *f, const char *axis, const long *idx, size_t n)
 }
 
 int plot_matrix(struct plot_set *ps, const char *name, const char *title,
-                const struct rdata_matrix *m, const unsigned char *truth, struct err *e)
+                const struct matrix_csv *m, const unsigned char *truth, struct err *e)
 {
     size_t n_true;
     if (matrix_data(ps, name, m, truth, &n_true, e)) return -1;

@@ -3,9 +3,10 @@
  * A results folder is either one `revisit eval --out DIR` output (result.json,
  * queries.csv, poses.csv, matrix.csv) or a sweep folder (scenario.json,
  * cells/ID/ each such an output).  rdata_load reads every result.json into
- * cells; the large per-cell files are read on demand by the three
- * rdata_*_load functions, one cell at a time.  See DEVELOPERS.md "Results
- * folder" for the schema.
+ * cells; the large per-cell files are read on demand, one cell at a time,
+ * by rdata_poses_load, rdata_queries_load and matrix_csv_read, each over
+ * the one reader of its file in harness/results/.  See DEVELOPERS.md
+ * "Results folder" for the schema.
  *
  *     struct rdata_set s;
  *     if (rdata_load("runs/sweep1", &s, e)) return -1;   // s untouched on -1
@@ -21,6 +22,7 @@
 
 #include <stddef.h>
 #include "harness/base/err.h"
+#include "harness/results/matrix_csv.h"
 #include "metrics/protocol.h"
 
 /* The scalars the tables show, in table order. */
@@ -118,14 +120,6 @@ struct rdata_queries {
 int rdata_queries_load(const char *path, struct rdata_queries *q, struct err *e);
 void rdata_queries_free(struct rdata_queries *q);
 
-/* matrix.csv: `#rows` line, `#cols` line, then rows of distances
- * (an empty or non-numeric-free "nan" entry reads as NaN). */
-struct rdata_matrix {
-    size_t rows, cols;
-    long *row_idx, *col_idx;
-    double *d;                 /* rows * cols, row-major */
-};
-int rdata_matrix_load(const char *path, struct rdata_matrix *m, struct err *e);
-void rdata_matrix_free(struct rdata_matrix *m);
+/* matrix.csv is read by harness/results/matrix_csv.h (matrix_csv_read). */
 
 #endif

@@ -1,5 +1,5 @@
-/* rdata_csv.c: poses.csv, queries.csv, matrix.csv (read by harness/results/)
- * as the report sees them, and the verdicts file. */
+/* rdata_csv.c: poses.csv and queries.csv (read by harness/results/) as the
+ * report sees them, and the verdicts file. */
 #include "reports/rdata.h"
 
 #include <cjson/cJSON.h>
@@ -12,7 +12,6 @@
 #include "harness/base/fileio.h"
 #include "harness/results/cells.h"
 #include "harness/results/format.h"
-#include "harness/results/matrix_csv.h"
 #include "harness/results/poses_csv.h"
 #include "harness/results/queries_csv.h"
 
@@ -86,23 +85,6 @@ int rdata_queries_load(const char *path, struct rdata_queries *q, struct err *e)
     }
     q->n = qc.n_rows;
     queries_csv_free(&qc);
-    return 0;
-}
-
-void rdata_matrix_free(struct rdata_matrix *m)
-{
-    free(m->row_idx);
-    free(m->col_idx);
-    free(m->d);
-    memset(m, 0, sizeof *m);
-}
-
-int rdata_matrix_load(const char *path, struct rdata_matrix *m, struct err *e)
-{
-    struct matrix_csv mc;
-    memset(m, 0, sizeof *m);
-    if (matrix_csv_read(path, &mc, e)) return -1;
-    *m = (struct rdata_matrix){mc.rows, mc.cols, mc.row_idx, mc.col_idx, mc.d};
     return 0;
 }
 

@@ -40,10 +40,10 @@ static int matrix_plot(struct report_doc *d, struct plot_set *ps, size_t m, cons
         report_note(d, "distance matrix of %s: cell %s has no matrix.csv", d->table->methods[m], c->id);
         return 0;
     }
-    struct rdata_matrix mx;
-    if (rdata_matrix_load(path, &mx, e)) return -1;
+    struct matrix_csv mx;
+    if (matrix_csv_read(path, &mx, e)) return -1;
     unsigned char *truth = calloc(mx.rows * mx.cols, 1);
-    if (!truth) { rdata_matrix_free(&mx); return err_set(e, "out of memory for the matrix truth mask"); }
+    if (!truth) { matrix_csv_free(&mx); return err_set(e, "out of memory for the matrix truth mask"); }
     for (size_t r = 0; r < mx.rows; r++)
         for (size_t k = 0; k < mx.cols; k++)
             truth[r * mx.cols + k] = (unsigned char)rstat_true_pair(p, &c->proto, mx.row_idx[r], mx.col_idx[k]);
@@ -53,7 +53,7 @@ static int matrix_plot(struct report_doc *d, struct plot_set *ps, size_t m, cons
              report_cond_name(d->table, d->table->ref_cond[m]));
     int rc = plot_matrix(ps, name, title, &mx, truth, e);
     free(truth);
-    rdata_matrix_free(&mx);
+    matrix_csv_free(&mx);
     return rc;
 }
 

@@ -91,17 +91,17 @@ static void file_checks(void)
     CHECK(rdata_queries_load("q2.csv", &q, &e) < 0, "a bad distance is refused");
     CHECK_MSG(e.msg, "q2.csv:1: field 3: distance 'x' is not a finite number", "the bad distance is placed");
 
-    struct rdata_matrix m;
+    struct matrix_csv m;
     put("m1.csv", "# revisit distance matrix, format 1\n#rows,0,4\n#cols,1,2,3\n0.1,0.2,0.3\n0.4,nan,0.6\n");
-    CHECK(rdata_matrix_load("m1.csv", &m, &e) == 0, "matrix.csv loads");
+    CHECK(matrix_csv_read("m1.csv", &m, &e) == 0, "matrix.csv loads");
     CHECK(m.rows == 2 && m.cols == 3 && m.row_idx[1] == 4 && m.col_idx[2] == 3 && m.d[5] == 0.6 && isnan(m.d[4]),
           "indices and distances are read, nan kept");
-    rdata_matrix_free(&m);
+    matrix_csv_free(&m);
     put("m2.csv", "#rows,0,4\n#cols,1,2,3\n0.1,0.2\n0.4,0.5,0.6\n");
-    CHECK(rdata_matrix_load("m2.csv", &m, &e) < 0, "a short matrix row is refused");
+    CHECK(matrix_csv_read("m2.csv", &m, &e) < 0, "a short matrix row is refused");
     CHECK_MSG(e.msg, "m2.csv:3: 2 distances, expected 3", "the short row is placed");
     put("m3.csv", "#cols,1\n");
-    CHECK(rdata_matrix_load("m3.csv", &m, &e) < 0, "a matrix without #rows is refused");
+    CHECK(matrix_csv_read("m3.csv", &m, &e) < 0, "a matrix without #rows is refused");
     CHECK_MSG(e.msg, "does not start with '#rows'", "the missing #rows line is named");
 }
 
@@ -143,7 +143,7 @@ static void message_checks(void)
         CHECK(rdata_queries_load("q.csv", &q, &e) < 0, queries[k].desc);
         CHECK_MSG(e.msg, queries[k].frag, queries[k].desc);
     }
-    struct rdata_matrix m;
+    struct matrix_csv m;
     const struct { const char *text, *frag, *desc; } mats[] = {
         {"#rows,1,x\n#cols,1\n0\n", "m.csv:1: index 2 is not a whole number", "a bad row index"},
         {"#rows,1;2\n#cols,1\n0\n", "m.csv:1: unexpected text ';2'", "a bad separator in the index line"},
@@ -157,7 +157,7 @@ static void message_checks(void)
     };
     for (size_t k = 0; k < sizeof mats / sizeof mats[0]; k++) {
         put("m.csv", mats[k].text);
-        CHECK(rdata_matrix_load("m.csv", &m, &e) < 0, mats[k].desc);
+        CHECK(matrix_csv_read("m.csv", &m, &e) < 0, mats[k].desc);
         CHECK_MSG(e.msg, mats[k].frag, mats[k].desc);
     }
 }
