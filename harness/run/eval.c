@@ -392,12 +392,6 @@ static int ev_write_matrix(const struct ev_ctx *c, const char *path, struct err 
     return rc;
 }
 
-static void ev_num(cJSON *o, const char *key, double v)
-{
-    if (isfinite(v)) cJSON_AddNumberToObject(o, key, v);
-    else cJSON_AddNullToObject(o, key);
-}
-
 static void ev_str(cJSON *o, const char *key, const char *v)
 {
     if (v) cJSON_AddStringToObject(o, key, v);
@@ -449,37 +443,24 @@ static cJSON *ev_protocol_json(const struct ev_ctx *c)
     return o;
 }
 
-static cJSON *ev_metrics_json(const struct ev_ctx *c)
+/* "counts", "metrics" and "curve" as result_metrics writes them for
+ * `revisit metrics --json` too, then eval's own additions: the map size and
+ * the bootstrap it ran.  0 or -1 (out of memory). */
+static int ev_metrics_json(const struct ev_ctx *c, cJSON *o, struct err *e)
 {
-    cJSON *o = cJSON_CreateObject();
-    for (int m = 0; m < PR_N_METRICS; m++) {
-        cJSON *v = cJSON_AddObjectToObject(o, pr_metric_name((enum pr_metric)m));
-        ev_num(v, "value", c->br.point.v[m]);
-        ev_num(v, "lo", c->br.lo[m]);
-        ev_num(v, "hi", c->br.hi[m]);
-        if (m == PR_F1MAX) ev_num(v, "threshold", c->br.point.f1max_threshold);
-        if (m == PR_R100P) ev_num(v, "threshold", c->br.point.r100p_threshold);
-    }
+    if (result_metrics_add(o, &c->br.point, c->s->bootstrap > 0 ? &c->br : NULL, c->curve, c->sum.queries,
+                           c->sum.revisits, e))
+        return -1;
+    cJSON_AddNumberToObject(cJSON_GetObjectItemCaseSensitive(o, "counts"), "map", (double)c->mset.n);
     if (c->s->bootstrap > 0) {
-        cJSON_AddNumberToObject(o, "bootstrap", c->s->bootstrap);
-        cJSON_AddNumberToObject(o, "level", 0.95);
+        cJSON *m = cJSON_GetObjectItemCaseSensitive(o, "metrics");
+        cJSON_AddNumberToObject(m, "bootstrap", c->s->bootstrap);
+        cJSON_AddNumberToObject(m, "level", 0.95);
     }
-    return o;
+    return 0;
 }
 
-static cJSON *ev_curve_json(const struct pr_curve *cv)
-{
-    cJSON *o = cJSON_CreateObject();
-    const double *cols[3] = {cv->threshold, cv->precision, cv->recall};
-    static const char *const names[3] = {"threshold", "precision", "recall"};
-    for (int k = 0; k < 3; k++) {
-        cJSON *a = cJSON_AddArrayToObject(o, names[k]);
-        for (size_t i = 0; i < cv->n; i++) cJSON_AddItemToArray(a, cJSON_CreateNumber(cols[k][i]));
-    }
-    return o;
-}
-
-static cJSON *ev_result_json(const struct ev_ctx *c)
+static cJSON *ev_result_json(const struct ev_ctx *c, struct err *e)
 {
     const struct eval_spec *s = c->s;
     cJSON *o = cJSON_CreateObject();
@@ -496,12 +477,10 @@ static cJSON *ev_result_json(const struct ev_ctx *c)
     char real[PATH_MAX];
     ev_str(r, "map", realpath(c->map.manifest, real) ? real : c->map.manifest);
     ev_str(r, "query", !c->reloc ? NULL : realpath(c->query.manifest, real) ? real : c->query.manifest);
-    cJSON *n = cJSON_AddObjectToObject(o, "counts");
-    cJSON_AddNumberToObject(n, "queries", (double)c->sum.queries);
-    cJSON_AddNumberToObject(n, "revisits", (double)c->sum.revisits);
-    cJSON_AddNumberToObject(n, "map", (double)c->mset.n);
-    cJSON_AddItemToObject(o, "metrics", ev_metrics_json(c));
-    cJSON_AddItemToObject(o, "curve", ev_curve_json(c->curve));
+    if (ev_metrics_json(c, o, e)) {
+        cJSON_Delete(o);
+        return NULL;
+    }
     cJSON *t = cJSON_AddObjectToObject(o, "timing");
     cJSON_AddNumberToObject(t, "describe_s", c->sum.describe_s);
     cJSON_AddNumberToObject(t, "retrieval_s", c->sum.retrieval_s);
@@ -524,7 +503,8 @@ static int ev_write(const struct ev_ctx *c, const struct pr_lists *l, struct err
     if (results_path(path, sizeof path, dir, RESULTS_POSES, e) || ev_write_poses(c, path, e)) return -1;
     if (results_path(path, sizeof path, dir, RESULTS_MATRIX, e) || ev_write_matrix(c, path, e)) return -1;
     if (results_path(path, sizeof path, dir, RESULTS_RESULT, e)) return -1;
-    return json_file_write(path, ev_result_json(c), e);
+    cJSON *result = ev_result_json(c, e);
+    return result ? json_file_write(path, result, e) : -1;
 }
 
 int eval_run(const struct eval_spec *s, struct eval_summary *out, struct err *e)
