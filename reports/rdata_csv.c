@@ -6,16 +6,15 @@
 #include <ctype.h>
 #include <errno.h>
 #include <math.h>
+#include <stdio.h>
 #include <stdlib.h>
 #include <string.h>
 
-#include "harness/base/fileio.h"
 #include "harness/results/cells.h"
-#include "harness/results/format.h"
 #include "harness/results/poses_csv.h"
 #include "harness/results/queries_csv.h"
+#include "harness/results/summary.h"
 
-#define RDATA_CSV_MAX ((size_t)1 << 30)
 
 static int track_fill(struct rdata_track *t, const struct poses_csv_set *s)
 {
@@ -118,38 +117,17 @@ static void verdict_fill(const cJSON *o, struct rdata_verdict *v)
  * not an error. */
 int rdata_verdicts_read(struct rdata_set *s, struct err *e)
 {
-    char path[4200], *text;
-    size_t len;
+    char path[4200];
+    cJSON *root = NULL;
+    const cJSON *list = NULL;
     if (results_path(path, sizeof path, s->root, RESULTS_VERDICTS, e)) return -1;
-    FILE *f = fopen(path, "rb");
-    if (!f) return 0;
-    fclose(f);
-    if (fileio_read(path, RDATA_CSV_MAX, &text, &len, e)) return -1;
-    const char *end = NULL;
-    cJSON *root = cJSON_ParseWithLengthOpts(text, len, &end, 0);
-    if (!root) {
-        long line, col;
-        err_line_col(text, end ? (size_t)(end - text) : 0, &line, &col);
-        free(text);
-        return err_set(e, "%s:%ld:%ld: not valid JSON, expected a list of criterion results", path, line, col);
-    }
-    free(text);
-    const cJSON *list = cJSON_IsArray(root) ? root : cJSON_GetObjectItemCaseSensitive(root, "criteria");
-    int rc = 0;
-    if (!cJSON_IsArray(list)) {
-        rc = err_at(e, path, 0, "no list of criteria, expected a list or {\"criteria\": [...]}");
-    } else if (list != root && results_format_json(root, "verdicts", path, e)) {
-        rc = -1;
-    } else {
-        size_t n = (size_t)cJSON_GetArraySize(list);
-        s->verdicts = calloc(n ? n : 1, sizeof *s->verdicts);
-        if (!s->verdicts) rc = err_at(e, path, 0, "out of memory");
-        for (const cJSON *o = list->child; !rc && o; o = o->next) {
-            if (!cJSON_IsObject(o)) { rc = err_at(e, path, 0, "criterion %zu is not an object", s->n_verdicts + 1); break; }
-            verdict_fill(o, &s->verdicts[s->n_verdicts++]);
-        }
-        snprintf(s->verdict_file, sizeof s->verdict_file, "verdicts.json");
-    }
+    int rc = summary_verdicts_read(path, &root, &list, e);
+    if (rc) return rc < 0 ? -1 : 0;
+    size_t n = (size_t)cJSON_GetArraySize(list);
+    s->verdicts = calloc(n ? n : 1, sizeof *s->verdicts);
+    if (!s->verdicts) rc = err_at(e, path, 0, "out of memory");
+    for (const cJSON *o = list->child; !rc && o; o = o->next) verdict_fill(o, &s->verdicts[s->n_verdicts++]);
+    if (!rc) snprintf(s->verdict_file, sizeof s->verdict_file, "%s", RESULTS_VERDICTS);
     cJSON_Delete(root);
     return rc;
 }

@@ -82,6 +82,13 @@ void summary_verdicts_free(struct summary_verdict *v, size_t n);
 int summary_write_verdicts(const struct summary *s, const struct summary_verdict *v, size_t n,
                            struct err *e);
 
+/* Read verdicts.json at path back: {"format": "revisit-verdicts-1",
+ * "criteria": [...]} or the bare list written before the format key.  0
+ * with *root (the caller deletes it) and *list (inside root, each entry an
+ * object); 1 when there is no file (nothing set); -1 with e set as
+ * "FILE:LINE:COL: ..." for broken JSON, "FILE: ..." for the rest. */
+int summary_verdicts_read(const char *path, struct cJSON **root, const struct cJSON **list, struct err *e);
+
 /* 1 when value passes "value CMP threshold". */
 int summary_compare(enum plan_cmp c, double value, double threshold);
 

@@ -7,6 +7,7 @@
 #include <stdio.h>
 #include <stdlib.h>
 #include <string.h>
+#include <sys/stat.h>
 
 #include "harness/base/fileio.h"
 #include "harness/base/json_file.h"
@@ -17,6 +18,8 @@
 #include "metrics/boot.h"
 #include "metrics/gt.h"
 #include "metrics/pr.h"
+
+#define SV_VERDICTS_MAX ((size_t)1 << 30)
 
 /* The scored query set of one cell, rebuilt from its folder. */
 static int sv_cell_set(const struct summary *s, size_t k, struct pr_set **out, struct err *e)
@@ -242,4 +245,43 @@ int summary_write_verdicts(const struct summary *s, const struct summary_verdict
         return -1;
     }
     return json_file_write(path, root, e);
+}
+
+/* Parse text as the verdicts document; the list inside it, or NULL (e set). */
+static const cJSON *sv_verdicts_list(const cJSON *root, const char *path, struct err *e)
+{
+    const cJSON *list = cJSON_IsArray(root) ? root : cJSON_GetObjectItemCaseSensitive(root, "criteria");
+    if (!cJSON_IsArray(list))
+        return err_at(e, path, 0, "no list of criteria, expected a list or {\"criteria\": [...]}"), NULL;
+    if (list != root && results_format_json(root, "verdicts", path, e)) return NULL;
+    size_t k = 0;
+    for (const cJSON *o = list->child; o; o = o->next, k++)
+        if (!cJSON_IsObject(o)) return err_at(e, path, 0, "criterion %zu is not an object", k + 1), NULL;
+    return list;
+}
+
+int summary_verdicts_read(const char *path, cJSON **root, const cJSON **list, struct err *e)
+{
+    char *text;
+    size_t len;
+    struct stat st;
+    if (stat(path, &st)) return 1;
+    if (fileio_read(path, SV_VERDICTS_MAX, &text, &len, e)) return -1;
+    const char *end = NULL;
+    cJSON *r = cJSON_ParseWithLengthOpts(text, len, &end, 0);
+    if (!r) {
+        long line, col;
+        err_line_col(text, end ? (size_t)(end - text) : 0, &line, &col);
+        free(text);
+        return err_set(e, "%s:%ld:%ld: not valid JSON, expected a list of criterion results", path, line, col);
+    }
+    free(text);
+    const cJSON *l = sv_verdicts_list(r, path, e);
+    if (!l) {
+        cJSON_Delete(r);
+        return -1;
+    }
+    *root = r;
+    *list = l;
+    return 0;
 }
