@@ -36,8 +36,8 @@ static void overview_data(struct rdoc *r, const struct report_doc *d)
     rdoc_text(r, c0->rec_map[0] ? c0->rec_map : "(not recorded)");
     if (c0->rec_query[0]) { rdoc_text(r, "; query recording: "); rdoc_text(r, c0->rec_query); }
     rdoc_textf(r, "; protocol %s, revisit within %.3g m, wrong beyond %.3g m, %s counting.",
-               c0->proto.mode == PROTOCOL_RELOC ? "reloc" : "loop", c0->proto.r_pos_m, c0->proto.r_neg_m,
-               c0->proto.counting == PROTOCOL_LENIENT ? "lenient" : "strict");
+               protocol_mode_name(c0->proto.mode), c0->proto.r_pos_m, c0->proto.r_neg_m,
+               protocol_counting_name(c0->proto.counting));
     const struct report_overview *v = &d->ov;
     if (!v->have) return;
     rdoc_item(r);

@@ -40,7 +40,7 @@ static int eval_finish_spec(struct eval_opts *o, struct eval_spec *s, struct err
 {
     if (!o->map || !o->method || !o->out)
         return err_set(e, "revisit eval: --map, --method and --out are required (see 'revisit eval --help')");
-    if (o->query && !o->op.mode) o->op.mode = "reloc";
+    if (o->query && !o->op.mode) o->op.mode = protocol_mode_name(PROTOCOL_RELOC);
     eval_spec_defaults(s);
     if (opt_protocol_finish(&o->op, "eval", &s->protocol, e)) return -1;
     if (o->boot < -1 || o->boot > 100000)

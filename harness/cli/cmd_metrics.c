@@ -409,7 +409,7 @@ int cmd_metrics(int argc, char **argv)
     if (r.o.bootstrap < 0 || r.o.bootstrap > 1000000)
         return err_set(&e, "revisit metrics: --bootstrap expects 0 to 1000000 resamples, got %ld", r.o.bootstrap),
                cmd_report(&e);
-    if (!op.mode && (r.o.qposes || r.o.qrec)) op.mode = "reloc";
+    if (!op.mode && (r.o.qposes || r.o.qrec)) op.mode = protocol_mode_name(PROTOCOL_RELOC);
     int from_folder = 0;
     if (!r.o.poses && !r.o.rec && mt_folder_protocol(r.o.results, &op, &from_folder, &e))
         return cmd_report(&e);

@@ -250,7 +250,7 @@ static int ev_setup(struct ev_ctx *c, struct err *e)
     if (!s->map_rec || !s->method || !s->out_dir) return err_set(e, "eval: a map recording, a method and an output folder are needed");
     c->reloc = s->query_rec != NULL;
     if (c->reloc != (s->protocol.mode == PROTOCOL_RELOC))
-        return err_set(e, "eval: mode %s %s a query recording", c->reloc ? "loop" : "reloc",
+        return err_set(e, "eval: mode %s %s a query recording", protocol_mode_name(s->protocol.mode),
                        c->reloc ? "does not take" : "needs");
     if (recording_load(s->map_rec, 0, &c->map, e)) return -1;
     if (c->reloc && recording_load(s->query_rec, 0, &c->query, e)) {
