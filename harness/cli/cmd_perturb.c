@@ -214,11 +214,18 @@ out:
     return rc;
 }
 
+/* --layout's help: the layouts of the scan-format table recordings are written in. */
+static void perturb_layout_help(char *out, size_t n)
+{
+    char names[64];
+    scan_format_list(names, sizeof names, ", ", " or ", SCAN_LIST_RECORDING);
+    snprintf(out, n, "%s scan files (default: as input)", names);
+}
+
 int cmd_perturb(int argc, char **argv)
 {
-    char lhelp[128], names[64];   /* the layouts of the scan-format table recordings are written in */
-    scan_format_list(names, sizeof names, ", ", " or ", SCAN_LIST_RECORDING);
-    snprintf(lhelp, sizeof lhelp, "%s scan files (default: as input)", names);
+    char lhelp[128];
+    perturb_layout_help(lhelp, sizeof lhelp);
     struct perturb_opts o = {NULL, NULL, NULL, "query", NULL, 1, 0, 0, 0, 0, 0, 0};
     const struct opt table[] = {
         {"--in", OPT_STR, &o.in, "REC", "recording to read (folder or recording.json)"},
