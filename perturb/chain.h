@@ -97,6 +97,12 @@ const char *chain_stage_name(const struct chain *ch, size_t i);
  * equal chain.  Writes at most n bytes (NUL included) like snprintf and
  * returns the length the whole text needs. */
 size_t chain_format(const struct chain *ch, char *buf, size_t n);
+/* The chain in full, for people: every parameter of every stage in table
+ * order, defaults included, numbers with their unit
+ * ("sector:width=60deg,at=180deg,draw=recording+tilt:pitch=2deg,...");
+ * an empty list is left out.  It parses back to an equal chain.  Same
+ * return and truncation as chain_format. */
+size_t chain_format_full(const struct chain *ch, char *buf, size_t n);
 
 /* ---- apply -------------------------------------------------------------- */
 

@@ -77,7 +77,9 @@ static int is_default(const struct stage *st, size_t k)
     return rnd || st->v[k] == pi->def;
 }
 
-size_t chain_format(const struct chain *ch, char *buf, size_t n)
+/* full: every parameter with its unit (an empty list, which has no text,
+ * left out); else only those differing from their defaults, no units. */
+static size_t chain_print(const struct chain *ch, char *buf, size_t n, int full)
 {
     struct sbuf b = {buf, n, 0};
     if (n) buf[0] = 0;
@@ -86,14 +88,19 @@ size_t chain_format(const struct chain *ch, char *buf, size_t n)
         put(&b, "%s%s", i ? "+" : "", st->def->info.name);
         char sep = ':';
         for (size_t k = 0; k < st->def->info.n_params; k++) {
-            if (is_default(st, k)) continue;
-            put(&b, "%c%s=", sep, st->def->info.params[k].key);
+            const struct chain_param_info *pi = &st->def->info.params[k];
+            if (full ? pi->kind == CHAIN_LIST && list_empty(st->list) : is_default(st, k)) continue;
+            put(&b, "%c%s=", sep, pi->key);
             put_value(&b, st, k);
+            if (full && pi->kind == CHAIN_NUM && !(st->random >> k & 1)) put(&b, "%s", pi->unit);
             sep = ',';
         }
     }
     return b.len;
 }
+
+size_t chain_format(const struct chain *ch, char *buf, size_t n) { return chain_print(ch, buf, n, 0); }
+size_t chain_format_full(const struct chain *ch, char *buf, size_t n) { return chain_print(ch, buf, n, 1); }
 
 /* ---- scratch and stats -------------------------------------------------- */
 

@@ -117,6 +117,10 @@ static void cell_header(const cJSON *root, struct rdata_cell *c)
     const cJSON *cnt = cJSON_GetObjectItemCaseSensitive(root, "counts");
     c->queries = (size_t)json_num(cnt, "queries", 0);
     c->revisits = (size_t)json_num(cnt, "revisits", 0);
+    const cJSON *tm = cJSON_GetObjectItemCaseSensitive(root, "timing");
+    c->describe_s = json_num(tm, "describe_s", NAN);
+    c->described = json_num(tm, "described", NAN);
+    c->desc_bytes = json_num(m, "descriptor_bytes", NAN);
     json_str(root, "error", c->error, sizeof c->error);
 }
 

@@ -47,6 +47,8 @@ struct rdata_cell {
     char rec_map[1024], rec_query[1024];
     struct protocol proto;
     size_t queries, revisits;
+    double describe_s, described;  /* timing: seconds describing, scans described (NaN: absent) */
+    double desc_bytes;         /* method.descriptor_bytes; NaN when absent */
     int ok;                    /* status "ok" */
     char error[512];           /* status "failed": the message */
     struct rdata_metric m[RDATA_NMETRIC];

@@ -7,6 +7,7 @@
 #include <stddef.h>
 #include <string.h>
 
+#include "perturb/chain.h"
 #include "reports/rdoc.h"
 
 static const char *const kind_heading[PLOT_NKIND] = {
@@ -69,22 +70,66 @@ static void sec_overview(struct rdoc *r, const struct report_doc *d)
     }
     overview_data(r, d);
     rdoc_item(r);
-    rdoc_text(r, "Methods: ");
+    rdoc_textf(r, "%zu methods, %zu conditions; their settings in full under ", t->n_methods, t->n_conds);
+    rdoc_link(r, "Settings", "#settings");
+    rdoc_text(r, ".");
+}
+
+/* A chain with every value, defaults included; the text as given when it
+ * does not parse (a result written by another version). */
+static void chain_cell(struct rdoc *r, const char *text)
+{
+    struct chain *ch = NULL;
+    char full[2048];
+    if (!text[0]) { rdoc_text(r, "none (unperturbed)"); return; }
+    if (!chain_parse(text, &ch, NULL) && chain_format_full(ch, full, sizeof full) < sizeof full) rdoc_code(r, full);
+    else rdoc_code(r, text);
+    chain_free(ch);
+}
+
+/* Mean milliseconds per described scan over the method's finished cells,
+ * and its descriptor size (NaN when no cell says). */
+static void method_cost(const struct report_doc *d, size_t m, double *ms, double *bytes)
+{
+    double sum = 0;
+    size_t n = 0;
+    *bytes = NAN;
+    for (size_t i = 0; i < d->set->n; i++) {
+        const struct rdata_cell *c = &d->set->cells[i];
+        if (!c->ok || d->table->cell_method[i] != m) continue;
+        if (isfinite(c->desc_bytes)) *bytes = c->desc_bytes;
+        if (c->described > 0 && isfinite(c->describe_s)) { sum += 1000 * c->describe_s / c->described; n++; }
+    }
+    *ms = n ? sum / (double)n : NAN;
+}
+
+static void sec_settings(struct rdoc *r, const struct report_doc *d)
+{
+    const struct rstat_table *t = d->table;
+    rdoc_heading(r, 2, "Settings");
+    rdoc_table(r, 4, "llrr");
+    static const char *const mh[] = {"method", "plugin and settings", "ms per scan", "descriptor bytes"};
+    for (size_t k = 0; k < 4; k++) { rdoc_cell(r, 0); rdoc_text(r, mh[k]); }
     for (size_t m = 0; m < t->n_methods; m++) {
-        if (m) rdoc_text(r, "; ");
-        rdoc_text(r, t->methods[m]);
-        if (strcmp(t->methods[m], t->labels[m])) { rdoc_text(r, " = "); rdoc_code(r, t->labels[m]); }
+        double ms, bytes;
+        method_cost(d, m, &ms, &bytes);
+        rdoc_cell(r, 0); rdoc_text(r, t->methods[m]);
+        rdoc_cell(r, 0); rdoc_code(r, t->labels[m]);
+        rdoc_cell(r, 0); if (isfinite(ms)) rdoc_num(r, "%.2f", ms); else rdoc_text(r, "-");
+        rdoc_cell(r, 0); if (isfinite(bytes)) rdoc_num(r, "%.0f", bytes); else rdoc_text(r, "-");
     }
-    rdoc_text(r, ".");
-    rdoc_item(r);
-    rdoc_text(r, "Conditions: ");
+    rdoc_table(r, 3, "lll");
+    static const char *const ch[] = {"condition", "applied to", "chain, every value (defaults included)"};
+    for (size_t k = 0; k < 3; k++) { rdoc_cell(r, 0); rdoc_text(r, ch[k]); }
     for (size_t c = 0; c < t->n_conds; c++) {
-        const struct rdata_cell *cc = &s->cells[t->cond_cell[c]];
-        if (c) rdoc_text(r, "; ");
-        rdoc_text(r, report_cond_name(t, c));
-        if (cc->chain[0]) { rdoc_text(r, " = "); rdoc_code(r, cc->chain); }
+        const struct rdata_cell *cc = &d->set->cells[t->cond_cell[c]];
+        rdoc_cell(r, 0); rdoc_text(r, report_cond_name(t, c));
+        rdoc_cell(r, 0); rdoc_text(r, cc->chain[0] && cc->on[0] ? cc->on : "-");
+        rdoc_cell(r, 0); chain_cell(r, cc->chain);
     }
-    rdoc_text(r, ".");
+    rdoc_para(r, 0);
+    rdoc_text(r, "ms per scan: the mean time to describe one scan over the method's cells (scans served from "
+                 "the descriptor cache not counted); descriptor bytes: descriptor and key as 4-byte floats.");
 }
 
 /* The short name of a full method label ("At a glance" lists both). */
@@ -321,7 +366,7 @@ static void sec_repro(struct rdoc *r, const struct report_doc *d)
 
 typedef void (*section_fn)(struct rdoc *r, const struct report_doc *d);
 static const section_fn sections[] = {
-    sec_title, sec_verdicts, sec_summary, sec_overview, sec_findings, sec_tables, sec_plots, sec_skipped,
+    sec_title, sec_verdicts, sec_summary, sec_overview, sec_settings, sec_findings, sec_tables, sec_plots, sec_skipped,
     sec_failed, sec_repro,
 };
 

@@ -76,6 +76,18 @@ expect "[ -n '$ids' ] && [ $miss -eq 0 ]" "every contents link of report.html ha
 expect "grep -q '<td class=\"fail\"><strong>✗ FAIL</strong></td>' '$R/report.html' && grep -q '\.fail{background:#a34a0c}' '$R/report.html'" "a failed verdict has its colour and mark in HTML"
 expect_in "$md" "is nearest its threshold: measured" "a finding names the criterion nearest its threshold"
 expect_in "$md" "![" "report.md embeds plot images"
+expect_in "$md" '| sector (width=90) | both | `sector:width=90deg,at=random,count=1,draw=scan` |' "the settings show each chain with every value, defaults and units included"
+expect_in "$md" "| none | - | none (unperturbed) |" "the unperturbed condition says so"
+# Method cost: numpy.mean over the method's cells of 1000 * describe_s / described (result.json "timing").
+cost=$($PY - "$T/sweep" <<'EOF'
+import glob, json, sys, numpy as np
+rs = [json.load(open(p)) for p in sorted(glob.glob(sys.argv[1] + "/cells/*/result.json"))]
+rs = [r for r in rs if r["method"]["label"].startswith("ring-key")]
+ms = np.mean([1000 * r["timing"]["describe_s"] / r["timing"]["described"] for r in rs])
+print("| ring-key | \x60%s\x60 | %.2f | %d |" % (rs[0]["method"]["label"], ms, rs[0]["method"]["descriptor_bytes"]))
+EOF
+)
+expect_in "$md" "$cost" "the method table gives ms per scan (numpy.mean of the cells' timing) and descriptor bytes ($cost)"
 n=$(ls "$R"/plots/*.gp | wc -l)
 expect "[ $n -eq 14 ]" "14 plot scripts: the summary, 2 degradation, 5 PR, 2 x (top view, distances, matrix) (got $n)"
 out=$($PY "$T/images.py" "$R/plots")

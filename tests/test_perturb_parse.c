@@ -170,9 +170,47 @@ static void targets(void)
     CHECK_MSG(e.msg, "unknown chain target 'maps', expected query, map or both", "target message");
 }
 
+/* The full text names every parameter of every stage (defaults included,
+ * with units), hides nothing the short text leaves out, and parses back to
+ * the same chain. */
+static void full_text(void)
+{
+    const char *text = "sector:width=60,at=180+tilt:pitch=2+noise";
+    struct chain *ch = NULL, *back = NULL;
+    struct err e = {{0}};
+    CHECK(chain_parse(text, &ch, &e) == 0, "the chain parses");
+    if (!ch) return;
+    char full[2048], a[512], b[512];
+    size_t need = chain_format_full(ch, full, sizeof full);
+    CHECK(need == strlen(full) && need < sizeof full, "the full text fits and its length is returned");
+    for (size_t i = 0; i < chain_stage_count(ch); i++) {
+        const struct chain_stage_info *si = chain_stage_find(chain_stage_name(ch, i));
+        for (size_t k = 0; si && k < si->n_params; k++) {
+            char key[80];
+            snprintf(key, sizeof key, "%s=", si->params[k].key);
+            CHECK(strstr(full, key) != NULL, "every parameter of the stage table is in the full text");
+        }
+    }
+    CHECK(strstr(full, "sector:width=60deg,at=180deg,") != NULL, "numbers carry their units");
+    CHECK(strstr(full, "+tilt:") && strstr(full, "pitch=2deg"), "the 2 degree pitch is shown");
+    CHECK(strstr(full, "draw=") != NULL, "choice parameters are shown with their word");
+    CHECK(chain_parse(full, &back, &e) == 0, "the full text parses back");
+    if (back) {
+        chain_format(ch, a, sizeof a);
+        chain_format(back, b, sizeof b);
+        CHECK(!strcmp(a, b), "the full text is the same chain as the original");
+    }
+    char small[8];
+    CHECK(chain_format_full(ch, small, sizeof small) == need && strlen(small) == sizeof small - 1,
+          "a short buffer gets a cut, terminated text and the whole length");
+    chain_free(back);
+    chain_free(ch);
+}
+
 int main(void)
 {
     errors();
+    full_text();
     normalised();
     table();
     targets();

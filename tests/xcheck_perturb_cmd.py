@@ -75,8 +75,10 @@ def main_checks():
 
     man = json.load(open(os.path.join(o1, "recording.json")))
     pert = man.get("perturbation", {})
-    check(pert.get("chain") == "yaw+sector:width=180+dropout+range:max=45+noise:sigma=0.02",
-          "the manifest records the normalised chain")
+    # Every value, defaults included, with units: the defaults of `revisit perturb --list`.
+    check(pert.get("chain") == "yaw:deg=random,draw=scan+sector:width=180deg,at=random,count=1,draw=scan+"
+          "dropout:p=0.3,burst=0deg,draw=scan+range:min=0m,max=45m+noise:sigma=0.02m,mode=ray,outliers=0,draw=scan",
+          "the manifest records the chain in full (got %s)" % pert.get("chain"))
     check(pert.get("seed") == 7 and pert.get("on") == "query", "the manifest records seed and side")
     a = np.loadtxt(os.path.join(rec, "poses.csv"), delimiter=",", skiprows=1)
     b = np.loadtxt(os.path.join(o1, "poses.csv"), delimiter=",", skiprows=1)

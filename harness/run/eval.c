@@ -415,6 +415,7 @@ static cJSON *ev_method_json(const struct plugin *p)
     }
     static const char *const kinds[] = {"l2", "cosine", "custom"};
     cJSON_AddStringToObject(m, "distance", kinds[p->distance]);
+    cJSON_AddNumberToObject(m, "descriptor_bytes", (double)(p->dim + p->key_dim) * sizeof(float));
     return m;
 }
 
