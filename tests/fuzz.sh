@@ -8,7 +8,7 @@ FB=$1; SECS=$2
 root=$(cd "$(dirname "$0")/.." && pwd)
 cd "$root"
 LIBS="$FB/libharness.a $FB/libsynth.a $FB/libreports.a $FB/libperturb.a $FB/libmetrics.a"
-LDLIBS="$(pkg-config --libs libcjson 2>/dev/null || echo -lcjson) -lopenblas -llapacke -ldl -lpthread -lm"
+LDLIBS="$(pkg-config --libs libcjson 2>/dev/null || echo -lcjson) -lopenblas -llapacke -llzf -lbz2 -llz4 -lzstd -ldl -lpthread -lm"
 mkdir -p "$FB/fuzz"
 found=0
 for src in tests/fuzz_*.c; do

@@ -6,12 +6,15 @@
  *                            read a pose file, write it back as CSV
  *   tool_pose write IN.csv LAYOUT OUT [TIMES]
  *                            read a CSV pose file, write it in LAYOUT
+ *   tool_pose loaded REC OUT.csv
+ *                            the poses of a recording as loaded (extrinsic applied)
  */
 #include <stdio.h>
 #include <string.h>
 
 #include "harness/base/pose.h"
 #include "harness/io/poses_io.h"
+#include "harness/io/recording.h"
 
 static int q2m(void)
 {
@@ -43,6 +46,15 @@ static int m2q(void)
 int main(int argc, char **argv)
 {
     if (argc >= 2 && !strcmp(argv[1], "q2m")) return q2m();
+    if (argc == 4 && !strcmp(argv[1], "loaded")) {
+        struct recording r;
+        struct err e;
+        if (recording_load(argv[2], 0, &r, &e)) { fprintf(stderr, "%s\n", e.msg); return 2; }
+        int rc = poses_write(argv[3], POSES_CSV, r.poses, r.n, NULL, &e) ? 2 : 0;
+        if (rc) fprintf(stderr, "%s\n", e.msg);
+        recording_free(&r);
+        return rc;
+    }
     if (argc >= 2 && !strcmp(argv[1], "m2q")) return m2q();
     struct err e;
     struct poses ps;

@@ -193,3 +193,35 @@ double pose_angle(const struct pose *a, const struct pose *b)
     if (d > 1) d = 1;
     return 2 * acos(d);
 }
+
+void pose_interpolate(const struct pose *a, const struct pose *b, double t, struct pose *out)
+{
+    double span = b->t - a->t, u = span > 0 ? (t - a->t) / span : 0;
+    double qa[4], qb[4], q[4], p[3];
+    memcpy(qa, a->q, sizeof qa);
+    memcpy(qb, b->q, sizeof qb);
+    double d = qa[0] * qb[0] + qa[1] * qb[1] + qa[2] * qb[2] + qa[3] * qb[3];
+    if (d < 0) {  /* the shorter arc: q and -q are one rotation */
+        for (int k = 0; k < 4; k++) qb[k] = -qb[k];
+        d = -d;
+    }
+    double wa = 1 - u, wb = u;
+    if (d < 0.9999995) {
+        double th = acos(d > 1 ? 1 : d), s = sin(th);
+        wa = sin((1 - u) * th) / s;
+        wb = sin(u * th) / s;
+    }
+    double nq = 0;
+    for (int k = 0; k < 4; k++) {
+        q[k] = wa * qa[k] + wb * qb[k];
+        nq += q[k] * q[k];
+    }
+    nq = sqrt(nq);
+    for (int k = 0; k < 4; k++) q[k] /= nq;
+    if (q[3] < 0) for (int k = 0; k < 4; k++) q[k] = -q[k];
+    for (int k = 0; k < 3; k++) p[k] = a->p[k] + u * (b->p[k] - a->p[k]);
+    out->t = t;
+    memcpy(out->q, q, sizeof q);
+    memcpy(out->p, p, sizeof p);
+    pose_quat_to_mat(out->q, out->R);
+}

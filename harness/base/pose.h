@@ -63,4 +63,9 @@ double pose_distance(const struct pose *a, const struct pose *b, int planar);
 /* Rotation angle between the two orientations, radians in [0, pi]. */
 double pose_angle(const struct pose *a, const struct pose *b);
 
+/* The pose at time t between a and b (a->t <= t <= b->t): position linear
+ * in time, rotation by slerp along the shorter arc; out->t = t.  a->t ==
+ * b->t gives a.  out may alias a or b. */
+void pose_interpolate(const struct pose *a, const struct pose *b, double t, struct pose *out);
+
 #endif

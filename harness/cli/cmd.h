@@ -71,6 +71,8 @@ int cmd_methods(int argc, char **argv);
 
 /* revisit index DIR --poses FILE: write recording.json for a folder of scans (harness/io/recording.h). */
 int cmd_index(int argc, char **argv);
+/* revisit log FILE [--out DIR ...]: topics of a robot log, or a recording from it (harness/io/logrec.h). */
+int cmd_log(int argc, char **argv);
 /* revisit inspect REC: scan count, duration, points, path length, revisits, suspicious scans. */
 int cmd_inspect(int argc, char **argv);
 

@@ -29,10 +29,13 @@ static const char about[] =
     "written, the manifest is loaded back: scans and poses must pair up (one pose\n"
     "per scan; scan names that are times must match the pose times within 1 ms),\n"
     "the first scan must read, and the message says exactly where they do not.\n"
-    "Paths are stored relative to the manifest's folder.\n\n";
+    "Paths are stored relative to the manifest's folder.  When the poses are of\n"
+    "a vehicle body, an IMU or a camera, --extrinsic gives the sensor in that\n"
+    "frame; it is stored in the manifest and each pose P becomes P * E on load.\n\n";
 
 struct index_opts {
-    const char *dir, *poses, *times, *out, *pose_layout, *scan_layout, *pattern, *notes, *time_unit;
+    const char *dir, *poses, *times, *out, *pose_layout, *scan_layout, *pattern, *notes, *time_unit, *extrinsic;
+    struct pose ext;
     long channels;
     int allow_outside, quiet;
 };
@@ -116,7 +119,7 @@ static int index_try(const char *path, const struct recording_manifest *m, int a
     return recording_load(path, allow, r, e);
 }
 
-static int index_build(const struct index_opts *o, struct recording_manifest *m, struct recording_sensor *s,
+static int index_build(struct index_opts *o, struct recording_manifest *m, struct recording_sensor *s,
                        char paths[4][PATH_MAX], struct err *e)
 {
     char outdir[PATH_MAX], base[PATH_MAX];
@@ -146,14 +149,17 @@ static int index_build(const struct index_opts *o, struct recording_manifest *m,
     if (rc) return -1;
     s->channels = o->channels > 0 ? (int)o->channels : 1;
     if (o->notes && !(s->notes = strdup(o->notes))) return err_set(e, "out of memory");
+    if (o->extrinsic && recording_extrinsic_parse(o->extrinsic, &o->ext, e))
+        return err_wrap(e, "revisit index: --extrinsic");
     *m = (struct recording_manifest){.sensor = s, .scans_dir = paths[0], .scans_pattern = paths[3], .layout = sl,
                                      .poses_file = paths[1], .poses_layout = poses_layout_name(pl),
                                      .poses_times = o->times ? paths[2] : NULL,
-                                     .poses_time_unit = poses_unit_name(tu)};
+                                     .poses_time_unit = poses_unit_name(tu),
+                                     .extrinsic = o->extrinsic ? &o->ext : NULL};
     return 0;
 }
 
-static int index_run(const struct index_opts *o, struct err *e)
+static int index_run(struct index_opts *o, struct err *e)
 {
     if (o->channels < 0 || o->channels > 65535)
         return err_set(e, "revisit index: --channels %ld, expected 1 to 65535", o->channels);
@@ -202,6 +208,8 @@ int cmd_index(int argc, char **argv)
         {"--pattern", OPT_STR, &o.pattern, "GLOB", "scan file names in DIR (default: the most common scan extension)"},
         {"--channels", OPT_INT, &o.channels, "N", "sensor channels (default: from the ring field of the first scan)"},
         {"--notes", OPT_STR, &o.notes, "TEXT", "free text stored in the sensor description"},
+        {"--extrinsic", OPT_STR, &o.extrinsic, "X,Y,Z,QX,QY,QZ,QW|12 NUMBERS|FILE",
+         "the sensor in the poses' frame (applied to every pose on load)"},
         {"--allow-outside", OPT_FLAG, &o.allow_outside, NULL, "allow scans or poses outside the manifest's folder"},
         {"--quiet", OPT_FLAG, &o.quiet, NULL, "no summary line on stdout"},
         {0}};

@@ -11,6 +11,10 @@ static const struct cmd_row cmd_rows[] = {
     {"index", cmd_index,
          "index DIR --poses FILE [--times FILE] [--out DIR/recording.json]",
      "write recording.json for a folder of scans and a pose file"},
+    {"log", cmd_log,
+         "log FILE\n"
+         "       revisit log FILE --scans TOPIC --poses TOPIC|tf [--frames WORLD,SENSOR] --out DIR",
+     "list a robot log's topics, or make a recording from a cloud topic and a pose source"},
     {"inspect", cmd_inspect,
          "inspect REC [--json]",
      "scan count, duration, points, path length, revisits and suspicious scans of a recording"},

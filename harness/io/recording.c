@@ -420,6 +420,73 @@ static int rec_perturbation(const struct rec_ctx *x, const cJSON *root, struct r
     return 0;
 }
 
+/* "extrinsic": the sensor in the poses' frame. */
+static int rec_extrinsic(const struct rec_ctx *x, const cJSON *root, struct recording *rec, struct err *e)
+{
+    static const char *const keys[] = {"xyz_m", "quat_xyzw", NULL};
+    const cJSON *obj, *xyz, *q;
+    if (rec_get(x, root, "$", "extrinsic", cJSON_Object, 0, &obj, e)) return -1;
+    if (!obj) return 0;
+    double p[3], v[4];
+    if (rec_keys(x, obj, "$.extrinsic", keys, e) ||
+        rec_get(x, obj, "$.extrinsic", "xyz_m", cJSON_Array, 1, &xyz, e) ||
+        rec_get(x, obj, "$.extrinsic", "quat_xyzw", cJSON_Array, 1, &q, e) ||
+        rec_numbers(x, xyz, "$.extrinsic.xyz_m", 3, p, e) || rec_numbers(x, q, "$.extrinsic.quat_xyzw", 4, v, e))
+        return -1;
+    if (pose_from_quat(&rec->extrinsic, 0, p, v, e)) return err_wrap(e, "%s: $.extrinsic", x->file);
+    rec->has_extrinsic = 1;
+    return 0;
+}
+
+/* "log": where the recording came from; keys and types checked only. */
+static int rec_log(const struct rec_ctx *x, const cJSON *root, struct err *e)
+{
+    static const char *const keys[] = {"file", "kind", "bytes", "sha256", "scans_topic", "scans_frame",
+                                       "poses_topic", "poses_frames", "pose_gap_s", "scans_in_log",
+                                       "scans_dropped", "dropped_list", NULL};
+    const cJSON *obj, *v;
+    if (rec_get(x, root, "$", "log", cJSON_Object, 0, &obj, e)) return -1;
+    if (!obj) return 0;
+    return rec_keys(x, obj, "$.log", keys, e) || rec_get(x, obj, "$.log", "file", cJSON_String, 1, &v, e) ||
+           rec_get(x, obj, "$.log", "bytes", cJSON_Number, 1, &v, e) ||
+           rec_get(x, obj, "$.log", "sha256", cJSON_String, 1, &v, e) ? -1 : 0;
+}
+
+/* Pose text: 7 or 12 numbers separated by commas or white space. */
+static int rec_extrinsic_numbers(const char *text, struct pose *out, struct err *e)
+{
+    double v[13];
+    int n = 0;
+    for (const char *s = text; n < 13;) {
+        while (*s == ',' || *s == ' ' || *s == '\t' || *s == '\n' || *s == '\r') s++;
+        if (!*s) break;
+        char *end;
+        v[n] = strtod(s, &end);
+        if (end == s) return err_set(e, "'%.40s' is not a number, expected 7 numbers (x y z qx qy qz qw) or 12 "
+                                     "(a 3x4 row)", s);
+        n++;
+        s = end;
+    }
+    if (n == 7) return pose_from_quat(out, 0, v, v + 3, e);
+    if (n == 12) return pose_from_matrix(out, 0, v, e);
+    return err_set(e, "%s%d numbers, expected 7 (x y z qx qy qz qw) or 12 (a row-major 3x4 [R | p])",
+                   n > 12 ? "more than " : "", n > 12 ? 12 : n);
+}
+
+int recording_extrinsic_parse(const char *text, struct pose *out, struct err *e)
+{
+    struct stat st;
+    if (stat(text, &st) || !S_ISREG(st.st_mode)) return rec_extrinsic_numbers(text, out, e);
+    char *buf;
+    size_t len;
+    if (fileio_read(text, 1 << 16, &buf, &len, e)) return -1;
+    for (char *c = buf; *c; c++)
+        if (*c == '#') while (*c && *c != '\n') *c++ = ' ';
+    int rc = rec_extrinsic_numbers(buf, out, e);
+    free(buf);
+    return rc ? err_wrap(e, "%s", text) : 0;
+}
+
 /* Scans and poses pair up: same count, and scan names that are times match. */
 static int rec_pair(const struct rec_ctx *x, const struct recording *rec, const struct poses *ps, struct err *e)
 {
@@ -497,7 +564,8 @@ static int rec_manifest_path(const char *path, struct recording *rec, struct err
 
 static int rec_top(const struct rec_ctx *x, const cJSON *root, struct recording *rec, struct err *e)
 {
-    static const char *const keys[] = {"format", "sensor", "scans", "scan_layout", "poses", "perturbation", NULL};
+    static const char *const keys[] = {"format", "sensor", "scans", "scan_layout", "poses", "perturbation",
+                                       "extrinsic", "log", NULL};
     const cJSON *fmt, *lay;
     if (!cJSON_IsObject(root)) return rec_bad(x, "$", "not a JSON object", "an object", e);
     if (rec_keys(x, root, "$", keys, e) || rec_get(x, root, "$", "format", cJSON_String, 1, &fmt, e)) return -1;
@@ -529,6 +597,8 @@ int recording_load(const char *path, int allow_outside, struct recording *rec, s
     if (!rc) rc = rec_sensor(&x, root, &rec->sensor, e);
     if (!rc) rc = rec_scans(&x, root, rec, e);
     if (!rc) rc = rec_perturbation(&x, root, &rec->perturbation, e);
+    if (!rc) rc = rec_extrinsic(&x, root, rec, e);
+    if (!rc) rc = rec_log(&x, root, e);
     if (!rc) rc = rec_poses(&x, root, rec, &ps, e);
     if (!rc) rc = rec_pair(&x, rec, &ps, e);
     cJSON_Delete(root);
@@ -538,6 +608,11 @@ int recording_load(const char *path, int allow_outside, struct recording *rec, s
         return -1;
     }
     rec->poses = ps.v;
+    for (size_t k = 0; rec->has_extrinsic && k < rec->n; k++) {
+        double t = rec->poses[k].t;
+        pose_compose(&rec->poses[k], &rec->extrinsic, &rec->poses[k]);
+        rec->poses[k].t = t;
+    }
     return 0;
 }
 

@@ -23,7 +23,16 @@
  *               "time_unit": "s" | "ms" | "us" | "ns" | "auto"},  optional, default auto
  *     "perturbation": {"chain": "...", "seed": 7,             optional: written by
  *                      "on": "query", "source": "..."}          `revisit perturb`
+ *     "extrinsic": {"xyz_m": [x, y, z],                       optional: the sensor in
+ *                   "quat_xyzw": [qx, qy, qz, qw]},             the poses' frame
+ *     "log": {"file": "/abs/drive.bag", "kind": "bag",        optional: written by
+ *             "bytes": N, "sha256": "hex", ...}                 `revisit log`
  *   }
+ *
+ * With an extrinsic E, each pose P read from the pose file becomes P * E
+ * (the sensor's pose in the world) before anything else uses it, so
+ * distances and --planar (the world frame's horizontal plane) see sensor
+ * positions.  "log" is provenance: its keys are checked, not used.
  *
  * Relative paths resolve against the manifest's folder.  A path that leads
  * outside that folder (after following symbolic links) is refused unless
@@ -107,7 +116,14 @@ struct recording {
     int time_unit_named;                /* 1: named by poses.time_unit, 0: detected */
     struct recording_sensor sensor;
     struct recording_perturbation perturbation;
+    int has_extrinsic;                  /* poses were multiplied by extrinsic */
+    struct pose extrinsic;
 };
+
+/* An extrinsic from text: 7 numbers "x y z qx qy qz qw" or 12 (a row-major
+ * 3x4 [R | p]), separated by commas or spaces, or the name of a file holding
+ * either.  0 or -1 with e saying what was found. */
+int recording_extrinsic_parse(const char *text, struct pose *out, struct err *e);
 
 /* Sensor description: init to "unknown" (channels 0, NANs, NULLs), deep copy
  * (dst is overwritten; free it first if it held data), free (NULL-safe). */
@@ -142,6 +158,8 @@ struct recording_manifest {
     const char *poses_times;                /* or NULL */
     const char *poses_time_unit;            /* "s" | "ms" | "us" | "ns", or NULL (auto) */
     const struct recording_perturbation *perturbation;  /* or NULL */
+    const struct pose *extrinsic;           /* or NULL */
+    const char *log_json;                   /* the "log" object as JSON text, or NULL */
 };
 int recording_write_manifest(const char *path, const struct recording_manifest *m,
                              struct err *e);
@@ -153,6 +171,9 @@ struct recording_writer {
     struct recording_perturbation perturbation;  /* owned copy */
     struct pose *poses;               /* owned copy, n_poses */
     size_t n_poses;
+    int has_extrinsic;
+    struct pose extrinsic;
+    char *log_json;                   /* owned copy or NULL */
 };
 
 /* Create dir and dir/scans (mkdir -p) and remember the sensor (copied). */
@@ -164,6 +185,10 @@ int recording_writer_begin(struct recording_writer *w, const char *dir,
 int recording_writer_perturbation(struct recording_writer *w, const char *chain,
                                   uint64_t seed, const char *on, const char *src_manifest,
                                   struct err *e);
+/* Record where the recording came from (log_json: the manifest's "log"
+ * object as JSON text, copied) and the extrinsic (copied); either may be NULL. */
+int recording_writer_source(struct recording_writer *w, const char *log_json, const struct pose *extrinsic,
+                            struct err *e);
 /* Write scan i (atomic).  Thread-safe for distinct i. */
 int recording_writer_scan(const struct recording_writer *w, size_t i, const struct cloud *c,
                           struct err *e);

@@ -77,6 +77,12 @@ static cJSON *rec_w_manifest(const struct recording_manifest *m)
     if (m->poses_time_unit) cJSON_AddStringToObject(poses, "time_unit", m->poses_time_unit);
     if (m->perturbation && m->perturbation->present)
         cJSON_AddItemToObject(root, "perturbation", rec_w_perturbation(m->perturbation));
+    if (m->extrinsic) {
+        cJSON *x = cJSON_AddObjectToObject(root, "extrinsic");
+        cJSON_AddItemToObject(x, "xyz_m", rec_w_numbers(m->extrinsic->p, 3));
+        cJSON_AddItemToObject(x, "quat_xyzw", rec_w_numbers(m->extrinsic->q, 4));
+    }
+    if (m->log_json) cJSON_AddItemToObject(root, "log", cJSON_Parse(m->log_json));
     return root;
 }
 
@@ -144,6 +150,17 @@ int recording_writer_perturbation(struct recording_writer *w, const char *chain,
     return 0;
 }
 
+int recording_writer_source(struct recording_writer *w, const char *log_json, const struct pose *extrinsic,
+                            struct err *e)
+{
+    free(w->log_json);
+    w->log_json = NULL;
+    if (log_json && !(w->log_json = strdup(log_json))) return err_set(e, "out of memory");
+    w->has_extrinsic = extrinsic != NULL;
+    if (extrinsic) w->extrinsic = *extrinsic;
+    return 0;
+}
+
 void recording_writer_scan_path(const struct recording_writer *w, size_t i, char *out, size_t n)
 {
     snprintf(out, n, "%s/scans/%06zu%s", w->dir, i, scan_layout_ext(w->layout));
@@ -198,7 +215,8 @@ int recording_writer_finish(struct recording_writer *w, struct err *e)
     snprintf(pattern, sizeof pattern, "*%s", scan_layout_ext(w->layout));
     struct recording_manifest m = {
         .sensor = &w->sensor, .scans_dir = "scans", .scans_pattern = pattern, .layout = w->layout,
-        .poses_file = "poses.csv", .poses_layout = "csv", .perturbation = &w->perturbation};
+        .poses_file = "poses.csv", .poses_layout = "csv", .perturbation = &w->perturbation,
+        .extrinsic = w->has_extrinsic ? &w->extrinsic : NULL, .log_json = w->log_json};
     char path[RECORDING_PATH_MAX];
     fileio_join(path, sizeof path, w->dir, "recording.json");
     return recording_write_manifest(path, &m, e);
@@ -210,6 +228,7 @@ void recording_writer_free(struct recording_writer *w)
     recording_sensor_free(&w->sensor);
     free(w->perturbation.chain);
     free(w->perturbation.source);
+    free(w->log_json);
     free(w->poses);
     memset(w, 0, sizeof *w);
 }
