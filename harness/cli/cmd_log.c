@@ -10,7 +10,8 @@
 #include "harness/io/recording.h"
 
 static const char about[] =
-    "Read a robot log: a ROS 1 bag (format 2.0; chunks uncompressed, bz2 or lz4).\n"
+    "Read a robot log: a ROS 1 bag (format 2.0; chunks uncompressed, bz2 or lz4)\n"
+    "or an MCAP file (chunks uncompressed, lz4 or zstd; CDR or ROS 1 messages).\n"
     "Without --out, list its topics with their message types and counts.  With\n"
     "--out, make a recording folder from one sensor_msgs/PointCloud2 topic and one\n"
     "pose source: a nav_msgs/Odometry, geometry_msgs/PoseStamped or\n"

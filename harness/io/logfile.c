@@ -13,6 +13,7 @@
 #include <zstd.h>
 
 #include "harness/io/bag.h"
+#include "harness/io/mcap.h"
 
 #define LOGF_BAG_MAGIC "#ROSBAG V2.0\n"
 #define LOGF_MCAP_MAGIC "\x89MCAP0\r\n"
@@ -45,8 +46,6 @@ int logf_open(struct logf *l, const char *path, struct err *e)
     close(fd);
     if (l->size >= 13 && !memcmp(l->map, LOGF_BAG_MAGIC, 13)) l->kind = LOGF_BAG;
     else if (l->size >= 8 && !memcmp(l->map, LOGF_MCAP_MAGIC, 8)) l->kind = LOGF_MCAP;
-    if (l->kind == LOGF_MCAP)
-        return err_at(e, path, 0, "an MCAP file; this build reads ROS 1 bags only"), logf_close(l), -1;
     if (l->kind) return 0;
     logf_close(l);
     return err_at(e, path, 0, "the file starts with neither '#ROSBAG V2.0' nor the MCAP magic, expected a "
@@ -76,6 +75,7 @@ int logf_each(struct logf *l, logf_fn fn, void *ctx, struct err *e)
     logf_topics_clear(l);
     l->n_msgs = 0;
     if (l->kind == LOGF_BAG) return bag_walk(l, fn, ctx, e);
+    if (l->kind == LOGF_MCAP) return mcap_walk(l, fn, ctx, e);
     return err_at(e, l->path, 0, "unknown log kind");
 }
 

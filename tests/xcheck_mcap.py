@@ -1,0 +1,136 @@
+"""xcheck_mcap.py: recordings made by `revisit log` from MCAP files written
+by npm packages.
+
+References: @mcap/core 2.2.2 (McapWriter, chunks through its compressChunk
+hook), @foxglove/rosmsg 5.0.5 (parse, ROS 2 definitions) and
+@foxglove/rosmsg2-serialization 3.1.0 (MessageWriter: CDR), chunk
+compression by lz4js 0.2.0 (LZ4 frames) and @bokuweb/zstd-wasm 0.0.27, all
+driven by tests/node/write_mcap.js and installed into tests/node/ by
+`make deps-test`.  The drive and the expected poses (scipy Slerp,
+numpy.interp, scipy Rotation composition) are those of tests/logdrive.py,
+so the recording must hold exactly the points and poses written.  Without
+node the checks are counted as skipped, never as passed.  Run with
+/usr/bin/python3 through tests/run.sh.
+"""
+import json
+import os
+import shutil
+import struct
+import subprocess
+import sys
+import tempfile
+
+import numpy as np
+
+from checklib import check, done, skip
+from logdrive import (B_L, M_O, ODOM, SCAN_T, T0, check_recording, cloud32, cloud64, dump, events, expected_tf,
+                      kept, pose_err, read_poses, refused, run, stamp)
+
+HERE = os.path.dirname(os.path.abspath(__file__))
+NODE_DIR = os.path.join(HERE, "node")
+N_CHECKS = 33
+rng = np.random.default_rng(9)
+
+node = shutil.which("node")
+if not node or not shutil.which("npm"):
+    for _ in range(N_CHECKS):
+        skip("node and npm are not installed: the MCAP files of @mcap/core cannot be written here")
+    sys.exit(done())
+if not os.path.isdir(os.path.join(NODE_DIR, "node_modules", "@mcap", "core")):
+    check(False, "the npm writers are installed in tests/node (run 'make deps-test')")
+    sys.exit(done())
+
+
+def header(t, frame):
+    s, n = stamp(t)
+    return dict(sec=s, nsec=n, frame=frame)
+
+
+def spec(compression):
+    topics = [["/points", "cloud"], ["/points64", "cloud"], ["/odom", "odom"], ["/tf", "tf"], ["/tf_static", "tf"]]
+    msgs, clouds = [], {}
+    for parent, child, (p, r) in (("map", "odom", M_O), ("base", "lidar", B_L)):
+        msgs.append(["/tf_static", "tf", dict(header(T0, parent), child=child, p=list(p), q=list(r.as_quat()))])
+    for t, kind, k in events():
+        if kind == "o":
+            p, r = ODOM[k]
+            pose = dict(p=list(p), q=list(r.as_quat()))
+            msgs.append(["/odom", "odom", dict(header(t, "odom"), child="base", **pose)])
+            msgs.append(["/tf", "tf", dict(header(t, "odom"), child="base", **pose)])
+            continue
+        for topic, (layout, data, *vals) in (("/points", cloud32(rng, int(rng.integers(40, 90)))),
+                                             ("/points64", cloud64(rng, 7))):
+            fields = [dict(name=n, offset=o, datatype=dt, count=1) for n, o, dt in layout["fields"]]
+            m = dict(header(t, "lidar"), height=layout["height"], width=layout["width"], fields=fields,
+                     is_bigendian=False, point_step=layout["point_step"], row_step=layout["row_step"],
+                     data_hex=data.hex())
+            msgs.append([topic, "cloud", m])
+            clouds[t if topic == "/points" else ("64", t)] = tuple(vals) if topic == "/points" else vals[0]
+    return dict(compression=compression, chunk_size=8192, topics=topics, messages=msgs), clouds
+
+
+def write_mcap(d, compression):
+    s, clouds = spec(compression)
+    sp = os.path.join(d, "spec-%s.json" % compression)
+    with open(sp, "w") as f:
+        json.dump(s, f)
+    out = os.path.join(d, "drive-%s.mcap" % compression)
+    r = subprocess.run([node, os.path.join(NODE_DIR, "write_mcap.js"), sp, out], capture_output=True, text=True,
+                       env=dict(os.environ, NODE_PATH=os.path.join(NODE_DIR, "node_modules")))
+    return (out if r.returncode == 0 else None), clouds, r.stderr
+
+
+def first_chunk(raw):
+    """Byte of the first chunk record (opcode 0x06) after the magic."""
+    off = 8
+    while off + 9 <= len(raw):
+        op, n = raw[off], struct.unpack("<Q", raw[off + 1:off + 9])[0]
+        if op == 6:
+            return off
+        off += 9 + n
+    return None
+
+
+with tempfile.TemporaryDirectory() as d:
+    for comp in ("none", "lz4", "zstd"):
+        path, clouds, err = write_mcap(d, comp)
+        check(path is not None, "%s: @mcap/core writes the MCAP file (%s)" % (comp, err.strip()[-300:]))
+        if path is None:
+            continue
+        rc, out, err = run("log", path)
+        counts = {l.split()[0]: (l.split()[1], int(l.split()[2])) for l in out.splitlines()[1:]}
+        check(rc == 0 and counts.get("/points") == ("sensor_msgs/msg/PointCloud2", len(SCAN_T)) and
+              counts.get("/odom", (0, 0))[1] == len(ODOM) and counts.get("/tf_static", (0, 0))[1] == 2,
+              "%s: revisit log lists the MCAP topics with types and counts (%s)" % (comp, err.strip() or out))
+        rec = os.path.join(d, "rec-" + comp)
+        rc, _, err = run("log", path, "--scans", "/points", "--poses", "/odom", "--out", rec, "--quiet")
+        check(rc == 0, "%s: revisit log makes a recording from MCAP (%s)" % (comp, err.strip()))
+        if rc == 0:
+            check_recording(rec, clouds, path, "mcap " + comp)
+    path, clouds, _ = write_mcap(d, "zstd")
+    rec = os.path.join(d, "rec64")
+    rc, _, err = run("log", path, "--scans", "/points64", "--poses", "/odom", "--out", rec, "--channels", "2",
+                     "--quiet")
+    ok = rc == 0
+    for k, t in enumerate(sorted(t for t in SCAN_T if kept(t)) if ok else []):
+        a = dump(os.path.join(rec, "scans", "%06d.pcd" % k))
+        ok = ok and a.shape[0] == 14 and bool((a[:, :3].astype(np.float32) == clouds[("64", t)]).all())
+    check(ok, "CDR float64 x y z among extra fields, organised with row padding: exact points (%s)" % err.strip())
+    rec = os.path.join(d, "rec-tf")
+    rc, _, err = run("log", path, "--scans", "/points", "--poses", "tf", "--frames", "map,lidar", "--out", rec,
+                     "--quiet")
+    worst = max(pose_err((p, r), expected_tf(t)) for t, p, r in read_poses(os.path.join(rec, "poses.csv"))) \
+        if rc == 0 else 1
+    check(worst < 1e-9, "CDR transforms chained match scipy Rotation composition (worst %.2e; %s)" % (worst, err))
+
+    raw = open(path, "rb").read()
+    refused(d, "cut.mcap", raw[:len(raw) // 2], "record at byte")
+    c = first_chunk(raw)
+    ci = raw.index(b"zstd", c)
+    refused(d, "codec.mcap", raw[:ci] + b"zstx" + raw[ci + 4:], "chunk compression 'zstx', expected none")
+    size = struct.unpack("<Q", raw[c + 25:c + 33])[0]
+    refused(d, "size.mcap", raw[:c + 25] + struct.pack("<Q", size + 64) + raw[c + 33:], "unpacks to")
+    refused(d, "type.mcap", raw, "type sensor_msgs/msg/PointCloud2, expected nav_msgs/Odometry", "--scans",
+            "/points", "--poses", "/points64")
+
+sys.exit(done())
