@@ -130,6 +130,41 @@ out=$("$REVISIT_BIN" inspect "$R" --quiet --exclude-s 0.5)
 expect_in "$out" "revisits     30 of 60" "with 0.5 s excluded the 4.18 m neighbours are still beyond 3 m"
 out=$("$REVISIT_BIN" inspect "$R" --quiet --exclude-s 0.5 --radius 4.5)
 expect_in "$out" "revisits     59 of 60" "at 4.5 m every scan but the first has its predecessor as a revisit"
+# Pose checks: scan 21 put 214 m away 0.375 s after scan 20, and 30 s added
+# to every time from scan 40 on (intervals are 1 s: the default gap limit is
+# ten times the median, 10 s).
+expect_in "$out" "pose jumps   0" "the circle has no pose jump"
+$PY - "$R/poses.csv" "$T/jump.csv" <<'EOF2'
+import csv, sys
+rows = list(csv.DictReader(open(sys.argv[1])))
+rows[21]["t"] = repr(float(rows[20]["t"]) + 0.375)
+rows[21]["x"] = repr(float(rows[21]["x"]) + 214.0)
+for r in rows[40:]:
+    r["t"] = repr(float(r["t"]) + 30.0)
+w = csv.DictWriter(open(sys.argv[2], "w"), fieldnames=list(rows[0].keys()))
+w.writeheader()
+w.writerows(rows)
+EOF2
+mkdir -p "$T/jump"
+"$REVISIT_BIN" index "$R/scans" --poses "$T/jump.csv" --channels 16 --out "$T/jump/r.json" --allow-outside --quiet
+out=$("$REVISIT_BIN" inspect "$T/jump/r.json" --allow-outside --quiet); rc=$?
+expect "[ $rc -eq 1 ]" "inspect exits 1 when a pose jumps"
+expect_in "$out" "pose jumps   2 (faster than 70 m/s" "the jump out and back are both counted"
+expect_in "$out" "scans 20 -> 21: " "the jump names its scans"
+expect_in "$out" "in 0.375 s" "and its interval"
+expect_in "$out" "time gaps    1 (intervals longer than 10 s)" "the 31 s gap is flagged"
+expect_in "$out" "scans 39 -> 40: 31.000 s without a scan" "and named"
+out=$("$REVISIT_BIN" inspect "$T/jump/r.json" --allow-outside --quiet --max-speed 1000 --max-gap 40); rc=$?
+expect "[ $rc -eq 0 ]" "with the limits raised past them the same poses pass"
+expect_in "$out" "pose jumps   0" "no jump at 1000 m/s"
+json=$("$REVISIT_BIN" inspect "$T/jump/r.json" --allow-outside --json --quiet)
+chk=$(echo "$json" | $PY -c '
+import json, sys
+d = json.load(sys.stdin)
+j = [(s["from"], s["to"]) for s in d["pose_jumps"]["steps"]]
+g = [(s["from"], s["to"], s["dt_s"]) for s in d["time_gaps"]["steps"]]
+print("ok" if j == [(20, 21), (21, 22)] and g == [(39, 40, 31.0)] else "bad %r %r" % (j, g))')
+expect_in "$chk" "ok" "inspect --json lists the jumps and the gap"
 head -c 100 "$R/scans/000003.bin" > "$T/cut" && cp "$T/cut" "$R/scans/000003.bin"
 out=$("$REVISIT_BIN" inspect "$R" --quiet); rc=$?
 expect "[ $rc -eq 1 ]" "inspect exits 1 when a scan is unreadable"

@@ -17,6 +17,11 @@
 
 /* A scan with fewer points than this share of the median is suspicious. */
 #define INSPECT_FEW_SHARE 0.1
+/* Defaults of the pose checks: a speed no road vehicle reaches (70 m/s is
+ * 252 km/h), and an interval ten times the median one. */
+#define INSPECT_SPEED_MAX 70.0
+#define INSPECT_GAP_MEDIANS 10.0
+#define INSPECT_SHOW 20
 
 static const char about[] =
     "Read every scan of a recording (a folder holding recording.json, or the\n"
@@ -25,8 +30,12 @@ static const char about[] =
     "are revisits under the default protocol (a candidate within 3 m, the previous\n"
     "30 s excluded; counted with a k-d tree, not all pairs), points dropped for\n"
     "non-finite coordinates, and suspicious scans: unreadable, empty, all points\n"
-    "non-finite, or under a tenth of the median point count.  Exit 0 when every\n"
-    "scan reads, 1 when some scan is unreadable, 2 when the manifest is bad.\n\n";
+    "non-finite, or under a tenth of the median point count.  The poses are\n"
+    "checked too, since both faults corrupt the ground truth: jumps (two\n"
+    "consecutive poses further apart than --max-speed allows in their interval)\n"
+    "and time gaps (an interval longer than --max-gap).  Exit 0 when every scan\n"
+    "reads and the poses pass, 1 when some scan is unreadable or a pose jumps or\n"
+    "a gap is found, 2 when the manifest is bad.\n\n";
 
 struct inspect_scan {
     size_t points, dropped;
@@ -79,6 +88,8 @@ struct inspect_stats {
     double duration_s, rate_hz, path_m;
     size_t revisits;
     struct protocol proto;
+    double speed_max, gap_s;   /* the pose checks' limits (gap_s resolved from the median) */
+    size_t jumps, gaps;
 };
 
 static int inspect_cmp_size(const void *a, const void *b)
@@ -136,6 +147,84 @@ static int inspect_poses(const struct recording *rec, struct inspect_stats *st, 
     return rc;
 }
 
+static int inspect_cmp_double(const void *a, const void *b)
+{
+    double x = *(const double *)a, y = *(const double *)b;
+    return x < y ? -1 : x > y;
+}
+
+/* A jump: the step from pose k-1 to k is faster than the limit. */
+static int inspect_is_jump(const struct recording *rec, size_t k, const struct inspect_stats *st)
+{
+    double dt = rec->poses[k].t - rec->poses[k - 1].t;
+    return pose_distance(&rec->poses[k], &rec->poses[k - 1], st->proto.planar) > st->speed_max * dt;
+}
+
+/* Count jumps and gaps; a gap limit below 0 becomes INSPECT_GAP_MEDIANS
+ * times the median interval. */
+static int inspect_pose_checks(const struct recording *rec, struct inspect_stats *st, struct err *e)
+{
+    size_t n = rec->n;
+    if (n < 2) return 0;
+    if (st->gap_s < 0) {
+        double *dt = malloc((n - 1) * sizeof *dt);
+        if (!dt) return err_set(e, "out of memory");
+        for (size_t k = 1; k < n; k++) dt[k - 1] = rec->poses[k].t - rec->poses[k - 1].t;
+        qsort(dt, n - 1, sizeof *dt, inspect_cmp_double);
+        st->gap_s = INSPECT_GAP_MEDIANS * dt[(n - 1) / 2];
+        free(dt);
+    }
+    for (size_t k = 1; k < n; k++) {
+        st->jumps += inspect_is_jump(rec, k, st);
+        st->gaps += rec->poses[k].t - rec->poses[k - 1].t > st->gap_s;
+    }
+    return 0;
+}
+
+static void inspect_print_pose_checks(const struct recording *rec, const struct inspect_stats *st)
+{
+    printf("pose jumps   %zu (faster than %g m/s between consecutive poses)\n", st->jumps, st->speed_max);
+    size_t shown = 0;
+    for (size_t k = 1; k < rec->n && shown < INSPECT_SHOW; k++) {
+        if (!inspect_is_jump(rec, k, st)) continue;
+        double dt = rec->poses[k].t - rec->poses[k - 1].t;
+        double d = pose_distance(&rec->poses[k], &rec->poses[k - 1], st->proto.planar);
+        printf("  scans %zu -> %zu: %.3f m in %.3f s (%.1f m/s)\n", k - 1, k, d, dt, d / dt);
+        shown++;
+    }
+    printf("time gaps    %zu (intervals longer than %g s)\n", st->gaps, st->gap_s);
+    shown = 0;
+    for (size_t k = 1; k < rec->n && shown < INSPECT_SHOW; k++) {
+        double dt = rec->poses[k].t - rec->poses[k - 1].t;
+        if (dt <= st->gap_s) continue;
+        printf("  scans %zu -> %zu: %.3f s without a scan (t %.6f .. %.6f)\n", k - 1, k, dt, rec->poses[k - 1].t,
+               rec->poses[k].t);
+        shown++;
+    }
+}
+
+static void inspect_json_pose_checks(cJSON *o, const struct recording *rec, const struct inspect_stats *st)
+{
+    cJSON *j = cJSON_AddObjectToObject(o, "pose_jumps");
+    cJSON_AddNumberToObject(j, "speed_max_m_s", st->speed_max);
+    cJSON *ja = cJSON_AddArrayToObject(j, "steps");
+    cJSON *g = cJSON_AddObjectToObject(o, "time_gaps");
+    cJSON_AddNumberToObject(g, "gap_max_s", st->gap_s);
+    cJSON *ga = cJSON_AddArrayToObject(g, "steps");
+    for (size_t k = 1; k < rec->n; k++) {
+        double dt = rec->poses[k].t - rec->poses[k - 1].t;
+        int jump = inspect_is_jump(rec, k, st), gap = dt > st->gap_s;
+        if (!jump && !gap) continue;
+        cJSON *it = cJSON_CreateObject();
+        cJSON_AddNumberToObject(it, "from", (double)(k - 1));
+        cJSON_AddNumberToObject(it, "to", (double)k);
+        cJSON_AddNumberToObject(it, "dt_s", dt);
+        cJSON_AddNumberToObject(it, "distance_m", pose_distance(&rec->poses[k], &rec->poses[k - 1], st->proto.planar));
+        cJSON_AddItemToArray(jump ? ja : ga, jump && gap ? cJSON_Duplicate(it, 1) : it);
+        if (jump && gap) cJSON_AddItemToArray(ga, it);
+    }
+}
+
 /* Why scan k is suspicious, or NULL. */
 static const char *inspect_why(const struct inspect_scan *s, const struct inspect_stats *st)
 {
@@ -168,6 +257,10 @@ static void inspect_print_text(const struct recording *rec, const struct inspect
     if (rec->perturbation.present)
         printf("perturbed    %s (seed %llu, on %s)\n", rec->perturbation.chain,
                (unsigned long long)rec->perturbation.seed, rec->perturbation.on[0] ? rec->perturbation.on : "-");
+    if (rec->has_extrinsic)
+        printf("extrinsic    sensor at %g %g %g m, quaternion %g %g %g %g in the poses' frame (applied)\n",
+               rec->extrinsic.p[0], rec->extrinsic.p[1], rec->extrinsic.p[2], rec->extrinsic.q[0], rec->extrinsic.q[1],
+               rec->extrinsic.q[2], rec->extrinsic.q[3]);
     printf("non-finite   %zu points dropped in %zu scans\n", st->dropped_points, st->dropped_scans);
     size_t bad = st->unreadable + st->empty + st->all_nonfinite + st->few, shown = 0;
     printf("suspicious   %zu scans\n", bad);
@@ -179,6 +272,7 @@ static void inspect_print_text(const struct recording *rec, const struct inspect
         else printf("  scan %zu (%s): %s, %zu points\n", k, rec->scan_paths[k], why, sc[k].points);
     }
     if (bad > shown) printf("  ... and %zu more (--json lists them all)\n", bad - shown);
+    inspect_print_pose_checks(rec, st);
 }
 
 static int inspect_print_json(const struct recording *rec, const struct inspect_scan *sc,
@@ -220,6 +314,7 @@ static int inspect_print_json(const struct recording *rec, const struct inspect_
         if (sc[k].error) cJSON_AddStringToObject(it, "error", sc[k].error);
         cJSON_AddItemToArray(a, it);
     }
+    inspect_json_pose_checks(o, rec, st);
     char *text = cJSON_Print(o);
     cJSON_Delete(o);
     if (!text) return err_set(e, "out of memory");
@@ -232,7 +327,7 @@ struct inspect_opts {
     const char *rec;
     int json, allow_outside, quiet, planar;
     long jobs;
-    double radius, exclude_s;
+    double radius, exclude_s, speed_max, gap_s;
 };
 
 static int inspect_run(const struct inspect_opts *o, int *failed, struct err *e)
@@ -246,6 +341,12 @@ static int inspect_run(const struct inspect_opts *o, int *failed, struct err *e)
     st.proto.r_pos_m = st.proto.r_neg_m = o->radius;
     st.proto.exclusion_s = o->exclude_s;
     st.proto.planar = o->planar;
+    st.speed_max = o->speed_max;
+    st.gap_s = o->gap_s;
+    if (!(o->speed_max > 0) || !(o->gap_s > 0 || o->gap_s == -1)) {
+        recording_free(&rec);
+        return err_set(e, "revisit inspect: --max-speed and --max-gap take a number above 0");
+    }
     char msg[256];
     if (protocol_check(&st.proto, msg, sizeof msg)) {
         recording_free(&rec);
@@ -256,11 +357,12 @@ static int inspect_run(const struct inspect_opts *o, int *failed, struct err *e)
     if (!rc) rc = inspect_read_all(&rec, sc, (int)o->jobs, o->quiet, e);
     if (!rc) rc = inspect_points(sc, rec.n, &st, e);
     if (!rc) rc = inspect_poses(&rec, &st, e);
+    if (!rc) rc = inspect_pose_checks(&rec, &st, e);
     if (!rc) {
         if (o->json) rc = inspect_print_json(&rec, sc, &st, e);
         else inspect_print_text(&rec, sc, &st);
     }
-    *failed = st.unreadable > 0;
+    *failed = st.unreadable > 0 || st.jumps > 0 || st.gaps > 0;
     for (size_t k = 0; sc && k < rec.n; k++) free(sc[k].error);
     free(sc);
     recording_free(&rec);
@@ -269,12 +371,14 @@ static int inspect_run(const struct inspect_opts *o, int *failed, struct err *e)
 
 int cmd_inspect(int argc, char **argv)
 {
-    struct inspect_opts o = {NULL, 0, 0, 0, 0, 0, 3.0, 30.0};
+    struct inspect_opts o = {NULL, 0, 0, 0, 0, 0, 3.0, 30.0, INSPECT_SPEED_MAX, -1};
     const struct opt opts[] = {
         {"--json", OPT_FLAG, &o.json, NULL, "print the same facts as JSON"},
         {"--radius", OPT_DOUBLE, &o.radius, "M", "revisit radius in metres (default 3)"},
         {"--exclude-s", OPT_DOUBLE, &o.exclude_s, "S", "skip candidates from the last S seconds (default 30)"},
-        {"--planar", OPT_FLAG, &o.planar, NULL, "measure pose distances in x, y only"},
+        {"--planar", OPT_FLAG, &o.planar, NULL, "measure pose distances in the world's x, y only"},
+        {"--max-speed", OPT_DOUBLE, &o.speed_max, "M/S", "flag consecutive poses faster apart than this (default 70)"},
+        {"--max-gap", OPT_DOUBLE, &o.gap_s, "S", "flag intervals longer than this (default 10 x the median)"},
         {"--jobs", OPT_INT, &o.jobs, "N", "threads reading scans (default: online cores)"},
         {"--allow-outside", OPT_FLAG, &o.allow_outside, NULL, "allow manifest paths outside its folder"},
         {"--quiet", OPT_FLAG, &o.quiet, NULL, "no progress bar"},
