@@ -2,6 +2,8 @@
  * existing folder of scans and a pose file, after checking they pair up. */
 #include <dirent.h>
 #include <errno.h>
+#include <fnmatch.h>
+#include <math.h>
 #include <limits.h>
 #include <stdio.h>
 #include <stdlib.h>
@@ -14,6 +16,7 @@
 #include "harness/base/opt.h"
 #include "harness/io/poses_io.h"
 #include "harness/io/recording.h"
+#include "harness/io/track.h"
 
 static const char about[] =
     "Write a recording manifest for an existing folder of scans and a pose file,\n"
@@ -31,11 +34,19 @@ static const char about[] =
     "the first scan must read, and the message says exactly where they do not.\n"
     "Paths are stored relative to the manifest's folder.  When the poses are of\n"
     "a vehicle body, an IMU or a camera, --extrinsic gives the sensor in that\n"
-    "frame; it is stored in the manifest and each pose P becomes P * E on load.\n\n";
+    "frame; it is stored in the manifest and each pose P becomes P * E on load.\n"
+    "When the poses run at another rate than the scans, --pose-gap S gives each\n"
+    "scan (named for its time: seconds, or nanoseconds) the pose at its time,\n"
+    "interpolated (position linear, rotation slerp) between two poses at most S\n"
+    "apart, written to poses-at-scans.csv beside the manifest; a scan without\n"
+    "such poses is dropped and named, never extrapolated.\n\n";
 
 struct index_opts {
     const char *dir, *poses, *times, *out, *pose_layout, *scan_layout, *pattern, *notes, *time_unit, *extrinsic;
     struct pose ext;
+    double gap;              /* > 0: poses at the scan times, within this gap */
+    char **files;            /* the kept scans then, relative to the manifest */
+    size_t n_files, dropped;
     long channels;
     int allow_outside, quiet;
 };
@@ -119,6 +130,94 @@ static int index_try(const char *path, const struct recording_manifest *m, int a
     return recording_load(path, allow, r, e);
 }
 
+struct index_named {
+    char name[256];
+    double t;
+};
+
+static int index_named_cmp(const void *a, const void *b)
+{
+    double x = ((const struct index_named *)a)->t, y = ((const struct index_named *)b)->t;
+    return x < y ? -1 : x > y;
+}
+
+/* The scans matching the pattern, each named for its time, sorted. */
+static int index_named_scans(const struct index_opts *o, const char *pattern, struct index_named **out, size_t *n,
+                             struct err *e)
+{
+    DIR *d = opendir(o->dir);
+    if (!d) return err_at(e, o->dir, 0, "cannot open folder: %s", strerror(errno));
+    size_t cap = 0;
+    double big = 0;
+    *out = NULL;
+    *n = 0;
+    int rc = 0;
+    for (struct dirent *de; !rc && (de = readdir(d));) {
+        if (de->d_name[0] == '.' || fnmatch(pattern, de->d_name, 0) || strlen(de->d_name) >= 256) continue;
+        char stem[256], *end;
+        snprintf(stem, sizeof stem, "%s", de->d_name);
+        char *dot = strrchr(stem, '.');
+        if (dot && dot != stem) *dot = 0;
+        double v = strtod(stem, &end);
+        if (end == stem || *end || !isfinite(v) || v < 0) {
+            rc = err_at(e, o->dir, 0, "scan '%s' is not named for its time, expected names that are times "
+                        "(seconds, or nanoseconds) with --pose-gap", de->d_name);
+            break;
+        }
+        if (*n == cap) {
+            cap = cap ? 2 * cap : 256;
+            struct index_named *nv = realloc(*out, cap * sizeof *nv);
+            if (!nv) { rc = err_set(e, "out of memory"); break; }
+            *out = nv;
+        }
+        snprintf((*out)[*n].name, 256, "%s", de->d_name);
+        (*out)[(*n)++].t = v;
+        if (v > big) big = v;
+    }
+    closedir(d);
+    for (size_t k = 0; !rc && big > 1e15 && k < *n; k++) (*out)[k].t *= 1e-9;
+    if (!rc && !*n) rc = err_at(e, o->dir, 0, "no scan files match '%s'", pattern);
+    if (!rc) qsort(*out, *n, sizeof **out, index_named_cmp);
+    return rc;
+}
+
+/* Poses at the scan times (track.h), written beside the manifest as
+ * poses-at-scans.csv; the kept scans go to o->files. */
+static int index_resample(struct index_opts *o, const struct poses *ps, const char *scans_rel, const char *pattern,
+                          const char *out_dir, char *poses_rel, size_t n_rel, struct err *e)
+{
+    struct index_named *v = NULL;
+    size_t n = 0;
+    if (index_named_scans(o, pattern, &v, &n, e)) {
+        free(v);
+        return -1;
+    }
+    struct track t = {ps->v, ps->n, ps->n, 0};   /* borrowed: sorted, strictly increasing */
+    struct pose *kept = malloc(n * sizeof *kept);
+    o->files = calloc(n, sizeof *o->files);
+    int rc = kept && o->files ? 0 : err_set(e, "out of memory");
+    for (size_t k = 0; !rc && k < n; k++) {
+        char why[512], rel[PATH_MAX];
+        if (track_at(&t, v[k].t, o->gap, &kept[o->n_files], why, sizeof why)) {
+            if (o->dropped++ < 3)
+                fprintf(stderr, "revisit index: scan %s (t %.6f s) dropped: %s\n", v[k].name, v[k].t, why);
+            continue;
+        }
+        snprintf(rel, sizeof rel, "%s/%s", scans_rel, v[k].name);
+        if (!(o->files[o->n_files++] = strdup(rel))) rc = err_set(e, "out of memory");
+    }
+    if (!rc && !o->n_files)
+        rc = err_at(e, o->poses, 0, "none of the %zu scans has poses around its time at most %g s apart, expected "
+                    "the poses to cover the scans (see --pose-gap)", n, o->gap);
+    char path[PATH_MAX];
+    snprintf(poses_rel, n_rel, "poses-at-scans.csv");
+    fileio_join(path, sizeof path, out_dir, poses_rel);
+    if (!rc) rc = poses_write(path, POSES_CSV, kept, o->n_files, NULL, e);
+    free(kept);
+    free(v);
+    return rc;
+}
+
 static int index_build(struct index_opts *o, struct recording_manifest *m, struct recording_sensor *s,
                        char paths[4][PATH_MAX], struct err *e)
 {
@@ -145,16 +244,22 @@ static int index_build(struct index_opts *o, struct recording_manifest *m, struc
     if (poses_read(o->poses, pl, o->times, &ps, e)) return -1;
     pl = ps.layout;
     int rc = poses_apply_unit(&ps, tu, o->times ? o->times : o->poses, &tu, e);
+    if (!rc && o->gap > 0) rc = index_resample(o, &ps, paths[0], paths[3], outdir, paths[1], PATH_MAX, e);
     poses_free(&ps);
     if (rc) return -1;
+    if (o->gap > 0) {  /* poses-at-scans.csv: CSV, seconds */
+        pl = POSES_CSV;
+        tu = POSES_UNIT_S;
+    }
     s->channels = o->channels > 0 ? (int)o->channels : 1;
     if (o->notes && !(s->notes = strdup(o->notes))) return err_set(e, "out of memory");
     if (o->extrinsic && recording_extrinsic_parse(o->extrinsic, &o->ext, e))
         return err_wrap(e, "revisit index: --extrinsic");
     *m = (struct recording_manifest){.sensor = s, .scans_dir = paths[0], .scans_pattern = paths[3], .layout = sl,
                                      .poses_file = paths[1], .poses_layout = poses_layout_name(pl),
-                                     .poses_times = o->times ? paths[2] : NULL,
+                                     .poses_times = o->times && o->gap <= 0 ? paths[2] : NULL,
                                      .poses_time_unit = poses_unit_name(tu),
+                                     .files = (const char *const *)o->files, .n_files = o->n_files,
                                      .extrinsic = o->extrinsic ? &o->ext : NULL};
     return 0;
 }
@@ -187,8 +292,13 @@ static int index_run(struct index_opts *o, struct err *e)
                r.n, scan_layout_name(r.layout), paths[0], paths[3], r.n, m.poses_layout, m.poses_time_unit,
                o->time_unit ? "" : ", detected", s.channels, dur);
     }
+    if (!rc && !o->quiet && o->gap > 0)
+        printf("poses at the scan times in poses-at-scans.csv; %zu scans dropped (no poses around them at most "
+               "%g s apart)\n", o->dropped, o->gap);
     if (loaded) recording_free(&r);
     recording_sensor_free(&s);
+    for (size_t k = 0; k < o->n_files; k++) free(o->files[k]);
+    free(o->files);
     return rc;
 }
 
@@ -210,6 +320,8 @@ int cmd_index(int argc, char **argv)
         {"--notes", OPT_STR, &o.notes, "TEXT", "free text stored in the sensor description"},
         {"--extrinsic", OPT_STR, &o.extrinsic, "X,Y,Z,QX,QY,QZ,QW|12 NUMBERS|FILE",
          "the sensor in the poses' frame (applied to every pose on load)"},
+        {"--pose-gap", OPT_DOUBLE, &o.gap, "S", "poses at another rate: interpolate to the scan times (the scan "
+         "names) between poses at most S apart; other scans are dropped"},
         {"--allow-outside", OPT_FLAG, &o.allow_outside, NULL, "allow scans or poses outside the manifest's folder"},
         {"--quiet", OPT_FLAG, &o.quiet, NULL, "no summary line on stdout"},
         {0}};
