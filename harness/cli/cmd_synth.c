@@ -7,6 +7,7 @@
 #include "harness/cli/cmd.h"
 #include "harness/base/opt.h"
 #include "harness/base/pool.h"
+#include "harness/io/logwrite.h"
 #include "scenarios/synconf.h"
 #include "scenarios/synth.h"
 
@@ -21,7 +22,11 @@ static const char about[] =
     "--scans N spreads N scans evenly over the whole drive (fewer scans per\n"
     "second; the whole drive and its revisits stay, though a very small N may\n"
     "step over a short crossing); --duration S cuts the drive after S seconds.\n"
-    "The same scenario and seed give byte-identical files for any --jobs.\n\n";
+    "The same scenario and seed give byte-identical files for any --jobs.\n"
+    "--log FILE also writes the recording as a robot log, a ROS 1 bag (.bag) or\n"
+    "an MCAP file (.mcap), with the scans on /points and the poses on /odom, so\n"
+    "the demo can start from a log: revisit log FILE --scans /points --poses\n"
+    "/odom --out DIR gives the same points and poses back.\n\n";
 
 static void synth_on_sigint(int sig)
 {
@@ -43,7 +48,7 @@ static void synth_print(const struct synconf *c, const struct synth_summary *s, 
 
 int cmd_synth(int argc, char **argv)
 {
-    const char *scenario = NULL, *out = NULL, *sensor = NULL;
+    const char *scenario = NULL, *out = NULL, *sensor = NULL, *log = NULL;
     unsigned long long seed = 0;
     long scans = -1, jobs = 0;
     double duration = -1;
@@ -56,6 +61,7 @@ int cmd_synth(int argc, char **argv)
         {"--scans", OPT_INT, &scans, "N", "N scans spread over the whole drive"},
         {"--duration", OPT_DOUBLE, &duration, "S", "stop the drive after S seconds"},
         {"--sensor", OPT_STR, &sensor, "NAME|FILE", "sensor profile (spin16, spin32, spin64, spin128) or a sensor .json"},
+        {"--log", OPT_STR, &log, "FILE.bag|FILE.mcap", "also write the recording as a ROS 1 bag or an MCAP file"},
         {"--jobs", OPT_INT, &jobs, "N", "threads (default: every core)"},
         {"--quiet", OPT_FLAG, &quiet, NULL, "no progress bar"},
         {0}};
@@ -78,6 +84,10 @@ int cmd_synth(int argc, char **argv)
         return cmd_report(&e);
     }
     if (jobs < 0 || jobs > 256) { err_set(&e, "revisit synth: option '--jobs' expects 1 to 256, got %ld", jobs); return cmd_report(&e); }
+    if (log && !logw_kind_of(log)) {
+        err_set(&e, "revisit synth: --log '%s', expected a file ending in .bag or .mcap", log);
+        return cmd_report(&e);
+    }
     struct synconf c;
     if (synconf_load(scenario, sensor, &c, &e)) return cmd_report(&e);
     if (seed_given) c.seed = seed;
@@ -92,6 +102,8 @@ int cmd_synth(int argc, char **argv)
     sigaction(SIGINT, &old, NULL);
     if (rc && s.interrupted) { fprintf(stderr, "revisit: synth interrupted; %s has no recording.json\n", out); return CMD_INTERRUPTED; }
     if (rc) return cmd_report(&e);
+    if (log && logw_recording(out, log, logw_kind_of(log), &e)) return cmd_report(&e);
     synth_print(&c, &s, out);
+    if (log) printf("  wrote %s (/points, /odom)\n", log);
     return CMD_OK;
 }

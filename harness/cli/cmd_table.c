@@ -42,7 +42,7 @@ static const struct cmd_row cmd_rows[] = {
      "judge a sweep against the scenario's acceptance criteria (JUnit XML too)"},
     {"synth", cmd_synth,
          "synth --scenario NAME|FILE --out DIR [--seed S] [--scans N | --duration S]\n"
-         "                     [--sensor NAME|FILE] [--jobs N] [--quiet]",
+         "                     [--sensor NAME|FILE] [--log FILE.bag|FILE.mcap] [--jobs N] [--quiet]",
      "make a synthetic recording of an invented district with every kind of revisit"},
     {"perturb", cmd_perturb,
          "perturb --in REC --out DIR --chain CHAIN [--seed S] [--jobs N]\n"

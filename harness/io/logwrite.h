@@ -1,0 +1,32 @@
+/* logwrite.h: write a recording as a robot log, so a demo can start from a
+ * log as users' drives do.
+ *
+ * The log holds two topics: /points (sensor_msgs/PointCloud2, fields x y z
+ * intensity as float32, then ring as uint16 and time as float32 when the
+ * scans have them, frame "sensor", stamped with the scan's pose time) and
+ * /odom (nav_msgs/Odometry, frame "world", child "sensor", the scan's pose
+ * at the same stamp).  LOGF_BAG writes a ROS 1 bag 2.0 of top-level
+ * connection and message records (no chunks, no index: this module's
+ * reader and `rosbag reindex` read it); LOGF_MCAP writes an MCAP file with
+ * ros2msg schemas, CDR messages and no summary section.  Reading it back
+ * with `revisit log FILE --scans /points --poses /odom` gives the same
+ * points and poses (non-finite points are dropped on load, as in any
+ * recording).
+ *
+ *     if (logw_recording("rec", "rec.mcap", LOGF_MCAP, e)) return -1;
+ *
+ * Failure contract: 0, or -1 with e naming the scan or the file; the log is
+ * written atomically (harness/base/fileio.h), so nothing half-written is
+ * left.  Not thread-safe on one output file.
+ */
+#ifndef RV_LOGWRITE_H
+#define RV_LOGWRITE_H
+
+#include "harness/base/err.h"
+#include "harness/io/logfile.h"
+
+/* kind from the extension of path: ".bag" or ".mcap"; 0 if neither. */
+enum logf_kind logw_kind_of(const char *path);
+int logw_recording(const char *rec_path, const char *log_path, enum logf_kind kind, struct err *e);
+
+#endif
