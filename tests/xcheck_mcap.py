@@ -6,7 +6,9 @@ hook), @foxglove/rosmsg 5.0.5 (parse, ROS 2 definitions) and
 @foxglove/rosmsg2-serialization 3.1.0 (MessageWriter: CDR), chunk
 compression by lz4js 0.2.0 (LZ4 frames) and @bokuweb/zstd-wasm 0.0.27, all
 driven by tests/node/write_mcap.js and installed into tests/node/ by
-`make deps-test`.  The drive and the expected poses (scipy Slerp,
+`make deps-test`; and the other way round, the MCAP files revisit writes
+(synth --log) read by @mcap/core's McapStreamReader and decoded by
+@foxglove/rosmsg2-serialization's MessageReader (tests/node/read_mcap.js).  The drive and the expected poses (scipy Slerp,
 numpy.interp, scipy Rotation composition) are those of tests/logdrive.py,
 so the recording must hold exactly the points and poses written.  Without
 node the checks are counted as skipped, never as passed.  Run with
@@ -28,7 +30,7 @@ from logdrive import (B_L, M_O, ODOM, SCAN_T, T0, check_recording, cloud32, clou
 
 HERE = os.path.dirname(os.path.abspath(__file__))
 NODE_DIR = os.path.join(HERE, "node")
-N_CHECKS = 33
+N_CHECKS = 36
 rng = np.random.default_rng(9)
 
 node = shutil.which("node")
@@ -132,5 +134,30 @@ with tempfile.TemporaryDirectory() as d:
     refused(d, "size.mcap", raw[:c + 25] + struct.pack("<Q", size + 64) + raw[c + 33:], "unpacks to")
     refused(d, "type.mcap", raw, "type sensor_msgs/msg/PointCloud2, expected nav_msgs/Odometry", "--scans",
             "/points", "--poses", "/points64")
+
+    # An MCAP file revisit writes (synth --log) opens in @mcap/core's reader
+    # (McapStreamReader with CRC checks) and decodes with MessageReader.
+    syn = os.path.join(d, "syn")
+    r = subprocess.run([os.environ.get("REVISIT_BIN", "build/revisit"), "synth", "--scenario", "port", "--scans", "4",
+                        "--out", syn, "--log", syn + ".mcap", "--quiet"], capture_output=True, text=True)
+    rd = subprocess.run([node, os.path.join(NODE_DIR, "read_mcap.js"), syn + ".mcap"], capture_output=True, text=True,
+                        env=dict(os.environ, NODE_PATH=os.path.join(NODE_DIR, "node_modules")))
+    got = json.loads(rd.stdout) if rd.returncode == 0 and rd.stdout.strip() else {}
+    check(r.returncode == 0 and got.get("done") and got.get("topics") == {
+        "/points": ["sensor_msgs/msg/PointCloud2", 4], "/odom": ["nav_msgs/msg/Odometry", 4]},
+        "@mcap/core reads revisit's MCAP to its end with both topics (%s%s)" % (r.stderr.strip(), rd.stderr.strip()))
+    scans = sorted(os.listdir(os.path.join(syn, "scans"))) if r.returncode == 0 else []
+    ok = len(scans) == 4 and len(got.get("clouds", [])) == 4
+    for name, c in zip(scans, got.get("clouds", [])):
+        a = dump(os.path.join(syn, "scans", name))
+        ok = ok and c[0] == a.shape[0] and c[1] == 22 and np.float32(c[2]) == np.float32(a[0, 0]) and \
+            np.float32(c[4]) == np.float32(a[0, 2])
+    check(ok, "MessageReader decodes revisit's PointCloud2 messages: point counts and first points match the scans")
+    want = read_poses(os.path.join(syn, "poses.csv")) if r.returncode == 0 else []
+    ok = len(want) == len(got.get("poses", [])) == 4
+    for (t, p, q), g in zip(want, got.get("poses", [])):
+        ok = ok and abs(g[0] + g[1] * 1e-9 - t) < 1e-9 and list(g[2:5]) == list(p) and \
+            np.allclose(g[5:], q.as_quat(), atol=1e-15)
+    check(ok, "MessageReader decodes revisit's Odometry messages: the recording's poses")
 
 sys.exit(done())

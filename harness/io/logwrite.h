@@ -6,9 +6,10 @@
  * scans have them, frame "sensor", stamped with the scan's pose time) and
  * /odom (nav_msgs/Odometry, frame "world", child "sensor", the scan's pose
  * at the same stamp).  LOGF_BAG writes a ROS 1 bag 2.0 of top-level
- * connection and message records (no chunks, no index: this module's
- * reader and `rosbag reindex` read it); LOGF_MCAP writes an MCAP file with
- * ros2msg schemas, CDR messages and no summary section.  Reading it back
+ * connection and message records (no chunks, no index, no message
+ * definitions: bag.h reads it, tools that need the index do not);
+ * LOGF_MCAP writes an MCAP file with ros2msg schemas, CDR messages and no
+ * summary section (tests/xcheck_mcap.py opens it with @mcap/core).  Reading it back
  * with `revisit log FILE --scans /points --poses /odom` gives the same
  * points and poses (non-finite points are dropped on load, as in any
  * recording).
