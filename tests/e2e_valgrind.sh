@@ -16,7 +16,7 @@ fi
 VG="valgrind -q --error-exitcode=99 --suppressions=$REVISIT_ROOT/tests/valgrind.supp --leak-check=full --errors-for-leak-kinds=definite,indirect --show-leak-kinds=definite,indirect"
 core="test_cloud test_pool test_pose_algebra test_scan_formats test_recording_manifest
       test_perturb_parse test_metrics_pr test_metrics_csv test_metrics_gt test_plan_load
-      test_report_escape"
+      test_report_escape test_log_decoders"
 for t in $core; do
   prog="$REVISIT_BUILD/tests/$t"
   if [ ! -x "$prog" ]; then expect "false" "$t exists"; continue; fi
