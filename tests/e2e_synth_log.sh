@@ -5,7 +5,7 @@
 . "$(dirname "$0")/lib_e2e.sh"
 PY=${PYTHON:-/usr/bin/python3}
 for kind in bag mcap; do
-  "$REVISIT_BIN" synth --scenario port --scans 5 --out "$T/syn-$kind" --log "$T/syn.$kind" --quiet >/dev/null; rc=$?
+  "$REVISIT_BIN" synth --scenario port --duration 0.4 --out "$T/syn-$kind" --log "$T/syn.$kind" --quiet >/dev/null; rc=$?
   expect "[ $rc -eq 0 ] && [ -s '$T/syn.$kind' ]" "synth --log writes a .$kind file"
   out=$("$REVISIT_BIN" log "$T/syn.$kind")
   expect_in "$out" "/points" "the .$kind lists the scans topic"

@@ -138,23 +138,23 @@ with tempfile.TemporaryDirectory() as d:
     # An MCAP file revisit writes (synth --log) opens in @mcap/core's reader
     # (McapStreamReader with CRC checks) and decodes with MessageReader.
     syn = os.path.join(d, "syn")
-    r = subprocess.run([os.environ.get("REVISIT_BIN", "build/revisit"), "synth", "--scenario", "port", "--scans", "4",
+    r = subprocess.run([os.environ.get("REVISIT_BIN", "build/revisit"), "synth", "--scenario", "port", "--duration", "0.4",
                         "--out", syn, "--log", syn + ".mcap", "--quiet"], capture_output=True, text=True)
     rd = subprocess.run([node, os.path.join(NODE_DIR, "read_mcap.js"), syn + ".mcap"], capture_output=True, text=True,
                         env=dict(os.environ, NODE_PATH=os.path.join(NODE_DIR, "node_modules")))
     got = json.loads(rd.stdout) if rd.returncode == 0 and rd.stdout.strip() else {}
     check(r.returncode == 0 and got.get("done") and got.get("topics") == {
-        "/points": ["sensor_msgs/msg/PointCloud2", 4], "/odom": ["nav_msgs/msg/Odometry", 4]},
+        "/points": ["sensor_msgs/msg/PointCloud2", 5], "/odom": ["nav_msgs/msg/Odometry", 5]},
         "@mcap/core reads revisit's MCAP to its end with both topics (%s%s)" % (r.stderr.strip(), rd.stderr.strip()))
     scans = sorted(os.listdir(os.path.join(syn, "scans"))) if r.returncode == 0 else []
-    ok = len(scans) == 4 and len(got.get("clouds", [])) == 4
+    ok = len(scans) == 5 and len(got.get("clouds", [])) == 5
     for name, c in zip(scans, got.get("clouds", [])):
         a = dump(os.path.join(syn, "scans", name))
         ok = ok and c[0] == a.shape[0] and c[1] == 22 and np.float32(c[2]) == np.float32(a[0, 0]) and \
             np.float32(c[4]) == np.float32(a[0, 2])
     check(ok, "MessageReader decodes revisit's PointCloud2 messages: point counts and first points match the scans")
     want = read_poses(os.path.join(syn, "poses.csv")) if r.returncode == 0 else []
-    ok = len(want) == len(got.get("poses", [])) == 4
+    ok = len(want) == len(got.get("poses", [])) == 5
     for (t, p, q), g in zip(want, got.get("poses", [])):
         ok = ok and abs(g[0] + g[1] * 1e-9 - t) < 1e-9 and list(g[2:5]) == list(p) and \
             np.allclose(g[5:], q.as_quat(), atol=1e-15)
