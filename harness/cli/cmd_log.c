@@ -61,7 +61,12 @@ static int log_make(const char *file, const struct log_opts *lo, struct err *e)
     if (lo->channels < 0 || lo->channels > 65535)
         return err_set(e, "revisit log: --channels %ld, expected 1 to 65535", lo->channels);
     if (lo->layout && scan_layout_parse(lo->layout, &o.layout, e)) return err_wrap(e, "revisit log: --scan-layout");
-    if (o.layout == SCAN_AUTO) return err_set(e, "revisit log: --scan-layout auto, expected raw, pcd, ply or text");
+    const struct scan_format *f = scan_format_of(o.layout);
+    if (!f || !f->recording) {
+        char words[256];
+        scan_format_list(words, sizeof words, ", ", " or ", SCAN_LIST_RECORDING);
+        return err_set(e, "revisit log: --scan-layout %s, expected %s", lo->layout, words);
+    }
     struct pose ext;
     if (lo->extrinsic) {
         if (recording_extrinsic_parse(lo->extrinsic, &ext, e)) return err_wrap(e, "revisit log: --extrinsic");
@@ -84,7 +89,7 @@ int cmd_log(int argc, char **argv)
         {"--frames", OPT_STR, &lo.frames, "WORLD,SENSOR", "with --poses tf: the frames to chain between"},
         {"--out", OPT_STR, &lo.out, "DIR", "recording folder to create (must not exist)"},
         {"--pose-gap", OPT_DOUBLE, &lo.gap, "S", "largest time between the two poses around a scan (default 0.2)"},
-        {"--scan-layout", OPT_STR, &lo.layout, "raw|pcd|ply|text", "layout of the scan files (default pcd)"},
+        {"--scan-layout", OPT_STR, &lo.layout, "FORMAT", "format of the scan files, one recordings are written in (default pcd)"},
         {"--extrinsic", OPT_STR, &lo.extrinsic, "X,Y,Z,QX,QY,QZ,QW|12 NUMBERS|FILE",
          "the sensor in the pose frame: position + quaternion, a 3x4 row, or a file holding either"},
         {"--channels", OPT_INT, &lo.channels, "N", "sensor channels (default: from the ring field)"},

@@ -40,7 +40,7 @@ struct logrec_opts {
     const char *poses_topic;                 /* a pose topic, or LOGREC_TF */
     const char *world_frame, *sensor_frame;  /* LOGREC_TF: the chain's ends */
     double pose_gap_s;                       /* largest time between two poses */
-    enum scan_layout layout;                 /* SCAN_RAW, SCAN_PCD, SCAN_PLY, SCAN_TEXT */
+    enum scan_layout layout;                 /* a format recordings are written in */
     int channels;                            /* 0: from the ring field */
     const struct pose *extrinsic;            /* the sensor in the pose frame, or NULL */
     int quiet;                               /* no progress on stderr */
