@@ -30,6 +30,14 @@
  * default).  The sector is found from a fast polynomial arctangent and then
  * corrected exactly against the sector's boundary directions, so the bins are
  * the ones atan2 gives; `max_points` thins very dense scans by a fixed stride.
+ * The ring needs no square root: ring(r2) = floor(sqrt(sqrt(r2) / r0)) is
+ * monotone in r2 = u^2 + v^2 under rounding too, so the smallest r2 of each
+ * ring, found once per scan by bisection over the doubles, turns it into
+ * l - 1 comparisons with the same result.  The binning kernel
+ * (m2dp_bins.h) works in float on vectors of 4 or, with AVX2 (picked at
+ * create), 8 points, and hands every point whose float bin could differ
+ * from the double one to the plain double computation, so the counts are
+ * those of the scalar double loop.
  */
 #include <lapacke.h>
 #include <math.h>
@@ -39,13 +47,17 @@
 #include "harness/revisit_plugin.h"
 
 #define M2DP_PI 3.14159265358979323846
+#define M2DP_MAX_RINGS 64
+#define M2DP_COPIES 8  /* histogram copies: at least the widest kernel's lanes */
+#define M2DP_BAND 1e-6  /* ring tolerance of the float kernel, in r_max^2 (m2dp_bins.h) */
+#define M2_INLINE static inline __attribute__((always_inline))
 
 enum { SET_AZ, SET_EL, SET_RINGS, SET_SECTORS, SET_MAXPTS, SET_COUNT };
 
 static const struct rv_setting m2dp_settings[SET_COUNT] = {
     {"azimuths", RV_SET_INT, 4, 1, 64, NULL, "projection planes per elevation: azimuths i*pi/p"},
     {"elevations", RV_SET_INT, 16, 1, 64, NULL, "plane elevations j*pi/(2q)"},
-    {"rings", RV_SET_INT, 8, 1, 64, NULL, "concentric rings per plane, radii grow as k^2"},
+    {"rings", RV_SET_INT, 8, 1, M2DP_MAX_RINGS, NULL, "concentric rings per plane, radii grow as k^2"},
     {"sectors", RV_SET_INT, 16, 2, 256, NULL, "angular sectors per plane"},
     {"max_points", RV_SET_INT, 16384, 0, 10000000, NULL,
      "thin scans with more points by a fixed stride (0 keeps all)"},
@@ -56,6 +68,19 @@ struct m2dp_plane {
     double e1[3], e2[3];
 };
 
+struct m2dp;
+/* The points in the principal frame, in double (x, y, z) and rounded to
+ * float (fx, fy, fz); rmax2 the largest squared distance to the centroid. */
+struct m2dp_pts {
+    size_t used;
+    const double *x, *y, *z;
+    const float *fx, *fy, *fz;
+    double rmax2, inv_r0;  /* inv_r0 = l^2 / r_max */
+};
+/* Counts of one plane into a row of A (see m2dp_bins.h). */
+typedef void (*m2dp_bins_fn)(const struct m2dp *m, const struct m2dp_plane *pl, const struct m2dp_pts *q,
+                             const double *edge, uint32_t *hist, double *row);
+
 struct m2dp {
     int p, q, l, t;
     size_t max_points;
@@ -63,7 +88,10 @@ struct m2dp {
     double *bx, *by;            /* t+1 sector boundary directions */
     double margin;              /* see m2dp_sector */
     double sec_scale;           /* t / 2pi: radians to sectors */
+    m2dp_bins_fn bins;          /* the binning kernel this CPU runs */
 };
+
+static m2dp_bins_fn m2dp_bins_pick(void);
 
 static void m2dp_cross(const double a[3], const double b[3], double out[3])
 {
@@ -112,6 +140,7 @@ static int m2dp_new(const double *v, void **inst, uint32_t *dim, uint32_t *key_d
     m->l = (int)v[SET_RINGS];
     m->t = (int)v[SET_SECTORS];
     m->max_points = (size_t)v[SET_MAXPTS];
+    m->bins = m2dp_bins_pick();
     m->planes = calloc((size_t)(m->p * m->q), sizeof *m->planes);
     m->bx = calloc((size_t)m->t + 1, sizeof *m->bx);
     m->by = calloc((size_t)m->t + 1, sizeof *m->by);
@@ -211,6 +240,84 @@ static int m2dp_sector(const struct m2dp *m, double u, double v)
     return s;
 }
 
+/* Bin of point k on plane pl in double, as the plain loop computes it. */
+static int m2dp_bin_exact(const struct m2dp *m, const struct m2dp_plane *pl, const struct m2dp_pts *q,
+                          size_t k, const double *edge)
+{
+    const double *e1 = pl->e1, *e2 = pl->e2;
+    double u = e1[0] * q->x[k] + e1[1] * q->y[k] + e1[2] * q->z[k];
+    double v = e2[0] * q->x[k] + e2[1] * q->y[k] + e2[2] * q->z[k], r2 = u * u + v * v;
+    int ring = 0;
+    for (int j = 1; j < m->l; j++)
+        ring += r2 >= edge[j];
+    return ring * m->t + m2dp_sector(m, u, v);
+}
+
+#if defined(__x86_64__) || defined(__i386__)
+#include <immintrin.h>
+#define M2_SQRT(x) _mm_sqrt_ps(x)
+#define M2_ANY(m) _mm_movemask_ps((__m128)(m))
+#else
+#define M2_SQRT(x) m2dp_sqrt4(x)
+#define M2_ANY(m) ((m)[0] | (m)[1] | (m)[2] | (m)[3])
+typedef float m2dp_v4 __attribute__((vector_size(16)));
+static inline m2dp_v4 m2dp_sqrt4(m2dp_v4 x)
+{
+    for (int l = 0; l < 4; l++)
+        x[l] = sqrtf(x[l]);
+    return x;
+}
+#endif
+#define M2_VB 16
+#define M2_NAME(x) m2dp_##x##_base
+#define M2_TARGET static
+#define M2_KERNEL m2dp_bins_base
+#include "harness/plugins/m2dp/m2dp_bins.h"
+#undef M2_VB
+#undef M2_NAME
+#undef M2_TARGET
+#undef M2_KERNEL
+#undef M2_SQRT
+#undef M2_ANY
+
+#if defined(__x86_64__) || defined(__i386__)
+#define M2_SQRT(x) _mm256_sqrt_ps(x)
+#define M2_ANY(m) _mm256_movemask_ps((__m256)(m))
+#define M2_VB 32
+#define M2_NAME(x) m2dp_##x##_avx2
+#define M2_TARGET static __attribute__((target("avx2")))
+#define M2_KERNEL m2dp_bins_avx2
+#include "harness/plugins/m2dp/m2dp_bins.h"
+
+static m2dp_bins_fn m2dp_bins_pick(void)
+{
+    __builtin_cpu_init();
+    return __builtin_cpu_supports("avx2") ? m2dp_bins_avx2 : m2dp_bins_base;
+}
+#else
+static m2dp_bins_fn m2dp_bins_pick(void) { return m2dp_bins_base; }
+#endif
+
+/* edge[j], j = 1..l-1: the smallest double r2 >= 0 with
+ * sqrt(sqrt(r2) * inv_r0) >= j, by bisection over the ordered bit patterns
+ * of the non-negative doubles (+inf qualifies for every j). */
+static void m2dp_ring_edges(int l, double inv_r0, double *edge)
+{
+    for (int j = 1; j < l; j++) {
+        uint64_t lo = 0, hi = 0x7ff0000000000000u;  /* 0.0 fails, +inf passes */
+        while (hi - lo > 1) {
+            uint64_t mid = lo + (hi - lo) / 2;
+            double r2;
+            memcpy(&r2, &mid, sizeof r2);
+            if (sqrt(sqrt(r2) * inv_r0) >= j)
+                hi = mid;
+            else
+                lo = mid;
+        }
+        memcpy(&edge[j], &hi, sizeof hi);
+    }
+}
+
 /* Points to use: every stride-th, so that at most max_points remain. */
 static size_t m2dp_stride(const struct m2dp *m, size_t n)
 {
@@ -218,10 +325,12 @@ static size_t m2dp_stride(const struct m2dp *m, size_t n)
 }
 
 /* Fill A (p*q rows, l*t columns, row-major) with the bin counts; q is
- * scratch for 3 * ceil(n / stride) doubles (the points in the principal
- * frame, stored as three arrays).  Returns the number of points used, 0
- * when the cloud has no extent. */
-static size_t m2dp_matrix(const struct m2dp *m, const float *xyzi, size_t n, double *a, double *q)
+ * scratch for 3 * ceil(n / stride) doubles and qf for as many floats (the
+ * points in the principal frame, three arrays each), hist for
+ * M2DP_COPIES * l * t counts.  Returns the number of points used, 0 when
+ * the cloud has no extent. */
+static size_t m2dp_matrix(const struct m2dp *m, const float *xyzi, size_t n, double *a, double *q,
+                          float *qf, uint32_t *hist)
 {
     size_t stride = m2dp_stride(m, n), cnt = 0;
     int rows = m->p * m->q, cols = m->l * m->t;
@@ -242,19 +351,13 @@ static size_t m2dp_matrix(const struct m2dp *m, const float *xyzi, size_t n, dou
     }
     if (!(rmax2 > 0))
         return 0;
-    double inv_r0 = (double)m->l * m->l / sqrt(rmax2);
-    for (int pl = 0; pl < rows; pl++) {
-        const double *e1 = m->planes[pl].e1, *e2 = m->planes[pl].e2;
-        double *row = a + (size_t)pl * cols;
-        for (size_t k = 0; k < used; k++) {
-            double u = e1[0] * qx[k] + e1[1] * qy[k] + e1[2] * qz[k];
-            double v = e2[0] * qx[k] + e2[1] * qy[k] + e2[2] * qz[k];
-            int ring = (int)sqrt(sqrt(u * u + v * v) * inv_r0);
-            if (ring >= m->l)
-                ring = m->l - 1;
-            row[ring * m->t + m2dp_sector(m, u, v)] += 1;
-        }
-    }
+    for (size_t k = 0; k < 3 * used; k++)
+        qf[k] = (float)q[k];
+    double inv_r0 = (double)m->l * m->l / sqrt(rmax2), edge[M2DP_MAX_RINGS];
+    struct m2dp_pts pts = {used, qx, qy, qz, qf, qf + used, qf + 2 * used, rmax2, inv_r0};
+    m2dp_ring_edges(m->l, inv_r0, edge);
+    for (int pl = 0; pl < rows; pl++)
+        m->bins(m, &m->planes[pl], &pts, edge, hist, a + (size_t)pl * cols);
     return used;
 }
 
@@ -321,17 +424,24 @@ static int m2dp_signature(const struct m2dp *m, const float *xyzi, size_t n, dou
 {
     int rows = m->p * m->q, cols = m->l * m->t;
     double *a = malloc(sizeof *a * (size_t)rows * (size_t)cols);
-    double *q = malloc(sizeof *q * 3 * (n / m2dp_stride(m, n) + 1));
-    if (!a || !q) {
+    size_t cap = 3 * (n / m2dp_stride(m, n) + 1);
+    double *q = malloc(sizeof *q * cap);
+    float *qf = malloc(sizeof *qf * cap);
+    uint32_t *hist = malloc(sizeof *hist * M2DP_COPIES * (size_t)cols);
+    if (!a || !q || !qf || !hist) {
         free(a);
         free(q);
+        free(qf);
+        free(hist);
         return snprintf(msg, msg_len, "out of memory"), RV_ERR_NOMEM;
     }
     memset(sig, 0, sizeof *sig * (size_t)(rows + cols));
     float *clean = m2dp_finite(xyzi, &n);  /* NULL: every point is finite */
-    size_t used = m2dp_matrix(m, clean ? clean : xyzi, n, a, q);
+    size_t used = m2dp_matrix(m, clean ? clean : xyzi, n, a, q, qf, hist);
     free(clean);
     free(q);
+    free(qf);
+    free(hist);
     if (a_out)
         memcpy(a_out, a, sizeof *a * (size_t)rows * (size_t)cols);
     int rc = RV_OK;
