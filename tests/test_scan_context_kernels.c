@@ -30,13 +30,52 @@ static double rnd(void)
     return (rnd_state >> 8) / 16777216.0;
 }
 
-static struct sc *make(int R, int S)
+static struct sc *make_at(int R, int S, double max_r)
 {
-    double v[4] = {R, S, 80, 2};
+    double v[4] = {R, S, max_r, 2};
     void *inst;
     uint32_t dim, kd;
     char msg[64];
     return sc_create(v, &inst, &dim, &kd, msg, sizeof msg) == RV_OK ? inst : NULL;
+}
+
+static struct sc *make(int R, int S) { return make_at(R, S, 80); }
+
+/* Points at and one float unit around every ring edge r = k max / R (for
+ * ranges where R / max is not exact in binary): the images equal those of
+ * the division as written. */
+static void ring_edges(void)
+{
+    static const double ranges[] = {70, 75, 80, 123.4};
+    enum { R = 200, S = 30, N = 3 * R * 7 + 2 * R };
+    static float pts[4 * N], a[R * S], b[R * S];
+    int bad = 0;
+    for (size_t t = 0; t < sizeof ranges / sizeof *ranges; t++) {
+        struct sc *s = make_at(R, S, ranges[t]);
+        size_t n = 0;
+        for (int k = 1; k <= R; k++)
+            for (int j = 0; j < 7; j++) {
+                double az = -M_PI + 2 * M_PI * (j + 0.5) / 7, r = ranges[t] * k / R;
+                float x = (float)(r * cos(az)), y = (float)(r * sin(az));
+                for (int d = -1; d <= 1; d++) {
+                    float xs = d ? nextafterf(x, d * INFINITY) : x;
+                    pts[4 * n] = xs, pts[4 * n + 1] = y, pts[4 * n + 2] = (float)(n % 11), pts[4 * n + 3] = 0;
+                    n++;
+                }
+            }
+        for (int k = 1; k <= R; k++)  /* on the x axis: r is the float (-x: y = -0, as atan2 has it) */
+            for (int side = -1; side <= 1; side += 2) {
+                pts[4 * n] = (float)(side * ranges[t] * k / R), pts[4 * n + 1] = side < 0 ? -0.0f : 0.0f;
+                pts[4 * n + 2] = (float)k, pts[4 * n + 3] = 0;
+                n++;
+            }
+        float ka[R], kb[R];
+        sc_image(s, pts, n, a, ka);
+        scref_image(R, S, ranges[t], 2, pts, n, b, kb);
+        bad += memcmp(a, b, sizeof a) != 0;
+        free(s);
+    }
+    CHECK(bad == 0, "points at and beside every ring edge: the rings of the division as written");
 }
 
 /* Compare the kernels on one pair; returns 1 when all agree.  The shift
@@ -274,6 +313,7 @@ static void boundaries(void)
 int main(void)
 {
     random_pairs();
+    ring_edges();
     real_scans();
     boundaries();
     return check_done();

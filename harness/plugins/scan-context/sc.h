@@ -20,8 +20,10 @@
 
 #define SC_MAX_RINGS 200
 #define SC_MAX_SECTORS 720
-/* Fine azimuth bins of the sector finder per sector (see sc_sector.c). */
-#define SC_FINE_PER_SECTOR 8
+/* Fine azimuth bins of the sector finder per sector (see sc_image.c); a
+ * table entry is a sector, with SC_FINE_TEST set near a boundary. */
+#define SC_FINE_PER_SECTOR 64
+#define SC_FINE_TEST 0x8000u
 
 typedef double (*sc_pair_fn)(int rings, int sectors, const float *a, const float *b, int32_t *aux);
 
@@ -34,6 +36,7 @@ struct sc {
     double bx[SC_MAX_SECTORS + 1], by[SC_MAX_SECTORS + 1];
     uint16_t fine[SC_FINE_PER_SECTOR * SC_MAX_SECTORS];
     double fine_scale;  /* fine bins per pseudo-angle unit */
+    double ring_scale;  /* rings / max_range_m */
     sc_pair_fn pair;    /* the distance kernel this CPU runs */
 };
 

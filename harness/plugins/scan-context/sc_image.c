@@ -21,9 +21,15 @@
  *
  * Speed: a pseudo-angle, (-y) / (|x| + |y|) unfolded over the four
  * quadrants into [0, 4) and monotone in the azimuth, picks one of
- * SC_FINE_PER_SECTOR * S fine bins; a table gives the sector of the bin's
- * middle, and the true sector is that one or a neighbour (a fine bin spans
- * at most 1/S rad, a sector 2 pi / S), settled by the two boundary tests.
+ * SC_FINE_PER_SECTOR * S fine bins (rounding may move a point to the next
+ * fine bin, no further); a table gives the sector of the bin's middle.
+ * When the middles of the two bins on either side are in that sector too,
+ * so is every point the bin can receive; otherwise (SC_FINE_TEST, the bins
+ * around a boundary) the true sector is the table's or a neighbour (a fine
+ * bin spans at most 1 / (8 S) rad, a sector 2 pi / S), settled by the two
+ * boundary tests.  The ring, floor(r / max_range * rings), comes from one
+ * multiplication unless that lands within 1e-9 of a whole number; then
+ * from the division, as written.
  */
 #include <math.h>
 
@@ -73,10 +79,16 @@ void sc_sector_init(struct sc *s)
         s->by[k] = n;
     }
     s->fine_scale = F / 4.0;
+    s->ring_scale = s->rings / s->max_range_m;
     for (int f = 0; f < F; f++) {  /* the direction at the middle of fine bin f */
         double p = (f + 0.5) / s->fine_scale, t = p <= 2 ? (p <= 1 ? p : 2 - p) : (p <= 3 ? 2 - p : p - 4);
         double u = p <= 1 || p > 3 ? 1 - fabs(t) : -(1 - fabs(t));
         s->fine[f] = (uint16_t)sc_sector_walk(s, (float)-u, (float)-t);
+    }
+    for (int f = 0; f < F; f++) {  /* the fine bins around the boundaries */
+        int same = 1;
+        for (int d = -2; d <= 2; d++) same &= (s->fine[(f + d + F) % F] & ~SC_FINE_TEST) == (s->fine[f] & ~SC_FINE_TEST);
+        if (!same) s->fine[f] |= SC_FINE_TEST;
     }
 }
 
@@ -86,6 +98,8 @@ static inline int sc_sector(const struct sc *s, float x, float y)
     if (x == 0 && y == 0) return S / 2;
     int f = (int)(sc_pseudo(x, y) * s->fine_scale);
     int k = s->fine[f < F ? f : F - 1];
+    if (!(k & SC_FINE_TEST)) return k;
+    k &= ~SC_FINE_TEST;
     int lo = !sc_after(s, k, x, y), hi = !lo && sc_after(s, k + 1, x, y);
     k += hi - lo;
     return k < 0 ? k + S : k >= S ? k - S : k;
@@ -101,7 +115,9 @@ void sc_image(const struct sc *s, const float *xyzi, size_t n, float *desc, floa
         const float *p = xyzi + 4 * k;
         double r = sqrt((double)p[0] * p[0] + (double)p[1] * p[1]);
         if (!(r < s->max_range_m)) continue;
-        int ring = (int)(r / s->max_range_m * s->rings);
+        double y = r * s->ring_scale;
+        int ring = (int)y;
+        if (y - ring < 1e-9 || y - ring > 1 - 1e-9) ring = (int)(r / s->max_range_m * s->rings);
         if (ring >= s->rings) ring = s->rings - 1;
         float h = (float)(p[2] + s->lift_m);
         float *cell = &desc[(size_t)sc_sector(s, p[0], p[1]) * s->rings + ring];
