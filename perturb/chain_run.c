@@ -7,39 +7,24 @@
 #include <stdlib.h>
 #include <string.h>
 
+#include "harness/base/textbuf.h"
 #include "perturb/stage.h"
 
 /* ---- normalised text ---------------------------------------------------- */
 
-struct sbuf {
-    char *buf;
-    size_t n, len;
-};
-
-static void put(struct sbuf *b, const char *fmt, ...) __attribute__((format(printf, 2, 3)));
-static void put(struct sbuf *b, const char *fmt, ...)
-{
-    va_list ap;
-    va_start(ap, fmt);
-    size_t room = b->len < b->n ? b->n - b->len : 0;
-    int k = vsnprintf(room ? b->buf + b->len : NULL, room, fmt, ap);
-    va_end(ap);
-    if (k > 0) b->len += (size_t)k;
-}
-
 /* Shortest %g form that reads back as the same double. */
-static void put_number(struct sbuf *b, double v)
+static void put_number(struct textbuf *b, double v)
 {
     char tmp[40];
     if (v == floor(v) && fabs(v) < 1e15) {
-        put(b, "%.0f", v == 0 ? 0.0 : v);   /* whole numbers without an exponent, no -0 */
+        textbuf_put(b, "%.0f", v == 0 ? 0.0 : v);   /* whole numbers without an exponent, no -0 */
         return;
     }
     for (int prec = 1; prec <= 17; prec++) {
         snprintf(tmp, sizeof tmp, "%.*g", prec, v);
         if (strtod(tmp, NULL) == v) break;
     }
-    put(b, "%s", tmp);
+    textbuf_put(b, "%s", tmp);
 }
 
 static int list_empty(const uint64_t *l)
@@ -47,22 +32,22 @@ static int list_empty(const uint64_t *l)
     return !(l[0] | l[1] | l[2] | l[3]);
 }
 
-static void put_value(struct sbuf *b, const struct stage *st, size_t k)
+static void put_value(struct textbuf *b, const struct stage *st, size_t k)
 {
     const struct chain_param_info *pi = &st->def->info.params[k];
     if (pi->kind == CHAIN_LIST) {
         const char *sep = "";
         for (int v = 0; v < 256; v++)
             if (st->list[v / 64] >> (v % 64) & 1) {
-                put(b, "%s%d", sep, v);
+                textbuf_put(b, "%s%d", sep, v);
                 sep = "/";
             }
     } else if (pi->kind == CHAIN_CHOICE) {
         const char *c = pi->choices;
         for (int idx = 0; idx < (int)st->v[k] && strchr(c, '|'); idx++) c = strchr(c, '|') + 1;
-        put(b, "%.*s", (int)strcspn(c, "|"), c);
+        textbuf_put(b, "%.*s", (int)strcspn(c, "|"), c);
     } else if (st->random >> k & 1) {
-        put(b, "random");
+        textbuf_put(b, "random");
     } else {
         put_number(b, st->v[k]);
     }
@@ -81,18 +66,17 @@ static int is_default(const struct stage *st, size_t k)
  * left out); else only those differing from their defaults, no units. */
 static size_t chain_print(const struct chain *ch, char *buf, size_t n, int full)
 {
-    struct sbuf b = {buf, n, 0};
-    if (n) buf[0] = 0;
+    struct textbuf b = textbuf_init(buf, n);
     for (size_t i = 0; i < ch->n; i++) {
         const struct stage *st = &ch->st[i];
-        put(&b, "%s%s", i ? "+" : "", st->def->info.name);
+        textbuf_put(&b, "%s%s", i ? "+" : "", st->def->info.name);
         char sep = ':';
         for (size_t k = 0; k < st->def->info.n_params; k++) {
             const struct chain_param_info *pi = &st->def->info.params[k];
             if (full ? pi->kind == CHAIN_LIST && list_empty(st->list) : is_default(st, k)) continue;
-            put(&b, "%c%s=", sep, pi->key);
+            textbuf_put(&b, "%c%s=", sep, pi->key);
             put_value(&b, st, k);
-            if (full && pi->kind == CHAIN_NUM && !(st->random >> k & 1)) put(&b, "%s", pi->unit);
+            if (full && pi->kind == CHAIN_NUM && !(st->random >> k & 1)) textbuf_put(&b, "%s", pi->unit);
             sep = ',';
         }
     }

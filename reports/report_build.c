@@ -357,11 +357,15 @@ static void sec_repro(struct rdoc *r, const struct report_doc *d)
         rdoc_textf(r, "Bootstrap: %.0f resamples, seed %.0f (scenario.json).", s->boot_resamples, s->boot_seed);
     }
     rdoc_item(r);
-    rdoc_text(r, "Commands (the results, then this report):");
+    rdoc_text(r, "Commands (each cell's, then this report's):");
     rdoc_pre(r);
-    n = report_distinct(s, offsetof(struct rdata_cell, command), v, REPORT_LIST_MAX - 1);
-    v[n++] = d->opts->command ? d->opts->command : "revisit report";
-    for (size_t k = 0; k < n; k++) rdoc_line(r, v[k]);
+    for (size_t i = 0; i < s->n; i++) {  /* every distinct one, however many cells */
+        const char *c = s->cells[i].command;
+        size_t k = 0;
+        while (k < i && strcmp(s->cells[k].command, c)) k++;
+        if (c[0] && k == i) rdoc_line(r, c);
+    }
+    rdoc_line(r, d->opts->command ? d->opts->command : "revisit report");
 }
 
 typedef void (*section_fn)(struct rdoc *r, const struct report_doc *d);

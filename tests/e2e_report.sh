@@ -117,6 +117,12 @@ expect_in "$(head -n 1 "$R/scalars.csv")" "method,condition,chain,axis,axis_valu
 (cd "$R/plots" && gnuplot pr-0.gp) >/dev/null 2>&1
 expect "[ \$? -eq 0 ] && [ -s $R/plots/pr-0.png ]" "a written script redraws its plot when run by hand"
 
+# --- every cell's command, however many cells --------------------------------------
+$PY "$FIX" "$T/many" --seeds 4
+"$REVISIT_BIN" report "$T/many" --format md --quiet
+ncmd=$(grep -c '^revisit eval ' "$T/many/report/report.md")
+expect "[ $ncmd -eq 40 ]" "the reproducibility block lists the command of each of the 40 cells (got $ncmd)"
+
 # --- hostile method names ----------------------------------------------------
 $PY "$FIX" "$T/evil" --method "$EVIL_GP" --method "$EVIL_HTML" --conditions 1
 (cd "$T" && "$REVISIT_BIN" report evil --out "$T/evil-out" --quiet); rc=$?

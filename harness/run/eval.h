@@ -62,6 +62,12 @@ struct eval_summary {
 };
 
 void eval_spec_defaults(struct eval_spec *s);
+/* The `revisit eval` command line that runs what s describes (every option
+ * that changes the results; --jobs and --quiet left out), each word quoted
+ * for a POSIX shell; out_dir in place of s->out_dir when not NULL.  Writes
+ * at most n bytes (NUL included) like snprintf and returns the length the
+ * whole line needs. */
+size_t eval_spec_command(const struct eval_spec *s, const char *out_dir, char *out, size_t n);
 int eval_run(const struct eval_spec *s, struct eval_summary *out, struct err *e);
 
 #endif

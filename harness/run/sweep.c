@@ -201,6 +201,8 @@ static int sw_cell(void *arg, size_t task, int worker, struct err *e)
     struct err ce;
     ce.msg[0] = 0;
     sweep_cell_spec(c->p, k, c->o, part, c->cache, &s);
+    char command[8192];  /* the cell as one `revisit eval`, for its result.json */
+    if (eval_spec_command(&s, done, command, sizeof command) < sizeof command) s.command = command;
     int rc = c->o->run(&s, &sum, &ce);
     if (rc && pool_stop_requested()) {           /* hard stop: the cell did not finish */
         c->state[task] = SW_LEFT;
