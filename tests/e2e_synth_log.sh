@@ -31,6 +31,16 @@ EOF2
 )
   expect_in "$chk" "ok" ".$kind round trip: the same poses"
 done
+# the scans written LZF-compressed: the same points as the synthetic PCD files
+"$REVISIT_BIN" log "$T/syn.mcap" --scans /points --poses /odom --scan-layout pcd-compressed --out "$T/back-z" --quiet
+rc=$?
+same=1
+for f in "$T/syn-mcap"/scans/*.pcd; do
+  g="$T/back-z/scans/$(basename "$f")"
+  grep -aq "^DATA binary_compressed" "$g" || same=0
+  [ "$("$REVISIT_BUILD/tests/tool_scan" dump "$f")" = "$("$REVISIT_BUILD/tests/tool_scan" dump "$g")" ] || same=0
+done
+expect "[ $rc -eq 0 ] && [ $same -eq 1 ]" "--scan-layout pcd-compressed writes binary_compressed scans with the same points"
 err=$("$REVISIT_BIN" synth --scenario port --scans 2 --out "$T/x" --log "$T/x.zip" --quiet 2>&1); rc=$?
 expect "[ $rc -eq 2 ] && [ ! -e '$T/x' ]" "an unknown log extension is refused before anything is written"
 expect_in "$err" "expected a file ending in .bag or .mcap" "and the message says which"

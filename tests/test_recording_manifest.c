@@ -288,7 +288,7 @@ static void test_writer(void)
     CHECK_MSG(e.msg, "000002.pcd: a scan beyond the 2 poses", "the message names the stale scan");
     recording_writer_free(&w);
     CHECK(recording_writer_begin(&w, "out/r2", &s, SCAN_TEXT, &e) == -1, "a text-layout writer is refused");
-    CHECK_MSG(e.msg, "raw, pcd or ply", "the message lists the writable layouts");
+    CHECK_MSG(e.msg, "raw, pcd, ply or pcd-compressed", "the message lists the writable layouts");
     recording_writer_free(&w);
     cloud_free(&c);
 }

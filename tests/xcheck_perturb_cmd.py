@@ -131,7 +131,7 @@ def error_checks(rec):
           "writing over the input is refused")
     check(os.path.exists(os.path.join(rec, "recording.json")), "the input manifest survives")
     p = rv("--in", rec, "--out", os.path.join(T, "e4"), "--chain", "yaw", "--layout", "text")
-    check(p.returncode == 2 and "expects raw, pcd or ply, got 'text'" in p.stderr, "--layout text refused")
+    check(p.returncode == 2 and "expects raw, pcd, ply or pcd-compressed, got 'text'" in p.stderr, "--layout text refused")
     p = rv("--in", rec, "--out", os.path.join(T, "e5"), "--chain", "yaw", "--on", "maps")
     check(p.returncode == 2 and "unknown chain target 'maps', expected query, map or both" in p.stderr,
           "--on names the choices")

@@ -46,7 +46,7 @@ static const struct cmd_row cmd_rows[] = {
      "make a synthetic recording of an invented district with every kind of revisit"},
     {"perturb", cmd_perturb,
          "perturb --in REC --out DIR --chain CHAIN [--seed S] [--jobs N]\n"
-         "                       [--on query|map|both] [--layout raw|pcd|ply] [--stats] [--quiet]\n"
+         "                       [--on query|map|both] [--layout raw|pcd|ply|pcd-compressed] [--stats] [--quiet]\n"
          "       revisit perturb --list",
      "write a perturbed copy of a recording (seeded chain of stages); --list the stages"},
     {"report", cmd_report_main,

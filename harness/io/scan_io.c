@@ -29,6 +29,9 @@ static const struct scan_format scan_formats[] = {
     {SCAN_PCD, "pcd", {".pcd"}, pcd_read, pcd_write_binary, 1, "x y z intensity, ring and time when present"},
     {SCAN_PLY, "ply", {".ply"}, ply_read, ply_write_binary, 1, "x y z intensity, ring and time when present"},
     {SCAN_TEXT, "text", {".txt", ".xyz", ".csv"}, scan_read_text, scan_write_text, 0, "x y z [intensity] as text"},
+    /* the same files as pcd (its reader reads every DATA kind), written LZF-compressed */
+    {SCAN_PCD_COMPRESSED, "pcd-compressed", {".pcd"}, pcd_read, pcd_write_compressed, 1,
+     "x y z intensity, ring and time when present, LZF-compressed"},
 };
 #define SCAN_N_FORMATS (sizeof scan_formats / sizeof scan_formats[0])
 
@@ -51,7 +54,11 @@ static size_t scan_entries(int what, const char *v[], size_t most)
     for (size_t k = 0; k < SCAN_N_FORMATS; k++) {
         const struct scan_format *f = &scan_formats[k];
         if (what == SCAN_LIST_EXTS)
-            for (int x = 0; x < SCAN_FORMAT_EXTS && f->exts[x] && n < most; x++) v[n++] = f->exts[x];
+            for (int x = 0; x < SCAN_FORMAT_EXTS && f->exts[x] && n < most; x++) {
+                int seen = 0;  /* an extension two rows share is listed once */
+                for (size_t j = 0; j < n && !seen; j++) seen = !strcmp(v[j], f->exts[x]);
+                if (!seen) v[n++] = f->exts[x];
+            }
         else if ((what == SCAN_LIST_NAMES || f->recording) && n < most)
             v[n++] = f->name;
     }

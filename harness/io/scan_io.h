@@ -36,7 +36,8 @@ enum scan_layout {
     SCAN_RAW,
     SCAN_PCD,
     SCAN_PLY,
-    SCAN_TEXT
+    SCAN_TEXT,
+    SCAN_PCD_COMPRESSED   /* PCD written as DATA binary_compressed; read as any .pcd */
 };
 
 /* One row of the scan-format table (scan_io.c), the one place a format is
