@@ -30,7 +30,7 @@ from logdrive import (B_L, M_O, ODOM, SCAN_T, T0, check_recording, cloud32, clou
 
 HERE = os.path.dirname(os.path.abspath(__file__))
 NODE_DIR = os.path.join(HERE, "node")
-N_CHECKS = 36
+N_CHECKS = 37
 rng = np.random.default_rng(9)
 
 node = shutil.which("node")
@@ -132,6 +132,12 @@ with tempfile.TemporaryDirectory() as d:
     refused(d, "codec.mcap", raw[:ci] + b"zstx" + raw[ci + 4:], "chunk compression 'zstx', expected none")
     size = struct.unpack("<Q", raw[c + 25:c + 33])[0]
     refused(d, "size.mcap", raw[:c + 25] + struct.pack("<Q", size + 64) + raw[c + 33:], "unpacks to")
+    # one flipped byte inside an uncompressed chunk's records: its CRC-32 (written by @mcap/core) must catch it
+    plain = open(os.path.join(d, "drive-none.mcap"), "rb").read()
+    c0 = first_chunk(plain)
+    cl = struct.unpack("<I", plain[c0 + 9 + 28:c0 + 9 + 32])[0]
+    at = c0 + 9 + 32 + cl + 8 + 200
+    refused(d, "crc.mcap", plain[:at] + bytes([plain[at] ^ 0x40]) + plain[at + 1:], "CRC-32")
     refused(d, "type.mcap", raw, "type sensor_msgs/msg/PointCloud2, expected nav_msgs/Odometry", "--scans",
             "/points", "--poses", "/points64")
 

@@ -18,7 +18,8 @@
  * channels must agree with the first ones.  A channel's message encoding
  * "cdr" reads as CDR, "ros1" as ROS 1; its type is its schema's name.
  *
- * Every length is checked against the record or chunk that holds it.
+ * Every length is checked against the record or chunk that holds it, and a
+ * chunk's CRC-32 of its unpacked records when it states one (not 0).
  * Failure contract as in logfile.h.
  */
 #ifndef RV_MCAP_H
