@@ -31,6 +31,13 @@ EOF2
 )
   expect_in "$chk" "ok" ".$kind round trip: the same poses"
 done
+# a recording from a log is used like any other: inspect, eval, report
+"$REVISIT_BIN" inspect "$T/back-mcap" --quiet >/dev/null; rc=$?
+expect "[ $rc -eq 0 ]" "inspect passes the recording made from the MCAP log"
+"$REVISIT_BIN" eval --map "$T/back-mcap" --method scan-context --out "$T/ev" --quiet >/dev/null 2>&1; rc=$?
+expect "[ $rc -eq 0 ] && [ -s '$T/ev/result.json' ]" "eval runs on the recording made from the log"
+"$REVISIT_BIN" report "$T/ev" --quiet >/dev/null 2>&1; rc=$?
+expect "[ $rc -eq 0 ]" "report renders that evaluation"
 # the scans written LZF-compressed: the same points as the synthetic PCD files
 "$REVISIT_BIN" log "$T/syn.mcap" --scans /points --poses /odom --scan-layout pcd-compressed --out "$T/back-z" --quiet
 rc=$?
