@@ -128,6 +128,49 @@ int fileio_read(const char *path, size_t max_bytes, char **buf, size_t *len, str
     return 0;
 }
 
+uint64_t fileio_hash_bytes(uint64_t h, const void *data, size_t len)
+{
+    const unsigned char *p = data;
+    const uint64_t prime = 0x100000001b3ull;
+    size_t k = 0;
+    for (; k + 8 <= len; k += 8) {
+        uint64_t w;
+        memcpy(&w, p + k, 8);
+        h = (h ^ w) * prime;
+        h ^= h >> 29;
+    }
+    for (; k < len; k++) h = (h ^ p[k]) * prime;
+    return h;
+}
+
+int fileio_hash_file(const char *path, uint64_t *h, struct err *e)
+{
+    int fd;
+    size_t size;
+    if (fileio_open_regular(path, "a file to hash", &fd, &size, e)) return -1;
+    enum { BLOCK = 1 << 20 };
+    unsigned char *b = malloc(BLOCK);
+    if (!b) { close(fd); return err_at(e, path, 0, "out of memory"); }
+    uint64_t v = fileio_hash_bytes(FILEIO_HASH_SEED, &size, sizeof size);
+    size_t got = 0, fill = 0;
+    int rc = 0;
+    for (;;) {
+        ssize_t r = read(fd, b + fill, BLOCK - fill);
+        if (r < 0 && errno == EINTR) continue;
+        if (r < 0) { rc = err_at(e, path, 0, "read failed: %s", strerror(errno)); break; }
+        fill += (size_t)r;
+        got += (size_t)r;
+        /* whole blocks only (a multiple of 8), so words line up however read() splits */
+        if (fill == BLOCK || r == 0) { v = fileio_hash_bytes(v, b, fill); fill = 0; }
+        if (r == 0) break;
+    }
+    free(b);
+    close(fd);
+    if (!rc && got != size) rc = err_at(e, path, 0, "changed while read (%zu of %zu bytes)", got, size);
+    if (!rc) *h = v;
+    return rc;
+}
+
 int fileio_mkdirs(const char *path, struct err *e)
 {
     char tmp[4096];

@@ -19,6 +19,7 @@
 
 #include <stdio.h>
 #include <stddef.h>
+#include <stdint.h>
 #include "harness/base/err.h"
 
 struct afile {
@@ -48,6 +49,15 @@ int fileio_open_regular(const char *path, const char *what, int *fd, size_t *siz
  * Only regular files are read (fileio_open_regular).
  * Refuses files larger than max_bytes with a clear message. 0 or -1. */
 int fileio_read(const char *path, size_t max_bytes, char **buf, size_t *len, struct err *e);
+
+/* A 64-bit content hash of len bytes (FNV-1a over 8-byte words, then the
+ * tail bytes), continuing from h (start with FILEIO_HASH_SEED). Not
+ * cryptographic: it tells a changed file from an unchanged one. */
+#define FILEIO_HASH_SEED 0xcbf29ce484222325ull
+uint64_t fileio_hash_bytes(uint64_t h, const void *data, size_t len);
+
+/* fileio_hash_bytes over a whole regular file, read in blocks. 0 or -1. */
+int fileio_hash_file(const char *path, uint64_t *h, struct err *e);
 
 /* mkdir -p. 0 or -1. */
 int fileio_mkdirs(const char *path, struct err *e);

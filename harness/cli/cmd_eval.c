@@ -82,7 +82,10 @@ static void eval_print(const struct eval_spec *s, const struct eval_summary *m)
            m->r100p, m->ep, m->ap, m->recall1);
     printf("time       describe %.2f s (%zu scans described, descriptor sets from the cache: %zu), retrieval %.2f s, "
            "metrics %.2f s\n", m->describe_s, m->described, m->cache_hits, m->retrieval_s, m->metrics_s);
-    if (m->cache_rejected) printf("cache      %zu damaged or stale file(s) rebuilt\n", m->cache_rejected);
+    if (m->cache_rejected) printf("cache      %zu damaged or mismatched file(s) rebuilt\n", m->cache_rejected);
+    if (m->cache_stale)
+        printf("cache      %zu descriptor set(s) made from another content of the recording or another build "
+               "of the method: described again\n", m->cache_stale);
     printf("results    %s/result.json (intervals there)\n", s->out_dir);
 }
 

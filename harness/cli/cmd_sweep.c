@@ -78,6 +78,9 @@ static int sweep_finish(const struct plan *p, const struct sweep_opts *o, const 
     if (!o->quiet)
         fprintf(stderr, "revisit sweep: %zu cells in this shard: %zu run now, %zu done before, %zu failed, %zu left\n",
                 st->in_shard, st->ran, st->skipped, failed, st->left);
+    if (st->stale)
+        fprintf(stderr, "revisit sweep: %zu finished cells were made from another content of the recordings or "
+                "another build of their method; they were run again\n", st->stale);
     if (st->interrupted) {
         fprintf(stderr, "revisit sweep: interrupted; finished cells are kept, run the same command to go on\n");
         return CMD_INTERRUPTED;

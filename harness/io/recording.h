@@ -137,6 +137,13 @@ void recording_sensor_free(struct recording_sensor *s);
 int recording_load(const char *path, int allow_outside, struct recording *rec, struct err *e);
 void recording_free(struct recording *rec);
 
+/* The content digest of rec: the manifest's bytes, the poses as read and
+ * every scan file's content hash (recording_digest.c). Scan hashes are kept
+ * in MANIFEST.digest beside the manifest; a scan whose size and mtime match
+ * its stored line is not read again. *hashed (may be NULL) gets the number
+ * of scans read and hashed now. 0, or -1 with e naming the file. */
+int recording_digest(const struct recording *rec, uint64_t *digest, size_t *hashed, struct err *e);
+
 /* Read scan i into c (contents replaced), drop points with a non-finite
  * coordinate and count them in *n_dropped (may be NULL).  Errors name the
  * scan index and file. */

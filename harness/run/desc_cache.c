@@ -9,7 +9,7 @@
 
 #include "harness/base/fileio.h"
 
-#define DC_HEAD 56
+#define DC_HEAD 64
 #define DC_FNV_BASIS 0xcbf29ce484222325ull
 #define DC_FNV_PRIME 0x100000001b3ull
 
@@ -54,7 +54,7 @@ static unsigned char *dc_header(const struct desc_cache_key *k, size_t *len)
     unsigned char *b = calloc(1, total);
     if (!b) return NULL;
     memcpy(b, "RVDC", 4);
-    dc_put(b + 4, 1, 4);
+    dc_put(b + 4, 2, 4);
     dc_put(b + 8, k->dim, 4);
     dc_put(b + 12, k->key_dim, 4);
     dc_put(b + 16, k->count, 8);
@@ -65,6 +65,7 @@ static unsigned char *dc_header(const struct desc_cache_key *k, size_t *len)
         memcpy(b + at, parts[i], sl[i]);
         at += sl[i];
     }
+    dc_put(b + 56, k->content, 8);
     *len = total;
     return b;
 }
@@ -88,13 +89,17 @@ int desc_cache_load(const char *dir, const struct desc_cache_key *k, float *desc
         return 0;
     }
     const unsigned char *b = (const unsigned char *)buf;
-    int ok = len == hl + nd + nk && !memcmp(b, want, 32) && !memcmp(b + 40, want + 40, hl - 40) &&
+    int ok = len == hl + nd + nk && !memcmp(b, want, 32) && !memcmp(b + 40, want + 40, 16) &&
+             !memcmp(b + DC_HEAD, want + DC_HEAD, hl - DC_HEAD) &&
              dc_get(b + 32, 8) == dc_fnv(DC_FNV_BASIS, b + DC_HEAD, len - DC_HEAD);
+    /* everything the same but the content: the recording or the method changed */
+    int stale = ok && dc_get(b + 56, 8) != k->content;
+    ok = ok && !stale;
     if (ok) {
         memcpy(desc, b + hl, nd);
         if (nk && key) memcpy(key, b + hl + nd, nk);
     }
-    *rejected = !ok;
+    *rejected = stale ? 2 : !ok;
     free(want);
     free(buf);
     return ok;

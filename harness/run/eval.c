@@ -56,6 +56,7 @@ struct ev_ctx {
     struct boot_result br;
     struct pr_curve *curve;
     struct ev_set *iso_set;      /* the set an isolated child describes */
+    uint64_t map_digest, query_digest;  /* recording_digest of each */
 };
 
 void eval_spec_defaults(struct eval_spec *s)
@@ -202,13 +203,17 @@ static int ev_describe_set(struct ev_ctx *c, struct ev_set *set, struct err *e)
     /* The draw set is part of what was described (see ev_desc_task). */
     char chain_key[sizeof c->chain_text + 16];
     snprintf(chain_key, sizeof chain_key, "%s%s", c->chain_text, c->reloc && set->seq ? "#set=1" : "");
+    uint64_t content[2] = {set->rec == &c->map ? c->map_digest : c->query_digest, c->plug.digest};
     struct desc_cache_key k = {c->plug.label, c->plug.version, set->chain ? chain_key : "",
-                               set->chain ? c->s->seed : 0, src, c->plug.dim, c->plug.key_dim, set->n};
+                               set->chain ? c->s->seed : 0, src,
+                               fileio_hash_bytes(FILEIO_HASH_SEED, content, sizeof content),
+                               c->plug.dim, c->plug.key_dim, set->n};
     if (c->s->cache_dir) {
         int rejected = 0;
         int hit = desc_cache_load(c->s->cache_dir, &k, set->desc, set->key, &rejected, e);
         if (hit < 0) return -1;
-        c->sum.cache_rejected += (size_t)rejected;
+        c->sum.cache_rejected += rejected == 1;
+        c->sum.cache_stale += rejected == 2;
         if (hit) {
             c->sum.cache_hits++;
             return 0;
@@ -257,6 +262,11 @@ static int ev_setup(struct ev_ctx *c, struct err *e)
         c->reloc = 0;
         return -1;
     }
+    size_t hm = 0, hq = 0;
+    if (recording_digest(&c->map, &c->map_digest, &hm, e) ||
+        (c->reloc && recording_digest(&c->query, &c->query_digest, &hq, e)))
+        return -1;
+    c->sum.scans_hashed = hm + hq;
     c->on = c->reloc ? CHAIN_ON_QUERY : CHAIN_ON_BOTH;
     if (s->on && chain_on_parse(s->on, &c->on, e)) return -1;
     if (s->chain && *s->chain) {
@@ -461,6 +471,22 @@ static int ev_metrics_json(const struct ev_ctx *c, cJSON *o, struct err *e)
     return 0;
 }
 
+/* The content digests the result was computed from (a sweep compares them
+ * on resume). */
+static cJSON *ev_inputs_json(const struct ev_ctx *c)
+{
+    char hex[17];
+    cJSON *o = cJSON_CreateObject();
+    snprintf(hex, sizeof hex, "%016llx", (unsigned long long)c->map_digest);
+    cJSON_AddStringToObject(o, "map", hex);
+    snprintf(hex, sizeof hex, "%016llx", (unsigned long long)c->query_digest);
+    if (c->reloc) cJSON_AddStringToObject(o, "query", hex);
+    else cJSON_AddNullToObject(o, "query");
+    snprintf(hex, sizeof hex, "%016llx", (unsigned long long)c->plug.digest);
+    cJSON_AddStringToObject(o, "method", hex);
+    return o;
+}
+
 static cJSON *ev_result_json(const struct ev_ctx *c, struct err *e)
 {
     const struct eval_spec *s = c->s;
@@ -478,6 +504,7 @@ static cJSON *ev_result_json(const struct ev_ctx *c, struct err *e)
     char real[PATH_MAX];
     ev_str(r, "map", realpath(c->map.manifest, real) ? real : c->map.manifest);
     ev_str(r, "query", !c->reloc ? NULL : realpath(c->query.manifest, real) ? real : c->query.manifest);
+    cJSON_AddItemToObject(o, "inputs", ev_inputs_json(c));
     if (ev_metrics_json(c, o, e)) {
         cJSON_Delete(o);
         return NULL;
@@ -489,6 +516,7 @@ static cJSON *ev_result_json(const struct ev_ctx *c, struct err *e)
     cJSON_AddNumberToObject(t, "described", (double)c->sum.described);
     cJSON_AddNumberToObject(t, "cache_hits", (double)c->sum.cache_hits);
     cJSON_AddNumberToObject(t, "cache_rejected", (double)c->sum.cache_rejected);
+    cJSON_AddNumberToObject(t, "cache_stale", (double)c->sum.cache_stale);
     cJSON_AddStringToObject(o, "status", "ok");
     return o;
 }

@@ -59,6 +59,8 @@ struct eval_summary {
     double p_r0, recall1pct;
     size_t cache_hits;         /* descriptor sets read from the cache */
     size_t cache_rejected;     /* cache files found corrupt or not matching, rebuilt */
+    size_t cache_stale;        /* cache files of another recording content or method build, rebuilt */
+    size_t scans_hashed;       /* scan files read to update the recordings' digests */
 };
 
 void eval_spec_defaults(struct eval_spec *s);

@@ -12,6 +12,7 @@
 #include <unistd.h>
 
 #include "harness/run/external.h"
+#include "harness/base/fileio.h"
 #include "harness/base/opt.h"
 #include "harness/base/progress.h"
 
@@ -333,6 +334,21 @@ static size_t plugin_spec_head(const char *spec)
     return (size_t)(first - spec);
 }
 
+int plugin_file_digest(const char *spec, const char *search_path, uint64_t *digest, struct err *e)
+{
+    char head[4096], path[4096];
+    size_t hl = plugin_spec_head(spec);
+    if (hl == 0 || hl >= sizeof head) return err_set(e, "method '%s': expected NAME[:key=value,...]", spec);
+    memcpy(head, spec, hl);
+    head[hl] = 0;
+    if (!memchr(head, '/', hl)) {
+        if (plugin_find(head, search_path, path, sizeof path, e)) return -1;
+    } else {
+        snprintf(path, sizeof path, "%s", head);
+    }
+    return fileio_hash_file(path, digest, e) ? err_wrap(e, "method '%s'", head) : 0;
+}
+
 int plugin_open(struct plugin *p, const char *spec, const char *search_path, struct err *e)
 {
     return plugin_open_limits(p, spec, search_path, NULL, e);
@@ -366,6 +382,7 @@ int plugin_open_limits(struct plugin *p, const char *spec, const char *search_pa
         else if (access(head, X_OK) == 0) rc = plugin_open_external(p, settings, lim, e);
         else return err_set(e, "method '%s': not a .so plugin and not an executable program", head);
     }
+    if (!rc && fileio_hash_file(p->path, &p->digest, e)) rc = err_wrap(e, "method '%s'", p->name);
     if (rc) plugin_close(p);
     if (!rc && p->guard) {
         /* the table's name from now on */

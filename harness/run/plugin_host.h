@@ -49,6 +49,7 @@ struct plugin {
     uint32_t flags;
     double time_limit_s;    /* per scan, 0 = no limit */
     int guard;              /* plugin_guard slot while a .so is open, else 0 */
+    uint64_t digest;        /* content hash of the .so or the program file */
 };
 
 /* Find, load, validate and instantiate.  0, or -1 with e set and p left
@@ -64,6 +65,10 @@ struct plugin_limits {
     double time_s;
     size_t mem_bytes;
 };
+
+/* The content hash of the file spec names (the .so or the program), as
+ * plugin_open would find it; what p.digest holds after plugin_open. 0 or -1. */
+int plugin_file_digest(const char *spec, const char *search_path, uint64_t *digest, struct err *e);
 
 /* plugin_open under lim (NULL: the defaults). */
 int plugin_open_limits(struct plugin *p, const char *spec, const char *search_path,

@@ -20,6 +20,8 @@
 #include "harness/base/json_file.h"
 #include "harness/base/pool.h"
 #include "harness/base/progress.h"
+#include "harness/io/recording.h"
+#include "harness/run/plugin_host.h"
 
 #define SW_PATH 4096
 #define SW_SCENARIO_MAX ((size_t)4 << 20)
@@ -174,6 +176,8 @@ struct sw_ctx {
     const struct sweep_opts *o;
     const size_t *todo;   /* cell indices in run order */
     unsigned char *state; /* per todo entry */
+    unsigned char *redo;  /* per cell: done, but from other inputs (removed before it runs again) */
+    struct sw_inputs *in; /* what finished cells must have been made from */
     char cache[SW_PATH];
     struct progress prog;
 };
@@ -193,7 +197,7 @@ static int sw_cell(void *arg, size_t task, int worker, struct err *e)
         results_cell_path(done, sizeof done, c->o->out_dir, id, NULL, e))
         return -1;
     /* A failed cell being retried leaves first; until the rerun ends it is not done. */
-    if (sw_remove_tree(part, e) || (c->o->retry_failed && sw_remove_tree(done, e)) ||
+    if (sw_remove_tree(part, e) || ((c->o->retry_failed || c->redo[k]) && sw_remove_tree(done, e)) ||
         fileio_mkdirs(part, e) || sw_write_cell(c->p, k, part, e))
         return -1;
     struct eval_spec s;
@@ -261,12 +265,79 @@ static int sw_cell_failed(const char *out_dir, const char *id)
     return failed;
 }
 
+/* What finished cells must have been made from: the recordings' content
+ * digests and each method file's digest, as hex (empty: unknown, not
+ * compared). */
+struct sw_inputs {
+    char map[17], query[17];
+    char (*method)[17];   /* per plan method */
+};
+
+static void sw_hex(char out[17], uint64_t v)
+{
+    snprintf(out, 17, "%016llx", (unsigned long long)v);
+}
+
+static int sw_rec_digest(const char *path, char out[17], struct err *e)
+{
+    struct recording r;
+    uint64_t d;
+    if (recording_load(path, 0, &r, e)) return -1;
+    int rc = recording_digest(&r, &d, NULL, e);
+    recording_free(&r);
+    if (!rc) sw_hex(out, d);
+    return rc;
+}
+
+static int sw_inputs_get(const struct plan *p, const struct sweep_opts *o, struct sw_inputs *in, struct err *e)
+{
+    memset(in, 0, sizeof *in);
+    if (!(in->method = calloc(p->n_methods + 1, sizeof *in->method))) return err_set(e, "sweep: out of memory");
+    /* what cannot be read stays unknown: the cells that need it fail when they run */
+    struct err ignored;
+    if (sw_rec_digest(p->map_rec, in->map, &ignored) ||
+        (p->query_rec && sw_rec_digest(p->query_rec, in->query, &ignored))) {
+        in->map[0] = 0;
+        return 0;
+    }
+    for (size_t m = 0; m < p->n_methods; m++) {
+        uint64_t d;
+        if (!plugin_file_digest(p->methods[m].label, o->plugin_path, &d, &ignored)) sw_hex(in->method[m], d);
+    }
+    return 0;
+}
+
+/* 1 when the done cell's result says ok but names other inputs (or none);
+ * the file was read before (sw_cell_failed), so a read error counts as not stale. */
+static int sw_cell_stale(const struct plan *p, const struct sw_inputs *in, const char *out_dir, size_t k)
+{
+    char path[SW_PATH], *text;
+    size_t len;
+    snprintf(path, sizeof path, "%s/cells/%s/result.json", out_dir, p->cells[k].id);
+    if (fileio_read(path, (size_t)64 << 20, &text, &len, NULL)) return 0;
+    cJSON *r = cJSON_ParseWithLength(text, len);
+    free(text);
+    const cJSON *st = cJSON_GetObjectItemCaseSensitive(r, "status");
+    const cJSON *inp = cJSON_GetObjectItemCaseSensitive(r, "inputs");
+    if (!in->map[0]) return 0;  /* the recordings did not load: nothing to compare with */
+    const char *want[3] = {in->map, in->query[0] ? in->query : NULL, in->method[p->cells[k].method]};
+    static const char *const keys[3] = {"map", "query", "method"};
+    int stale = cJSON_IsString(st) && !strcmp(st->valuestring, "ok") && !cJSON_IsObject(inp);
+    for (int i = 0; i < 3 && cJSON_IsObject(inp) && cJSON_IsString(st) && !strcmp(st->valuestring, "ok"); i++) {
+        const cJSON *v = cJSON_GetObjectItemCaseSensitive(inp, keys[i]);
+        if (!want[i]) stale |= !cJSON_IsNull(v) && v != NULL;
+        else if (want[i][0]) stale |= !cJSON_IsString(v) || strcmp(v->valuestring, want[i]);
+    }
+    cJSON_Delete(r);
+    return stale;
+}
+
 /* Order the cells to run: the first cell of each method first (so the
  * unperturbed map is described once per method before the rest share the
  * cache), then the others in plan order.  Returns the count, or -1 when out
  * of memory; *n_lead gets the number of leading cells. */
-static long sw_order(const struct plan *p, const struct sweep_opts *o, size_t *todo,
-                     size_t *n_lead, struct sweep_stats *st)
+static long sw_order(const struct plan *p, const struct sweep_opts *o, const struct sw_inputs *in,
+                     unsigned char *redo, size_t *todo, size_t *n_lead, struct sweep_stats *st)
 {
     unsigned char *seen = calloc(p->n_methods + 1, 1), *lead = calloc(p->n_cells + 1, 1);
     long n = -1;
@@ -275,8 +346,11 @@ static long sw_order(const struct plan *p, const struct sweep_opts *o, size_t *t
     for (size_t k = 0; k < p->n_cells; k++) {
         if (!plan_in_shard(k, o->shard_i, o->shard_n)) continue;
         st->in_shard++;
-        if (results_cell_done(o->out_dir, p->cells[k].id) &&
-            !(o->retry_failed && sw_cell_failed(o->out_dir, p->cells[k].id))) {
+        int done = results_cell_done(o->out_dir, p->cells[k].id);
+        if (done && sw_cell_stale(p, in, o->out_dir, k)) {
+            redo[k] = 1;
+            st->stale++;
+        } else if (done && !(o->retry_failed && sw_cell_failed(o->out_dir, p->cells[k].id))) {
             st->skipped++;
             lead[k] = 2;
             continue;
@@ -299,15 +373,23 @@ int sweep_run(const struct plan *p, const struct sweep_opts *o, struct sweep_sta
     st->total = p->n_cells;
     if (!o->run) return err_set(e, "sweep: no cell runner given");
     if (sweep_prepare(p, o->out_dir, e) || sw_clear_parts(p, o, e)) return -1;
-    struct sw_ctx c = {.p = p, .o = o};
+    struct sw_inputs in;
+    if (sw_inputs_get(p, o, &in, e)) {
+        free(in.method);
+        return -1;
+    }
+    struct sw_ctx c = {.p = p, .o = o, .in = &in};
     snprintf(c.cache, sizeof c.cache, "%s/cache", o->out_dir);
     size_t *todo = malloc((p->n_cells + 1) * sizeof *todo);
     c.state = calloc(p->n_cells + 1, 1);
+    c.redo = calloc(p->n_cells + 1, 1);
     size_t n_lead = 0;
-    long n = todo && c.state ? sw_order(p, o, todo, &n_lead, st) : -1;
+    long n = todo && c.state && c.redo ? sw_order(p, o, &in, c.redo, todo, &n_lead, st) : -1;
     if (n < 0) {
         free(todo);
         free(c.state);
+        free(c.redo);
+        free(in.method);
         return err_set(e, "sweep: out of memory for %zu cells", p->n_cells);
     }
     c.todo = todo;
@@ -332,6 +414,8 @@ int sweep_run(const struct plan *p, const struct sweep_opts *o, struct sweep_sta
     st->interrupted = st->left > 0 && ((o->stop && *o->stop) || pool_stop_requested());
     free(todo);
     free(c.state);
+    free(c.redo);
+    free(in.method);
     return rc;
 }
 

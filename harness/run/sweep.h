@@ -53,6 +53,7 @@ struct sweep_stats {
     size_t total;       /* cells in the plan */
     size_t in_shard;    /* cells this shard owns */
     size_t skipped;     /* already done before this run */
+    size_t stale;       /* done before from another recording content or method build: run again */
     size_t ran, failed; /* finished in this run; failed of them */
     size_t left;        /* not started because of a stop request */
     int interrupted;

@@ -1,0 +1,71 @@
+#!/usr/bin/env bash
+# e2e_content_keys.sh: the descriptor cache and finished sweep cells are tied
+# to what a recording and a method hold, not to their paths.  A recording
+# made again at the same path (another seed) or a plugin rebuilt under the
+# same name and version must not be served from the cache, and a resumed
+# sweep must run again the cells made from the old content; each run says
+# so, and its results equal a fresh run's.
+. "$(dirname "$0")/lib_e2e.sh"
+R=$REVISIT_BIN
+cd "$T" || exit 2
+"$R" synth --scenario port --scans 40 --seed 1 --out rec --quiet > /dev/null 2>&1
+"$R" synth --scenario port --scans 40 --seed 2 --out rec_b --quiet > /dev/null 2>&1
+expect "[ -f rec/recording.json ] && [ -f rec_b/recording.json ]" "two recordings of the same district, two seeds"
+ev() { "$R" eval --map rec --method scan-context --bootstrap 0 --quiet --out "$@" 2>&1; }
+
+out=$(ev first --cache cache); rc=$?
+expect "[ $rc -eq 0 ] && [ -f rec/recording.json.digest ]" "eval runs and keeps the scan hashes beside the manifest"
+out=$(ev again --cache cache)
+expect_in "$out" "descriptor sets from the cache: 1" "an unchanged recording is served from the cache"
+rm -rf rec && mv rec_b rec
+out=$(ev remade --cache cache); rc=$?
+expect "[ $rc -eq 0 ]" "eval runs on the recording made again at the same path"
+expect_in "$out" "descriptor set(s) made from another content of the recording or another build of the method: described again" \
+  "the stale cache entry is named and not used"
+expect_in "$out" "descriptor sets from the cache: 0" "nothing stale is read from the cache"
+ev fresh > /dev/null
+expect "cmp -s remade/queries.csv fresh/queries.csv" "the cached run on the new content equals a fresh run"
+expect "! cmp -s first/queries.csv fresh/queries.csv" "and the two recordings do give other results"
+
+# A plugin rebuilt under the same name and version.
+mkdir -p inc && cp "$REVISIT_ROOT/harness/revisit_plugin.h" inc/
+cat > p.c <<'SRC'
+#include "revisit_plugin.h"
+static int mk(const double *v, void **i, uint32_t *d, uint32_t *k, char *m, size_t l)
+{ (void)v; (void)m; (void)l; *i = 0; *d = 2; *k = 0; return RV_OK; }
+static int run(void *i, const struct rv_scan *s, float *d, float *k, char *m, size_t l)
+{ (void)i; (void)k; (void)m; (void)l; d[0] = (float)(s->n % BINS); d[1] = (float)(s->index % 7); return RV_OK; }
+static void rm(void *i) { (void)i; }
+static const struct rv_method m = {RV_ABI_VERSION, sizeof m, "rebuilt", "1.0", "rebuilt test plugin",
+    0, 0, RV_DIST_L2, 0, mk, run, rm, 0, 0};
+RV_EXPORT const struct rv_method *rv_method_entry(void) { return &m; }
+SRC
+cc -std=c11 -O1 -shared -fPIC -Iinc -DBINS=97 -o rebuilt.so p.c
+pe() { "$R" eval --map rec --method ./rebuilt.so --bootstrap 0 --quiet --out "$@" 2>&1; }
+pe p1 --cache pcache > /dev/null
+cc -std=c11 -O1 -shared -fPIC -Iinc -DBINS=13 -o rebuilt.so p.c
+out=$(pe p2 --cache pcache)
+expect_in "$out" "described again" "a rebuilt plugin of the same name and version is not served from the cache"
+pe p3 > /dev/null
+expect "cmp -s p2/queries.csv p3/queries.csv" "the run after the rebuild equals a fresh run"
+
+# A sweep resumed after its recording changed.
+cat > s.json <<'JSON'
+{"format": "revisit-sweep-1", "recordings": {"map": "rec"}, "bootstrap": {"resamples": 0},
+ "methods": [{"name": "scan-context"}],
+ "conditions": [{"name": "clean"}, {"name": "drop", "chain": "dropout:p=0.3"}]}
+JSON
+"$R" sweep s.json --out sw --quiet > /dev/null 2>&1
+expect "[ $(ls sw/cells/*/result.json 2>/dev/null | wc -l) -eq 2 ]" "the sweep finishes its 2 cells"
+out=$("$R" sweep s.json --out sw 2>&1)
+expect_in "$out" "0 run now, 2 done before" "a rerun on the same content skips the finished cells"
+"$R" synth --scenario port --scans 40 --seed 3 --out rec_c --quiet > /dev/null 2>&1
+rm -rf rec && mv rec_c rec
+out=$("$R" sweep s.json --out sw 2>&1); rc=$?
+expect "[ $rc -eq 0 ]" "the resumed sweep on the new content finishes (exit $rc)"
+expect_in "$out" "2 finished cells were made from another content of the recordings" "it says which cells run again"
+"$R" sweep s.json --out sw_fresh --quiet > /dev/null 2>&1
+same=1
+for c in sw_fresh/cells/*/; do cmp -s "$c/queries.csv" "sw/cells/$(basename "$c")/queries.csv" || same=0; done
+expect "[ $same -eq 1 ]" "every cell of the resumed sweep equals the fresh sweep's"
+done_tests
