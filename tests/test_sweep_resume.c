@@ -10,6 +10,7 @@
 #include "harness/base/fileio.h"
 #include "harness/run/sweep.h"
 #include "harness/results/cells.h"
+#include "harness/results/lock.h"
 #include "tests/check.h"
 
 static volatile sig_atomic_t stop_flag;
@@ -161,6 +162,26 @@ int main(void)
     CHECK(sweep_run(&q, &o, &st, &e) == -1, "a folder of another scenario is refused");
     CHECK_MSG(e.msg, "full/scenario.json: made by another scenario file", "the refusal names the folder");
     plan_free(&q);
+
+    /* One sweep per folder and shard: a second one is refused, naming the first;
+     * another shard of the same folder runs beside it. */
+    int held = -1;
+    CHECK(!fileio_mkdirs("locked", &e) && !results_lock("locked", 0, 1, &held, &e), "a shard's lock is taken");
+    o.out_dir = "locked";
+    o.run = fake_run;
+    e.msg[0] = 0;
+    CHECK(sweep_run(&p, &o, &st, &e) == -1 && !access("locked/cells", F_OK) &&
+          !results_cell_done("locked", "good_k-1__clean__s1"), "a second sweep of the same shard into the folder is refused");
+    char busy[96];
+    snprintf(busy, sizeof busy, "locked/.lock-0-of-1: another sweep (pid %ld) is running shard 0/1", (long)getpid());
+    CHECK_MSG(e.msg, busy, "the refusal names the lock, the holder's pid and the shard");
+    o.shard_i = 1;
+    o.shard_n = 3;
+    CHECK(!sweep_run(&p, &o, &st, &e) && st.ran == 7, "another shard runs into the same folder meanwhile");
+    o.shard_i = 0;
+    o.shard_n = 1;
+    results_unlock(held);
+    CHECK(!sweep_run(&p, &o, &st, &e) && st.ran == 14 && st.skipped == 7, "once the lock is released the sweep runs");
 
     /* A runner that returns success without a result on disk fails its cell. */
     static const char silent[] = "{\"format\": \"revisit-sweep-1\", \"recordings\": {\"map\": \"rec\"},\n"

@@ -15,6 +15,7 @@
 #include "harness/results/cells.h"
 #include "perturb/chain.h"
 #include "harness/results/format.h"
+#include "harness/results/lock.h"
 #include "harness/results/result_json.h"
 #include "harness/base/fileio.h"
 #include "harness/base/json_file.h"
@@ -367,12 +368,24 @@ out:
     return n;
 }
 
+static int sw_run_locked(const struct plan *p, const struct sweep_opts *o, struct sweep_stats *st, struct err *e);
+
 int sweep_run(const struct plan *p, const struct sweep_opts *o, struct sweep_stats *st, struct err *e)
 {
     memset(st, 0, sizeof *st);
     st->total = p->n_cells;
     if (!o->run) return err_set(e, "sweep: no cell runner given");
-    if (sweep_prepare(p, o->out_dir, e) || sw_clear_parts(p, o, e)) return -1;
+    int lock = -1;
+    if (sweep_prepare(p, o->out_dir, e) || results_lock(o->out_dir, o->shard_i, o->shard_n, &lock, e)) return -1;
+    int rc = sw_run_locked(p, o, st, e);
+    results_unlock(lock);
+    return rc;
+}
+
+/* sweep_run with the shard's lock held. */
+static int sw_run_locked(const struct plan *p, const struct sweep_opts *o, struct sweep_stats *st, struct err *e)
+{
+    if (sw_clear_parts(p, o, e)) return -1;
     struct sw_inputs in;
     if (sw_inputs_get(p, o, &in, e)) {
         free(in.method);
