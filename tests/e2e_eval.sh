@@ -49,4 +49,19 @@ out=$("$R" eval --map "$T/rec" --method range-height --chain yaw --on sideways -
 expect "[ $rc -eq 2 ]" "a bad --on exits 2"
 expect_in "$out" "sideways" "the bad --on value is named"
 expect "[ ! -e '$T/o3/result.json' ]" "a refused run writes no result.json"
+
+# A results folder holds one run: an eval that fails part-way through its
+# files (here the disk fills at matrix.csv, after queries.csv and poses.csv)
+# leaves the earlier results as they were, never a mix of two runs.
+"$R" eval --map "$T/rec" --method scan-context --bootstrap 0 --quiet --out "$T/one" > /dev/null 2>&1
+cp -r "$T/one" "$T/one_copy"
+out=$(REVISIT_FAULT_WRITE_BYTES=12000 "$R" eval --map "$T/rec" --method range-height --bootstrap 0 --quiet \
+      --out "$T/one" --replace 2>&1); rc=$?
+expect "[ $rc -eq 2 ]" "an eval whose writes fail exits 2"
+expect_in "$out" "$T/one/matrix.csv: write failed" "the message names the file under the folder given"
+expect "diff -r '$T/one' '$T/one_copy' > /dev/null" "the earlier results folder is left whole, file for file"
+expect "[ -z \"\$(ls -d '$T'/one.* 2>/dev/null)\" ]" "no temporary folder is left beside it"
+"$R" eval --map "$T/rec" --method range-height --bootstrap 0 --quiet --out "$T/one" --replace > /dev/null 2>&1
+expect "grep -q '\"range-height\"' '$T/one/result.json' && ! cmp -s '$T/one/queries.csv' '$T/one_copy/queries.csv'" \
+  "a --replace run that succeeds replaces the folder whole"
 done_tests

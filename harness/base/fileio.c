@@ -171,6 +171,31 @@ int fileio_hash_file(const char *path, uint64_t *h, struct err *e)
     return rc;
 }
 
+int fileio_remove_tree(const char *path, struct err *e)
+{
+    DIR *d = opendir(path);
+    if (!d) {
+        if (errno == ENOENT) return 0;
+        if (errno == ENOTDIR) return unlink(path) ? err_at(e, path, 0, "cannot remove: %s", strerror(errno)) : 0;
+        return err_at(e, path, 0, "cannot open folder: %s", strerror(errno));
+    }
+    struct dirent *de;
+    int rc = 0;
+    while (!rc && (de = readdir(d))) {
+        if (!strcmp(de->d_name, ".") || !strcmp(de->d_name, "..")) continue;
+        char sub[4096];
+        struct stat st;
+        int n = snprintf(sub, sizeof sub, "%s/%s", path, de->d_name);
+        if (n < 0 || (size_t)n >= sizeof sub) { rc = err_at(e, path, 0, "path too long below this folder"); break; }
+        if (lstat(sub, &st)) continue;
+        if (S_ISDIR(st.st_mode)) rc = fileio_remove_tree(sub, e);
+        else if (unlink(sub)) rc = err_at(e, sub, 0, "cannot remove: %s", strerror(errno));
+    }
+    closedir(d);
+    if (!rc && rmdir(path)) rc = err_at(e, path, 0, "cannot remove folder: %s", strerror(errno));
+    return rc;
+}
+
 int fileio_mkdirs(const char *path, struct err *e)
 {
     char tmp[4096];

@@ -59,6 +59,10 @@ uint64_t fileio_hash_bytes(uint64_t h, const void *data, size_t len);
 /* fileio_hash_bytes over a whole regular file, read in blocks. 0 or -1. */
 int fileio_hash_file(const char *path, uint64_t *h, struct err *e);
 
+/* Remove a folder and what it holds (symbolic links are removed, never
+ * followed). A missing path is no error. 0 or -1. */
+int fileio_remove_tree(const char *path, struct err *e);
+
 /* mkdir -p. 0 or -1. */
 int fileio_mkdirs(const char *path, struct err *e);
 

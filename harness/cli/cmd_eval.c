@@ -5,6 +5,7 @@
 #include <string.h>
 
 #include "harness/cli/cmd.h"
+#include "harness/results/outdir.h"
 #include "harness/run/eval.h"
 #include "harness/base/fileio.h"
 #include "harness/base/opt.h"
@@ -134,8 +135,17 @@ int cmd_eval(int argc, char **argv)
     for (int k = 0; k < argc && used < sizeof command; k++)
         used += (size_t)snprintf(command + used, sizeof command - used, "%s%s", k ? " " : "revisit ", argv[k]);
     s.command = command;
+    /* the whole folder or nothing: written beside --out, renamed into place */
+    char tmp[4200];
+    if (results_out_begin(o.out, tmp, sizeof tmp, &e)) return err_wrap(&e, "revisit eval"), cmd_report(&e);
+    s.out_dir = tmp;
     struct eval_summary sum;
-    if (eval_run(&s, &sum, &e)) return cmd_report(&e);
+    if (eval_run(&s, &sum, &e)) {
+        results_out_fail(tmp, o.out, &e);
+        return cmd_report(&e);
+    }
+    if (results_out_commit(tmp, o.out, &e)) return err_wrap(&e, "revisit eval"), cmd_report(&e);
+    s.out_dir = o.out;
     eval_print(&s, &sum);
     return CMD_OK;
 }

@@ -34,27 +34,6 @@ void sweep_opts_defaults(struct sweep_opts *o)
     o->cell_jobs = 1;
 }
 
-/* Remove a folder and what it holds (no symbolic links are followed). 0 or -1. */
-static int sw_remove_tree(const char *path, struct err *e)
-{
-    DIR *d = opendir(path);
-    if (!d) return errno == ENOENT ? 0 : err_at(e, path, 0, "cannot open folder: %s", strerror(errno));
-    struct dirent *de;
-    int rc = 0;
-    while (!rc && (de = readdir(d))) {
-        if (!strcmp(de->d_name, ".") || !strcmp(de->d_name, "..")) continue;
-        char sub[SW_PATH];
-        struct stat st;
-        snprintf(sub, sizeof sub, "%s/%s", path, de->d_name);
-        if (lstat(sub, &st)) continue;
-        if (S_ISDIR(st.st_mode)) rc = sw_remove_tree(sub, e);
-        else if (unlink(sub)) rc = err_at(e, sub, 0, "cannot remove: %s", strerror(errno));
-    }
-    closedir(d);
-    if (!rc && rmdir(path)) rc = err_at(e, path, 0, "cannot remove folder: %s", strerror(errno));
-    return rc;
-}
-
 int sweep_prepare(const struct plan *p, const char *out_dir, struct err *e)
 {
     char path[SW_PATH], hash[17];
@@ -198,7 +177,7 @@ static int sw_cell(void *arg, size_t task, int worker, struct err *e)
         results_cell_path(done, sizeof done, c->o->out_dir, id, NULL, e))
         return -1;
     /* A failed cell being retried leaves first; until the rerun ends it is not done. */
-    if (sw_remove_tree(part, e) || ((c->o->retry_failed || c->redo[k]) && sw_remove_tree(done, e)) ||
+    if (fileio_remove_tree(part, e) || ((c->o->retry_failed || c->redo[k]) && fileio_remove_tree(done, e)) ||
         fileio_mkdirs(part, e) || sw_write_cell(c->p, k, part, e))
         return -1;
     struct eval_spec s;
@@ -211,7 +190,7 @@ static int sw_cell(void *arg, size_t task, int worker, struct err *e)
     int rc = c->o->run(&s, &sum, &ce);
     if (rc && pool_stop_requested()) {           /* hard stop: the cell did not finish */
         c->state[task] = SW_LEFT;
-        return sw_remove_tree(part, e);
+        return fileio_remove_tree(part, e);
     }
     char res[SW_PATH];
     snprintf(res, sizeof res, "%s/result.json", part);
@@ -223,7 +202,7 @@ static int sw_cell(void *arg, size_t task, int worker, struct err *e)
     if (rc && sw_write_failed(c->p, k, part, ce.msg[0] ? ce.msg : "method failed", e)) return -1;
     if (rename(part, done)) {
         int saved = errno;
-        if (results_cell_done(c->o->out_dir, id)) return sw_remove_tree(part, e);  /* another shard won */
+        if (results_cell_done(c->o->out_dir, id)) return fileio_remove_tree(part, e);  /* another shard won */
         return err_at(e, done, 0, "cannot move the finished cell into place: %s", strerror(saved));
     }
     c->state[task] = rc ? SW_FAILED : SW_OK;
@@ -249,7 +228,7 @@ static int sw_clear_parts(const struct plan *p, const struct sweep_opts *o, stru
         if (k >= 0 && !plan_in_shard((size_t)k, o->shard_i, o->shard_n)) continue;
         char sub[SW_PATH];
         snprintf(sub, sizeof sub, "%s/%s", cells, de->d_name);
-        rc = sw_remove_tree(sub, e);
+        rc = fileio_remove_tree(sub, e);
     }
     closedir(d);
     return rc;
