@@ -4,7 +4,8 @@
  *
  *   {"format": "revisit-result-1", "software": .., "command": ..,
  *    "scenario_hash": .., "method": {..}, "condition": {..},
- *    "protocol": {..}, "counts": {..}, "metrics": {..}, "curve": {..},
+ *    "protocol": {..}, "inputs": {"map", "query", "method": content digests},
+ *    "counts": {..}, "metrics": {..}, "curve": {..},
  *    "status": "ok"}                    or "status": "failed", "error": ".."
  *
  * Every command that reads a result.json (metrics, sweep, merge, summary,

@@ -288,25 +288,25 @@ static int sw_inputs_get(const struct plan *p, const struct sweep_opts *o, struc
 }
 
 /* 1 when the done cell's result says ok but names other inputs (or none);
- * the file was read before (sw_cell_failed), so a read error counts as not stale. */
+ * an unreadable result is not stale (the summary reports it). */
 static int sw_cell_stale(const struct plan *p, const struct sw_inputs *in, const char *out_dir, size_t k)
 {
-    char path[SW_PATH], *text;
-    size_t len;
-    snprintf(path, sizeof path, "%s/cells/%s/result.json", out_dir, p->cells[k].id);
-    if (fileio_read(path, (size_t)64 << 20, &text, &len, NULL)) return 0;
-    cJSON *r = cJSON_ParseWithLength(text, len);
-    free(text);
-    const cJSON *st = cJSON_GetObjectItemCaseSensitive(r, "status");
-    const cJSON *inp = cJSON_GetObjectItemCaseSensitive(r, "inputs");
+    char path[SW_PATH];
     if (!in->map[0]) return 0;  /* the recordings did not load: nothing to compare with */
+    if (results_cell_path(path, sizeof path, out_dir, p->cells[k].id, RESULTS_RESULT, NULL)) return 0;
+    cJSON *r = result_json_load(path, NULL);
+    if (!r || result_json_status(r, path, NULL) != 1) {   /* failed cells are for --retry-failed */
+        cJSON_Delete(r);
+        return 0;
+    }
+    const cJSON *inp = cJSON_GetObjectItemCaseSensitive(r, "inputs");
     const char *want[3] = {in->map, in->query[0] ? in->query : NULL, in->method[p->cells[k].method]};
     static const char *const keys[3] = {"map", "query", "method"};
-    int stale = cJSON_IsString(st) && !strcmp(st->valuestring, "ok") && !cJSON_IsObject(inp);
-    for (int i = 0; i < 3 && cJSON_IsObject(inp) && cJSON_IsString(st) && !strcmp(st->valuestring, "ok"); i++) {
+    int stale = !cJSON_IsObject(inp);
+    for (int i = 0; i < 3 && !stale; i++) {
         const cJSON *v = cJSON_GetObjectItemCaseSensitive(inp, keys[i]);
-        if (!want[i]) stale |= !cJSON_IsNull(v) && v != NULL;
-        else if (want[i][0]) stale |= !cJSON_IsString(v) || strcmp(v->valuestring, want[i]);
+        if (!want[i]) stale = v && !cJSON_IsNull(v);
+        else if (want[i][0]) stale = !cJSON_IsString(v) || strcmp(v->valuestring, want[i]);
     }
     cJSON_Delete(r);
     return stale;
