@@ -9,7 +9,7 @@
  * `noenhanced`, so a label is drawn literally and cannot run a command.
  *
  *     struct plot_set ps; plot_set_init(&ps, "out/plots");
- *     plot_pr(&ps, "pr-c0", title, names, curves, n, e);  // writes .dat + .gp, draws
+ *     plot_pr(&ps, "pr-c0", title, curves, n, NULL, e);  // writes .dat + .gp, draws
  *     ... ps.items[k].drawn ...
  *     plot_set_free(&ps);
  *
@@ -64,9 +64,12 @@ struct plot_series {
 /* 1. metric against a swept parameter, one line per series with a band. */
 int plot_degradation(struct plot_set *ps, const char *name, const char *title, const char *xlabel,
                      const char *ylabel, const struct plot_series *s, size_t n, struct err *e);
-/* 2. precision against recall, one line per series (x = recall, y = precision). */
-int plot_pr(struct plot_set *ps, const char *name, const char *title,
-            const struct plot_series *s, size_t n, struct err *e);
+/* 2. precision against recall, one line per series (x = recall, y =
+ * precision) with its F1max point marked; behind (NULL, or n entries, an
+ * entry with n == 0 for none) are the same methods' reference curves,
+ * drawn first, thin and dotted (NAME-reference.dat, NAME-f1max.dat). */
+int plot_pr(struct plot_set *ps, const char *name, const char *title, const struct plot_series *s, size_t n,
+            const struct plot_series *behind, struct err *e);
 /* 3. top view: the path, correct, wrong (with segments) and missed queries. */
 int plot_traj(struct plot_set *ps, const char *name, const char *title, const struct rdata_poses *p,
               const struct rstat_outcomes *o, struct err *e);

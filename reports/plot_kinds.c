@@ -44,14 +44,6 @@ static int series_data(struct plot_set *ps, const char *name, const struct plot_
     return plot_commit(&a, e);
 }
 
-/* The `plot` clause of series k: the line, titled with the escaped name. */
-static void series_line(FILE *f, const char *name, size_t k, const char *with, const struct plot_series *s)
-{
-    fprintf(f, "%s'%s.dat' index %zu using 1:2 with %s ls %zu title ", k ? ", \\\n     " : "plot ",
-            name, k, with, k % PLOT_NCOLOURS + 1);
-    key_title(f, s[k].name);
-}
-
 int plot_degradation(struct plot_set *ps, const char *name, const char *title, const char *xlabel,
                      const char *ylabel, const struct plot_series *s, size_t n, struct err *e)
 {
@@ -80,18 +72,55 @@ int plot_degradation(struct plot_set *ps, const char *name, const char *title, c
     return plot_finish(ps, name, title, PLOT_DEGRADATION, e);
 }
 
-int plot_pr(struct plot_set *ps, const char *name, const char *title,
-            const struct plot_series *s, size_t n, struct err *e)
+/* The F1max point of each series (the largest 2PR/(P+R) on its curve), one
+ * block per series, into NAME-f1max.dat. */
+static int pr_marks(struct plot_set *ps, const char *name, const struct plot_series *s, size_t n, struct err *e)
 {
-    if (series_data(ps, name, s, n, e)) return -1;
+    char stem[96];
+    snprintf(stem, sizeof stem, "%s-f1max", name);
+    struct afile a;
+    if (plot_open(ps, &a, stem, "dat", e)) return -1;
+    fprintf(a.f, "# %s.dat: the F1max point (recall precision) of each series, one block each\n", stem);
+    for (size_t k = 0; k < n; k++) {
+        size_t best = 0;
+        double bf = -1;
+        for (size_t i = 0; i < s[k].n; i++) {
+            double r = s[k].x[i], p = s[k].y[i], f = r + p > 0 ? 2 * r * p / (r + p) : 0;
+            if (f > bf) { bf = f; best = i; }
+        }
+        fprintf(a.f, "%.9g %.9g\n%s", s[k].x[best], s[k].y[best], k + 1 < n ? "\n\n" : "");
+    }
+    return plot_commit(&a, e);
+}
+
+int plot_pr(struct plot_set *ps, const char *name, const char *title, const struct plot_series *s, size_t n,
+            const struct plot_series *behind, struct err *e)
+{
+    char ref[96];
+    snprintf(ref, sizeof ref, "%s-reference", name);
+    size_t nb = 0;
+    for (size_t k = 0; behind && k < n; k++) nb += behind[k].n > 0;
+    if (series_data(ps, name, s, n, e) || (nb && series_data(ps, ref, behind, n, e)) || pr_marks(ps, name, s, n, e))
+        return -1;
     struct afile a;
     if (plot_open(ps, &a, name, "gp", e)) return -1;
     FILE *f = a.f;
     plot_head(f, name, title);
     fputs(key_below, f);
-    fputs("set xlabel 'recall'\nset ylabel 'precision'\nset xrange [0:1]\nset yrange [0:1.05]\n", f);
-    for (size_t k = 0; k < n; k++) series_line(f, name, k, "lines", s);
-    fputc('\n', f);
+    fputs("set xlabel 'recall'\nset ylabel 'precision'\nset xrange [0:1]\nset yrange [0:1.05]\nplot ", f);
+    /* The reference curves first, thin and dotted, so the perturbed ones lie on top. */
+    for (size_t k = 0; nb && k < n; k++) {
+        if (!behind[k].n) continue;
+        fprintf(f, "'%s.dat' index %zu using 1:2 with lines lc rgb '%s' lw 1 dt (2,3) title ", ref, k, plot_colour(k));
+        key_title(f, behind[k].name);
+        fputs(", \\\n     ", f);
+    }
+    for (size_t k = 0; k < n; k++) {
+        fprintf(f, "'%s.dat' index %zu using 1:2 with lines ls %zu title ", name, k, k % PLOT_NCOLOURS + 1);
+        key_title(f, s[k].name);
+        fprintf(f, ", \\\n     '%s-f1max.dat' index %zu using 1:2 with points ls %zu pt 7 ps 1.8 %s%s", name, k,
+                k % PLOT_NCOLOURS + 1, k ? "notitle" : "title 'F1max point'", k + 1 < n ? ", \\\n     " : "\n");
+    }
     plot_tail(f, name);
     if (plot_commit(&a, e)) return -1;
     return plot_finish(ps, name, title, PLOT_PR, e);
@@ -248,24 +277,30 @@ int plot_hist(struct plot_set *ps, const char *name, const char *title, const st
     double w = h->nbins > 1 ? (h->hi - h->lo) / (double)h->nbins : fmax(fabs(h->lo) * 0.1, 0.05);
     struct afile a;
     if (plot_open(ps, &a, name, "dat", e)) return -1;
-    fprintf(a.f, "# %s.dat: bin_lo bin_hi correct wrong (top-1 descriptor distance)\n", name);
+    fprintf(a.f, "# %s.dat: bin_lo bin_hi correct wrong no_revisit (top-1 descriptor distance)\n", name);
     for (size_t b = 0; b < h->nbins; b++)
-        fprintf(a.f, "%.9g %.9g %zu %zu\n", h->lo + (double)b * w, h->lo + (double)(b + 1) * w,
-                h->correct[b], h->wrong[b]);
+        fprintf(a.f, "%.9g %.9g %zu %zu %zu\n", h->lo + (double)b * w, h->lo + (double)(b + 1) * w,
+                h->correct[b], h->wrong[b], h->norev[b]);
     if (plot_commit(&a, e)) return -1;
     if (plot_open(ps, &a, name, "gp", e)) return -1;
     FILE *f = a.f;
     plot_head(f, name, title);
+    fputs(key_below, f);
     fprintf(f, "set xlabel 'top-1 descriptor distance'\nset ylabel 'queries'\nset yrange [0:*]\n"
-               "set boxwidth %.9g absolute\n", w / 2);
-    threshold_mark(f, 1, tau_f1, "F1max threshold", plot_colour(0), 0.95);
-    threshold_mark(f, 2, tau_r100, "R@100P threshold", plot_colour(3), 0.85);
-    /* Side by side, solid against hatched, so grey print keeps them apart. */
+               "set boxwidth %.9g absolute\n", w / 3);
+    char text[80];
+    snprintf(text, sizeof text, "F1max threshold %.4g", tau_f1);
+    threshold_mark(f, 1, tau_f1, text, plot_colour(0), 0.95);
+    snprintf(text, sizeof text, "R@100P threshold %.4g", tau_r100);
+    threshold_mark(f, 2, tau_r100, text, plot_colour(3), 0.85);
+    /* Three bars per bin, solid, hatched and crossed, so grey print keeps them apart. */
     fprintf(f, "plot '%s.dat' using (($1+$2)/2 - %.9g):3 with boxes fs solid 0.75 border lt -1 "
                "lc rgb '%s' title 'correct top-1 (within r_pos)', \\\n"
-               "     '' using (($1+$2)/2 + %.9g):4 with boxes fs pattern 4 border lt -1 "
-               "lc rgb '%s' title 'wrong top-1 (beyond r_neg)'\n",
-            name, w / 4, plot_colour(2), w / 4, plot_colour(1));
+               "     '' using (($1+$2)/2):4 with boxes fs pattern 4 border lt -1 "
+               "lc rgb '%s' title 'wrong top-1 (beyond r_neg, a revisit existed)', \\\n"
+               "     '' using (($1+$2)/2 + %.9g):5 with boxes fs pattern 2 border lt -1 "
+               "lc rgb '%s' title 'no revisit to find (top-1 beyond r_neg)'\n",
+            name, w / 3, plot_colour(2), plot_colour(1), w / 3, plot_colour(4));
     plot_tail(f, name);
     if (plot_commit(&a, e)) return -1;
     return plot_finish(ps, name, title, PLOT_HIST, e);

@@ -101,28 +101,42 @@ static int plots_degradation(struct report_doc *d, struct plot_set *ps, struct p
     return rc;
 }
 
+/* Method m's curve on condition c as a series named name, or n = 0. */
+static struct plot_series pr_series(const struct report_doc *d, size_t m, size_t c, const char *name)
+{
+    long i = report_ok_cell(d->set, d->table, m, c);
+    const struct rdata_cell *cl = i < 0 ? NULL : &d->set->cells[i];
+    if (!cl || !cl->curve_n) return (struct plot_series){name, 0, NULL, NULL, NULL, NULL};
+    return (struct plot_series){name, cl->curve_n, cl->curve_r, cl->curve_p, NULL, NULL};
+}
+
 static int plots_pr(struct report_doc *d, struct plot_set *ps, struct progress *pg, struct err *e)
 {
     const struct rstat_table *t = d->table;
-    struct plot_series *sr = malloc((t->n_methods + 1) * sizeof *sr);
-    if (!sr) return err_set(e, "out of memory for PR curves");
-    int rc = 0;
+    struct plot_series *sr = malloc((2 * t->n_methods + 1) * sizeof *sr), *bh = sr + t->n_methods;
+    char (*refname)[320] = malloc((t->n_methods + 1) * sizeof *refname);
+    int rc = sr && refname ? 0 : err_set(e, "out of memory for PR curves");
     for (size_t c = 0; !rc && c < t->n_conds; c++) {
         size_t ns = 0;
         for (size_t m = 0; m < t->n_methods; m++) {
-            long i = report_ok_cell(d->set, t, m, c);
-            if (i < 0 || !d->set->cells[i].curve_n) continue;
-            const struct rdata_cell *cl = &d->set->cells[i];
-            sr[ns++] = (struct plot_series){t->methods[m], cl->curve_n, cl->curve_r, cl->curve_p, NULL, NULL};
+            struct plot_series cur = pr_series(d, m, c, t->methods[m]);
+            if (!cur.n) continue;
+            snprintf(refname[ns], sizeof refname[0], "%s on %s (reference)", t->methods[m],
+                     report_cond_name(t, t->ref_cond[m]));
+            bh[ns] = t->ref_cond[m] == c ? (struct plot_series){NULL, 0, NULL, NULL, NULL, NULL}
+                                         : pr_series(d, m, t->ref_cond[m], refname[ns]);
+            sr[ns++] = cur;
         }
         if (!ns) { report_note(d, "PR curves for condition %s: no cell holds a curve", report_cond_name(t, c)); continue; }
         char name[64], title[600];
         snprintf(name, sizeof name, "pr-%zu", c);
-        snprintf(title, sizeof title, "PR curves, condition %s (first seed)", report_cond_name(t, c));
-        rc = plot_pr(ps, name, title, sr, ns, e);
+        snprintf(title, sizeof title, "PR curves, condition %s (first seed; dotted: the reference condition)",
+                 report_cond_name(t, c));
+        rc = plot_pr(ps, name, title, sr, ns, bh, e);
         progress_add(pg, 1);
     }
     free(sr);
+    free(refname);
     return rc;
 }
 

@@ -73,7 +73,7 @@ static int outcome_plots(struct report_doc *d, struct plot_set *ps, size_t m, co
     if (!rc) rc = rstat_hist(&o, &c->proto, REPORT_HIST_BINS, &h, e);
     if (!rc) {
         snprintf(name, sizeof name, "distances-%zu", m);
-        snprintf(title, sizeof title, "Top-1 distances of correct and wrong matches, %s, condition %s",
+        snprintf(title, sizeof title, "Top-1 distances, %s, condition %s",
                  d->table->methods[m], cond);
         rc = plot_hist(ps, name, title, &h, tau, c->m[RDATA_R100P].threshold, e);
         rstat_hist_free(&h);

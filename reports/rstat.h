@@ -96,13 +96,14 @@ void rstat_outcomes_free(struct rstat_outcomes *o);
 int rstat_true_pair(const struct rdata_poses *p, const struct protocol *pr, long i, long j);
 
 /* Histogram of the top-1 descriptor distance of queries whose top
- * candidate is within r_pos (correct) and beyond r_neg (wrong), over
+ * candidate is within r_pos (correct), beyond r_neg on a query that has a
+ * revisit (wrong) and beyond r_neg on a query with none (norev), over
  * nbins equal bins from the smallest to the largest top-1 distance (the
  * last bin closed, as numpy.histogram).  lo == hi gives one bin. */
 struct rstat_hist {
     size_t nbins;
     double lo, hi;
-    size_t *correct, *wrong;
+    size_t *correct, *wrong, *norev;
 };
 int rstat_hist(const struct rstat_outcomes *o, const struct protocol *pr, size_t nbins,
                struct rstat_hist *h, struct err *e);

@@ -228,13 +228,14 @@ int rstat_hist(const struct rstat_outcomes *o, const struct protocol *pr, size_t
     h->nbins = h->lo == h->hi ? 1 : nbins;
     h->correct = calloc(h->nbins, sizeof *h->correct);
     h->wrong = calloc(h->nbins, sizeof *h->wrong);
-    if (!h->correct || !h->wrong) { rstat_hist_free(h); return err_set(e, "out of memory for a histogram"); }
+    h->norev = calloc(h->nbins, sizeof *h->norev);
+    if (!h->correct || !h->wrong || !h->norev) { rstat_hist_free(h); return err_set(e, "out of memory for a histogram"); }
     for (size_t k = 0; k < o->n; k++) {
         const struct rstat_outcome *r = &o->o[k];
         if (r->cand < 0 || !isfinite(r->dist)) continue;
         size_t b = hist_bin(h, r->dist);
         if (r->pose_d <= pr->r_pos_m) h->correct[b]++;
-        else if (r->pose_d > pr->r_neg_m) h->wrong[b]++;
+        else if (r->pose_d > pr->r_neg_m) (r->revisit ? h->wrong : h->norev)[b]++;
     }
     return 0;
 }
@@ -243,6 +244,7 @@ void rstat_hist_free(struct rstat_hist *h)
 {
     free(h->correct);
     free(h->wrong);
+    free(h->norev);
     memset(h, 0, sizeof *h);
 }
 

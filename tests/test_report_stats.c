@@ -105,16 +105,22 @@ static void hist_checks(void)
     memset(oo, 0, sizeof oo);
     double d[5] = {0, 0.25, 0.5, 0.75, 1.0};
     for (int k = 0; k < 5; k++) { oo[k].cand = 1; oo[k].dist = d[k]; oo[k].pose_d = 1; }
-    oo[5].cand = 1; oo[5].dist = 0.6; oo[5].pose_d = 50;  /* a wrong top-1 */
-    struct rstat_outcomes o = {6, oo, {0}, {0}};
+    oo[5].cand = 1; oo[5].dist = 0.6; oo[5].pose_d = 50; oo[5].revisit = 1;  /* a wrong top-1 */
+    struct rstat_outcome extra = {.cand = 1, .dist = 0.9, .pose_d = 50};     /* no revisit to find */
+    struct rstat_outcome all[7];
+    memcpy(all, oo, sizeof oo);
+    all[6] = extra;
+    struct rstat_outcomes o = {7, all, {0}, {0}};
     struct protocol pr;
     protocol_defaults(&pr);
     struct rstat_hist h;
     struct err e;
-    CHECK(rstat_hist(&o, &pr, 4, &h, &e) == 0, "histogram of six top-1 distances");
+    CHECK(rstat_hist(&o, &pr, 4, &h, &e) == 0, "histogram of seven top-1 distances");
     CHECK(h.lo == 0 && h.hi == 1 && h.correct[0] == 1 && h.correct[1] == 1 && h.correct[2] == 1 && h.correct[3] == 2,
           "correct counts 1, 1, 1, 2 with the last bin closed");
     CHECK(h.wrong[2] == 1 && h.wrong[0] + h.wrong[1] + h.wrong[3] == 0, "the wrong match falls in the third bin");
+    CHECK(h.norev[3] == 1 && h.norev[0] + h.norev[1] + h.norev[2] == 0 && h.wrong[3] == 0,
+          "a wrong top-1 of a query without a revisit counts apart, in the last bin");
     rstat_hist_free(&h);
     o.n = 1;
     CHECK(rstat_hist(&o, &pr, 4, &h, &e) == 0 && h.nbins == 1 && h.correct[0] == 1, "one distinct distance gives one bin");

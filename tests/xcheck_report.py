@@ -103,14 +103,19 @@ def main():
     pd = np.array([np.linalg.norm(xyz[pos[q]] - xyz[pos[c[0]]]) for q, c in top.items() if c])
     rng = (d1.min(), d1.max())
     hc, _ = np.histogram(d1[pd <= r_pos], bins=40, range=rng)
-    hw, _ = np.histogram(d1[pd > r_pos], bins=40, range=rng)
+    rv = np.array([bool(true_cands(pos[q])) for q, c in top.items() if c])
+    hw, _ = np.histogram(d1[(pd > r_pos) & rv], bins=40, range=rng)
+    hn, _ = np.histogram(d1[(pd > r_pos) & ~rv], bins=40, range=rng)
     h = np.array(load_block(os.path.join(plots, "distances-0.dat")))
-    check(h.shape == (40, 4), "the distance histogram has 40 bins")
+    check(h.shape == (40, 5), "the distance histogram has 40 bins of three counts")
     check(np.array_equal(h[:, 2].astype(int), hc), "correct top-1 counts equal numpy.histogram")
-    check(np.array_equal(h[:, 3].astype(int), hw), "wrong top-1 counts equal numpy.histogram")
+    check(np.array_equal(h[:, 3].astype(int), hw), "wrong top-1 counts of queries with a revisit (scipy) equal numpy.histogram")
+    check(np.array_equal(h[:, 4].astype(int), hn) and hn.sum() > 0,
+          "top-1 counts of queries without a revisit (scipy) equal numpy.histogram")
     check(abs(h[0, 0] - rng[0]) < 1e-9 and abs(h[-1, 1] - rng[1]) < 1e-6, "bins span the top-1 distance range")
     gp = open(os.path.join(plots, "distances-0.gp")).read()
     check(("from %.9g," % tau) in gp, "the F1max threshold of result.json is marked")
+    check(("'F1max threshold %.4g'" % tau) in gp, "the F1max threshold's value is written beside its mark")
 
     # Matrix truth rings against the k-d tree.
     rows = [ln for ln in open(os.path.join(cell, "matrix.csv")) if not ln.startswith("# ")]
@@ -139,8 +144,27 @@ def main():
             check(abs(float(row["sd"]) - np.std(vals, ddof=1)) < 1e-9, "scalars.csv sd of %s on %s equals numpy.std(ddof=1)" % (m, cond))
             check(row["seeds"] == "3", "three seeds counted for %s on %s" % (m, cond))
     summary_chart(sweep, plots)
+    pr_marks(sweep, plots)
     shutil.rmtree(tmp, ignore_errors=True)
     return done()
+
+
+def pr_marks(sweep, plots):
+    """PR curves of the perturbed condition: the dotted reference curve is the
+    unperturbed cell's curve, and the marked point is the curve's (recall,
+    precision) at the F1max threshold result.json names."""
+    for m in (0, 1):
+        ref = json.load(open(os.path.join(sweep, "cells", "m%d-c0-s1" % m, "result.json")))["curve"]
+        got = np.array(load_block(os.path.join(plots, "pr-1-reference.dat"), m))
+        check(np.allclose(got[:, 0], ref["recall"]) and np.allclose(got[:, 1], ref["precision"]),
+              "PR curve behind method %d: the reference condition's curve" % m)
+        r = json.load(open(os.path.join(sweep, "cells", "m%d-c1-s1" % m, "result.json")))
+        k = r["curve"]["threshold"].index(r["metrics"]["f1max"]["threshold"])
+        pt = load_block(os.path.join(plots, "pr-1-f1max.dat"), m)
+        check(len(pt) == 1 and np.allclose(pt[0], [r["curve"]["recall"][k], r["curve"]["precision"][k]]),
+              "the F1max point of method %d lies at the result's F1max threshold on its curve" % m)
+    gp = open(os.path.join(plots, "pr-1.gp")).read()
+    check(gp.index("pr-1-reference.dat") < gp.index("'pr-1.dat'"), "the reference curves are drawn first, behind")
 
 
 def summary_chart(sweep, plots):
