@@ -7,7 +7,8 @@ set -u
 FB=$1; SECS=$2
 root=$(cd "$(dirname "$0")/.." && pwd)
 cd "$root"
-LIBS="$FB/libharness.a $FB/libsynth.a $FB/libreports.a $FB/libperturb.a $FB/libmetrics.a"
+# the libraries in the Makefile's link order (libcli, then LAYERS)
+LIBS="$FB/libcli.a $FB/libreports.a $FB/librun.a $FB/libsynth.a $FB/libresults.a $FB/libplan.a $FB/libperturb.a $FB/libmetrics.a $FB/libio.a $FB/libbase.a"
 LDLIBS="$(pkg-config --libs libcjson 2>/dev/null || echo -lcjson) -lopenblas -llapacke -llzf -lbz2 -llz4 -lzstd -ldl -lpthread -lm"
 mkdir -p "$FB/fuzz"
 found=0
