@@ -4,7 +4,7 @@
  * measured in the same run (machines are shared):
  *   point pass     one read of every point of every scan (describe figures)
  *   sgemm          one cblas_sgemm of the same shape as the retrieval
- *                  (target: retrieval reaches >= 0.6 of its GFLOP/s)
+ *                  on all cores (target: retrieval reaches >= 0.7 of its GFLOP/s)
  *   scan load      reading every scan of the recording once (eval figure) */
 #include <cblas.h>
 #include <math.h>
@@ -106,7 +106,7 @@ static void be_retrieval(void)
     }
     double flop = 2.0 * n * n * dim;
     printf("{\"bench\":\"retrieval\",\"map\":%zu,\"queries\":%zu,\"dim\":%u,\"top_k\":25,\"gflops\":%.2f,"
-           "\"sgemm_gflops\":%.2f,\"ratio_to_sgemm\":%.2f,\"target\":0.6}\n",
+           "\"sgemm_gflops\":%.2f,\"ratio_to_sgemm\":%.2f,\"target\":0.7}\n",
            n, n, dim, flop / tr * 1e-9, flop / ts * 1e-9, ts / tr);
     free(m);
     free(q);

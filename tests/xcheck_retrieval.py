@@ -6,7 +6,8 @@ distance with ties broken by the lower index, as design.md states.  Our
 C retrieval (blocked float32 sgemm + streaming top-K + exact re-rank, run
 through build/tests/tool_retrieval) must return the same indices in the same
 order and distances within 1e-5, in loop and reloc mode, with exact ties
-planted (duplicated rows; for cosine also rows scaled by 2 and zero rows).
+planted (duplicated rows; for cosine also rows scaled by 2 and zero rows),
+and on sets larger than the blocks the dense path works in.
 """
 import os
 import subprocess
@@ -24,6 +25,8 @@ def dist(kind, q, m):
     """All-pairs distances in float64 (numpy reference)."""
     q = q.astype(np.float64)
     m = m.astype(np.float64)
+    if kind == "l2" and len(q) * len(m) * q.shape[1] > 2e7:   # in row blocks, same values
+        return np.concatenate([dist(kind, q[a:a + 100], m) for a in range(0, len(q), 100)])
     if kind == "l2":
         return np.linalg.norm(q[:, None, :] - m[None, :, :], axis=2)
     if kind in ("l1", "l1key"):
@@ -105,7 +108,34 @@ def main():
             cand = (i[None, :] <= i[:, None] - 50)
             compare(run(["loopn", kind, k, dim, mp, 50, 40]),
                     reference(kind, m, m, k, cand, 40), "loop %s, index window" % kind)
+        big(rng, tmp)
     return done()
+
+
+def big(rng, tmp):
+    """Sizes past one block of queries (256) and of map rows (1,024), so the
+    pool's tasks, the sampled first bar and the trims of the collectors all
+    run; exact ties planted across block boundaries; K from 1 to 200."""
+    dim = 12
+    m = rng.standard_normal((2600, dim)).astype(np.float32)
+    for a, b in ((5, 1029), (5, 2053), (700, 1500), (1023, 1024)):
+        m[b] = m[a]
+    q = rng.standard_normal((600, dim)).astype(np.float32)
+    q[300] = m[1029]
+    mp, qp, tp = (os.path.join(tmp, n) for n in ("bm.f32", "bq.f32", "bt.f64"))
+    m.tofile(mp)
+    q.tofile(qp)
+    t = np.cumsum(rng.choice([0.5, 1.0], size=len(m)))
+    t.tofile(tp)
+    i = np.arange(len(m))
+    loop = (i[None, :] < i[:, None]) & (t[None, :] <= t[:, None] - 30.0)
+    for k in (1, 25, 200):
+        compare(run(["reloc", "l2", k, dim, mp, qp]),
+                reference("l2", q, m, k, np.ones((len(q), len(m)), bool)), "big reloc l2, K %d" % k)
+    compare(run(["loop", "l2", 25, dim, mp, tp, 30]), reference("l2", m, m, 25, loop),
+            "big loop l2, time exclusion")
+    compare(run(["reloc", "cosine", 25, dim, mp, qp]),
+            reference("cosine", q, m, 25, np.ones((len(q), len(m)), bool)), "big reloc cosine")
 
 
 if __name__ == "__main__":

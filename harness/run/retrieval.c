@@ -1,15 +1,13 @@
-/* retrieval.c: blocked sgemm scoring with streaming per-query top-K. */
+/* retrieval.c: pair distances, the candidate rule, the exact re-rank and
+ * the custom-distance path (the sgemm path is retrieval_dense.c). */
 #include "harness/run/retrieval.h"
 
-#include <cblas.h>
 #include <math.h>
 #include <stdlib.h>
 #include <string.h>
 
 #include "harness/base/pool.h"
-
-#define RETR_BQ 1024   /* queries per block */
-#define RETR_BM 4096   /* map rows per block */
+#include "harness/run/retrieval_rank.h"
 
 /* A bounded max-heap of (score, index): the worst kept candidate on top. */
 struct retr_heap {
@@ -89,7 +87,7 @@ void retrieval_out_free(struct retrieval_out *o)
     memset(o, 0, sizeof *o);
 }
 
-static int retr_out_alloc(struct retrieval_out *o, size_t nq, int k, struct err *e)
+int retr_out_alloc(struct retrieval_out *o, size_t nq, int k, struct err *e)
 {
     memset(o, 0, sizeof *o);
     o->n_query = nq;
@@ -106,84 +104,6 @@ static int retr_out_alloc(struct retrieval_out *o, size_t nq, int k, struct err 
     return 0;
 }
 
-/* Scratch of the dense path: heaps for all queries, norms, one score block. */
-struct retr_dense {
-    struct retr_heap *h;
-    double *hs;
-    int32_t *hj;
-    float *qn, *mn, *blk;
-    double *pair;
-};
-
-static void retr_dense_free(struct retr_dense *d)
-{
-    free(d->h);
-    free(d->hs);
-    free(d->hj);
-    free(d->qn);
-    free(d->mn);
-    free(d->blk);
-    free(d->pair);
-}
-
-/* Norms (or inverse norms for cosine) of every row. */
-static void retr_norms(const struct retrieval_mat *m, enum rv_distance kind, float *out)
-{
-    for (size_t i = 0; i < m->n; i++) {
-        double s = 0;
-        const float *v = m->v + i * m->dim;
-        for (uint32_t k = 0; k < m->dim; k++) s += (double)v[k] * v[k];
-        out[i] = kind == RV_DIST_COSINE ? (s > 0 ? (float)(1 / sqrt(s)) : 0.0f) : (float)s;
-    }
-}
-
-/* One block pair being scored: pool tasks take RETR_ROWS query rows each. */
-#define RETR_ROWS 32
-struct retr_job {
-    const struct retrieval_mat *map, *q;
-    enum rv_distance kind;
-    const struct retrieval_rule *rule;
-    struct retr_dense *d;
-    size_t q0, nq, m0, nm;
-    int jobs;
-};
-
-/* Push every candidate score of rows [a0, a1) of the block into its heap. */
-static int retr_rows(void *arg, size_t task, int worker, struct err *e)
-{
-    (void)worker;
-    (void)e;
-    const struct retr_job *jb = arg;
-    struct retr_dense *d = jb->d;
-    size_t a1 = (task + 1) * RETR_ROWS < jb->nq ? (task + 1) * RETR_ROWS : jb->nq;
-    for (size_t a = task * RETR_ROWS; a < a1; a++) {
-        size_t i = jb->q0 + a, m0 = jb->m0;
-        const float *row = d->blk + a * jb->nm;
-        struct retr_heap *h = &d->h[i];
-        /* loop candidates all lie below i; reloc takes every map row */
-        size_t bend = jb->rule->loop && i < m0 + jb->nm ? (i > m0 ? i - m0 : 0) : jb->nm;
-        float qn = d->qn[i];
-        for (size_t b = 0; b < bend; b++) {
-            float sc = jb->kind == RV_DIST_COSINE ? 1.0f - row[b] * qn * d->mn[m0 + b]
-                                                  : qn + d->mn[m0 + b] - 2.0f * row[b];
-            if (h->n == h->cap && (double)sc > h->s[0]) continue;  /* fast reject */
-            if (jb->rule->loop && !retrieval_is_candidate(jb->rule, i, m0 + b)) continue;
-            retr_push(h, (double)sc, (int32_t)(m0 + b));
-        }
-    }
-    return 0;
-}
-
-/* Score one block pair with one sgemm, then feed the heaps on every core. */
-static int retr_block(struct retr_job *jb, struct err *e)
-{
-    const struct retrieval_mat *q = jb->q, *map = jb->map;
-    cblas_sgemm(CblasRowMajor, CblasNoTrans, CblasTrans, (int)jb->nq, (int)jb->nm, (int)q->dim, 1.0f,
-                q->v + jb->q0 * q->dim, (int)q->dim, map->v + jb->m0 * map->dim, (int)map->dim, 0.0f,
-                jb->d->blk, (int)jb->nm);
-    return pool_run((jb->nq + RETR_ROWS - 1) / RETR_ROWS, jb->jobs, retr_rows, jb, e);
-}
-
 static int retr_cmp_pair(const void *a, const void *b)
 {
     const double *x = a, *y = b;
@@ -191,19 +111,54 @@ static int retr_cmp_pair(const void *a, const void *b)
     return (x[1] > y[1]) - (x[1] < y[1]);
 }
 
-/* Exact distances for the kept candidates of query i (pair: 2 x cap
- * scratch), sorted by (distance, index), best k out. */
-static void retr_finish(const struct retrieval_mat *map, const struct retrieval_mat *q,
-                        enum rv_distance kind, const struct retr_heap *h, size_t i, double *pair,
-                        struct retrieval_out *o)
+/* retrieval_pair of a against four rows at once: each lane runs exactly
+ * the sums of retrieval_pair in the same order, so every result is the
+ * same bit for bit; the four dependency chains only overlap in time. */
+static void retr_pair4(const float *a, const float *const b[4], uint32_t dim, enum rv_distance kind,
+                       double out[4])
 {
-    for (int c = 0; c < h->n; c++) {
-        pair[2 * c] = kind == RV_DIST_CUSTOM ? h->s[c]
-                      : retrieval_pair(q->v + i * q->dim, map->v + (size_t)h->j[c] * map->dim, q->dim, kind);
-        pair[2 * c + 1] = h->j[c];
+    const float *b0 = b[0], *b1 = b[1], *b2 = b[2], *b3 = b[3];
+    double s0 = 0, s1 = 0, s2 = 0, s3 = 0;
+    if (kind == RV_DIST_COSINE) {
+        double na = 0, n0 = 0, n1 = 0, n2 = 0, n3 = 0;
+        for (uint32_t k = 0; k < dim; k++) {
+            double x = a[k];
+            na += x * x;
+            s0 += x * b0[k], n0 += (double)b0[k] * b0[k];
+            s1 += x * b1[k], n1 += (double)b1[k] * b1[k];
+            s2 += x * b2[k], n2 += (double)b2[k] * b2[k];
+            s3 += x * b3[k], n3 += (double)b3[k] * b3[k];
+        }
+        const double s[4] = {s0, s1, s2, s3}, nb[4] = {n0, n1, n2, n3};
+        for (int l = 0; l < 4; l++) {
+            double d = na > 0 && nb[l] > 0 ? 1 - s[l] / sqrt(na * nb[l]) : 1;
+            out[l] = d < 0 ? 0 : d;
+        }
+        return;
     }
-    qsort(pair, (size_t)h->n, 2 * sizeof *pair, retr_cmp_pair);
-    int keep = h->n < o->k ? h->n : o->k;
+    for (uint32_t k = 0; k < dim; k++) {
+        double x = a[k], t0 = x - b0[k], t1 = x - b1[k], t2 = x - b2[k], t3 = x - b3[k];
+        s0 += t0 * t0, s1 += t1 * t1, s2 += t2 * t2, s3 += t3 * t3;
+    }
+    out[0] = sqrt(s0), out[1] = sqrt(s1), out[2] = sqrt(s2), out[3] = sqrt(s3);
+}
+
+void retr_rank(const struct retrieval_mat *map, const struct retrieval_mat *q, enum rv_distance kind,
+               const double *s, const int32_t *j, int n, size_t i, double *pair, struct retrieval_out *o)
+{
+    for (int c = 0; c < n; c += 4) {
+        const float *rows[4];
+        double d[4];
+        for (int l = 0; l < 4; l++)   /* past the end: repeat the last row, result unused */
+            rows[l] = map->v + (size_t)j[c + l < n ? c + l : n - 1] * map->dim;
+        if (kind != RV_DIST_CUSTOM) retr_pair4(q->v + i * q->dim, rows, q->dim, kind, d);
+        for (int l = 0; l < 4 && c + l < n; l++) {
+            pair[2 * (c + l)] = kind == RV_DIST_CUSTOM ? s[c + l] : d[l];
+            pair[2 * (c + l) + 1] = j[c + l];
+        }
+    }
+    qsort(pair, (size_t)n, 2 * sizeof *pair, retr_cmp_pair);
+    int keep = n < o->k ? n : o->k;
     for (int c = 0; c < keep; c++) {
         o->dist[i * o->k + c] = pair[2 * c];
         o->idx[i * o->k + c] = (int32_t)pair[2 * c + 1];
@@ -211,8 +166,8 @@ static void retr_finish(const struct retrieval_mat *map, const struct retrieval_
     o->count[i] = keep;
 }
 
-static int retr_check(const struct retrieval_mat *map, const struct retrieval_mat *q,
-                      const struct retrieval_rule *rule, int k, struct err *e)
+int retr_check(const struct retrieval_mat *map, const struct retrieval_mat *q,
+               const struct retrieval_rule *rule, int k, struct err *e)
 {
     if (k < 1) return err_set(e, "retrieval: top-k %d, expected at least 1", k);
     if (map->dim != q->dim || map->dim == 0)
@@ -224,48 +179,6 @@ static int retr_check(const struct retrieval_mat *map, const struct retrieval_ma
     if (rule->loop && rule->exclusion_scans < 0 && !rule->t)
         return err_set(e, "retrieval: loop mode with a time exclusion needs scan times");
     if (map->n > INT32_MAX) return err_set(e, "retrieval: %zu map scans, expected at most %d", map->n, INT32_MAX);
-    return 0;
-}
-
-int retrieval_dense(const struct retrieval_mat *map, const struct retrieval_mat *q,
-                    enum rv_distance kind, const struct retrieval_rule *rule, int k, int jobs,
-                    struct retrieval_out *out, struct err *e)
-{
-    if (retr_check(map, q, rule, k, e) || retr_out_alloc(out, q->n, k, e)) return -1;
-    int cap = k + k / 4 + 8;
-    struct retr_dense d = {0};
-    d.h = calloc(q->n ? q->n : 1, sizeof *d.h);
-    d.hs = malloc((q->n ? q->n : 1) * (size_t)cap * sizeof *d.hs);
-    d.hj = malloc((q->n ? q->n : 1) * (size_t)cap * sizeof *d.hj);
-    d.qn = malloc((q->n ? q->n : 1) * sizeof *d.qn);
-    d.mn = malloc((map->n ? map->n : 1) * sizeof *d.mn);
-    d.blk = malloc((size_t)RETR_BQ * RETR_BM * sizeof *d.blk);
-    d.pair = malloc(2 * (size_t)cap * sizeof *d.pair);
-    if (!d.h || !d.hs || !d.hj || !d.qn || !d.mn || !d.blk || !d.pair) {
-        retr_dense_free(&d);
-        retrieval_out_free(out);
-        return err_set(e, "retrieval: out of memory for %zu queries", q->n);
-    }
-    for (size_t i = 0; i < q->n; i++)
-        d.h[i] = (struct retr_heap){d.hs + i * cap, d.hj + i * cap, 0, cap};
-    retr_norms(q, kind, d.qn);
-    retr_norms(map, kind, d.mn);
-    for (size_t q0 = 0; q0 < q->n; q0 += RETR_BQ) {
-        size_t nq = q->n - q0 < RETR_BQ ? q->n - q0 : RETR_BQ;
-        /* loop mode: candidates of these queries have j < q0 + nq */
-        size_t mend = rule->loop ? q0 + nq : map->n;
-        for (size_t m0 = 0; m0 < mend; m0 += RETR_BM) {
-            size_t nm = mend - m0 < RETR_BM ? mend - m0 : RETR_BM;
-            struct retr_job jb = {map, q, kind, rule, &d, q0, nq, m0, nm, jobs};
-            if (retr_block(&jb, e)) {
-                retr_dense_free(&d);
-                retrieval_out_free(out);
-                return -1;
-            }
-        }
-    }
-    for (size_t i = 0; i < q->n; i++) retr_finish(map, q, kind, &d.h[i], i, d.pair, out);
-    retr_dense_free(&d);
     return 0;
 }
 
@@ -302,7 +215,7 @@ static int retr_custom_task(void *arg, size_t i, int worker, struct err *e)
         double d = c->fn(c->ctx, qv, c->map->v + j * c->map->dim);
         retr_push(&h, isfinite(d) && d >= 0 ? d : INFINITY, (int32_t)j);
     }
-    retr_finish(c->map, c->q, RV_DIST_CUSTOM, &h, i, tmp, c->out);
+    retr_rank(c->map, c->q, RV_DIST_CUSTOM, h.s, h.j, h.n, i, tmp, c->out);
     free(tmp);
     free(js);
     free(s);

@@ -4,10 +4,12 @@
  *
  *     v:  | d(0,0) ... d(0,dim-1) | d(1,0) ... | ...    (n rows of dim floats)
  *
- * Dense retrieval (L2 or cosine) multiplies blocks of queries by blocks of
- * map rows with one OpenBLAS sgemm per block pair and feeds each score into
- * a bounded max-heap per query, so memory is O(block^2 + n_query * K), never
- * n_query x n_map: a map of 100,000 scans needs no N x N matrix.  The heap
+ * Dense retrieval (L2 or cosine) splits the queries into blocks of 256, one
+ * pool task each; a task multiplies its block by 1,024 map rows at a time
+ * with a single-threaded OpenBLAS sgemm (the pool's threads replace
+ * OpenBLAS's own) and feeds each score, while the block is in cache, into a
+ * bounded max-heap per query, so memory is O(threads x block + n_query x K),
+ * never n_query x n_map: a map of 100,000 scans needs no N x N matrix.  The heap
  * keeps K + K/4 + 8 candidates by the float score; their distances are then
  * recomputed in double and the best K kept, so reported distances carry no
  * cancellation error from |q|^2 + |m|^2 - 2 q.m.
@@ -62,8 +64,9 @@ double retrieval_pair(const float *a, const float *b, uint32_t dim, enum rv_dist
 /* 1 when map scan j is a candidate of query i. */
 int retrieval_is_candidate(const struct retrieval_rule *r, size_t i, size_t j);
 
-/* L2 / cosine top-K; jobs threads (<= 0: all cores) feed the heaps while
- * OpenBLAS runs its own.  0 or -1 (bad sizes, out of memory); out is then empty. */
+/* L2 / cosine top-K on jobs threads (<= 0: all cores), OpenBLAS set to one
+ * thread meanwhile (and restored).  0 or -1 (bad sizes, out of memory); out
+ * is then empty. */
 int retrieval_dense(const struct retrieval_mat *map, const struct retrieval_mat *query,
                     enum rv_distance kind, const struct retrieval_rule *rule, int k, int jobs,
                     struct retrieval_out *out, struct err *e);

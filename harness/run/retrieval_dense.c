@@ -1,0 +1,343 @@
+/* retrieval_dense.c: L2 and cosine top-K by blocked single-threaded sgemm
+ * on the pool's threads, each score block screened while it is in cache.
+ *
+ * One pool task owns RETR_TQ queries for the whole map: it multiplies them
+ * by RETR_BM map rows at a time into its worker's block, and feeds each
+ * query's row of scores into that query's collector (struct retr_top).
+ * When the task has seen every map row, its queries are re-ranked exactly
+ * (retr_rank) and written out, so per-query state lives only in the task:
+ *
+ *     worker w:  blk   | RETR_TQ x RETR_BM float scores |
+ *                keys  | RETR_TQ collectors of room (= 4 cap) keys |
+ *                js, pair  re-rank scratch of room indices, 2 room doubles
+ */
+#include "harness/run/retrieval.h"
+
+#include <cblas.h>
+#include <math.h>
+#include <stdlib.h>
+#include <string.h>
+#if defined(__SSE2__)
+#include <emmintrin.h>
+#endif
+
+#include "harness/base/blas.h"
+#include "harness/base/pool.h"
+#include "harness/run/retrieval_rank.h"
+
+#define RETR_TQ 256    /* queries per pool task */
+#define RETR_BM 1024   /* map rows per sgemm */
+#define RETR_CHUNK 64  /* scores screened at once (one bit each in a mask) */
+#define RETR_SEED 64   /* samples for a collector's first bar */
+
+/* The best cap candidates of one query so far, in an unsorted buffer of
+ * room (= 4 cap) keys.  A key packs (score, index) into one integer whose
+ * order is theirs: the float's bits made monotone in the high half (-0 as
+ * +0, NaN after everything), the map index in the low half.  A score is
+ * looked at when !(score >= bar): bar is NaN until the buffer first fills
+ * (everything enters), then the score of the worst key kept by the last
+ * trim; a full buffer is trimmed to the cap best keys.  A query meets its
+ * map rows in increasing index order, so a later score equal to the bar
+ * has the larger key and stays out.
+ *     cap 2, room 4:  0.5 0.9 0.2 0.7  -> trim ->  0.2 0.5, bar 0.5 */
+struct retr_top {
+    uint64_t *key;
+    int n;
+    float bar;
+    uint64_t bar_key;
+};
+
+static uint64_t retr_key(float s, int32_t j)
+{
+    uint32_t u;
+    s += 0.0f;   /* -0 -> +0 */
+    memcpy(&u, &s, sizeof u);
+    u = s != s ? UINT32_MAX : (u & 0x80000000u) ? ~u : u | 0x80000000u;
+    return (uint64_t)u << 32 | (uint32_t)j;
+}
+
+static float retr_key_score(uint64_t k)
+{
+    uint32_t u = (uint32_t)(k >> 32);
+    if (u == UINT32_MAX) return NAN;
+    u = (u & 0x80000000u) ? u & 0x7fffffffu : ~u;
+    float s;
+    memcpy(&s, &u, sizeof s);
+    return s;
+}
+
+struct retr_dense {
+    const struct retrieval_mat *map, *q;
+    enum rv_distance kind;
+    const struct retrieval_rule *rule;
+    struct retrieval_out *out;
+    size_t n_tasks;
+    int cap, room, workers;
+    float *qn, *mn;           /* squared norms (L2) or inverse norms (cosine) */
+    float *blk;               /* per worker: scores */
+    uint64_t *keys;           /* per worker: RETR_TQ collectors of room keys */
+    int32_t *js;              /* per worker: room indices, for the re-rank */
+    double *pair;             /* per worker: re-rank scratch */
+};
+
+static void retr_dense_free(struct retr_dense *d)
+{
+    free(d->qn);
+    free(d->mn);
+    free(d->blk);
+    free(d->keys);
+    free(d->js);
+    free(d->pair);
+}
+
+static void retr_norms(const struct retrieval_mat *m, enum rv_distance kind, float *out)
+{
+    for (size_t i = 0; i < m->n; i++) {
+        double s = 0;
+        const float *v = m->v + i * m->dim;
+        for (uint32_t k = 0; k < m->dim; k++) s += (double)v[k] * v[k];
+        out[i] = kind == RV_DIST_COSINE ? (s > 0 ? (float)(1 / sqrt(s)) : 0.0f) : (float)s;
+    }
+}
+
+/* Keep the k (< n) smallest keys, in any order (selection by Hoare
+ * partition; keys are distinct, since every index differs). */
+static void retr_top_keep(struct retr_top *t, int k)
+{
+    uint64_t *v = t->key;
+    int lo = 0, hi = t->n - 1;
+    while (lo < hi) {
+        uint64_t p = v[lo + (hi - lo) / 2];
+        int a = lo, b = hi;
+        while (a <= b) {
+            while (v[a] < p) a++;
+            while (v[b] > p) b--;
+            if (a <= b) {
+                uint64_t x = v[a];
+                v[a++] = v[b];
+                v[b--] = x;
+            }
+        }
+        if (k - 1 <= b) hi = b;      /* [lo, b] <= p <= [a, hi] */
+        else if (k - 1 >= a) lo = a;
+        else break;                  /* k - 1 holds p: in place */
+    }
+    t->n = k;
+}
+
+/* Trim a full buffer to cap; the bar becomes the worst key kept. */
+static void retr_top_trim(struct retr_top *t, int cap)
+{
+    retr_top_keep(t, cap);
+    uint64_t worst = t->key[0];
+    for (int c = 1; c < cap; c++) worst = t->key[c] > worst ? t->key[c] : worst;
+    t->bar_key = worst;
+    t->bar = retr_key_score(worst);
+}
+
+/* Scores of nb map rows (r: their dot products with the query, m: their
+ * norms) into sc; returns a bit per score that a collector with this bar
+ * may take (bit b for sc[b], NaN included).  Full chunks use SSE where the
+ * target has it: the same float operations in the same order as the
+ * scalar expressions, so the scores are the same bit for bit. */
+static uint64_t retr_screen(int cosine, const float *r, const float *m, float qn, float bar, size_t nb,
+                            float *sc)
+{
+    uint64_t mask = 0;
+#if defined(__SSE2__)
+    if (nb == RETR_CHUNK) {
+        const __m128 vq = _mm_set1_ps(qn), vbar = _mm_set1_ps(bar), one = _mm_set1_ps(1.0f),
+                     two = _mm_set1_ps(2.0f);
+        for (size_t b = 0; b < RETR_CHUNK; b += 4) {
+            __m128 vr = _mm_loadu_ps(r + b), vm = _mm_loadu_ps(m + b);
+            __m128 v = cosine ? _mm_sub_ps(one, _mm_mul_ps(_mm_mul_ps(vr, vq), vm))
+                              : _mm_sub_ps(_mm_add_ps(vq, vm), _mm_mul_ps(two, vr));
+            _mm_storeu_ps(sc + b, v);
+            mask |= (uint64_t)_mm_movemask_ps(_mm_cmpnge_ps(v, vbar)) << b;
+        }
+        return mask;
+    }
+#endif
+    for (size_t b = 0; b < nb; b++) {
+        sc[b] = cosine ? 1.0f - r[b] * qn * m[b] : qn + m[b] - 2.0f * r[b];
+        mask |= (uint64_t)!(sc[b] >= bar) << b;
+    }
+    return mask;
+}
+
+/* Offer score s of map row j to a collector (the bar is passed already). */
+static void retr_top_offer(struct retr_top *t, int cap, int room, float s, int32_t j)
+{
+    uint64_t key = retr_key(s, j);
+    if (key >= t->bar_key) return;
+    if (t->n == room) {
+        retr_top_trim(t, cap);
+        if (key >= t->bar_key) return;
+    }
+    t->key[t->n++] = key;
+}
+
+/* Score of map row m0 + b against query i, the same expression as the screen. */
+static float retr_score(const struct retr_dense *d, size_t i, const float *row, size_t m0, size_t b)
+{
+    float qn = d->qn[i], m = d->mn[m0 + b], r = row[b];
+    return d->kind == RV_DIST_COSINE ? 1.0f - r * qn * m : qn + m - 2.0f * r;
+}
+
+/* A first bar for a collector that has none yet, from these rows: the
+ * rank-th smallest of about RETR_SEED evenly spaced candidate scores,
+ * kept only when at least cap candidates here score below it (counted
+ * exactly), so no score at or above it can reach the cap best.  It saves
+ * the buffer from filling with the many early, loose entries.
+ *     cap 39, 1024 rows: the 5th of 64 samples, about 80 rows below it */
+static void retr_top_seed(const struct retr_dense *d, struct retr_top *t, size_t i, const float *row,
+                          size_t m0, size_t n)
+{
+    size_t step = n / RETR_SEED, rank = 2 * (size_t)d->cap * RETR_SEED / (n ? n : 1) + 1;
+    if (t->bar == t->bar || step == 0 || rank > RETR_SEED / 4) return;
+    float low[RETR_SEED / 4];
+    size_t nl = 0;
+    for (size_t b = 0; b < n; b += step) {   /* the rank smallest samples, ascending */
+        float s = retr_score(d, i, row, m0, b);
+        if (s != s || (d->rule->loop && !retrieval_is_candidate(d->rule, i, m0 + b))) continue;
+        size_t at = nl < rank ? nl++ : rank;
+        for (; at > 0 && low[at - 1] > s; at--)
+            if (at < rank) low[at] = low[at - 1];
+        if (at < rank) low[at] = s;
+    }
+    if (nl < rank) return;
+    float v = low[rank - 1];
+    size_t below = 0;
+    for (size_t b = 0; b < n; b++)
+        if (retr_score(d, i, row, m0, b) < v && (!d->rule->loop || retrieval_is_candidate(d->rule, i, m0 + b)))
+            below++;
+    if (below < (size_t)d->cap) return;
+    t->bar = v;
+    t->bar_key = retr_key(v, 0);
+}
+
+/* Feed the scores of map rows [m0, m0 + n) against query i (row: their
+ * dot products) into its collector. */
+static void retr_feed(const struct retr_dense *d, struct retr_top *t, size_t i, const float *row, size_t m0,
+                      size_t n)
+{
+    const float *mn = d->mn + m0;
+    const float qn = d->qn[i];
+    const int cosine = d->kind == RV_DIST_COSINE, loop = d->rule->loop;
+    float sc[RETR_CHUNK];
+    retr_top_seed(d, t, i, row, m0, n);
+    for (size_t b0 = 0; b0 < n; b0 += RETR_CHUNK) {
+        size_t nb = n - b0 < RETR_CHUNK ? n - b0 : RETR_CHUNK;
+        uint64_t mask = retr_screen(cosine, row + b0, mn + b0, qn, t->bar, nb, sc);
+        for (; mask; mask &= mask - 1) {
+            size_t b = (size_t)__builtin_ctzll(mask);
+            if (sc[b] >= t->bar) continue;   /* the bar may have dropped since the screen */
+            size_t j = m0 + b0 + b;
+            if (loop && !retrieval_is_candidate(d->rule, i, j)) continue;
+            retr_top_offer(t, d->cap, d->room, sc[b], (int32_t)j);
+        }
+    }
+}
+
+/* Ask the cache for a query's kept rows before they are re-ranked. */
+static void retr_prefetch(const struct retrieval_mat *map, const struct retr_top *t)
+{
+    size_t bytes = (size_t)map->dim * sizeof *map->v;
+    for (int c = 0; c < t->n; c++) {
+        const char *row = (const char *)(map->v + (size_t)(uint32_t)t->key[c] * map->dim);
+        for (size_t o = 0; o < bytes; o += 64) __builtin_prefetch(row + o);
+    }
+}
+
+/* Every query of a task has met every map row: keep the cap best of each
+ * and re-rank them exactly, fetching the next query's rows meanwhile. */
+static void retr_task_rank(const struct retr_dense *d, struct retr_top *tops, size_t q0, size_t nq, int w)
+{
+    double *pair = d->pair + (size_t)w * 2 * d->room;
+    int32_t *js = d->js + (size_t)w * d->room;
+    for (size_t a = 0; a < nq; a++)
+        if (tops[a].n > d->cap) retr_top_keep(&tops[a], d->cap);
+    for (size_t a = 0; a < nq; a++) {
+        if (a + 1 < nq) retr_prefetch(d->map, &tops[a + 1]);
+        for (int c = 0; c < tops[a].n; c++) js[c] = (int32_t)(uint32_t)tops[a].key[c];
+        retr_rank(d->map, d->q, d->kind, NULL, js, tops[a].n, q0 + a, pair, d->out);
+    }
+}
+
+/* One pool task: RETR_TQ queries against the map.  Tasks run from the last
+ * query block down: in loop mode those see the most map rows, so the long
+ * ones start first. */
+static int retr_task(void *arg, size_t task, int w, struct err *e)
+{
+    (void)e;
+    const struct retr_dense *d = arg;
+    const struct retrieval_mat *q = d->q, *map = d->map;
+    size_t q0 = (d->n_tasks - 1 - task) * RETR_TQ;
+    size_t nq = q->n - q0 < RETR_TQ ? q->n - q0 : RETR_TQ;
+    size_t mend = d->rule->loop ? q0 + nq - 1 : map->n;   /* loop: candidates j < i */
+    float *blk = d->blk + (size_t)w * RETR_TQ * RETR_BM;
+    struct retr_top tops[RETR_TQ];
+    for (size_t a = 0; a < nq; a++) {
+        size_t at = ((size_t)w * RETR_TQ + a) * d->room;
+        tops[a] = (struct retr_top){d->keys + at, 0, NAN, UINT64_MAX};
+    }
+    for (size_t m0 = 0; m0 < mend; m0 += RETR_BM) {
+        size_t nm = mend - m0 < RETR_BM ? mend - m0 : RETR_BM;
+        cblas_sgemm(CblasRowMajor, CblasNoTrans, CblasTrans, (int)nq, (int)nm, (int)q->dim, 1.0f,
+                    q->v + q0 * q->dim, (int)q->dim, map->v + m0 * map->dim, (int)map->dim, 0.0f, blk,
+                    (int)nm);
+        for (size_t a = 0; a < nq; a++) {
+            size_t i = q0 + a;
+            size_t n = !d->rule->loop ? nm : i <= m0 ? 0 : i - m0 < nm ? i - m0 : nm;
+            if (n) retr_feed(d, &tops[a], i, blk + a * nm, m0, n);
+        }
+    }
+    retr_task_rank(d, tops, q0, nq, w);
+    return 0;
+}
+
+/* Norms and per-worker scratch; 0 or -1 (out of memory, d freed). */
+static int retr_dense_alloc(struct retr_dense *d, int k, int jobs, struct err *e)
+{
+    d->cap = k + k / 4 + 8;
+    d->room = 4 * d->cap;
+    d->n_tasks = (d->q->n + RETR_TQ - 1) / RETR_TQ;
+    d->workers = pool_threads(jobs);
+    if ((size_t)d->workers > d->n_tasks) d->workers = d->n_tasks ? (int)d->n_tasks : 1;
+    size_t w = (size_t)d->workers, slots = w * RETR_TQ * (size_t)d->room;
+    d->qn = malloc((d->q->n ? d->q->n : 1) * sizeof *d->qn);
+    d->mn = malloc((d->map->n ? d->map->n : 1) * sizeof *d->mn);
+    d->blk = malloc(w * RETR_TQ * RETR_BM * sizeof *d->blk);
+    d->keys = malloc(slots * sizeof *d->keys);
+    d->js = malloc(w * (size_t)d->room * sizeof *d->js);
+    d->pair = malloc(w * 2 * (size_t)d->room * sizeof *d->pair);
+    if (!d->qn || !d->mn || !d->blk || !d->keys || !d->js || !d->pair) {
+        retr_dense_free(d);
+        return err_set(e, "retrieval: out of memory for %zu queries", d->q->n);
+    }
+    return 0;
+}
+
+int retrieval_dense(const struct retrieval_mat *map, const struct retrieval_mat *q,
+                    enum rv_distance kind, const struct retrieval_rule *rule, int k, int jobs,
+                    struct retrieval_out *out, struct err *e)
+{
+    if (retr_check(map, q, rule, k, e) || retr_out_alloc(out, q->n, k, e)) return -1;
+    struct retr_dense d = {.map = map, .q = q, .kind = kind, .rule = rule, .out = out};
+    if (retr_dense_alloc(&d, k, jobs, e)) {
+        retrieval_out_free(out);
+        return -1;
+    }
+    retr_norms(q, kind, d.qn);
+    retr_norms(map, kind, d.mn);
+    /* The pool's workers each run a single-threaded sgemm: OpenBLAS's own
+     * threads would only compete with them (a sweep running cells in
+     * parallel has set one thread already: nothing changes then). */
+    int blas_n = blas_threads();
+    if (blas_n > 1) blas_set_threads(1);
+    int rc = pool_run(d.n_tasks, d.workers, retr_task, &d, e);
+    if (blas_n > 1) blas_set_threads(blas_n);
+    retr_dense_free(&d);
+    if (rc) retrieval_out_free(out);
+    return rc;
+}
