@@ -230,10 +230,10 @@ static int synth_write(const struct synconf *c, const struct synth_run *r, struc
     if (prc) goto done;
     for (size_t i = 0; i < n; i++) s->points += j->points[i];
     char path[4096];
-    fileio_join(path, sizeof path, r->out_dir, "poses_exact.csv");
+    fileio_join(path, sizeof path, wr.dir, "poses_exact.csv");
     if (recording_writer_poses(&wr, noisy ? np : exact, n, e)) goto done;
     if (noisy && poses_write(path, POSES_CSV, exact, n, NULL, e)) goto done;
-    if (synth_route_json(r->out_dir, c, j->r, d, exact, yaw, n, s, e)) goto done;
+    if (synth_route_json(wr.dir, c, j->r, d, exact, yaw, n, s, e)) goto done;
     rc = recording_writer_finish(&wr, e);
 done:
     for (int k = 0; j->clouds && k < threads; k++) cloud_free(&j->clouds[k]);

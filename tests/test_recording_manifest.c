@@ -279,14 +279,19 @@ static void test_writer(void)
     recording_sensor_free(&copy);
     CHECK(r.poses[2].t == 12 && r.poses[2].p[0] == 2, "poses survive the round trip");
     recording_free(&r);
-    /* A rewrite with fewer scans leaves stale files: finish refuses. */
-    CHECK(!recording_writer_begin(&w, "out/rec", &s, SCAN_PCD, &e), "a writer restarts in the folder");
+    /* A rewrite stages a fresh folder: the old recording stays whole until
+     * finish, and scans not written again are missing, not taken over. */
+    CHECK(!recording_writer_begin(&w, "out/rec", &s, SCAN_PCD, &e), "a writer restarts on the folder");
     struct stat st;
-    CHECK(stat("out/rec/recording.json", &st) != 0, "a restarted writer removes the old manifest at once");
+    CHECK(stat("out/rec/recording.json", &st) == 0, "a restarted writer leaves the old recording whole");
     CHECK(!recording_writer_poses(&w, v, 2, &e), "two poses");
-    CHECK(recording_writer_finish(&w, &e) == -1, "a stale third scan is refused at finish");
-    CHECK_MSG(e.msg, "000002.pcd: a scan beyond the 2 poses", "the message names the stale scan");
+    CHECK(recording_writer_finish(&w, &e) == -1, "scans not written again are refused at finish");
+    CHECK_MSG(e.msg, "out/rec/scans/000000.pcd: scan 0 of 2 was not written",
+              "the message names the missing scan at its place in the recording");
     recording_writer_free(&w);
+    CHECK(stat("out/rec/recording.json", &st) == 0 && !recording_load("out/rec", 0, &r, &e) && r.n == 3,
+          "after the failed rewrite the old recording loads, whole");
+    recording_free(&r);
     CHECK(recording_writer_begin(&w, "out/r2", &s, SCAN_TEXT, &e) == -1, "a text-layout writer is refused");
     CHECK_MSG(e.msg, "raw, pcd, ply or pcd-compressed", "the message lists the writable layouts");
     recording_writer_free(&w);

@@ -8,6 +8,7 @@ the command handles.
 """
 import filecmp
 import json
+import glob
 import os
 import subprocess
 import sys
@@ -182,14 +183,17 @@ def interrupt_check():
     proc = subprocess.Popen([BIN, "perturb", "--in", rec, "--out", out, "--jobs", "1", "--quiet",
                              "--chain", "clutter:res=0.1+density:leaf=0.05"],
                             stdout=subprocess.PIPE, stderr=subprocess.PIPE, text=True)
-    first = os.path.join(out, "scans", "000000.bin")
-    while proc.poll() is None and not os.path.exists(first):
+    # scans go to a staged folder beside --out until the recording is whole
+    first = os.path.join(T, ".staged-stopped-*", "scans", "000000.bin")
+    while proc.poll() is None and not glob.glob(first):
         time.sleep(0.005)
     proc.send_signal(signal.SIGINT)
     _, err = proc.communicate()
     check(proc.returncode == 130, "SIGINT stops perturb with exit 130 (got %s)" % proc.returncode)
     check("perturb interrupted; %s has no recording.json" % out in err, "the interruption is reported")
     check(not os.path.exists(os.path.join(out, "recording.json")), "no manifest after an interruption")
+    check(not os.path.exists(out) and not glob.glob(os.path.join(T, ".staged-stopped-*")),
+          "an interrupted perturb leaves neither a folder at --out nor its staged folder")
 
 
 def recovery_check():

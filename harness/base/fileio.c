@@ -1,13 +1,18 @@
-/* fileio.c: atomic writes and bounded whole-file reads. */
+/* fileio.c: atomic writes and folders, bounded whole-file reads. */
+#define _GNU_SOURCE   /* syncfs */
 #include "harness/base/fileio.h"
 
 #include <dirent.h>
 #include <errno.h>
 #include <fcntl.h>
+#include <signal.h>
+#include <stdio.h>
 #include <stdlib.h>
 #include <string.h>
 #include <sys/stat.h>
 #include <unistd.h>
+
+#define AFILE_BUF (1 << 18)
 
 int afile_open(struct afile *a, const char *path, struct err *e)
 {
@@ -16,7 +21,10 @@ int afile_open(struct afile *a, const char *path, struct err *e)
     strcpy(a->path, path);
     static unsigned counter;  /* only makes names unique; not part of any result */
     unsigned k = __atomic_add_fetch(&counter, 1, __ATOMIC_RELAXED);
-    snprintf(a->tmp, sizeof a->tmp, "%s.tmp.%ld.%u", path, (long)getpid(), k);
+    /* Inside a staged folder nobody sees the file before the folder's
+     * commit: write it under its own name (no rename, no sync). */
+    if (strstr(path, "/" FILEIO_STAGED)) snprintf(a->tmp, sizeof a->tmp, "%s", path);
+    else snprintf(a->tmp, sizeof a->tmp, "%s.tmp.%ld.%u", path, (long)getpid(), k);
     int fd = open(a->tmp, O_WRONLY | O_CREAT | O_EXCL, 0644);
     if (fd < 0) return err_at(e, path, 0, "cannot create file: %s", strerror(errno));
     a->f = fdopen(fd, "wb");
@@ -25,6 +33,8 @@ int afile_open(struct afile *a, const char *path, struct err *e)
         unlink(a->tmp);
         return err_at(e, path, 0, "cannot open file: %s", strerror(errno));
     }
+    a->buf = malloc(AFILE_BUF);   /* few large writes (a scan is megabytes); without it, stdio's own */
+    if (a->buf) setvbuf(a->f, a->buf, _IOFBF, AFILE_BUF);
     return 0;
 }
 
@@ -41,10 +51,13 @@ int afile_commit(struct afile *a, struct err *e)
     int bad = 0, saved = 0;
     if (fflush(a->f) || ferror(a->f)) { bad = 1; saved = errno; }
     if (!bad && afile_fault(a->f)) { bad = 1; saved = ENOSPC; }
-    if (!bad && fsync(fileno(a->f))) { bad = 1; saved = errno; }
+    int staged = strstr(a->path, "/" FILEIO_STAGED) != NULL;   /* synced by the folder's commit */
+    if (!bad && !staged && fsync(fileno(a->f))) { bad = 1; saved = errno; }
     if (fclose(a->f) && !bad) { bad = 1; saved = errno; }
     a->f = NULL;
-    if (!bad && rename(a->tmp, a->path)) { bad = 1; saved = errno; }
+    free(a->buf);
+    a->buf = NULL;
+    if (!bad && !staged && rename(a->tmp, a->path)) { bad = 1; saved = errno; }
     if (bad) {
         unlink(a->tmp);
         return err_at(e, a->path, 0, "write failed: %s", strerror(saved ? saved : EIO));
@@ -56,6 +69,8 @@ void afile_abort(struct afile *a)
 {
     if (a->f) fclose(a->f);
     a->f = NULL;
+    free(a->buf);
+    a->buf = NULL;
     if (a->tmp[0]) unlink(a->tmp);
 }
 
@@ -253,4 +268,106 @@ void fileio_dirname(char *out, size_t n, const char *path)
     if (!s) snprintf(out, n, ".");
     else if (s == path) snprintf(out, n, "/");
     else snprintf(out, n, "%.*s", (int)(s - path), path);
+}
+
+/* Remove PARENT/.staged-BASE-PID-K folders whose process has ended. */
+static void fileio_stage_sweep(const char *parent, const char *base)
+{
+    DIR *d = opendir(parent);
+    if (!d) return;
+    char prefix[600];
+    int np = snprintf(prefix, sizeof prefix, FILEIO_STAGED "%s-", base);
+    for (struct dirent *de; np > 0 && (size_t)np < sizeof prefix && (de = readdir(d));) {
+        long pid;
+        unsigned k;
+        char end;
+        if (strncmp(de->d_name, prefix, (size_t)np) ||
+            sscanf(de->d_name + np, "%ld-%u%c", &pid, &k, &end) != 2 || pid <= 0)
+            continue;
+        if (kill((pid_t)pid, 0) == 0 || errno != ESRCH) continue;   /* alive, or not ours to judge */
+        char old[4400];
+        snprintf(old, sizeof old, "%s/%s", parent, de->d_name);
+        fileio_remove_tree(old, NULL);
+    }
+    closedir(d);
+}
+
+int fileio_stage_open(struct fileio_stage *s, const char *path, struct err *e)
+{
+    memset(s, 0, sizeof *s);
+    size_t n = strlen(path);
+    while (n > 1 && path[n - 1] == '/') n--;
+    if (n == 0 || n >= sizeof s->path - 64) return err_at(e, path, 0, "path empty or too long");
+    memcpy(s->path, path, n);
+    char parent[4096];
+    fileio_dirname(parent, sizeof parent, s->path);
+    const char *slash = strrchr(s->path, '/'), *base = slash ? slash + 1 : s->path;
+    if (!*base || !strcmp(base, ".") || !strcmp(base, ".."))
+        return err_at(e, path, 0, "expected a folder name, not '%s'", base);
+    if (fileio_mkdirs(parent, e)) return -1;
+    fileio_stage_sweep(parent, base);
+    static unsigned counter;  /* only makes names unique; not part of any result */
+    unsigned k = __atomic_add_fetch(&counter, 1, __ATOMIC_RELAXED);
+    snprintf(s->tmp, sizeof s->tmp, "%s/" FILEIO_STAGED "%s-%ld-%u", parent, base, (long)getpid(), k);
+    if (mkdir(s->tmp, 0755)) {
+        int err = errno;
+        s->tmp[0] = 0;
+        return err_at(e, path, 0, "cannot create a folder beside it: %s", strerror(err));
+    }
+    return 0;
+}
+
+/* fsync of a folder, so a rename in it is on disk. */
+static int fileio_sync_dir(const char *dir)
+{
+    int fd = open(dir, O_RDONLY | O_DIRECTORY);
+    if (fd < 0) return -1;
+    int rc = fsync(fd);
+    close(fd);
+    return rc;
+}
+
+/* The staged entries into an existing folder, LAST at the end (see fileio.h). */
+static int fileio_stage_merge(struct fileio_stage *s, const char *last)
+{
+    char names[64][256], from[4400], to[4400], old[4400];
+    int n = 0;
+    DIR *d = opendir(s->tmp);
+    if (!d) return -1;
+    for (struct dirent *de; (de = readdir(d)) && n < 64;)
+        if (strcmp(de->d_name, ".") && strcmp(de->d_name, "..") && strcmp(de->d_name, last) &&
+            strlen(de->d_name) < sizeof names[0])
+            strcpy(names[n++], de->d_name);
+    closedir(d);
+    snprintf(to, sizeof to, "%s/%s", s->path, last);
+    if (unlink(to) && errno != ENOENT) return -1;
+    for (int k = 0; k < n; k++) {
+        snprintf(from, sizeof from, "%s/%s", s->tmp, names[k]);
+        snprintf(to, sizeof to, "%s/%s", s->path, names[k]);
+        snprintf(old, sizeof old, "%s/.old-%s", s->tmp, names[k]);
+        if ((rename(to, old) && errno != ENOENT) || rename(from, to)) return -1;
+    }
+    snprintf(from, sizeof from, "%s/%s", s->tmp, last);
+    snprintf(to, sizeof to, "%s/%s", s->path, last);
+    return rename(from, to);
+}
+
+int fileio_stage_commit(struct fileio_stage *s, const char *last, struct err *e)
+{
+    int fd = open(s->tmp, O_RDONLY | O_DIRECTORY), err = 0;
+    if (fd < 0 || syncfs(fd)) err = errno;
+    if (fd >= 0) close(fd);
+    if (!err && rename(s->tmp, s->path) && errno != ENOTEMPTY && errno != EEXIST) err = errno;
+    else if (!err && access(s->tmp, F_OK) == 0 && fileio_stage_merge(s, last)) err = errno;
+    char parent[4096];
+    fileio_dirname(parent, sizeof parent, s->path);
+    if (!err && (fileio_sync_dir(s->path) || fileio_sync_dir(parent))) err = errno;
+    fileio_stage_abort(s);
+    return err ? err_at(e, s->path, 0, "cannot put the folder in place: %s", strerror(err)) : 0;
+}
+
+void fileio_stage_abort(struct fileio_stage *s)
+{
+    if (s->tmp[0]) fileio_remove_tree(s->tmp, NULL);
+    s->tmp[0] = 0;
 }

@@ -1,8 +1,8 @@
 /* fileio.h: whole-file reads and atomic writes (temporary file, then rename).
  *
  * Every file revisit writes goes through afile: it is written under a
- * temporary name in the same folder, flushed, fsync'ed and renamed over the
- * target only when complete, so a crash or a full disk never leaves a
+ * temporary name in the same folder, flushed, fsync'ed (unless it lies in a
+ * staged folder, below) and renamed over the target only when complete, so a crash or a full disk never leaves a
  * truncated file where a good one was expected.
  *
  *     struct afile a;
@@ -24,6 +24,7 @@
 
 struct afile {
     FILE *f;
+    char *buf;       /* the stream's buffer, freed by commit and abort */
     char path[4096];
     char tmp[4160];
 };
@@ -72,6 +73,35 @@ int fileio_mkdirs(const char *path, struct err *e);
  * folder; give --replace to write over it" (or "... is not a folder") else.
  * Reads the folder only; changes nothing. */
 int fileio_out_unused(const char *path, int replace, struct err *e);
+
+/* A folder written as a whole.  Files go into a hidden folder beside path
+ * (PARENT/.staged-BASE-PID-K, same file system); path is untouched until
+ * fileio_stage_commit syncs the file system once (syncfs) and renames the
+ * folder into place, so no half-written folder is ever visible there.
+ * afile does not fsync files under a .staged- folder one by one: the commit
+ * covers them.  A folder left by a killed run is removed by the next
+ * fileio_stage_open of the same path (its process is gone).
+ *
+ *     struct fileio_stage st;
+ *     if (fileio_stage_open(&st, "out/rec", e)) return -1;
+ *     ... write files under st.tmp ...
+ *     if (fileio_stage_commit(&st, "recording.json", e)) ...   // else:
+ *     fileio_stage_abort(&st);                                 // always safe
+ *
+ * When path is already a folder holding files (a caller allowed that, e.g.
+ * with --replace), commit moves the staged entries in one by one instead:
+ * first it removes path/LAST, then replaces each other entry of the same
+ * name whole (a folder by a folder), and moves LAST in at the end; entries
+ * of path not staged stay.  0 or -1 (e names the folder and errno; the
+ * staged folder is removed). */
+#define FILEIO_STAGED ".staged-"
+struct fileio_stage {
+    char path[4096];
+    char tmp[4160];
+};
+int fileio_stage_open(struct fileio_stage *s, const char *path, struct err *e);
+int fileio_stage_commit(struct fileio_stage *s, const char *last, struct err *e);
+void fileio_stage_abort(struct fileio_stage *s);
 
 /* Join dir and name into out (size n); name absolute stays as is. */
 void fileio_join(char *out, size_t n, const char *dir, const char *name);

@@ -78,6 +78,7 @@
 
 #include "harness/base/cloud.h"
 #include "harness/base/err.h"
+#include "harness/base/fileio.h"
 #include "harness/base/pose.h"
 #include "harness/io/poses_io.h"
 #include "harness/io/scan_io.h"
@@ -172,7 +173,8 @@ int recording_write_manifest(const char *path, const struct recording_manifest *
                              struct err *e);
 
 struct recording_writer {
-    char dir[RECORDING_PATH_MAX];
+    char dir[RECORDING_PATH_MAX];     /* the staged folder files go to until finish */
+    struct fileio_stage stage;        /* dir is stage.tmp; the recording's place is stage.path */
     enum scan_layout layout;          /* SCAN_RAW, SCAN_PCD or SCAN_PLY */
     struct recording_sensor sensor;   /* owned copy */
     struct recording_perturbation perturbation;  /* owned copy */
@@ -183,7 +185,11 @@ struct recording_writer {
     char *log_json;                   /* owned copy or NULL */
 };
 
-/* Create dir and dir/scans (mkdir -p) and remember the sensor (copied). */
+/* Start a recording at dir, written as a whole: everything goes into a
+ * staged folder beside it (w->dir) and appears at dir only when finish
+ * succeeds (fileio_stage_*: one sync, then a rename), so a failed or killed
+ * run never leaves a half-written recording there.  Remembers the sensor
+ * (copied). */
 int recording_writer_begin(struct recording_writer *w, const char *dir,
                            const struct recording_sensor *sensor, enum scan_layout layout,
                            struct err *e);
@@ -196,15 +202,16 @@ int recording_writer_perturbation(struct recording_writer *w, const char *chain,
  * object as JSON text, copied) and the extrinsic (copied); either may be NULL. */
 int recording_writer_source(struct recording_writer *w, const char *log_json, const struct pose *extrinsic,
                             struct err *e);
-/* Write scan i (atomic).  Thread-safe for distinct i. */
+/* Write scan i into the staged folder.  Thread-safe for distinct i. */
 int recording_writer_scan(const struct recording_writer *w, size_t i, const struct cloud *c,
                           struct err *e);
 /* Path scan i is written to (out of size n). */
 void recording_writer_scan_path(const struct recording_writer *w, size_t i, char *out, size_t n);
-/* Keep the poses (copied; times strictly increasing) and write dir/poses.csv. */
+/* Keep the poses (copied; times strictly increasing) and write poses.csv. */
 int recording_writer_poses(struct recording_writer *w, const struct pose *v, size_t n,
                            struct err *e);
-/* Check scans 0..n_poses-1 exist, then write dir/recording.json atomically. */
+/* Check scans 0..n_poses-1 exist, write recording.json, then put the
+ * staged folder in place at the dir given to begin. */
 int recording_writer_finish(struct recording_writer *w, struct err *e);
 void recording_writer_free(struct recording_writer *w);
 

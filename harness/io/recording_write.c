@@ -118,17 +118,13 @@ int recording_writer_begin(struct recording_writer *w, const char *dir,
     }
     if (!sensor || sensor->channels < 1 || sensor->channels > 65535)
         return err_at(e, dir, 0, "sensor channels must be from 1 to 65535");
-    if (strlen(dir) + 32 >= sizeof w->dir) return err_at(e, dir, 0, "path too long");
-    snprintf(w->dir, sizeof w->dir, "%s", dir);
+    if (strlen(dir) + 128 >= sizeof w->dir) return err_at(e, dir, 0, "path too long");
+    if (fileio_stage_open(&w->stage, dir, e)) return -1;
+    snprintf(w->dir, sizeof w->dir, "%s", w->stage.tmp);
     w->layout = layout;
     char scans[RECORDING_PATH_MAX];
-    fileio_join(scans, sizeof scans, dir, "scans");
+    fileio_join(scans, sizeof scans, w->dir, "scans");
     if (fileio_mkdirs(scans, e)) return -1;
-    /* Until finish writes a new manifest, the folder must not look complete. */
-    char manifest[RECORDING_PATH_MAX];
-    fileio_join(manifest, sizeof manifest, dir, "recording.json");
-    if (unlink(manifest) && errno != ENOENT)
-        return err_at(e, manifest, 0, "cannot remove the old manifest: %s", strerror(errno));
     return recording_sensor_copy(&w->sensor, sensor, e);
 }
 
@@ -166,22 +162,29 @@ void recording_writer_scan_path(const struct recording_writer *w, size_t i, char
     snprintf(out, n, "%s/scans/%06zu%s", w->dir, i, scan_layout_ext(w->layout));
 }
 
+/* Where scan i will be once the recording is in place (for messages). */
+static void rec_w_final_path(const struct recording_writer *w, size_t i, char *out, size_t n)
+{
+    snprintf(out, n, "%s/scans/%06zu%s", w->stage.path, i, scan_layout_ext(w->layout));
+}
+
 int recording_writer_scan(const struct recording_writer *w, size_t i, const struct cloud *c, struct err *e)
 {
-    char path[RECORDING_PATH_MAX];
+    char path[RECORDING_PATH_MAX], shown[RECORDING_PATH_MAX];
     recording_writer_scan_path(w, i, path, sizeof path);
+    rec_w_final_path(w, i, shown, sizeof shown);
     if (w->layout == SCAN_RAW && c->n == 0)
-        return err_at(e, path, 0, "scan %zu has no points; the raw layout cannot hold an empty scan, "
+        return err_at(e, shown, 0, "scan %zu has no points; the raw layout cannot hold an empty scan, "
                       "expected the pcd layout for recordings that may have empty scans", i);
     return scan_write(path, w->layout, c, e);
 }
 
 int recording_writer_poses(struct recording_writer *w, const struct pose *v, size_t n, struct err *e)
 {
-    if (n == 0) return err_at(e, w->dir, 0, "no poses, expected one pose per scan");
+    if (n == 0) return err_at(e, w->stage.path, 0, "no poses, expected one pose per scan");
     for (size_t k = 1; k < n; k++)
         if (!(v[k].t > v[k - 1].t))
-            return err_at(e, w->dir, 0, "pose %zu has time %.17g, not after pose %zu's %.17g; expected strictly "
+            return err_at(e, w->stage.path, 0, "pose %zu has time %.17g, not after pose %zu's %.17g; expected strictly "
                           "increasing times", k, v[k].t, k - 1, v[k - 1].t);
     struct pose *copy = malloc(n * sizeof *copy);
     if (!copy) return err_set(e, "out of memory");
@@ -196,21 +199,17 @@ int recording_writer_poses(struct recording_writer *w, const struct pose *v, siz
 
 int recording_writer_finish(struct recording_writer *w, struct err *e)
 {
-    if (!w->poses) return err_at(e, w->dir, 0, "no poses written, expected recording_writer_poses first");
+    if (!w->poses) return err_at(e, w->stage.path, 0, "no poses written, expected recording_writer_poses first");
+    /* The staged folder started empty: no stale scans can be in it. */
     for (size_t k = 0; k < w->n_poses; k++) {
-        char path[RECORDING_PATH_MAX];
+        char path[RECORDING_PATH_MAX], shown[RECORDING_PATH_MAX];
         struct stat st;
         recording_writer_scan_path(w, k, path, sizeof path);
+        rec_w_final_path(w, k, shown, sizeof shown);
         if (stat(path, &st) || !S_ISREG(st.st_mode))
-            return err_at(e, path, 0, "scan %zu of %zu was not written, expected every scan before finishing",
+            return err_at(e, shown, 0, "scan %zu of %zu was not written, expected every scan before finishing",
                           k, w->n_poses);
     }
-    char extra[RECORDING_PATH_MAX];
-    struct stat st;
-    recording_writer_scan_path(w, w->n_poses, extra, sizeof extra);
-    if (!stat(extra, &st))
-        return err_at(e, extra, 0, "a scan beyond the %zu poses is in the folder, expected no stale scans "
-                      "(write into an empty folder)", w->n_poses);
     char pattern[16];
     snprintf(pattern, sizeof pattern, "*%s", scan_layout_ext(w->layout));
     struct recording_manifest m = {
@@ -219,12 +218,14 @@ int recording_writer_finish(struct recording_writer *w, struct err *e)
         .extrinsic = w->has_extrinsic ? &w->extrinsic : NULL, .log_json = w->log_json};
     char path[RECORDING_PATH_MAX];
     fileio_join(path, sizeof path, w->dir, "recording.json");
-    return recording_write_manifest(path, &m, e);
+    if (recording_write_manifest(path, &m, e)) return -1;
+    return fileio_stage_commit(&w->stage, "recording.json", e);
 }
 
 void recording_writer_free(struct recording_writer *w)
 {
     if (!w) return;
+    fileio_stage_abort(&w->stage);   /* nothing when finish put it in place */
     recording_sensor_free(&w->sensor);
     free(w->perturbation.chain);
     free(w->perturbation.source);
