@@ -240,7 +240,8 @@ static int logrec_build(struct logrec_ctx *x, const char *dir, struct logrec_res
     struct recording_sensor sensor;
     recording_sensor_init(&sensor);
     sensor.channels = o->channels > 0 ? o->channels : 1;
-    if (recording_writer_begin(&x->w, dir, &sensor, o->layout, e) || logrec_assign(x, dir, r, e)) return -1;
+    /* dropped.csv goes into the writer's staged folder with the rest */
+    if (recording_writer_begin(&x->w, dir, &sensor, o->layout, e) || logrec_assign(x, x->w.dir, r, e)) return -1;
     qsort(x->scans, x->n_scans, sizeof *x->scans, logrec_cmp_msg);
     progress_start(&x->prog, "log scans", x->n_scans, o->quiet);
     int rc = logf_each(&x->log, logrec_write_scan, x, e);
