@@ -82,7 +82,8 @@ static void eval_print(const struct eval_spec *s, const struct eval_summary *m)
     printf("F1max      %.4f\nR@100P     %.4f\nEP         %.4f\nAP         %.4f\nrecall@1   %.4f\n", m->f1max,
            m->r100p, m->ep, m->ap, m->recall1);
     printf("time       describe %.2f s (%zu scans described, descriptor sets from the cache: %zu), retrieval %.2f s, "
-           "metrics %.2f s\n", m->describe_s, m->described, m->cache_hits, m->retrieval_s, m->metrics_s);
+           "metrics %.2f s, matrix %.2f s\n", m->describe_s, m->described, m->cache_hits, m->retrieval_s,
+           m->metrics_s, m->matrix_s);
     if (m->cache_rejected) printf("cache      %zu damaged or mismatched file(s) rebuilt\n", m->cache_rejected);
     if (m->cache_stale)
         printf("cache      %zu descriptor set(s) made from another content of the recording or another build "

@@ -57,6 +57,8 @@ struct ev_ctx {
     struct pr_curve *curve;
     struct ev_set *iso_set;      /* the set an isolated child describes */
     uint64_t map_digest, query_digest;  /* recording_digest of each */
+    size_t mat_ri[400], mat_ci[400], mat_nr, mat_nc;   /* matrix.csv: rows, columns */
+    double *mat;                 /* mat_nr x mat_nc distances */
 };
 
 void eval_spec_defaults(struct eval_spec *s)
@@ -84,6 +86,7 @@ static void ev_free(struct ev_ctx *c)
     ev_set_free(&c->mset);
     if (!c->shared) ev_set_free(&c->qset);
     retrieval_out_free(&c->r);
+    free(c->mat);
     pr_curve_free(c->curve);
     pr_set_free(c->ps);
     gt_free(c->g);
@@ -387,19 +390,36 @@ static double ev_pair(const struct ev_ctx *c, size_t i, size_t j)
                                               : retrieval_pair(a, b, c->plug.dim, c->plug.distance);
 }
 
-/* matrix.csv: at most 400 x 400 (a custom distance, being slower, 60 x 60). */
+/* One row of the distance matrix (a pool task). */
+static int ev_matrix_row(void *arg, size_t r, int w, struct err *e)
+{
+    (void)w;
+    (void)e;
+    struct ev_ctx *c = arg;
+    for (size_t k = 0; k < c->mat_nc; k++)
+        c->mat[r * c->mat_nc + k] = ev_pair(c, c->mat_ri[r], c->mat_ci[k]);
+    return 0;
+}
+
+/* The distances matrix.csv shows: at most 400 x 400 (a custom distance,
+ * being slower, 60 x 60), rows on the pool (the distance is called from
+ * several threads in retrieval already), timed as matrix_s. */
+static int ev_matrix(struct ev_ctx *c, struct err *e)
+{
+    double t0 = progress_now();
+    size_t most = c->plug.distance == RV_DIST_CUSTOM ? 60 : 400;
+    c->mat_nr = ev_spread(c->qset.n, most, c->mat_ri);
+    c->mat_nc = ev_spread(c->mset.n, most, c->mat_ci);
+    c->mat = malloc((c->mat_nr * c->mat_nc + 1) * sizeof *c->mat);
+    if (!c->mat) return err_set(e, "out of memory for a %zu x %zu distance matrix", c->mat_nr, c->mat_nc);
+    if (pool_run(c->mat_nr, c->s->jobs, ev_matrix_row, c, e)) return -1;
+    c->sum.matrix_s = progress_now() - t0;
+    return 0;
+}
+
 static int ev_write_matrix(const struct ev_ctx *c, const char *path, struct err *e)
 {
-    size_t most = c->plug.distance == RV_DIST_CUSTOM ? 60 : 400;
-    size_t ri[400], ci[400];
-    size_t nr = ev_spread(c->qset.n, most, ri), nc = ev_spread(c->mset.n, most, ci);
-    double *d = malloc((nr * nc + 1) * sizeof *d);
-    if (!d) return err_at(e, path, 0, "out of memory for a %zu x %zu distance matrix", nr, nc);
-    for (size_t r = 0; r < nr; r++)
-        for (size_t k = 0; k < nc; k++) d[r * nc + k] = ev_pair(c, ri[r], ci[k]);
-    int rc = matrix_csv_write(path, ri, nr, ci, nc, d, e);
-    free(d);
-    return rc;
+    return matrix_csv_write(path, c->mat_ri, c->mat_nr, c->mat_ci, c->mat_nc, c->mat, e);
 }
 
 static void ev_str(cJSON *o, const char *key, const char *v)
@@ -513,6 +533,7 @@ static cJSON *ev_result_json(const struct ev_ctx *c, struct err *e)
     cJSON_AddNumberToObject(t, "describe_s", c->sum.describe_s);
     cJSON_AddNumberToObject(t, "retrieval_s", c->sum.retrieval_s);
     cJSON_AddNumberToObject(t, "metrics_s", c->sum.metrics_s);
+    cJSON_AddNumberToObject(t, "matrix_s", c->sum.matrix_s);
     cJSON_AddNumberToObject(t, "described", (double)c->sum.described);
     cJSON_AddNumberToObject(t, "cache_hits", (double)c->sum.cache_hits);
     cJSON_AddNumberToObject(t, "cache_rejected", (double)c->sum.cache_rejected);
@@ -549,7 +570,7 @@ int eval_run(const struct eval_spec *s, struct eval_summary *out, struct err *e)
     else if (ev_describe_set(&c, &c.qset, e)) goto done;
     if (ev_retrieve(&c, e) || ev_lists(&c, &off, &cand, e)) goto done;
     struct pr_lists l = {c.r.n_query, off, cand};
-    if (ev_metrics(&c, &l, e) || ev_write(&c, &l, e)) goto done;
+    if (ev_metrics(&c, &l, e) || ev_matrix(&c, e) || ev_write(&c, &l, e)) goto done;
     if (out) *out = c.sum;
     rc = 0;
 done:

@@ -61,6 +61,7 @@ struct eval_summary {
     size_t cache_rejected;     /* cache files found corrupt or not matching, rebuilt */
     size_t cache_stale;        /* cache files of another recording content or method build, rebuilt */
     size_t scans_hashed;       /* scan files read to update the recordings' digests */
+    double matrix_s;           /* the distances of matrix.csv */
 };
 
 void eval_spec_defaults(struct eval_spec *s);
