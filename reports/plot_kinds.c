@@ -179,12 +179,14 @@ int plot_traj(struct plot_set *ps, const char *name, const char *title, const st
     fputs("set size ratio -1\nset xlabel 'x (m)'\nset ylabel 'y (m)'\nset offsets graph 0.03, graph 0.03, graph 0.03, graph 0.03\n", f);
     const char *sep = "plot ", *next = ", \\\n     ";
     if (p->map.n) {
-        fprintf(f, "%s'%s-map.dat' using 1:2 with lines lc rgb '#9a9a9a' lw 1 title 'map path'", sep, name);
+        /* Map and query paths in two palette colours (light blue, solid; orange, dashed). */
+        fprintf(f, "%s'%s-map.dat' using 1:2 with lines lc rgb '%s' lw 2 title 'map path'", sep, name,
+                p->query.n ? plot_colour(4) : "#9a9a9a");
         sep = next;
     }
     if (p->query.n) {
-        fprintf(f, "%s'%s-query.dat' using 1:2 with lines lc rgb '#c8c8c8' lw 1 dt (4,3) title 'query path'",
-                sep, name);
+        fprintf(f, "%s'%s-query.dat' using 1:2 with lines lc rgb '%s' lw 1.5 dt (4,3) title 'query path'",
+                sep, name, plot_colour(3));
         sep = next;
     }
     if (o->by_class[RSTAT_WRONG]) {

@@ -149,6 +149,26 @@ expect "[ -s $T/one/report/report.md ] && [ ! -e $T/one/report/report.html ]" "-
 expect_in "$(head -n 1 "$T/one/report/report.md")" "# Mount B review" "--title sets the title"
 expect_in "$(cat "$T/one/report/report.md")" "One evaluation." "a single folder is described as one evaluation"
 
+# --- reloc: map and query paths in two colours ------------------------------------
+$PY "$FIX" "$T/reloc" --single
+$PY - "$T/reloc" <<'EOF'
+import json, sys
+d = sys.argv[1]
+r = json.load(open(d + "/result.json")); r["protocol"]["mode"] = "reloc"; json.dump(r, open(d + "/result.json", "w"))
+rows = open(d + "/poses.csv").read().splitlines()
+q = []
+for l in rows:
+    if l.startswith("map,"):
+        f = l.split(","); f[0] = "query"; f[3] = "%g" % (float(f[3]) + 1); q.append(",".join(f))
+open(d + "/poses.csv", "w").write("\n".join(rows + q) + "\n")
+EOF
+"$REVISIT_BIN" report "$T/reloc" --quiet --format md
+gp=$(cat "$T/reloc/report/plots/trajectory-0.gp")
+mc=$(grep -o "map.dat' using 1:2 with lines lc rgb '#[0-9a-f]*'" <<< "$gp" | grep -o "#[0-9a-f]*")
+qc=$(grep -o "query.dat' using 1:2 with lines lc rgb '#[0-9a-f]*'" <<< "$gp" | grep -o "#[0-9a-f]*")
+pal=$(grep -o "set style line [0-9]* lc rgb '#[0-9a-f]*'" <<< "$gp" | grep -o "#[0-9a-f]*" | tr '\n' ' ')
+expect "[ -n '$mc' ] && [ -n '$qc' ] && [ '$mc' != '$qc' ] && [[ ' $pal' == *\" $mc \"* ]] && [[ ' $pal' == *\" $qc \"* ]]" "reloc: the map path ($mc) and the query path ($qc) have two palette colours ($pal)"
+
 # --- a cell that failed ---------------------------------------------------------
 cp -r "$T/one" "$T/failed"; rm -rf "$T/failed/report"
 $PY - "$T/failed/result.json" <<'EOF'
