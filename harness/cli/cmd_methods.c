@@ -2,17 +2,21 @@
 #include <stdio.h>
 #include <stdlib.h>
 #include <string.h>
+#include <sys/stat.h>
 
 #include "harness/cli/cmd.h"
 #include "harness/base/opt.h"
 #include "harness/run/plugin_host.h"
 
 static const char about[] =
-    "List every descriptor method on the plugin search path (--plugin-path, then\n"
-    "REVISIT_PLUGIN_PATH, then the install folder) with its settings and\n"
-    "defaults; with NAME, describe that one: distance, flags, each setting's\n"
-    "type, default, range and meaning.  Use a setting as NAME:key=value.\n"
-    "External programs are given by path to 'revisit eval --method'.\n\n";
+    "List every descriptor method on the plugin search path with its settings and\n"
+    "defaults, then the folders searched, in order: --plugin-path, then\n"
+    "REVISIT_PLUGIN_PATH, then plugins/ beside the revisit program, then\n"
+    "lib/revisit/plugins beside its bin/ folder, then the install folder.  Exit 2\n"
+    "when no method is found.  With NAME, describe that one: distance, flags,\n"
+    "each setting's type, default, range and meaning.  Use a setting as\n"
+    "NAME:key=value.  External programs are given by path to 'revisit eval\n"
+    "--method'.\n\n";
 
 static const char *const methods_types[] = {"whole number", "real number", "true/false", "one of"};
 static const char *const methods_dists[] = {"L2", "cosine (1 - cos)", "custom (the method's own)"};
@@ -62,12 +66,34 @@ static int methods_one(const char *name, const char *search, struct err *e)
     return 0;
 }
 
+/* "searched:" and one line per folder of the search order, with what it held. */
+static void methods_searched(FILE *f, const char *order, const struct plugin_info *list, size_t n)
+{
+    fprintf(f, "searched, in order:\n");
+    char walk[8192];
+    snprintf(walk, sizeof walk, "%s", order);   /* same size as order: cannot be cut */
+    for (char *save = NULL, *dir = strtok_r(walk, ":", &save); dir; dir = strtok_r(NULL, ":", &save)) {
+        size_t here = 0, len = strlen(dir);
+        for (size_t k = 0; k < n; k++)
+            here += !strncmp(list[k].path, dir, len) && list[k].path[len] == '/' && !strchr(list[k].path + len + 1, '/');
+        struct stat st;
+        if (stat(dir, &st) || !S_ISDIR(st.st_mode)) fprintf(f, "  %s (no such folder)\n", dir);
+        else fprintf(f, "  %s (%zu %s)\n", dir, here, here == 1 ? "method" : "methods");
+    }
+}
+
 static int methods_all(const char *search, struct err *e)
 {
     struct plugin_info *list;
     size_t n;
-    if (plugin_list(search, &list, &n, e)) return -1;
-    if (!n) printf("no methods found on the plugin search path\n");
+    char order[8192];
+    if (plugin_search_order(search, order, sizeof order, e) || plugin_list(search, &list, &n, e)) return -1;
+    if (!n) {
+        fprintf(stderr, "revisit: methods: no method (NAME.so) found in any folder of the plugin search path\n");
+        methods_searched(stderr, order, list, n);
+        free(list);
+        return CMD_ERROR;
+    }
     for (size_t k = 0; k < n; k++) {
         void *so;
         const struct rv_method *m;
@@ -79,8 +105,10 @@ static int methods_all(const char *search, struct err *e)
         methods_brief(list[k].name, m);
         plugin_unload(so);
     }
+    printf("\n");
+    methods_searched(stdout, order, list, n);
     free(list);
-    return 0;
+    return CMD_OK;
 }
 
 int cmd_methods(int argc, char **argv)
@@ -94,6 +122,7 @@ int cmd_methods(int argc, char **argv)
     int go = cmd_parse("methods", about, argc, argv, table, &args, &e);
     if (go != CMD_GO_ON) return go;
     if (args.n > 1) return err_set(&e, "revisit methods: expected at most one NAME, got %d", args.n), cmd_report(&e);
-    if (args.n ? methods_one(args.v[0], search, &e) : methods_all(search, &e)) return cmd_report(&e);
-    return CMD_OK;
+    if (args.n) return methods_one(args.v[0], search, &e) ? cmd_report(&e) : CMD_OK;
+    int rc = methods_all(search, &e);
+    return rc < 0 ? cmd_report(&e) : rc;
 }

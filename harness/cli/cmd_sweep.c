@@ -3,9 +3,11 @@
 #include <cjson/cJSON.h>
 #include <stdio.h>
 #include <string.h>
+#include <unistd.h>
 
 #include "harness/cli/cmd.h"
 #include "harness/run/eval.h"
+#include "harness/run/plugin_host.h"
 #include "harness/base/opt.h"
 #include "harness/plan/plan.h"
 #include "harness/base/pool.h"
@@ -31,6 +33,31 @@ static void sweep_on_sigint(int sig)
     sweep_stop = 1;
 }
 
+
+/* Every method must load before any cell runs (else each of its cells would
+ * fail alike).  Under --isolate a method's own code runs only in children,
+ * so only its file is looked up here. */
+static int sweep_check_methods(const struct plan *p, const struct sweep_opts *o, struct err *e)
+{
+    for (size_t k = 0; k < p->n_methods; k++) {
+        const char *label = p->methods[k].label;
+        int rc;
+        if (o->isolate) {
+            char path[4096], head[4096];
+            size_t hl = strcspn(label, ":");
+            int w = snprintf(head, sizeof head, "%.*s", (int)hl, label);
+            if (w < 0 || (size_t)w >= sizeof head) rc = err_set(e, "method name too long");
+            else if (strchr(head, '/')) rc = access(head, R_OK) ? err_set(e, "method '%s': no such file", head) : 0;
+            else rc = plugin_find(head, o->plugin_path, path, sizeof path, e);
+        } else {
+            struct plugin pl;
+            rc = plugin_open(&pl, label, o->plugin_path, e);
+            if (!rc) plugin_close(&pl);
+        }
+        if (rc) return err_wrap(e, "%s: no cell was run", p->path);
+    }
+    return 0;
+}
 
 /* The recordings must open before any cell runs (else every cell would fail alike). */
 static int sweep_check_recordings(const struct plan *p, struct err *e)
@@ -144,7 +171,7 @@ int cmd_sweep(int argc, char **argv)
     o.run = eval_run;
     o.stop = &sweep_stop;
     struct plan p;
-    if (plan_load(&p, a.v[0], &e)) {   /* every chain and axis value checked */
+    if (plan_load(&p, a.v[0], &e) || sweep_check_methods(&p, &o, &e)) {   /* every chain and axis value checked */
         plan_free(&p);
         return cmd_report(&e);
     }

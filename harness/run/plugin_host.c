@@ -15,6 +15,7 @@
 #include "harness/base/fileio.h"
 #include "harness/base/opt.h"
 #include "harness/base/progress.h"
+#include "harness/base/spell.h"
 
 #define PLUGIN_GUARD 8   /* guard words after each output buffer */
 
@@ -101,25 +102,86 @@ fail:
     return -1;
 }
 
-/* Split the search order into out (folders joined by ':'). */
-static void plugin_search_order(const char *search_path, char *out, size_t n)
+/* The folder of the running program, resolved through /proc/self/exe, into
+ * out; "" when it cannot be read (then only the other folders are searched). */
+static void plugin_exe_dir(char *out, size_t n)
+{
+    ssize_t len = readlink("/proc/self/exe", out, n - 1);
+    if (len <= 0 || (size_t)len >= n - 1) len = 0;
+    out[len] = 0;
+    char *slash = strrchr(out, '/');
+    if (slash) *slash = 0;
+    else out[0] = 0;
+}
+
+/* Append dir to the ':'-joined list out (skipping empty and repeated
+ * folders); 0, or -1 when out is too small. */
+static int plugin_order_add(char *out, size_t n, const char *dir)
+{
+    size_t len = strlen(dir), used = strlen(out);
+    if (!len) return 0;
+    for (const char *p = out; *p; p += strcspn(p, ":"), p += *p == ':') {
+        if (strcspn(p, ":") == len && !strncmp(p, dir, len)) return 0;
+    }
+    int w = snprintf(out + used, n - used, "%s%s", used ? ":" : "", dir);
+    return w < 0 || (size_t)w >= n - used ? -1 : 0;
+}
+
+int plugin_search_order(const char *search_path, char *out, size_t n, struct err *e)
 {
     const char *env = getenv("REVISIT_PLUGIN_PATH");
-    snprintf(out, n, "%s:%s:%s", search_path ? search_path : "", env ? env : "", RV_PLUGIN_DIR);
+    char exe[4096], beside[4096 + 16], lib[4096 + 32];
+    plugin_exe_dir(exe, sizeof exe);
+    beside[0] = lib[0] = 0;
+    if (exe[0]) {   /* both buffers are sized for exe plus the suffix: cannot be cut */
+        if (snprintf(beside, sizeof beside, "%s/plugins", exe) < 0) beside[0] = 0;
+        char *up = strrchr(exe, '/');   /* <exe dir>/../lib/revisit/plugins, spelt out */
+        if (up && snprintf(lib, sizeof lib, "%.*s/lib/revisit/plugins", (int)(up - exe), exe) < 0) lib[0] = 0;
+    }
+    char given[8192];
+    int w = snprintf(given, sizeof given, "%s:%s", search_path ? search_path : "", env ? env : "");
+    if (w < 0 || (size_t)w >= sizeof given) return err_set(e, "plugin search path too long");
+    out[0] = 0;
+    int bad = 0;
+    for (char *save = NULL, *dir = strtok_r(given, ":", &save); dir; dir = strtok_r(NULL, ":", &save))
+        bad |= plugin_order_add(out, n, dir);
+    bad |= plugin_order_add(out, n, beside) | plugin_order_add(out, n, lib);
+    bad |= plugin_order_add(out, n, RV_PLUGIN_DIR);
+    return bad ? err_set(e, "plugin search path too long, expected at most %zu bytes", n - 1) : 0;
+}
+
+/* The names found on the search path as "'a' or 'b'" near name, into out. */
+static void plugin_suggest(const char *name, const char *search_path, char *out, size_t n)
+{
+    struct plugin_info *list;
+    size_t count;
+    struct err le;
+    out[0] = 0;
+    if (plugin_list(search_path, &list, &count, &le)) return;
+    const char **names = malloc((count + 1) * sizeof *names);
+    if (names) {
+        for (size_t k = 0; k < count; k++) names[k] = list[k].name;
+        spell_suggest(name, names, count, out, n);
+    }
+    free(names);
+    free(list);
 }
 
 int plugin_find(const char *name, const char *search_path, char *out, size_t n, struct err *e)
 {
     char order[8192];
-    plugin_search_order(search_path, order, sizeof order);
-    for (char *save = NULL, *dir = strtok_r(order, ":", &save); dir; dir = strtok_r(NULL, ":", &save)) {
-        snprintf(out, n, "%s/%s.so", dir, name);
-        if (access(out, R_OK) == 0) return 0;
+    if (plugin_search_order(search_path, order, sizeof order, e)) return -1;
+    char walk[8192];
+    memcpy(walk, order, sizeof walk);
+    for (char *save = NULL, *dir = strtok_r(walk, ":", &save); dir; dir = strtok_r(NULL, ":", &save)) {
+        int w = snprintf(out, n, "%s/%s.so", dir, name);
+        if (w > 0 && (size_t)w < n && access(out, R_OK) == 0) return 0;
     }
-    plugin_search_order(search_path, order, sizeof order);
-    return err_set(e, "method '%s' not found: no %s.so in the plugin search path '%s' "
+    char near[512];
+    plugin_suggest(name, search_path, near, sizeof near);
+    return err_set(e, "method '%s' not found: no %s.so in the plugin search path '%s'%s%s%s "
                    "(see --plugin-path and REVISIT_PLUGIN_PATH; 'revisit methods' lists what is found)",
-                   name, name, order);
+                   name, name, order, near[0] ? "; did you mean " : "", near, near[0] ? "?" : "");
 }
 
 static int plugin_info_cmp(const void *a, const void *b)
@@ -154,7 +216,7 @@ int plugin_list(const char *search_path, struct plugin_info **out, size_t *n, st
     size_t cap = 0;
     *out = NULL;
     *n = 0;
-    plugin_search_order(search_path, order, sizeof order);
+    if (plugin_search_order(search_path, order, sizeof order, e)) return -1;
     for (char *save = NULL, *dir = strtok_r(order, ":", &save); dir; dir = strtok_r(NULL, ":", &save)) {
         DIR *d = opendir(dir);
         if (!d) continue;

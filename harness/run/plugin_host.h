@@ -90,7 +90,13 @@ void plugin_reset(struct plugin *p);
 /* Destroy the instance, unload / stop.  Accepts a closed plugin. */
 void plugin_close(struct plugin *p);
 
-/* Resolve NAME to a .so path through the search order above.  0 or -1. */
+/* The folders of the search order above, ':'-joined, empty and repeated
+ * ones left out, into out.  0, or -1 when out is too small. */
+int plugin_search_order(const char *search_path, char *out, size_t n, struct err *e);
+
+/* Resolve NAME to a .so path through the search order above.  0 or -1; the
+ * message names the folders searched and the nearest names found there
+ * ("did you mean 'scan-context'?"). */
 int plugin_find(const char *name, const char *search_path, char *out, size_t n, struct err *e);
 
 /* One method found on the search path, for `revisit methods`. */
