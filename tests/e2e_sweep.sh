@@ -159,12 +159,32 @@ expect_in "$(cat err)" "u.json: conditions[1].chain: chain:1: unknown stage 'sec
 expect_in "$(cat err)" "  sectr:at=random
 " "and shows the chain as written, not one with the axis stage added"
 
-# A failing method makes failed cells; the sweep goes on and exits 2.
-sed 's/"range-height", "variants": \[{"range_bins": 12}, {"range_bins": 16}\]/"no-such-method"/' s.json > f.json
+# A method that does not load stops the sweep before any cell runs.
+sed 's/"range-height", "variants": \[{"range_bins": 12}, {"range_bins": 16}\]/"no-such-method"/' s.json > m.json
+"$REVISIT_BIN" sweep m.json --out missing --quiet 2>err; rc=$?
+expect "[ $rc -eq 2 ] && [ ! -e missing/cells ]" "a missing method runs no cell and exits 2 (exit $rc)"
+expect_in "$(cat err)" "m.json: no cell was run: method 'no-such-method' not found" "the missing method is named"
+# A method that loads but fails on a scan makes failed cells; the sweep goes on and exits 2.
+mkdir -p inc && cp "$REVISIT_ROOT/harness/revisit_plugin.h" inc/
+cat > failing.c <<'SRC'
+#include <stdio.h>
+#include "revisit_plugin.h"
+static int mk(const double *v, void **i, uint32_t *d, uint32_t *k, char *m, size_t l)
+{ (void)v; (void)m; (void)l; *i = 0; *d = 2; *k = 0; return RV_OK; }
+static int run(void *i, const struct rv_scan *s, float *d, float *k, char *m, size_t l)
+{ (void)i; (void)k; if (s->index == 3) { snprintf(m, l, "scan 3 refused"); return RV_ERR_INPUT; }
+  d[0] = (float)s->n; d[1] = 1; return RV_OK; }
+static void rm(void *i) { (void)i; }
+static const struct rv_method m = {RV_ABI_VERSION, sizeof m, "failing", "1.0", "fails on scan 3",
+    0, 0, RV_DIST_L2, 0, mk, run, rm, 0, 0};
+RV_EXPORT const struct rv_method *rv_method_entry(void) { return &m; }
+SRC
+cc -std=c11 -O1 -shared -fPIC -Iinc -o failing.so failing.c
+sed 's|"range-height", "variants": \[{"range_bins": 12}, {"range_bins": 16}\]|"./failing.so"|' s.json > f.json
 "$REVISIT_BIN" sweep f.json --out failing --quiet 2>err; rc=$?
-expect "[ $rc -eq 2 ] && [ $(ndone failing) -eq 6 ]" "every cell of a missing method is marked failed"
+expect "[ $rc -eq 2 ] && [ $(ndone failing) -eq 6 ]" "every cell of a failing method is marked failed"
 expect_in "$(cat err)" "6 cells failed" "the sweep counts the failed cells"
-expect_in "$(cat failing/cells/no-such-method__clean__s1/result.json)" '"status":	"failed"' "a failed cell says so"
+expect_in "$(cat failing/cells/failing.so__clean__s1/result.json)" '"status":	"failed"' "a failed cell says so"
 "$REVISIT_BIN" check f.json failing 2>err; rc=$?
 expect "[ $rc -eq 2 ]" "check on failed cells exits 2"
 "$REVISIT_BIN" check s.json full --junit j.xml >out.txt; rc=$?
