@@ -41,7 +41,7 @@ import json
 m = json.load(open("m.json"))
 ok = lambda c, d: print(("ok " if c else "FAIL ") + d)
 ok(m["format"] == "revisit-result-1", "format key")
-ok(m["counts"] == {"queries": 6, "revisits": 2}, "counts object")
+ok(m["counts"] == {"queries": 6, "revisits": 2, "rows": 3, "without_row": 3}, "counts object")
 ok(abs(m["metrics"]["f1max"]["value"] - 2/3) < 1e-12 and m["metrics"]["f1max"]["threshold"] == 0.2, "f1max and threshold")
 ok(m["metrics"]["r100p"]["value"] == 0.5 and m["metrics"]["r100p"]["threshold"] == 0.2, "r100p and threshold")
 ok(m["metrics"]["ap"]["lo"] <= 0.5 <= m["metrics"]["ap"]["hi"], "AP interval brackets the value")
@@ -75,6 +75,30 @@ echo 4 > only.txt
 out=$("$REVISIT_BIN" metrics --results q.csv --poses poses.csv --only only.txt --bootstrap 0 2>&1)
 expect_in "$out" "queries 1, revisits 1" "--only restricts the scored queries"
 expect_in "$out" "recall_at_5         1.0000" "--only keeps that query's ranks"
+# Scans with no row.  By default every scan of the pose file is a query: one
+# row (q4 -> 1, right, 0.4) leaves the revisit q3 unanswered, so strict
+# recall is 1/2 at P 1 and F1max 2*1*(1/2)/(1 + 1/2) = 2/3 (van Rijsbergen,
+# Information Retrieval, 1979); scoring only the listed row gives P = R = 1.
+out=$("$REVISIT_BIN" metrics --results q.csv --poses poses.csv --bootstrap 0 2>&1 >/dev/null)
+expect_in "$out" "3 of 6 scored scans have no row in q.csv; they count as queries that returned no candidate" \
+  "scans without a row are counted on stderr"
+printf '4,1,0.4\n' > one.csv
+out=$("$REVISIT_BIN" metrics --results one.csv --poses poses.csv --bootstrap 0 --json one.json 2>&1)
+expect_in "$out" "5 of 6 scored scans have no row" "a one-row file says five scans have no row"
+expect_in "$out" "f1max               0.6667" "by default the unanswered revisit counts against the method"
+expect '$PYTHON -c "import json,sys; c=json.load(open(\"one.json\"))[\"counts\"]; sys.exit(not (c[\"rows\"]==1 and c[\"without_row\"]==5 and c[\"queries\"]==6))"' \
+  "counts.rows and counts.without_row in the JSON"
+out=$("$REVISIT_BIN" metrics --results one.csv --poses poses.csv --bootstrap 0 --listed --json one2.json 2>&1)
+expect_in "$out" "queries 1, revisits 1" "--listed scores only the listed row"
+expect_in "$out" "f1max               1.0000" "--listed: the one right answer gives F1max 1"
+expect '! printf "%s" "$out" | grep -q "no row"' "--listed: nothing is reported as missing"
+expect '$PYTHON -c "import json,sys; c=json.load(open(\"one2.json\"))[\"counts\"]; sys.exit(not (c[\"without_row\"]==0 and c[\"queries\"]==1))"' \
+  "--listed: the JSON counts agree"
+out=$("$REVISIT_BIN" metrics --results one.csv --poses poses.csv --only only.txt --listed 2>&1); rc=$?
+expect "[ $rc -eq 2 ]" "--only with --listed exits 2"
+expect_in "$out" "give --only or --listed, not both" "--only with --listed is refused by name"
+out=$("$REVISIT_BIN" metrics --results one.csv --poses poses.csv --only only.txt --bootstrap 0 2>&1)
+expect '! printf "%s" "$out" | grep -q "no row"' "a scan outside --only is not counted as missing"
 # reloc: map = scans 0-2, queries = scans 3-5 of the same route
 head -4 poses.csv > map.csv
 { head -1 poses.csv; tail -3 poses.csv; } > qry.csv

@@ -37,6 +37,11 @@ static const char about[] =
     "result.json beside it fills every protocol option not given.  Prints every\n"
     "scalar with its 95% percentile-bootstrap interval; --json writes them with\n"
     "the exact curve.\n"
+    "Which scans are queries: by default every scan of the pose file (or those of\n"
+    "--only), and a scan with no row counts as a query that returned no candidate,\n"
+    "so a program that leaves hard queries out gains nothing by it; the number of\n"
+    "such scans is printed on stderr and written as counts.without_row.  With\n"
+    "--listed the queries are the rows of FILE only.\n"
     "--against scores a second results file on the same queries and gives each\n"
     "difference with a paired-bootstrap interval and the share of resamples in\n"
     "which the first is better.\n\n";
@@ -50,7 +55,7 @@ struct mt_opts {
     const char *results, *poses, *rec, *qposes, *qrec, *only, *json, *against;
     long bootstrap, jobs;
     unsigned long long seed;
-    int quiet;
+    int quiet, listed;
 };
 
 static void mt_set_free(struct mt_set *s)
@@ -186,6 +191,7 @@ struct mt_run {
     struct pr_set *set;
     struct pr_curve *curve;
     struct boot_result br;
+    size_t without_row;   /* scored scans with no row in the results file */
     /* --against: a second results file on the same queries */
     struct queries_csv csv2;
     size_t *off2;
@@ -241,17 +247,50 @@ static void mt_tick(void *ctx, size_t done)
     progress_add(ctx, done);
 }
 
+/* --listed: the scored queries are the rows of the results file. */
+static int mt_listed(struct mt_run *r, struct err *e)
+{
+    if (r->o.only) return err_set(e, "revisit metrics: give --only or --listed, not both");
+    if (!r->csv.n_rows)
+        return err_set(e, "revisit metrics: --listed: %s has no row, expected at least one query", r->o.results);
+    r->only = malloc(r->csv.n_rows * sizeof *r->only);
+    if (!r->only) return err_set(e, "revisit metrics: out of memory");
+    memcpy(r->only, r->csv.query, r->csv.n_rows * sizeof *r->only);
+    r->n_only = r->csv.n_rows;
+    return 0;
+}
+
+/* Scored scans with no row in the results file (each counts as a query that
+ * returned no candidate); a row for a scan left out of the subset is not one. */
+static size_t mt_without_row(const struct mt_run *r)
+{
+    size_t n = r->g->n_query, missing = 0;
+    unsigned char *has = calloc(n ? n : 1, 1);
+    if (!has) return 0;
+    for (size_t k = 0; k < r->csv.n_rows; k++)
+        if (r->csv.query[k] < n) has[r->csv.query[k]] = 1;
+    for (size_t i = 0; i < n; i++) missing += r->g->q[i].used && !has[i];
+    free(has);
+    return missing;
+}
+
 static int mt_score(struct mt_run *r, struct err *e)
 {
     struct gt_poses mp = {r->map.xyz, r->map.t, r->map.n}, qp = {r->qry.xyz, r->qry.t, r->qry.n};
     int reloc = r->p.mode == PROTOCOL_RELOC;
     if (reloc && !r->qry.n && !r->o.poses && !r->o.rec)
         return err_set(e, "revisit metrics: reloc mode, but the results folder's poses.csv has no query rows");
-    if (r->o.only && mt_load_only(r->o.only, &r->only, &r->n_only, e)) return -1;
+    if (queries_csv_read(r->o.results, &r->csv, e)) return -1;
+    if (r->o.listed ? mt_listed(r, e) : r->o.only && mt_load_only(r->o.only, &r->only, &r->n_only, e)) return -1;
     if (gt_build(&r->p, &mp, reloc ? &qp : NULL, r->only, r->n_only, &r->g, e))
         return err_wrap(e, "revisit metrics: ground truth");
-    if (queries_csv_read(r->o.results, &r->csv, e) || queries_csv_lists(&r->csv, r->g, &r->off, &r->cand, e))
-        return -1;
+    if (queries_csv_lists(&r->csv, r->g, &r->off, &r->cand, e)) return -1;
+    r->without_row = mt_without_row(r);
+    if (r->without_row && !r->o.quiet)
+        fprintf(stderr, "revisit metrics: %zu of %zu scored scans %s no row in %s; %s as %s that returned no "
+                "candidate (--listed scores only the rows present)\n", r->without_row, r->g->n_used,
+                r->without_row == 1 ? "has" : "have", r->o.results, r->without_row == 1 ? "it counts" : "they count",
+                r->without_row == 1 ? "a query" : "queries");
     struct pr_lists l = {r->g->n_query, r->off, r->cand};
     if (pr_set_build(r->g, &l, &r->set, e) || pr_curve_build(r->set, &r->curve, e))
         return err_wrap(e, "%s", r->o.results);
@@ -362,6 +401,11 @@ static int mt_json(const struct mt_run *r, int argc, char **argv, struct err *e)
     cJSON_AddNumberToObject(root, "excluded_candidates", (double)r->set->n_excluded);
     int rc = result_metrics_add(root, &r->br.point, r->o.bootstrap > 0 ? &r->br : NULL, r->curve,
                                 r->set->n, r->g->n_revisits, e);
+    cJSON *counts = cJSON_GetObjectItemCaseSensitive(root, "counts");
+    if (!rc && counts) {
+        cJSON_AddNumberToObject(counts, "rows", (double)r->csv.n_rows);
+        cJSON_AddNumberToObject(counts, "without_row", (double)r->without_row);
+    }
     if (!rc && r->set2) cJSON_AddItemToObject(root, "against", mt_against_json(r));
     cJSON_AddStringToObject(root, "status", "ok");
     char *txt = rc ? NULL : cJSON_Print(root);
@@ -393,6 +437,7 @@ int cmd_metrics(int argc, char **argv)
         {"--query-rec", OPT_STR, &r.o.qrec, "REC", "reloc: recording of the queries"},
         OPT_PROTOCOL_ROWS(op),
         {"--only", OPT_STR, &r.o.only, "FILE", "score only the query indices listed (one per line)"},
+        {"--listed", OPT_FLAG, &r.o.listed, NULL, "score only the queries with a row in the results file"},
         {"--against", OPT_STR, &r.o.against, "FILE", "a second results CSV on the same queries: paired differences"},
         {"--bootstrap", OPT_INT, &r.o.bootstrap, "N", "bootstrap resamples for the intervals (default 1000; 0 = none)"},
         {"--seed", OPT_U64, &r.o.seed, "S", "bootstrap seed (default 1)"},

@@ -25,7 +25,7 @@ static const struct cmd_row cmd_rows[] = {
     {"metrics", cmd_metrics,
          "metrics --results FILE [--poses FILE | --rec REC]\n"
          "                       [--query-poses FILE | --query-rec REC] [protocol options]\n"
-         "                       [--only FILE] [--against FILE] [--bootstrap N] [--seed S]\n"
+         "                       [--only FILE | --listed] [--against FILE] [--bootstrap N] [--seed S]\n"
          "                       [--json OUT]",
      "score a per-query results CSV from any program against poses"},
     {"methods", cmd_methods,
