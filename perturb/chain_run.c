@@ -7,24 +7,17 @@
 #include <stdlib.h>
 #include <string.h>
 
+#include "harness/base/numfmt.h"
 #include "harness/base/textbuf.h"
 #include "perturb/stage.h"
 
 /* ---- normalised text ---------------------------------------------------- */
 
-/* Shortest %g form that reads back as the same double. */
+/* Round-trip text of v (harness/base/numfmt.h). */
 static void put_number(struct textbuf *b, double v)
 {
-    char tmp[40];
-    if (v == floor(v) && fabs(v) < 1e15) {
-        textbuf_put(b, "%.0f", v == 0 ? 0.0 : v);   /* whole numbers without an exponent, no -0 */
-        return;
-    }
-    for (int prec = 1; prec <= 17; prec++) {
-        snprintf(tmp, sizeof tmp, "%.*g", prec, v);
-        if (strtod(tmp, NULL) == v) break;
-    }
-    textbuf_put(b, "%s", tmp);
+    char tmp[NUMFMT_LEN];
+    textbuf_put(b, "%s", numfmt(tmp, v));
 }
 
 static int list_empty(const uint64_t *l)

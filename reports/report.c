@@ -7,6 +7,7 @@
 #include <string.h>
 
 #include "harness/base/fileio.h"
+#include "harness/base/numfmt.h"
 #include "harness/base/progress.h"
 #include "reports/rdoc.h"
 
@@ -163,6 +164,7 @@ static int write_scalars(const struct report_doc *d, const char *path, struct er
         const struct rstat_group *g = &t->groups[k];
         const struct rdata_cell *c = &d->set->cells[t->cond_cell[g->cond]];
         for (int mk = 0; mk < RDATA_NMETRIC; mk++) {
+            char nb[4][NUMFMT_LEN];
             csv_field(a.f, t->labels[g->method]);
             fputc(',', a.f);
             csv_field(a.f, c->cond);  /* the axis value has its own column */
@@ -173,12 +175,13 @@ static int write_scalars(const struct report_doc *d, const char *path, struct er
                 char ax[200];
                 snprintf(ax, sizeof ax, "%s:%s", c->axis_stage, c->axis_key);
                 csv_field(a.f, ax);
-                fprintf(a.f, ",%.9g", c->axis_value);
+                fprintf(a.f, ",%s", numfmt(nb[0], c->axis_value));
             } else {
                 fputc(',', a.f);
             }
-            fprintf(a.f, ",%zu,%zu,%s,%.9g,%.9g,%.9g,%.9g\n", g->n_seeds, g->n_failed, rdata_metric_key(mk),
-                    g->mean[mk], g->lo[mk], g->hi[mk], g->sd[mk]);
+            fprintf(a.f, ",%zu,%zu,%s,%s,%s,%s,%s\n", g->n_seeds, g->n_failed, rdata_metric_key(mk),
+                    numfmt(nb[0], g->mean[mk]), numfmt(nb[1], g->lo[mk]), numfmt(nb[2], g->hi[mk]),
+                    numfmt(nb[3], g->sd[mk]));
         }
     }
     if (ferror(a.f)) { afile_abort(&a); return err_at(e, path, 0, "write failed"); }

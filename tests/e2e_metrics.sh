@@ -99,6 +99,14 @@ expect "[ $rc -eq 2 ]" "--only with --listed exits 2"
 expect_in "$out" "give --only or --listed, not both" "--only with --listed is refused by name"
 out=$("$REVISIT_BIN" metrics --results one.csv --poses poses.csv --only only.txt --bootstrap 0 2>&1)
 expect '! printf "%s" "$out" | grep -q "no row"' "a scan outside --only is not counted as missing"
+# Thresholds round-trip: a distance of 0.1 + 0.2 (0.30000000000000004, the
+# repr of Python's float, Python 3 documentation "Floating Point Arithmetic")
+# is the F1max threshold and must not come back as 0.3, which would reject it.
+printf '3,0,0.30000000000000004\n4,2,0.5\n' > rt.csv
+out=$("$REVISIT_BIN" metrics --results rt.csv --poses poses.csv --bootstrap 0 --json rt.json --quiet 2>&1)
+expect_in "$out" "0.6667  0.30000000000000004" "the printed F1max threshold keeps every digit"
+expect '$PYTHON -c "import json,sys; m=json.load(open(\"rt.json\")); sys.exit(not (m[\"metrics\"][\"f1max\"][\"threshold\"] == 0.1 + 0.2 and m[\"curve\"][\"threshold\"][0] == 0.1 + 0.2))"' \
+  "the JSON threshold and curve read back as the same double"
 # reloc: map = scans 0-2, queries = scans 3-5 of the same route
 head -4 poses.csv > map.csv
 { head -1 poses.csv; tail -3 poses.csv; } > qry.csv

@@ -71,6 +71,16 @@ expect "[ $(ndone full) -eq $CELLS ]" "every cell of the grid is done"
 expect "[ -f full/summary.csv ] && [ -f full/summary_seeds.csv ] && [ -f full/summary.json ]" "summary tables written"
 expect_in "$(cat full/cells/range-height_range_bins-12__sector_width-180__s2/result.json)" '"scenario_hash":' "cells carry the scenario hash"
 expect_in "$(grep -c . full/summary.csv)" "$((CELLS + 1))" "summary.csv has a row per cell"
+# Every number of summary.csv reads back (Python's csv and float) as the
+# double of the cell's result.json (json module): no digit is lost.
+expect '$PY - <<PYEOF
+import csv, json, sys
+rows = list(csv.DictReader(open("full/summary.csv")))
+cols = {"f1max": ("f1max", "value"), "f1max_lo": ("f1max", "lo"), "ap": ("ap", "value"), "r100p_hi": ("r100p", "hi")}
+res = lambda cell: json.load(open("full/cells/%s/result.json" % cell))["metrics"]
+bad = [(r["cell"], c) for r in rows for c, (m, f) in cols.items() if float(r[c]) != res(r["cell"])[m][f]]
+sys.exit(1 if bad or not rows else 0)
+PYEOF' "summary.csv values are the exact doubles of result.json"
 out=$(sw --out full); rc=$?
 expect "[ $rc -eq 0 ] && [ $(ndone full) -eq $CELLS ]" "a rerun of a finished sweep exits 0"
 out=$("$REVISIT_BIN" sweep s.json --out full --dry-run)

@@ -5,10 +5,11 @@
 #include <string.h>
 
 #include "harness/base/fileio.h"
+#include "harness/base/numfmt.h"
 
 int json_file_write(const char *path, cJSON *root, struct err *e)
 {
-    char *text = root ? cJSON_Print(root) : NULL;
+    char *text = root ? numfmt_json_print(root) : NULL;
     cJSON_Delete(root);
     if (!text) return err_at(e, path, 0, "out of memory");
     size_t len = strlen(text);

@@ -1,5 +1,6 @@
 /* json_file.h: write a cJSON tree as a file, printed with cJSON's
- * indentation and one final newline, atomically (harness/base/fileio.h).
+ * indentation, every number in round-trip form (harness/base/numfmt.h),
+ * and one final newline, atomically (harness/base/fileio.h).
  *
  *     cJSON *root = cJSON_CreateObject();
  *     cJSON_AddStringToObject(root, "format", "revisit-summary-1");

@@ -9,6 +9,7 @@
 
 #include "harness/cli/cmd.h"
 #include "harness/base/opt.h"
+#include "harness/base/numfmt.h"
 #include "harness/base/pool.h"
 #include "harness/base/progress.h"
 #include "harness/io/recording.h"
@@ -315,7 +316,7 @@ static int inspect_print_json(const struct recording *rec, const struct inspect_
         cJSON_AddItemToArray(a, it);
     }
     inspect_json_pose_checks(o, rec, st);
-    char *text = cJSON_Print(o);
+    char *text = numfmt_json_print(o);
     cJSON_Delete(o);
     if (!text) return err_set(e, "out of memory");
     printf("%s\n", text);

@@ -12,6 +12,7 @@
 #include "harness/cli/cmd.h"
 #include "harness/base/fileio.h"
 #include "harness/base/opt.h"
+#include "harness/base/numfmt.h"
 #include "harness/cli/opt_protocol.h"
 #include "harness/base/pool.h"
 #include "harness/io/poses_io.h"
@@ -367,13 +368,13 @@ static void mt_print(const struct mt_run *r)
     if (r->set->n_excluded) printf(", %zu listed candidates inside the exclusion window ignored", r->set->n_excluded);
     printf("\n%-16s %9s%s  threshold\n", "metric", "value", ci ? "  95% interval        " : "");
     for (int m = 0; m < PR_N_METRICS; m++) {
-        char line[160];
+        char line[160], nb[NUMFMT_LEN];
         int at = snprintf(line, sizeof line, "%-16s %9.4f", pr_metric_name((enum pr_metric)m), b->point.v[m]);
         if (ci) at += snprintf(line + at, sizeof line - (size_t)at, "  [%8.4f, %8.4f]", b->lo[m], b->hi[m]);
         if (m == PR_F1MAX || m == PR_R100P) {
             double t = m == PR_F1MAX ? b->point.f1max_threshold : b->point.r100p_threshold;
             if (isnan(t)) snprintf(line + at, sizeof line - (size_t)at, "  -");
-            else snprintf(line + at, sizeof line - (size_t)at, "  %.6g", t);
+            else snprintf(line + at, sizeof line - (size_t)at, "  %s", numfmt(nb, t));   /* as in the JSON */
         }
         puts(line);
     }
@@ -408,7 +409,7 @@ static int mt_json(const struct mt_run *r, int argc, char **argv, struct err *e)
     }
     if (!rc && r->set2) cJSON_AddItemToObject(root, "against", mt_against_json(r));
     cJSON_AddStringToObject(root, "status", "ok");
-    char *txt = rc ? NULL : cJSON_Print(root);
+    char *txt = rc ? NULL : numfmt_json_print(root);
     if (!rc && !txt) rc = err_set(e, "out of memory printing %s", r->o.json);
     if (!rc) {
         size_t len = strlen(txt);

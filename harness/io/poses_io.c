@@ -8,6 +8,7 @@
 #include <string.h>
 
 #include "harness/base/fileio.h"
+#include "harness/base/numfmt.h"
 
 #define POSES_FILE_MAX ((size_t)4 << 30)
 #define POSES_MAX_COLS 64
@@ -290,15 +291,16 @@ int poses_read(const char *path, enum poses_layout layout, const char *times_pat
 
 static void poses_write_row(FILE *f, enum poses_layout layout, const struct pose *p)
 {
+    char b[NUMFMT_LEN];
     if (layout == POSES_MATRIX) {
         const double *R = p->R;
-        fprintf(f, "%.17g %.17g %.17g %.17g %.17g %.17g %.17g %.17g %.17g %.17g %.17g %.17g\n",
-                R[0], R[1], R[2], p->p[0], R[3], R[4], R[5], p->p[1], R[6], R[7], R[8], p->p[2]);
+        const double row[12] = {R[0], R[1], R[2], p->p[0], R[3], R[4], R[5], p->p[1], R[6], R[7], R[8], p->p[2]};
+        for (int k = 0; k < 12; k++) fprintf(f, "%s%c", numfmt(b, row[k]), k < 11 ? ' ' : '\n');
         return;
     }
     char sep = layout == POSES_CSV ? ',' : ' ';
-    fprintf(f, "%.17g%c%.17g%c%.17g%c%.17g%c%.17g%c%.17g%c%.17g%c%.17g\n", p->t, sep, p->p[0], sep,
-            p->p[1], sep, p->p[2], sep, p->q[0], sep, p->q[1], sep, p->q[2], sep, p->q[3]);
+    const double row[8] = {p->t, p->p[0], p->p[1], p->p[2], p->q[0], p->q[1], p->q[2], p->q[3]};
+    for (int k = 0; k < 8; k++) fprintf(f, "%s%c", numfmt(b, row[k]), k < 7 ? sep : '\n');
 }
 
 int poses_write(const char *path, enum poses_layout layout, const struct pose *v, size_t n,
@@ -314,6 +316,7 @@ int poses_write(const char *path, enum poses_layout layout, const struct pose *v
     if (afile_commit(&a, e)) return -1;
     if (!times_path) return 0;
     if (afile_open(&a, times_path, e)) return -1;
-    for (size_t k = 0; k < n; k++) fprintf(a.f, "%.17g\n", v[k].t);
+    char b[NUMFMT_LEN];
+    for (size_t k = 0; k < n; k++) fprintf(a.f, "%s\n", numfmt(b, v[k].t));
     return afile_commit(&a, e);
 }

@@ -79,8 +79,9 @@ const char *poses_unit_name(enum poses_unit unit);
 int poses_apply_unit(struct poses *ps, enum poses_unit unit, const char *path, enum poses_unit *used,
                      struct err *e);
 
-/* Write n poses in layout (not POSES_AUTO), atomically, with 17 significant
- * digits so a read gives back the same doubles.  POSES_MATRIX writes the
+/* Write n poses in layout (not POSES_AUTO), atomically, each number in
+ * round-trip form (harness/base/numfmt.h) so a read gives back the same
+ * doubles.  POSES_MATRIX writes the
  * times to times_path (required then, NULL otherwise). */
 int poses_write(const char *path, enum poses_layout layout, const struct pose *v, size_t n,
                 const char *times_path, struct err *e);

@@ -11,6 +11,7 @@
 #include <unistd.h>
 
 #include "harness/base/fileio.h"
+#include "harness/base/numfmt.h"
 #include "harness/io/poses_io.h"
 
 static cJSON *rec_w_numbers(const double *v, int n)
@@ -94,7 +95,7 @@ int recording_write_manifest(const char *path, const struct recording_manifest *
         return err_at(e, path, 0, "no scan list given, expected files or dir + pattern");
     if (!m->poses_file) return err_at(e, path, 0, "no pose file given");
     cJSON *root = rec_w_manifest(m);
-    char *text = root ? cJSON_Print(root) : NULL;
+    char *text = root ? numfmt_json_print(root) : NULL;
     cJSON_Delete(root);
     if (!text) return err_at(e, path, 0, "out of memory building the manifest");
     size_t len = strlen(text);

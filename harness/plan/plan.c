@@ -9,6 +9,7 @@
 #include <string.h>
 
 #include "harness/base/fileio.h"
+#include "harness/base/numfmt.h"
 #include "metrics/pr.h"
 #include "perturb/chain.h"
 
@@ -153,14 +154,8 @@ void plan_hash_hex(const void *data, size_t len, char out[17])
 
 void plan_format_number(char *out, size_t n, double v)
 {
-    if (v == floor(v) && fabs(v) < 1e15) {
-        snprintf(out, n, "%.0f", v == 0 ? 0.0 : v);
-        return;
-    }
-    for (int prec = 1; prec <= 17; prec++) {
-        snprintf(out, n, "%.*g", prec, v);
-        if (strtod(out, NULL) == v) return;
-    }
+    char b[NUMFMT_LEN];
+    snprintf(out, n, "%s", numfmt(b, v));
 }
 
 const char *plan_cmp_name(enum plan_cmp c)

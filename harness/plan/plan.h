@@ -107,7 +107,7 @@ long plan_find_cell(const struct plan *p, const char *id);
 int plan_parse_shard(const char *s, int *i, int *n, struct err *e);
 /* Cell k belongs to shard i of n (round robin over the fixed order). */
 int plan_in_shard(size_t k, int i, int n);
-/* Shortest decimal text that reads back as v ("90", "0.25"). */
+/* Round-trip decimal text of v ("90", "0.25"; harness/base/numfmt.h). */
 void plan_format_number(char *out, size_t n, double v);
 /* Names of the comparator and target as written in scenario files. */
 const char *plan_cmp_name(enum plan_cmp c);

@@ -7,6 +7,7 @@
 #include <string.h>
 
 #include "harness/base/fileio.h"
+#include "harness/base/numfmt.h"
 #include "harness/results/format.h"
 
 #define MCSV_MAX_BYTES ((size_t)1 << 30)
@@ -134,8 +135,9 @@ int matrix_csv_write(const char *path, const size_t *row_idx, size_t rows, const
     fprintf(a.f, "\n#cols");
     for (size_t k = 0; k < cols; k++) fprintf(a.f, ",%zu", col_idx[k]);
     fprintf(a.f, "\n");
+    char b[NUMFMT_LEN];
     for (size_t r = 0; r < rows; r++)
         for (size_t k = 0; k < cols; k++)
-            fprintf(a.f, "%.6g%c", d[r * cols + k], k + 1 < cols ? ',' : '\n');
+            fprintf(a.f, "%s%c", numfmt(b, d[r * cols + k]), k + 1 < cols ? ',' : '\n');
     return afile_commit(&a, e);
 }

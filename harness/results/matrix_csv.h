@@ -38,7 +38,7 @@ int matrix_csv_read(const char *path, struct matrix_csv *m, struct err *e);
 void matrix_csv_free(struct matrix_csv *m);
 
 /* Write rows x cols distances d (row-major) with their scan indices,
- * atomically, 6 significant digits. 0 or -1. */
+ * atomically, every number in round-trip form (harness/base/numfmt.h). 0 or -1. */
 int matrix_csv_write(const char *path, const size_t *row_idx, size_t rows, const size_t *col_idx,
                      size_t cols, const double *d, struct err *e);
 

@@ -8,6 +8,7 @@
 #include <string.h>
 
 #include "harness/base/fileio.h"
+#include "harness/base/numfmt.h"
 #include "harness/results/format.h"
 
 #define PCSV_MAX_BYTES ((size_t)1 << 32)
@@ -139,7 +140,9 @@ int poses_csv_write(const char *path, const struct poses_csv_set *map, const str
     for (int s = 0; s < 2; s++)
         for (size_t i = 0; sets[s] && i < sets[s]->n; i++) {
             const double *x = sets[s]->xyz + 3 * i;
-            fprintf(a.f, "%s,%zu,%.17g,%.17g,%.17g,%.17g\n", pcsv_sets[s], i, sets[s]->t[i], x[0], x[1], x[2]);
+            char b[4][NUMFMT_LEN];
+            fprintf(a.f, "%s,%zu,%s,%s,%s,%s\n", pcsv_sets[s], i, numfmt(b[0], sets[s]->t[i]), numfmt(b[1], x[0]),
+                    numfmt(b[2], x[1]), numfmt(b[3], x[2]));
         }
     return afile_commit(&a, e);
 }

@@ -49,7 +49,7 @@ int poses_csv_read(const char *path, struct poses_csv *out, struct err *e);
 void poses_csv_free(struct poses_csv *p);
 
 /* Write the map set, then the query set (NULL or empty: no query rows),
- * atomically, with 17 significant digits so a read gives the same doubles
+ * atomically, in round-trip form (harness/base/numfmt.h) so a read gives the same doubles
  * back.  0 or -1. */
 int poses_csv_write(const char *path, const struct poses_csv_set *map, const struct poses_csv_set *query,
                     struct err *e);

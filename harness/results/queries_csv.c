@@ -11,6 +11,7 @@
 #include <string.h>
 
 #include "harness/base/fileio.h"
+#include "harness/base/numfmt.h"
 #include "harness/results/format.h"
 
 #define QCSV_MAX_BYTES ((size_t)1 << 34)
@@ -236,8 +237,9 @@ int queries_csv_write(const char *path, const struct pr_lists *l, struct err *e)
     fputs("query,cand,dist,cand,dist,...\n", a.f);
     for (size_t i = 0; i < l->n_query; i++) {
         fprintf(a.f, "%zu", i);
+        char b[NUMFMT_LEN];
         for (size_t k = l->off[i]; k < l->off[i + 1]; k++)
-            fprintf(a.f, ",%ld,%.17g", l->c[k].idx, l->c[k].dist);
+            fprintf(a.f, ",%ld,%s", l->c[k].idx, numfmt(b, l->c[k].dist));
         fputc('\n', a.f);
     }
     return afile_commit(&a, e);

@@ -58,8 +58,8 @@ int queries_csv_lists(const struct queries_csv *q, const struct gt *g, size_t **
                       struct pr_cand **c, struct err *e);
 
 /* Write l (rows 0..l->n_query-1, every row, empty ones as the index alone)
- * atomically, distances with 17 significant digits so a read gives back the
- * same doubles. */
+ * atomically, distances in round-trip form (harness/base/numfmt.h) so a read
+ * gives back the same doubles. */
 int queries_csv_write(const char *path, const struct pr_lists *l, struct err *e);
 
 #endif

@@ -14,8 +14,8 @@
  *   "curve":   {"threshold": [..], "precision": [..], "recall": [..]}
  *
  * "lo"/"hi" are null without a bootstrap; a threshold is null when it is
- * undefined (F1max 0, or no FP-free point).  Numbers carry 17 significant
- * digits (cJSON's printing), so a reader gets the same doubles back.
+ * undefined (F1max 0, or no FP-free point).  Printed through json_file_write
+ * (harness/base/numfmt.h), every number reads back as the same double.
  *
  *     cJSON *root = cJSON_CreateObject();
  *     if (result_metrics_add(root, &point, ci_or_NULL, curve, n, revisits, e)) ...

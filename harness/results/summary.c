@@ -10,6 +10,7 @@
 #include "harness/results/cell_json.h"
 #include "harness/base/fileio.h"
 #include "harness/base/json_file.h"
+#include "harness/base/numfmt.h"
 #include "harness/results/cells.h"
 #include "harness/results/format.h"
 #include "harness/results/result_json.h"
@@ -98,7 +99,10 @@ int summary_compare(enum plan_cmp c, double value, double threshold)
 static void sm_num(FILE *f, double v)
 {
     if (isnan(v)) fputs(",", f);
-    else fprintf(f, ",%.9g", v);
+    else {
+        char b[NUMFMT_LEN];
+        fprintf(f, ",%s", numfmt(b, v));
+    }
 }
 
 /* method, condition, axis_stage, axis_key, axis_value (CSV, no newline) */
