@@ -8,6 +8,7 @@
 #include <stdlib.h>
 #include <string.h>
 
+#include "harness/base/opt.h"
 #include "perturb/stage.h"
 
 /* ---- where a chain applies ---------------------------------------------- */
@@ -128,15 +129,13 @@ static int parse_number(struct parser *p, const struct chain_param_info *pi,
         p->pos += 6;
         return 0;
     }
-    char *end = (char *)s;   /* no number unless it starts like one (no "inf", "nan") */
     double v = 0;
-    if (isdigit((unsigned char)*s) || *s == '-' || *s == '+' || *s == '.') v = strtod(s, &end);
-    if (end == s || !isfinite(v))
+    size_t nlen, ulen;   /* the scanner length and time options share (harness/base/opt.h) */
+    if (opt_scan_number(s, &v, &nlen, &ulen))
         return perr(p, at, "expected %s for '%s'%s", pi->expect, pi->key,
                     pi->may_random ? " (or random)" : "");
-    p->pos += (size_t)(end - s);
-    size_t ulen = 0;
-    while (isalpha((unsigned char)end[ulen]) || end[ulen] == '/' || end[ulen] == '%') ulen++;
+    p->pos += nlen;
+    const char *end = s + nlen;
     if (ulen && (strlen(pi->unit) != ulen || memcmp(end, pi->unit, ulen)))
         return perr(p, p->pos, "unit '%.*s' does not fit '%s', expected %s%s", (int)ulen, end,
                     pi->key, *pi->unit ? pi->unit : "no unit", *pi->unit ? " or no unit" : "");

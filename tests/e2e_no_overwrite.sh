@@ -13,7 +13,7 @@ expect "[ $rc -eq 0 ] && [ -f '$T/empty/result.json' ]" "eval writes into an exi
 mkdir "$T/busy" && echo keep > "$T/busy/notes.txt"
 out=$("$R" eval --map "$T/rec" --method range-height --out "$T/busy" --bootstrap 0 --quiet 2>&1); rc=$?
 expect "[ $rc -eq 2 ]" "eval into a folder that holds a file exits 2"
-expect_in "$out" "revisit eval: --out $T/busy already holds 1 entry (first 'notes.txt')" "the message names the folder and what is in it"
+expect_in "$out" "revisit: eval: --out $T/busy already holds 1 entry (first 'notes.txt')" "the message names the folder and what is in it"
 expect_in "$out" "give --replace" "the message names the option that allows it"
 expect "[ ! -e '$T/busy/result.json' ] && [ \"\$(cat '$T/busy/notes.txt')\" = keep ]" "the refused folder is untouched"
 out=$("$R" eval --map "$T/rec" --method range-height --out "$T/empty" --bootstrap 0 --quiet 2>&1); rc=$?
@@ -31,7 +31,7 @@ expect "[ $rc -eq 0 ] && [ -f '$T/p1/recording.json' ]" "perturb writes a new fo
 before=$(ls -l --time-style=+%s.%N "$T/p1/recording.json")
 out=$("$R" perturb --in "$T/rec" --out "$T/p1" --chain dropout:p=0.2 --quiet 2>&1); rc=$?
 expect "[ $rc -eq 2 ]" "perturb into a written recording exits 2"
-expect_in "$out" "revisit perturb: --out $T/p1 already holds" "perturb names the folder"
+expect_in "$out" "revisit: perturb: --out $T/p1 already holds" "perturb names the folder"
 expect "[ \"\$(ls -l --time-style=+%s.%N '$T/p1/recording.json')\" = \"$before\" ]" "the refused recording is untouched"
 expect_in "$(cat "$T/p1/recording.json")" "p=0.5" "the earlier chain is still recorded"
 "$R" perturb --in "$T/rec" --out "$T/p1" --chain dropout:p=0.2 --quiet --replace >/dev/null 2>&1; rc=$?
@@ -43,7 +43,7 @@ expect_in "$(cat "$T/p1/recording.json")" "p=0.2" "the new chain is recorded"
 expect "[ $rc -eq 0 ] && [ -f '$T/empty/report/report.md' ]" "report writes DIR/report"
 out=$("$R" report "$T/empty" --format md --quiet 2>&1); rc=$?
 expect "[ $rc -eq 2 ]" "a second report into the default folder is refused"
-expect_in "$out" "revisit report: --out $T/empty/report already holds" "report names the default folder"
+expect_in "$out" "revisit: report: --out $T/empty/report already holds" "report names the default folder"
 "$R" report "$T/empty" --format md --quiet --replace >/dev/null 2>&1; rc=$?
 expect "[ $rc -eq 0 ]" "report --replace writes over it"
 out=$("$R" report "$T/empty" --out "$T/busy" --format md --quiet 2>&1); rc=$?

@@ -151,7 +151,7 @@ expect "[ $rc -eq 2 ]" "--jobs out of range exits 2"
 expect_in "$(cat err)" "--jobs expects 0 (online cores) to 256" "and gives the range"
 "$REVISIT_BIN" merge par/0 2>err; rc=$?
 expect "[ $rc -eq 2 ]" "merge without --out exits 2"
-expect_in "$(cat err)" "revisit merge: option '--out' is required" "and names the option"
+expect_in "$(cat err)" "revisit: merge: option '--out' is required" "and names the option"
 "$REVISIT_BIN" merge --out m3 2>err; rc=$?
 expect "[ $rc -eq 2 ]" "merge without folders exits 2"
 expect_in "$(cat err)" "expected one or more shard folders" "and says so"
@@ -165,7 +165,7 @@ expect_in "$(cat err)" "n.json: recordings.map: " "and names the key"
 sed 's/sector:at=random/sectr:at=random/' s.json > u.json
 "$REVISIT_BIN" sweep u.json --out u 2>err; rc=$?
 expect "[ $rc -eq 2 ] && [ ! -d u ]" "a bad chain is refused before any cell runs"
-expect_in "$(cat err)" "u.json: conditions[1].chain: chain:1: unknown stage 'sectr'" "and names the condition"
+expect_in "$(cat err)" "conditions[1].chain: chain:1: unknown stage 'sectr'" "and names the condition"
 expect_in "$(cat err)" "  sectr:at=random
 " "and shows the chain as written, not one with the axis stage added"
 

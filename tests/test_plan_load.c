@@ -94,7 +94,7 @@ static void check_chain_text(void)
 {
     CHECK_MSG(bad(HEAD M1 "\"conditions\": [{\"name\": \"s\", \"chain\": \"sectr:at=random\", "
                   "\"axis\": {\"stage\": \"sector\", \"key\": \"width\", \"values\": [0]}}]}"),
-              "sw.json: conditions[0].chain: chain:1: unknown stage 'sectr'", "a bad chain is refused at load");
+              "conditions[0].chain: chain:1: unknown stage 'sectr'", "a bad chain is refused at load");
     CHECK(!strstr(bad(HEAD M1 "\"conditions\": [{\"name\": \"s\", \"chain\": \"sectr:at=random\", "
                       "\"axis\": {\"stage\": \"sector\", \"key\": \"width\", \"values\": [0]}}]}"), "sector:width"),
           "the message shows the chain as written, not one with the axis stage added");
@@ -124,13 +124,36 @@ static void check_chain_text(void)
     free(t);
 }
 
+/* "sw.json:LINE:COL: " of the first occurrence of needle in text (1-based,
+ * counted here by scanning the text, independently of the loader). */
+static const char *where(const char *text, const char *needle)
+{
+    static char out[64];
+    const char *at = strstr(text, needle);
+    long line = 1, col = 1;
+    for (const char *c = text; at && c < at; c++, col++)
+        if (*c == '\n') line++, col = 0;
+    snprintf(out, sizeof out, "sw.json:%ld:%ld: ", line, col);
+    return out;
+}
+
+static void check_where(void)
+{
+    const char *t = HEAD M1 "\"conditions\": [{\"name\": \"a\"}, {\"name\": \"b\"}, {\"name\": \"c\", "
+                    "\"axis\": {\"stage\": \"sector\", \"key\": \"width\", \"values\": [0, 30, 60, \"x\"]}}]}";
+    char want[256];
+    snprintf(want, sizeof want, "%sconditions[2].axis.values[3]: expected a number", where(t, "\"x\""));
+    CHECK_MSG(bad(t), want, "a bad axis value names its line, column and path");
+    const char *u = "{\"format\": \"revisit-sweep-1\",\n  \"recordings\": {\"map\": \"r\"},\n"
+                    "  \"methods\": [{\"name\": \"m\"}],\n  \"conditions\": [{\"name\": \"c\"}],\n  \"seedz\": 3}\n";
+    snprintf(want, sizeof want, "%sseedz: unknown key, expected one of format", where(u, "\"seedz\""));
+    CHECK_MSG(bad(u), want, "an unknown key on line 5 is placed at its quote");
+    CHECK_MSG(bad(u), "sw.json:5:3: seedz", "line 5, column 3, as counted by hand");
+}
+
 static void check_bad(void)
 {
-    CHECK_MSG(bad(HEAD M1 "\"conditions\": [{\"name\": \"a\"}, {\"name\": \"b\"}, {\"name\": \"c\", "
-                  "\"axis\": {\"stage\": \"sector\", \"key\": \"width\", \"values\": [0, 30, 60, \"x\"]}}]}"),
-              "sw.json: conditions[2].axis.values[3]: expected a number", "a bad axis value names its path");
-    CHECK_MSG(bad(HEAD M1 C1 ", \"seedz\": 3}"), "sw.json: seedz: unknown key, expected one of format",
-              "an unknown top-level key is refused");
+    check_where();
     CHECK_MSG(bad(HEAD "\"methods\": [{\"name\": \"m\", \"variant\": []}], " C1 "}"),
               "methods[0].variant: unknown key", "an unknown method key is refused");
     CHECK_MSG(bad(HEAD M1 "\"conditions\": [{\"name\": \"c\", \"on\": \"maps\"}]}"),

@@ -143,7 +143,7 @@ def error_checks(rec):
     p = rv("--in", os.path.join(T, "nothere"), "--out", os.path.join(T, "e8"), "--chain", "yaw")
     check(p.returncode == 2 and "nothere" in p.stderr, "a missing recording is named")
     p = rv("--in", rec, "--out", os.path.join(T, "e9"), "--chain", "yaw", "--layout", "xyz")
-    check(p.returncode == 2 and "revisit perturb: --layout: " in p.stderr and "xyz" in p.stderr,
+    check(p.returncode == 2 and "revisit: perturb: --layout: " in p.stderr and "xyz" in p.stderr,
           "an unknown --layout word is named")
     one = ("clutter:count=3,size=0.41234567890123457,near=1.1234567890123457,"
            "far=2.1234567890123457,height=0.31234567890123457,at=12.123456789012346,"

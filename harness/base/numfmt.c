@@ -27,6 +27,11 @@ const char *numfmt(char buf[NUMFMT_LEN], double v)
     return buf;   /* not reached: %.17g of a finite double fits in NUMFMT_LEN */
 }
 
+const char *numfmt_noun(size_t n, const char *one, const char *many)
+{
+    return n == 1 ? one : many;
+}
+
 /* Turn every finite number of a (copied) tree into raw text from numfmt. */
 static int numfmt_json_raw(cJSON *item)
 {

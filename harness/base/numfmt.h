@@ -18,18 +18,24 @@
  * writes 0.30000000000000004 as 0.3.  Non-finite numbers print as null, as
  * cJSON prints them.
  *
- * Failure contract: numfmt cannot fail and returns buf.  numfmt_json_print
+ * Failure contract: numfmt and numfmt_noun cannot fail and returns buf.  numfmt_json_print
  * returns a malloc'ed text (free it with free(), like cJSON_Print's) or NULL when out of
  * memory; root is not changed.  Both are thread-safe.
  */
 #ifndef RV_NUMFMT_H
 #define RV_NUMFMT_H
 
+#include <stddef.h>
 #include <cjson/cJSON.h>
 
 #define NUMFMT_LEN 32   /* "-1.2345678901234567e-308" and its NUL fit */
 
 const char *numfmt(char buf[NUMFMT_LEN], double v);
+
+/* The noun for a count: one when n == 1, else many ("1 cell", "3 cells"):
+ *     printf("%zu %s failed\n", n, numfmt_noun(n, "cell", "cells"));
+ * Cannot fail; returns one of its arguments. */
+const char *numfmt_noun(size_t n, const char *one, const char *many);
 
 char *numfmt_json_print(const cJSON *root);
 

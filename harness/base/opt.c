@@ -1,6 +1,7 @@
 /* opt.c: table-driven option parsing shared by all subcommands. */
 #include "harness/base/opt.h"
 
+#include <ctype.h>
 #include <errno.h>
 #include <math.h>
 #include <stdlib.h>
@@ -22,6 +23,30 @@ int opt_to_long(const char *s, long *out)
     errno = 0;
     long v = strtol(s, &end, 10);
     if (end == s || *end || errno == ERANGE) return -1;
+    *out = v;
+    return 0;
+}
+
+int opt_scan_number(const char *s, double *v, size_t *num_len, size_t *unit_len)
+{
+    char *end = (char *)s;
+    errno = 0;
+    if (isdigit((unsigned char)*s) || *s == '-' || *s == '+' || *s == '.') *v = strtod(s, &end);
+    if (end == s || errno == ERANGE || !isfinite(*v)) return -1;
+    size_t u = 0;
+    while (isalpha((unsigned char)end[u]) || end[u] == '/' || end[u] == '%') u++;
+    *num_len = (size_t)(end - s);
+    *unit_len = u;
+    return 0;
+}
+
+/* A whole string as a number with no unit or exactly `unit`. */
+static int opt_to_unit(const char *s, const char *unit, double *out)
+{
+    double v;
+    size_t n, u;
+    if (opt_scan_number(s, &v, &n, &u) || s[n + u] || (u && (u != strlen(unit) || memcmp(s + n, unit, u))))
+        return -1;
     *out = v;
     return 0;
 }
@@ -57,6 +82,14 @@ static int opt_store(const char *cmd, const struct opt *o, const char *val, stru
         if (opt_to_double(val, (double *)o->dest))
             return err_set(e, "revisit %s: option '%s' expects a number, got '%s'", cmd, o->name, val);
         return 0;
+    case OPT_METRES:
+    case OPT_SECONDS: {
+        int m = o->kind == OPT_METRES;
+        if (opt_to_unit(val, m ? "m" : "s", (double *)o->dest))
+            return err_set(e, "revisit %s: option '%s' expects a %s such as %s, got '%s'", cmd, o->name,
+                           m ? "length in metres" : "time in seconds", m ? "3 or 3m" : "30 or 30s", val);
+        return 0;
+    }
     case OPT_U64:
         if (opt_to_u64(val, (unsigned long long *)o->dest))
             return err_set(e, "revisit %s: option '%s' expects a non-negative whole number, got '%s'", cmd, o->name, val);

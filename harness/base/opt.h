@@ -23,6 +23,8 @@ enum opt_kind {
     OPT_INT,     /* long */
     OPT_DOUBLE,  /* double */
     OPT_U64,     /* unsigned long long (seeds) */
+    OPT_METRES,  /* double: a length, "3" or "3m" (units as in chains) */
+    OPT_SECONDS, /* double: a time, "30" or "30s" */
     OPT_LIST     /* struct opt_list: repeatable string option */
 };
 
@@ -52,6 +54,13 @@ int opt_parse(const char *cmd, int argc, char **argv, const struct opt *table,
 
 /* Print "options:" and one line per table row. */
 void opt_print_help(FILE *f, const struct opt *table);
+
+/* The number at the start of s and the unit letters right after it, as
+ * chains and length/time options write them ("40m", "90deg", "2m/s",
+ * "30s"): *num_len bytes of number, then *unit_len bytes of unit (letters,
+ * '/', '%').  0, or -1 when s does not start like a finite number (a digit,
+ * sign or point; so no "inf" or "nan"). */
+int opt_scan_number(const char *s, double *v, size_t *num_len, size_t *unit_len);
 
 /* Parse a whole string as a number; 0 on success. */
 int opt_to_double(const char *s, double *out);

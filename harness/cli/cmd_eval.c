@@ -118,8 +118,8 @@ int cmd_eval(int argc, char **argv)
         {"--replace", OPT_FLAG, &o.replace, NULL, "write into an --out folder that already holds files"},
         {"--jobs", OPT_INT, &o.jobs, "N", "threads (default: all cores)"},
         {"--isolate", OPT_FLAG, &o.isolate, NULL, "describe in a child process (crash, hang and memory safe)"},
-        {"--time-limit", OPT_DOUBLE, &o.time_s, "S",
-         "most seconds per scan (default 60; external programs 10); isolated and external methods are stopped"},
+        {"--time-limit", OPT_SECONDS, &o.time_s, "S",
+         "most seconds per scan: 60 or 60s (default 60; external programs 10); isolated and external methods are stopped"},
         {"--mem-limit", OPT_INT, &o.mem_mb, "MiB", "memory an isolated method or external program may take (default 4096)"},
         {"--quiet", OPT_FLAG, &o.quiet, NULL, "no progress bar"},
         {0}};

@@ -262,9 +262,10 @@ static void inspect_print_text(const struct recording *rec, const struct inspect
         printf("extrinsic    sensor at %g %g %g m, quaternion %g %g %g %g in the poses' frame (applied)\n",
                rec->extrinsic.p[0], rec->extrinsic.p[1], rec->extrinsic.p[2], rec->extrinsic.q[0], rec->extrinsic.q[1],
                rec->extrinsic.q[2], rec->extrinsic.q[3]);
-    printf("non-finite   %zu points dropped in %zu scans\n", st->dropped_points, st->dropped_scans);
+    printf("non-finite   %zu %s dropped in %zu %s\n", st->dropped_points, numfmt_noun(st->dropped_points, "point", "points"),
+           st->dropped_scans, numfmt_noun(st->dropped_scans, "scan", "scans"));
     size_t bad = st->unreadable + st->empty + st->all_nonfinite + st->few, shown = 0;
-    printf("suspicious   %zu scans\n", bad);
+    printf("suspicious   %zu %s\n", bad, numfmt_noun(bad, "scan", "scans"));
     for (size_t k = 0; k < st->n && shown < 20; k++) {
         const char *why = inspect_why(&sc[k], st);
         if (!why) continue;
@@ -375,11 +376,11 @@ int cmd_inspect(int argc, char **argv)
     struct inspect_opts o = {NULL, 0, 0, 0, 0, 0, 3.0, 30.0, INSPECT_SPEED_MAX, -1};
     const struct opt opts[] = {
         {"--json", OPT_FLAG, &o.json, NULL, "print the same facts as JSON"},
-        {"--radius", OPT_DOUBLE, &o.radius, "M", "revisit radius in metres (default 3)"},
-        {"--exclude-s", OPT_DOUBLE, &o.exclude_s, "S", "skip candidates from the last S seconds (default 30)"},
+        {"--radius", OPT_METRES, &o.radius, "M", "revisit radius, metres: 3 or 3m (default 3)"},
+        {"--exclude-s", OPT_SECONDS, &o.exclude_s, "S", "skip candidates from the last S seconds: 30 or 30s (default 30)"},
         {"--planar", OPT_FLAG, &o.planar, NULL, "measure pose distances in the world's x, y only"},
         {"--max-speed", OPT_DOUBLE, &o.speed_max, "M/S", "flag consecutive poses faster apart than this (default 70)"},
-        {"--max-gap", OPT_DOUBLE, &o.gap_s, "S", "flag intervals longer than this (default 10 x the median)"},
+        {"--max-gap", OPT_SECONDS, &o.gap_s, "S", "flag intervals longer than this (default 10 x the median)"},
         {"--jobs", OPT_INT, &o.jobs, "N", "threads reading scans (default: online cores)"},
         {"--allow-outside", OPT_FLAG, &o.allow_outside, NULL, "allow manifest paths outside its folder"},
         {"--quiet", OPT_FLAG, &o.quiet, NULL, "no progress bar"},

@@ -7,6 +7,7 @@
 #include <sys/stat.h>
 
 #include "harness/cli/cmd.h"
+#include "harness/base/numfmt.h"
 #include "harness/base/fileio.h"
 #include "harness/base/opt.h"
 #include "harness/plan/plan.h"
@@ -92,8 +93,9 @@ static int merge_run(const char *out, int n, const char *const *dirs, int quiet,
     if (!rc && !(rc = summary_load(&s, &p, out, e))) {
         rc = summary_write(&s, e);
         if (!rc && !quiet)
-            fprintf(stderr, "revisit merge: %zu cells copied; %s holds %zu of %zu cells (%zu failed)\n",
-                    copied, out, s.n_done, p.n_cells, s.n_failed);
+            fprintf(stderr, "revisit merge: %zu %s copied; %s holds %zu of %zu %s (%zu failed)\n", copied,
+                    numfmt_noun(copied, "cell", "cells"), out, s.n_done, p.n_cells, numfmt_noun(p.n_cells, "cell", "cells"),
+                    s.n_failed);
         summary_free(&s);
     }
     plan_free(&p);

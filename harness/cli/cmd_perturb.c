@@ -7,6 +7,7 @@
 #include <string.h>
 
 #include "harness/cli/cmd.h"
+#include "harness/base/numfmt.h"
 #include "harness/base/fileio.h"
 #include "harness/base/opt.h"
 #include "harness/base/pool.h"
@@ -154,8 +155,8 @@ static void print_stats(const struct chain *ch, const struct chain_stats *t, siz
     for (size_t i = 0; i < t->n_stages; i++)
         printf("%-10s %11zu %12zu %6.1f%%\n", chain_stage_name(ch, i), t->in[i], t->out[i],
                t->in[i] ? 100.0 * (double)t->out[i] / (double)t->in[i] : 100.0);
-    printf("%zu scans; %zu points with a non-finite coordinate dropped on reading\n", scans,
-           dropped);
+    printf("%zu %s; %zu %s with a non-finite coordinate dropped on reading\n", scans,
+           numfmt_noun(scans, "scan", "scans"), dropped, numfmt_noun(dropped, "point", "points"));
 }
 
 /* Output layout: --layout, else the input's (input in a layout recordings

@@ -4,6 +4,7 @@
 #include <string.h>
 
 #include "harness/cli/cmd.h"
+#include "harness/base/numfmt.h"
 #include "harness/base/fileio.h"
 #include "harness/base/opt.h"
 #include "reports/report.h"
@@ -76,7 +77,8 @@ int cmd_report_main(int argc, char **argv)
     struct report_result r;
     if (report_run(&o, &r, &e)) return cmd_report(&e);
     if (!quiet)
-        fprintf(stderr, "revisit report: %zu cells, %zu of %zu plots drawn%s; wrote %s\n", r.cells, r.drawn,
-                r.plots, r.have_gnuplot ? "" : " (gnuplot not found)", r.out_dir);
+        fprintf(stderr, "revisit report: %zu %s, %zu of %zu %s drawn%s; wrote %s\n", r.cells,
+                numfmt_noun(r.cells, "cell", "cells"), r.drawn, r.plots, numfmt_noun(r.plots, "plot", "plots"),
+                r.have_gnuplot ? "" : " (gnuplot not found)", r.out_dir);
     return CMD_OK;
 }

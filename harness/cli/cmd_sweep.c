@@ -9,6 +9,7 @@
 #include "harness/run/eval.h"
 #include "harness/run/plugin_host.h"
 #include "harness/base/opt.h"
+#include "harness/base/numfmt.h"
 #include "harness/plan/plan.h"
 #include "harness/base/pool.h"
 #include "harness/io/recording.h"
@@ -103,11 +104,12 @@ static int sweep_finish(const struct plan *p, const struct sweep_opts *o, const 
     summary_free(&s);
     if (rc) return cmd_report(e);
     if (!o->quiet)
-        fprintf(stderr, "revisit sweep: %zu cells in this shard: %zu run now, %zu done before, %zu failed, %zu left\n",
-                st->in_shard, st->ran, st->skipped, failed, st->left);
+        fprintf(stderr, "revisit sweep: %zu %s in this shard: %zu run now, %zu done before, %zu failed, %zu left\n",
+                st->in_shard, numfmt_noun(st->in_shard, "cell", "cells"), st->ran, st->skipped, failed, st->left);
     if (st->stale)
-        fprintf(stderr, "revisit sweep: %zu finished cells were made from another content of the recordings or "
-                "another build of their method; they were run again\n", st->stale);
+        fprintf(stderr, "revisit sweep: %zu finished %s made from another content of the recordings or "
+                "another build of %s method; %s run again\n", st->stale, numfmt_noun(st->stale, "cell was", "cells were"),
+                numfmt_noun(st->stale, "its", "their"), numfmt_noun(st->stale, "it was", "they were"));
     if (st->interrupted) {
         fprintf(stderr, "revisit sweep: interrupted; finished cells are kept, run the same command to go on\n");
         return CMD_INTERRUPTED;
@@ -115,15 +117,16 @@ static int sweep_finish(const struct plan *p, const struct sweep_opts *o, const 
     if (missing) {
         /* Every cell of the shard ran, yet some have no result: the folder
          * was deleted or changed under the sweep. */
-        fprintf(stderr, "revisit: sweep: %zu cells of this shard have no result in %s/cells although they "
+        fprintf(stderr, "revisit: sweep: %zu %s of this shard %s no result in %s/cells although %s "
                 "ran; was the folder deleted or changed while the sweep ran? run the same command again "
-                "to redo them\n", missing, o->out_dir);
+                "to redo %s\n", missing, numfmt_noun(missing, "cell", "cells"), numfmt_noun(missing, "has", "have"),
+                o->out_dir, numfmt_noun(missing, "it", "they"), numfmt_noun(missing, "it", "them"));
         return CMD_ERROR;
     }
     if (failed) {
-        fprintf(stderr, "revisit: sweep: %zu cells failed (status in %s/summary.csv, message in each "
+        fprintf(stderr, "revisit: sweep: %zu %s failed (status in %s/summary.csv, message in each "
                 "cell's result.json)%s; once the cause is fixed, run again with --retry-failed\n",
-                failed, o->out_dir, first);
+                failed, numfmt_noun(failed, "cell", "cells"), o->out_dir, first);
         return CMD_ERROR;
     }
     return CMD_OK;

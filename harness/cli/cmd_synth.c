@@ -5,6 +5,7 @@
 #include <string.h>
 
 #include "harness/cli/cmd.h"
+#include "harness/base/numfmt.h"
 #include "harness/base/opt.h"
 #include "harness/base/pool.h"
 #include "harness/io/logwrite.h"
@@ -40,7 +41,8 @@ static void synth_print(const struct synconf *c, const struct synth_summary *s, 
            (unsigned long long)c->seed);
     printf("  %zu scans at %.2f Hz over %.1f s, %.0f m driven, %.0f points per scan\n", s->scans,
            s->rate_hz, s->duration_s, s->length_m, s->scans ? (double)s->points / s->scans : 0.0);
-    printf("  world: %zu primitives, %zu moving vehicles\n", s->primitives, s->movers);
+    printf("  world: %zu primitives, %zu moving %s\n", s->primitives, s->movers,
+           numfmt_noun(s->movers, "vehicle", "vehicles"));
     printf("  revisiting scans (3 m, 30 s): same %zu, reverse %zu, crossing %zu; never revisited %zu\n",
            s->revisits[0], s->revisits[1], s->revisits[2], s->never);
     printf("  wrote %s\n", out);
@@ -59,7 +61,7 @@ int cmd_synth(int argc, char **argv)
         {"--out", OPT_STR, &out, "DIR", "folder to write the recording to"},
         {"--seed", OPT_U64, &seed, "S", "seed of the district, scene change, range and pose noise (default: the file's)"},
         {"--scans", OPT_INT, &scans, "N", "N scans spread over the whole drive"},
-        {"--duration", OPT_DOUBLE, &duration, "S", "stop the drive after S seconds"},
+        {"--duration", OPT_SECONDS, &duration, "S", "stop the drive after S seconds (60 or 60s)"},
         {"--sensor", OPT_STR, &sensor, "NAME|FILE", "sensor profile (spin16, spin32, spin64, spin128) or a sensor .json"},
         {"--log", OPT_STR, &log, "FILE.bag|FILE.mcap", "also write the recording as a ROS 1 bag or an MCAP file"},
         {"--jobs", OPT_INT, &jobs, "N", "threads (default: every core)"},

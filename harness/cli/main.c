@@ -28,7 +28,12 @@ static void main_help(FILE *f)
 
 int cmd_report(const struct err *e)
 {
-    fprintf(stderr, "revisit: %s\n", e->msg);
+    /* Messages are built as "revisit CMD: ..." deep down; the reader gets one
+     * prefix: "revisit: CMD: ...". */
+    const char *m = e->msg;
+    if (!strncmp(m, "revisit: ", 9)) m += 9;
+    else if (!strncmp(m, "revisit ", 8)) m += 8;
+    fprintf(stderr, "revisit: %s\n", m);
     return CMD_ERROR;
 }
 

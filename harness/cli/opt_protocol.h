@@ -22,9 +22,9 @@ struct opt_protocol {
 
 #define OPT_PROTOCOL_ROWS(op) \
     {"--mode", OPT_STR, &(op).mode, "loop|reloc", "protocol mode (default loop; reloc when --query is given)"}, \
-    {"--radius", OPT_DOUBLE, &(op).r_pos, "M", "revisit radius in metres (default 3)"}, \
-    {"--radius-neg", OPT_DOUBLE, &(op).r_neg, "M", "wrong-match radius in metres (default = --radius)"}, \
-    {"--exclude-s", OPT_DOUBLE, &(op).excl_s, "S", "loop: skip candidates from the last S seconds (default 30)"}, \
+    {"--radius", OPT_METRES, &(op).r_pos, "M", "revisit radius, metres: 3 or 3m (default 3)"}, \
+    {"--radius-neg", OPT_METRES, &(op).r_neg, "M", "wrong-match radius, metres (default = --radius)"}, \
+    {"--exclude-s", OPT_SECONDS, &(op).excl_s, "S", "loop: skip candidates from the last S seconds: 30 or 30s (default 30)"}, \
     {"--exclude-scans", OPT_INT, &(op).excl_scans, "N", "loop: skip the last N scans instead of a time window"}, \
     {"--planar", OPT_FLAG, &(op).planar, NULL, "measure pose distances in x, y only"}, \
     {"--counting", OPT_STR, &(op).counting, "strict|lenient", "false-negative counting (default strict)"}, \

@@ -9,6 +9,7 @@
 #include <string.h>
 
 #include "harness/base/fileio.h"
+#include "harness/base/json_path.h"
 #include "harness/base/numfmt.h"
 #include "metrics/pr.h"
 #include "perturb/chain.h"
@@ -16,10 +17,12 @@
 #define PLAN_FILE_MAX ((size_t)4 << 20)
 #define JP 256   /* room for one JSON path */
 
-/* Loader context: the file name for messages and the error record. */
+/* Loader context: the file name and its text for messages, and the error record. */
 struct pl {
     const char *file;
     struct err *e;
+    const char *text;
+    size_t len;
 };
 
 static int pl_fail(const struct pl *c, const char *jp, const char *fmt, ...)
@@ -32,7 +35,12 @@ static int pl_fail(const struct pl *c, const char *jp, const char *fmt, ...)
     va_start(ap, fmt);
     vsnprintf(msg, sizeof msg, fmt, ap);
     va_end(ap);
-    return err_at(c->e, c->file, 0, "%s: %s", jp[0] ? jp : "(top level)", msg);
+    size_t off;
+    long line, col;
+    if (!c->text || json_path_find(c->text, c->len, jp, &off))
+        return err_at(c->e, c->file, 0, "%s: %s", jp[0] ? jp : "(top level)", msg);
+    err_line_col(c->text, off, &line, &col);
+    return err_set(c->e, "%s:%ld:%ld: %s: %s", c->file, line, col, jp[0] ? jp : "(top level)", msg);
 }
 
 static char *pl_dup(const char *s)
@@ -699,7 +707,7 @@ static int pl_root(const struct pl *c, const cJSON *root, struct plan *p)
 int plan_parse(struct plan *p, const char *text, size_t len, const char *path, struct err *e)
 {
     memset(p, 0, sizeof *p);
-    struct pl c = {path, e};
+    struct pl c = {path, e, text, len};
     const char *end = NULL;
     cJSON *root = cJSON_ParseWithLengthOpts(text, len, &end, 0);
     if (!root) {

@@ -11,8 +11,8 @@
  *     scan-context_rings-20__sector_width-90__s2
  * so that shards, resumed runs and merges agree on what a cell is.
  *
- * Errors carry the JSON path of the bad value:
- *     sweep.json: conditions[2].axis.values[3]: expected a number
+ * Errors carry the line, column and JSON path of the bad value:
+ *     sweep.json:14:21: conditions[2].axis.values[3]: expected a number
  *
  *     struct plan p;
  *     if (plan_load(&p, "scenarios/demo.json", e)) return -1;
@@ -93,7 +93,7 @@ struct plan {
     struct plan_criterion *criteria;
 };
 
-/* Read, check and expand a scenario file. 0 or -1 (e: "FILE: JSON.PATH: ..."). */
+/* Read, check and expand a scenario file. 0 or -1 (e: "FILE:LINE:COL: JSON.PATH: ..."). */
 int plan_load(struct plan *p, const char *path, struct err *e);
 /* The same from text in memory; path names it in messages and anchors
  * relative recording paths. 0 or -1. */

@@ -19,6 +19,7 @@
 #include "harness/results/result_json.h"
 #include "harness/base/fileio.h"
 #include "harness/base/json_file.h"
+#include "harness/base/numfmt.h"
 #include "harness/base/pool.h"
 #include "harness/base/progress.h"
 #include "harness/io/recording.h"
@@ -453,12 +454,13 @@ void sweep_print_plan(FILE *f, const struct plan *p, const struct sweep_opts *o,
         if (seen) seen[c->method] |= sh;
     }
     free(seen);
-    fprintf(f, "\n%zu of %zu cells in shard %d/%d, %zu done, %zu to run", mine, p->n_cells,
-            o->shard_i, o->shard_n, done, mine - done);
-    fprintf(f, " (%zu methods x %zu conditions)\n", p->n_methods, p->n_conds);
+    fprintf(f, "\n%zu of %zu %s in shard %d/%d, %zu done, %zu to run", mine, p->n_cells,
+            numfmt_noun(p->n_cells, "cell", "cells"), o->shard_i, o->shard_n, done, mine - done);
+    fprintf(f, " (%zu %s x %zu %s)\n", p->n_methods, numfmt_noun(p->n_methods, "method", "methods"), p->n_conds,
+            numfmt_noun(p->n_conds, "condition", "conditions"));
     if (n_map)
-        fprintf(f, "estimated work: %zu scan descriptions (%zu perturbed, %zu unperturbed shared per method)\n",
-                perturbed + shared, perturbed, shared);
+        fprintf(f, "estimated work: %zu scan %s (%zu perturbed, %zu unperturbed shared per method)\n",
+                perturbed + shared, numfmt_noun(perturbed + shared, "description", "descriptions"), perturbed, shared);
     else
         fprintf(f, "estimated work: scan counts unknown (recording not readable)\n");
 }

@@ -1,0 +1,45 @@
+/* test_opt_units.c: length and time options take the units chains take. */
+#include "harness/base/opt.h"
+#include "tests/check.h"
+
+static int parse1(const char *flag, const char *val, double *out, struct err *e)
+{
+    double r = -1, t = -1;
+    const struct opt table[] = {
+        {"--radius", OPT_METRES, &r, "M", "a length"},
+        {"--exclude-s", OPT_SECONDS, &t, "S", "a time"},
+        {0}};
+    char *argv[] = {"test", (char *)flag, (char *)val};
+    struct opt_args a;
+    int rc = opt_parse("test", 3, argv, table, &a, e);
+    *out = flag[2] == 'r' ? r : t;
+    return rc;
+}
+
+int main(void)
+{
+    struct err e;
+    double v;
+    CHECK(!parse1("--radius", "3m", &v, &e) && v == 3, "--radius 3m is 3 metres");
+    CHECK(!parse1("--radius", "3", &v, &e) && v == 3, "--radius 3 is 3 metres too");
+    CHECK(!parse1("--radius", "2.5m", &v, &e) && v == 2.5, "a fractional length with its unit");
+    CHECK(!parse1("--exclude-s", "30s", &v, &e) && v == 30, "--exclude-s 30s is 30 seconds");
+    CHECK(!parse1("--exclude-s", "0.5", &v, &e) && v == 0.5, "a bare time is in seconds");
+    CHECK(parse1("--radius", "3km", &v, &e) == -1, "a unit of another scale is refused");
+    CHECK_MSG(e.msg, "option '--radius' expects a length in metres such as 3 or 3m, got '3km'",
+              "the refusal names the option, the unit and what was given");
+    CHECK(parse1("--exclude-s", "30m", &v, &e) == -1, "a length unit on a time is refused");
+    CHECK_MSG(e.msg, "expects a time in seconds such as 30 or 30s, got '30m'", "the time refusal says seconds");
+    CHECK(parse1("--radius", "m", &v, &e) == -1, "a unit without a number is refused");
+    CHECK(parse1("--radius", "inf", &v, &e) == -1 && parse1("--radius", "nan", &v, &e) == -1,
+          "no infinite or not-a-number length");
+    CHECK(parse1("--radius", "1e999m", &v, &e) == -1, "an overflowing number is refused");
+    CHECK(parse1("--radius", "3m ", &v, &e) == -1, "nothing may follow the unit");
+
+    size_t n, u;
+    CHECK(!opt_scan_number("40m", &v, &n, &u) && v == 40 && n == 2 && u == 1, "40m: two bytes of number, one of unit");
+    CHECK(!opt_scan_number("2m/s,", &v, &n, &u) && v == 2 && n == 1 && u == 3, "2m/s stops before the comma");
+    CHECK(!opt_scan_number("-0.5deg", &v, &n, &u) && v == -0.5 && n == 4 && u == 3, "a signed number with degrees");
+    CHECK(opt_scan_number("x1", &v, &n, &u) == -1, "a word is not a number");
+    return check_done();
+}
