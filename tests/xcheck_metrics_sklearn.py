@@ -71,6 +71,30 @@ def compare(d1, labels, desc):
         check(abs(sc["f1max"] - f1) <= TOL, name + ": F1max is the maximum over sklearn's points")
 
 
+def compare_scaled(n, rng, desc):
+    """Strict counting with revisits whose top-1 is wrong or missing: our AP is
+    average_precision_score over the queries with a candidate (label 1 = the
+    top-1 is correct, score -d1) times correct / revisits, since our recall
+    divides the same true positives by every revisit instead of by the
+    correct ones; precision is the same when r_neg = r_pos (no band)."""
+    d1 = rng.random(n) * 3
+    revisit = rng.random(n) < 0.6
+    correct = revisit & (rng.random(n) < 0.7)      # a correct top-1 needs a revisit
+    d1[revisit & ~correct & (rng.random(n) < 0.3)] = np.inf   # revisits with no candidate
+    correct[0], revisit[0], d1[0] = True, True, 0.5
+    lines = ["%d 1000 0" % n]
+    for d, c, r in zip(d1, correct, revisit):
+        lines.append("%s %d %d %d" % ("inf" if not np.isfinite(d) else "%.17g" % d, 1 if c else 0,
+                                      1 if r else 0, 1 if c else -1))
+    out = subprocess.run([TOOL], input="\n".join(lines) + "\n", capture_output=True, text=True,
+                         check=True).stdout
+    ap = [float(l.split()[2]) for l in out.splitlines() if l.startswith("scalar ap ")][0]
+    fin = np.isfinite(d1)
+    ref = average_precision_score(correct[fin].astype(int), -d1[fin]) * correct.sum() / revisit.sum()
+    check(abs(ap - ref) <= TOL, desc + ": strict AP = average_precision_score x correct/revisits (%r vs %r)"
+          % (ap, ref))
+
+
 def main():
     if not os.access(TOOL, os.X_OK):
         check(False, "tool not built: " + TOOL)
@@ -91,6 +115,8 @@ def main():
             ([0.2, 0.1, 0.4], [1, 1, 0]), ([1.0, 1.0, 1.0], [1, 1, 1]), ([0.1, 0.9], [1, 0])]
     for k, (d1, labels) in enumerate(tiny):
         compare(d1, labels, "tiny case %d" % k)
+    for k in range(8):  # wrong and missing top-1 candidates among the revisits
+        compare_scaled(int(rng.integers(20, 400)), rng, "wrong top-1 %d" % k)
     return done()
 
 
