@@ -56,7 +56,8 @@ int plot_degradation(struct plot_set *ps, const char *name, const char *title, c
     fputs("\nset ylabel ", f); esc_gp(f, ylabel);
     fputc('\n', f);
     fputs(key_below, f);
-    fputs("set yrange [0:1.05]\nset offsets graph 0.03, graph 0.03, 0, 0\n"
+    /* The x axis spans the swept values exactly: no padding past them. */
+    fputs("set yrange [0:1.05]\nset autoscale xfix\nset offsets 0, 0, 0, 0\n"
           "set style fill transparent solid 0.18 noborder\n", f);
     for (size_t k = 0; k < n; k++)
         fprintf(f, "%s'%s.dat' index %zu using 1:3:4 with filledcurves lc rgb '%s' notitle",

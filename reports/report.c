@@ -9,6 +9,7 @@
 #include "harness/base/fileio.h"
 #include "harness/base/numfmt.h"
 #include "harness/base/progress.h"
+#include "perturb/chain.h"
 #include "reports/rdoc.h"
 
 void report_opts_defaults(struct report_opts *o)
@@ -48,6 +49,18 @@ long report_ok_cell(const struct rdata_set *s, const struct rstat_table *t, size
     for (size_t i = 0; i < s->n; i++)
         if (s->cells[i].ok && t->cell_method[i] == m && t->cell_cond[i] == c) return (long)i;
     return -1;
+}
+
+/* "sector width (deg)": a swept axis with the unit the stage table gives its
+ * key; "dropout p" when the key has none or the stage is not known. */
+static void report_axis_label(char *out, size_t n, const char *stage, const char *key)
+{
+    const struct chain_stage_info *in = chain_stage_find(stage);
+    const char *unit = "";
+    for (size_t k = 0; in && k < in->n_params; k++)
+        if (!strcmp(in->params[k].key, key) && in->params[k].unit) unit = in->params[k].unit;
+    int w = snprintf(out, n, "%s %s%s%s%s", stage, key, *unit ? " (" : "", unit, *unit ? ")" : "");
+    if (w < 0 || (size_t)w >= n) snprintf(out, n, "%s", key);   /* stage names are short: not reached */
 }
 
 /* Degradation curves: one plot per swept axis and per metric. */
@@ -91,7 +104,7 @@ static int plots_degradation(struct report_doc *d, struct plot_set *ps, struct p
             snprintf(name, sizeof name, "degradation-%zu-%s", n_axes, rdata_metric_key(metrics[mk]));
             snprintf(title, sizeof title, "%s against %s %s (mean over seeds, band: 95%% interval)",
                      rdata_metric_name(metrics[mk]), a->axis_stage, a->axis_key);
-            snprintf(xl, sizeof xl, "%s %s", a->axis_stage, a->axis_key);
+            report_axis_label(xl, sizeof xl, a->axis_stage, a->axis_key);
             rc = plot_degradation(ps, name, title, xl, rdata_metric_name(metrics[mk]), sr, ns, e);
             progress_add(pg, 1);
         }

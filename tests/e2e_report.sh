@@ -90,6 +90,17 @@ EOF
 expect_in "$md" "$cost" "the method table gives ms per scan (numpy.mean of the cells' timing) and descriptor bytes ($cost)"
 n=$(ls "$R"/plots/*.gp | wc -l)
 expect "[ $n -eq 14 ]" "14 plot scripts: the summary, 2 degradation, 5 PR, 2 x (top view, distances, matrix) (got $n)"
+gp=$(ls "$R"/plots/degradation-*-f1max.gp | head -n 1)
+expect_in "$(cat "$gp")" 'set xlabel "sector width (deg)"' "the degradation x axis names the swept key with its unit"
+# The x range gnuplot drew (GPVAL_X_MIN, GPVAL_X_MAX: gnuplot 5 documentation,
+# "Gnuplot-defined variables") must be the swept values' range, no padding.
+if command -v gnuplot >/dev/null 2>&1; then
+  drawn=$(cd "$R/plots" && { cat "$(basename "$gp")"; echo 'print GPVAL_X_MIN, GPVAL_X_MAX'; } | gnuplot 2>&1 | tail -n 1)
+  swept=$(awk '!/^#/ && NF { if (lo == "" || $1 < lo) lo = $1; if (hi == "" || $1 > hi) hi = $1 } END { print lo + 0, hi + 0 }' "${gp%.gp}.dat")
+  expect "[ \"\$(echo $drawn | awk '{print \$1 + 0, \$2 + 0}')\" = '$swept' ]" "the drawn x range is the swept range ($drawn vs $swept)"
+else
+  skip_test "gnuplot not installed: the drawn x range is not checked"
+fi
 out=$($PY "$T/images.py" "$R/plots")
 expect "[ '$out' = '14 14' ]" "14 valid PNG and 14 SVG files that parse as XML (got '$out')"
 html=$(cat "$R/report.html")
