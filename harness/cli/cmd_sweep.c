@@ -22,7 +22,9 @@ static const char about[] =
     "DIR/cells/ID/.  A rerun skips finished cells, so an interrupted sweep loses\n"
     "only the cells in flight.  Ctrl-C lets running cells finish and exits 130\n"
     "(a second Ctrl-C drops them).  At the end DIR/summary.csv, summary_seeds.csv\n"
-    "and summary.json cover every finished cell.  Exit 2 when a cell failed.\n\n";
+    "and summary.json cover every finished cell.  Exit 2 when a cell failed.\n"
+    "Before any cell runs (--dry-run too), every chain must parse and every\n"
+    "method must load; otherwise nothing runs and the message names it.\n\n";
 
 /* The one piece of state a signal handler may touch. */
 static volatile sig_atomic_t sweep_stop;
