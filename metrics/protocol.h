@@ -1,6 +1,6 @@
 /* protocol.h: the evaluation protocol shared by ground truth, curves and the
  * commands that score (metrics, eval, sweep, inspect).  See design.md and the
- * README's "Evaluation protocol" section for the definitions.
+ * metrics/README.md, "Evaluation protocol", for the definitions.
  *
  *     struct protocol p; protocol_defaults(&p);   // loop, 3 m, 30 s, strict
  */

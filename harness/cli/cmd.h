@@ -8,7 +8,8 @@
  *      to the table in harness/cli/cmd_table.c;
  *   3. nothing to add to the Makefile (every .c file in harness/cli/ is picked up);
  *   4. add tests (tests/e2e_help.sh runs --help on every row already);
- *   5. document it in README.md (usage) and DEVELOPERS.md if it adds a module.
+ *   5. document it in the README of the folder that owns it (linked from
+ *      README.md's reference list) and DEVELOPERS.md if it adds a module.
  *
  * Handlers return an exit code: CMD_OK, CMD_FAIL (a check or criterion
  * failed), CMD_ERROR (usage or input error; the message is already printed

@@ -1,6 +1,6 @@
 /* scan_io.h: read one scan file into a struct cloud, and write one back.
  *
- * Layouts read (see README "Recordings and formats"):
+ * Layouts read (see harness/io/README.md, "Recordings and formats"):
  *   SCAN_RAW   little-endian float32 records x y z intensity, 16 bytes per
  *              point, no header (".bin")
  *   SCAN_PCD   PCD v0.7 ascii or binary (".pcd"; see harness/io/pcd.h)

@@ -22,7 +22,7 @@
  * What it protects: the harness process (its memory, finished results) from
  * a plugin that crashes, hangs or allocates without bound.  What it does
  * not: the child runs with the user's rights, so a malicious plugin can
- * still read and write the user's files (see README "Security").
+ * still read and write the user's files (see harness/README.md, "Security").
  */
 #ifndef RV_ISOLATE_H
 #define RV_ISOLATE_H

@@ -25,7 +25,7 @@
  * unmatched segment keeps T_i = 0.  The default is there because on our
  * synthetic drives the zero rule made F_b jump between (S + T)/2 and S/2
  * depending on whether a match was found, and the full method scored below
- * F_a alone (see README "M2DP and segment pooling" for the numbers).
+ * F_a alone (see harness/plugins/README.md, "M2DP and segment pooling", for the numbers).
  *
  * Ties between equal distances are broken by the centroid coordinates, never
  * by the segments' positions in the array, so a permutation of the segments
