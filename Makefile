@@ -20,7 +20,7 @@ BLAS_LIBS  := $(shell pkg-config --libs openblas 2>/dev/null || echo -lopenblas)
 BLAS_CFLAGS := $(shell pkg-config --cflags openblas 2>/dev/null)
 LAPACK_LIBS := -llapacke
 
-WARN    := -std=c11 -Wall -Wextra -Werror $(if $(findstring clang,$(CC)),,-Wno-format-truncation)
+WARN    := -std=c11 -Wall -Wextra -Werror
 CFLAGS  ?= -O2 -g
 SAN     ?=
 ALL_CFLAGS := $(WARN) $(CFLAGS) $(SAN) -D_POSIX_C_SOURCE=200809L -D_DEFAULT_SOURCE \

@@ -22,10 +22,22 @@ static const enum pr_metric rdata_metrics[RDATA_NMETRIC] = {PR_F1MAX, PR_R100P, 
 const char *rdata_metric_name(int k) { return pr_metric_def(rdata_metrics[k])->label; }
 const char *rdata_metric_key(int k) { return pr_metric_def(rdata_metrics[k])->key; }
 
-static void json_str(const cJSON *o, const char *key, char *out, size_t n)
+/* o[key] into out (n bytes); a text cut to fit ends in "...". Returns key
+ * when it was cut, else NULL, so names that identify a cell are refused
+ * rather than merged with another that shares their first n bytes. */
+static const char *json_str(const cJSON *o, const char *key, char *out, size_t n)
 {
     const cJSON *v = cJSON_GetObjectItemCaseSensitive(o, key);
-    if (cJSON_IsString(v) && v->valuestring) snprintf(out, n, "%s", v->valuestring);
+    if (!cJSON_IsString(v) || !v->valuestring) return NULL;
+    if (!err_cut(snprintf(out, n, "%s", v->valuestring), n)) return NULL;
+    if (n > 4) memcpy(out + n - 4, "...", 4);
+    return key;
+}
+
+/* The first of a and b that is not NULL. */
+static const char *first_cut(const char *a, const char *b)
+{
+    return a ? a : b;
 }
 
 static double json_num(const cJSON *o, const char *key, double dflt)
@@ -34,20 +46,22 @@ static double json_num(const cJSON *o, const char *key, double dflt)
     return cJSON_IsNumber(v) ? v->valuedouble : dflt;
 }
 
-static void cell_condition(const cJSON *c, struct rdata_cell *cell)
+/* Returns the key of a name that did not fit, or NULL. */
+static const char *cell_condition(const cJSON *c, struct rdata_cell *cell)
 {
-    if (!cJSON_IsObject(c)) return;
-    json_str(c, "name", cell->cond, sizeof cell->cond);
-    json_str(c, "chain", cell->chain, sizeof cell->chain);
-    json_str(c, "on", cell->on, sizeof cell->on);
+    if (!cJSON_IsObject(c)) return NULL;
+    const char *cut = json_str(c, "name", cell->cond, sizeof cell->cond);
+    cut = first_cut(cut, json_str(c, "chain", cell->chain, sizeof cell->chain));
+    cut = first_cut(cut, json_str(c, "on", cell->on, sizeof cell->on));
     cell->seed = (unsigned long long)json_num(c, "seed", 0);
     const cJSON *ax = cJSON_GetObjectItemCaseSensitive(c, "axis");
     if (cJSON_IsObject(ax) && cJSON_IsNumber(cJSON_GetObjectItemCaseSensitive(ax, "value"))) {
         cell->has_axis = 1;
-        json_str(ax, "stage", cell->axis_stage, sizeof cell->axis_stage);
-        json_str(ax, "key", cell->axis_key, sizeof cell->axis_key);
+        cut = first_cut(cut, json_str(ax, "stage", cell->axis_stage, sizeof cell->axis_stage));
+        cut = first_cut(cut, json_str(ax, "key", cell->axis_key, sizeof cell->axis_key));
         cell->axis_value = json_num(ax, "value", NAN);
     }
+    return cut;
 }
 
 static void cell_metrics(const cJSON *m, struct rdata_cell *cell)
@@ -102,18 +116,20 @@ void rdata_cell_free(struct rdata_cell *c)
     c->curve_n = 0;
 }
 
-static void cell_header(const cJSON *root, struct rdata_cell *c)
+/* Returns the key of a name that did not fit, or NULL (free texts such as
+ * the command and the error may be cut; they end in "..." then). */
+static const char *cell_header(const cJSON *root, struct rdata_cell *c)
 {
     json_str(root, "software", c->software, sizeof c->software);
     json_str(root, "command", c->command, sizeof c->command);
-    json_str(root, "scenario_hash", c->scenario_hash, sizeof c->scenario_hash);
+    const char *cut = json_str(root, "scenario_hash", c->scenario_hash, sizeof c->scenario_hash);
     const cJSON *m = cJSON_GetObjectItemCaseSensitive(root, "method");
-    json_str(m, "name", c->method, sizeof c->method);
-    json_str(m, "label", c->label, sizeof c->label);
+    cut = first_cut(cut, json_str(m, "name", c->method, sizeof c->method));
+    cut = first_cut(cut, json_str(m, "label", c->label, sizeof c->label));
     if (!c->label[0]) snprintf(c->label, sizeof c->label, "%s", c->method);
     const cJSON *rec = cJSON_GetObjectItemCaseSensitive(root, "recordings");
-    json_str(rec, "map", c->rec_map, sizeof c->rec_map);
-    json_str(rec, "query", c->rec_query, sizeof c->rec_query);
+    cut = first_cut(cut, json_str(rec, "map", c->rec_map, sizeof c->rec_map));
+    cut = first_cut(cut, json_str(rec, "query", c->rec_query, sizeof c->rec_query));
     const cJSON *cnt = cJSON_GetObjectItemCaseSensitive(root, "counts");
     c->queries = (size_t)json_num(cnt, "queries", 0);
     c->revisits = (size_t)json_num(cnt, "revisits", 0);
@@ -122,6 +138,7 @@ static void cell_header(const cJSON *root, struct rdata_cell *c)
     c->described = json_num(tm, "described", NAN);
     c->desc_bytes = json_num(m, "descriptor_bytes", NAN);
     json_str(root, "error", c->error, sizeof c->error);
+    return cut;
 }
 
 int rdata_cell_parse(const char *text, const char *path, struct rdata_cell *c, struct err *e)
@@ -132,8 +149,13 @@ int rdata_cell_parse(const char *text, const char *path, struct rdata_cell *c, s
         cJSON_Delete(root);
         return err_at(e, path, 0, "no method object, expected \"method\": {\"name\": ...}");
     }
-    cell_header(root, c);
-    cell_condition(cJSON_GetObjectItemCaseSensitive(root, "condition"), c);
+    const char *cut = first_cut(cell_header(root, c),
+                                cell_condition(cJSON_GetObjectItemCaseSensitive(root, "condition"), c));
+    if (cut) {
+        cJSON_Delete(root);
+        return err_at(e, path, 0, "the text of '%s' is longer than the report keeps, expected a shorter name "
+                      "(two names alike in their first bytes would be taken for one)", cut);
+    }
     result_json_protocol(root, &c->proto);
     cell_metrics(cJSON_GetObjectItemCaseSensitive(root, "metrics"), c);
     int rc = cell_curve(cJSON_GetObjectItemCaseSensitive(root, "curve"), path, c, e);

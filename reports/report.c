@@ -203,11 +203,13 @@ static int write_scalars(const struct report_doc *d, const char *path, struct er
 
 static void doc_title(struct report_doc *d, const struct report_opts *o)
 {
-    if (o->title) snprintf(d->title, sizeof d->title, "%s", o->title);
+    int n;
+    if (o->title) n = snprintf(d->title, sizeof d->title, "%s", o->title);
     else if (d->set->scenario_name[0])
-        snprintf(d->title, sizeof d->title, "Robustness report: %s", d->set->scenario_name);
+        n = snprintf(d->title, sizeof d->title, "Robustness report: %s", d->set->scenario_name);
     else
-        snprintf(d->title, sizeof d->title, "Robustness report: %s", d->set->cells[0].label);
+        n = snprintf(d->title, sizeof d->title, "Robustness report: %s", d->set->cells[0].label);
+    if (err_cut(n, sizeof d->title)) memcpy(d->title + sizeof d->title - 4, "...", 4);  /* a title cut shows it */
 }
 
 static int draw_all(struct report_doc *d, struct plot_set *ps, int quiet, struct err *e)

@@ -37,7 +37,7 @@ struct rstat_group {
     double mean[RDATA_NMETRIC], lo[RDATA_NMETRIC], hi[RDATA_NMETRIC], sd[RDATA_NMETRIC];
 };
 
-#define RSTAT_COND_MAX 320
+#define RSTAT_COND_MAX 384  /* cond (255) + " (" + axis key (63) + "=" + %g + ")" always fits */
 
 struct rstat_table {
     size_t n_methods, n_conds, n_groups;

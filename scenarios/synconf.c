@@ -423,28 +423,34 @@ static int synconf_is_path(const char *name)
     return strchr(name, '/') || (n > 5 && !strcmp(name + n - 5, ".json"));
 }
 
+/* dirs[nd] = a + b when it fits; the new count. */
+static int synconf_dir(char dirs[][SYNCONF_PATH_MAX], int nd, const char *a, const char *b)
+{
+    return err_cut(snprintf(dirs[nd], SYNCONF_PATH_MAX, "%s%s", a, b), SYNCONF_PATH_MAX) ? nd : nd + 1;
+}
+
 int synconf_find(const char *name, const char *sub, const char *near_dir, char *out, size_t n,
                  struct err *e)
 {
     if (!name[0]) return err_set(e, "empty %s name, expected a built-in name or a .json file", *sub ? "sensor" : "scenario");
     if (synconf_is_path(name)) {
         if (access(name, R_OK)) return err_set(e, "%s: cannot read the file", name);
-        snprintf(out, n, "%s", name);
-        return 0;
+        return err_cut(snprintf(out, n, "%s", name), n) ? err_set(e, "%s: path too long", name) : 0;
     }
     char exe[SYNCONF_PATH_MAX] = "", bin[SYNCONF_PATH_MAX] = ".", dirs[6][SYNCONF_PATH_MAX];
     ssize_t k = readlink("/proc/self/exe", exe, sizeof exe - 1);
     if (k > 0) { exe[k] = 0; fileio_dirname(bin, sizeof bin, exe); }
     const char *env = getenv("REVISIT_SCENARIOS");
     int nd = 0;
-    if (near_dir) snprintf(dirs[nd++], SYNCONF_PATH_MAX, "%s/..", near_dir);  /* a sensors/ beside the file */
-    if (near_dir) snprintf(dirs[nd++], SYNCONF_PATH_MAX, "%s", near_dir);
-    if (env && *env) snprintf(dirs[nd++], SYNCONF_PATH_MAX, "%s", env);
-    snprintf(dirs[nd++], SYNCONF_PATH_MAX, "%s/../scenarios", bin);
-    snprintf(dirs[nd++], SYNCONF_PATH_MAX, "%s/../../scenarios", bin);
-    snprintf(dirs[nd++], SYNCONF_PATH_MAX, "%s/../share/revisit/scenarios", bin);
+    /* a folder whose path does not fit is left out of the search, never cut */
+    if (near_dir) nd = synconf_dir(dirs, nd, near_dir, "/..");  /* a sensors/ beside the file */
+    if (near_dir) nd = synconf_dir(dirs, nd, near_dir, "");
+    if (env && *env) nd = synconf_dir(dirs, nd, env, "");
+    nd = synconf_dir(dirs, nd, bin, "/../scenarios");
+    nd = synconf_dir(dirs, nd, bin, "/../../scenarios");
+    nd = synconf_dir(dirs, nd, bin, "/../share/revisit/scenarios");
     for (int d = 0; d < nd; d++) {
-        snprintf(out, n, "%s/%s%s%s.json", dirs[d], sub, *sub ? "/" : "", name);
+        if (err_cut(snprintf(out, n, "%s/%s%s%s.json", dirs[d], sub, *sub ? "/" : "", name), n)) continue;
         if (!access(out, R_OK)) return 0;
     }
     if (*sub)

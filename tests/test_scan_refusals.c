@@ -150,5 +150,16 @@ int main(void)
     }
     test_binary_bodies();
     test_fifo();
+    /* A message longer than the error record is cut visibly, never silently. */
+    char deep[2200] = "";
+    for (int k = 0; k < 40; k++) strcat(deep, "a-folder-name-of-fifty-characters-for-the-test-xx/");
+    strcat(deep, "x.pcd");
+    struct cloud c;
+    cloud_init(&c);
+    struct err e;
+    CHECK(scan_read(deep, SCAN_AUTO, &c, &e) == -1, "a scan under a path of 2000 bytes that does not exist is refused");
+    CHECK(strlen(e.msg) == ERR_MSG_MAX - 1 && !strcmp(e.msg + ERR_MSG_MAX - 4, "..."),
+          "the message cut to the record's size ends in '...'");
+    cloud_free(&c);
     return check_done();
 }

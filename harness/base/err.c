@@ -5,13 +5,21 @@
 #include <stdio.h>
 #include <string.h>
 
+/* A message cut to fit ends in "..." so no one takes it for the whole. */
+static void err_mark_cut(struct err *e, int n, size_t at)
+{
+    if (n >= 0 && (size_t)n < sizeof e->msg - at) return;
+    memcpy(e->msg + sizeof e->msg - 4, "...", 4);
+}
+
 int err_set(struct err *e, const char *fmt, ...)
 {
     if (!e) return -1;
     va_list ap;
     va_start(ap, fmt);
-    vsnprintf(e->msg, sizeof e->msg, fmt, ap);
+    int n = vsnprintf(e->msg, sizeof e->msg, fmt, ap);
     va_end(ap);
+    err_mark_cut(e, n, 0);
     return -1;
 }
 
@@ -26,8 +34,9 @@ int err_at(struct err *e, const char *file, long line, const char *fmt, ...)
     if (used >= sizeof e->msg) used = sizeof e->msg - 1;
     va_list ap;
     va_start(ap, fmt);
-    vsnprintf(e->msg + used, sizeof e->msg - used, fmt, ap);
+    int n = vsnprintf(e->msg + used, sizeof e->msg - used, fmt, ap);
     va_end(ap);
+    err_mark_cut(e, n, used);
     return -1;
 }
 
@@ -40,7 +49,7 @@ int err_wrap(struct err *e, const char *fmt, ...)
     va_start(ap, fmt);
     vsnprintf(prefix, sizeof prefix, fmt, ap);
     va_end(ap);
-    snprintf(e->msg, sizeof e->msg, "%s: %s", prefix, old);
+    err_mark_cut(e, snprintf(e->msg, sizeof e->msg, "%s: %s", prefix, old), 0);
     return -1;
 }
 

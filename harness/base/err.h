@@ -34,4 +34,12 @@ int err_wrap(struct err *e, const char *fmt, ...)
 /* Translate a byte offset in a text buffer into 1-based line and column. */
 void err_line_col(const char *text, size_t offset, long *line, long *col);
 
+/* 1 when an snprintf into size bytes that returned n was cut (or failed):
+ *     if (err_cut(snprintf(p, sizeof p, "%s/x", dir), sizeof p)) return err_at(e, dir, 0, "path too long");
+ * Messages cut by err_set, err_at and err_wrap end in "..." instead. */
+static inline int err_cut(int n, size_t size)
+{
+    return n < 0 || (size_t)n >= size;
+}
+
 #endif

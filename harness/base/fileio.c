@@ -256,10 +256,12 @@ int fileio_out_unused(const char *path, int replace, struct err *e)
                    "give --replace to write over it", path, n, n == 1 ? "y" : "ies", first);
 }
 
-void fileio_join(char *out, size_t n, const char *dir, const char *name)
+int fileio_join(char *out, size_t n, const char *dir, const char *name)
 {
-    if (name[0] == '/' || !dir || !dir[0]) snprintf(out, n, "%s", name);
-    else snprintf(out, n, "%s/%s", dir, name);
+    int len = name[0] == '/' || !dir || !dir[0] ? snprintf(out, n, "%s", name) : snprintf(out, n, "%s/%s", dir, name);
+    if (!err_cut(len, n)) return 0;
+    if (n) out[0] = 0;
+    return -1;
 }
 
 void fileio_dirname(char *out, size_t n, const char *path)

@@ -104,7 +104,9 @@ int fileio_stage_commit(struct fileio_stage *s, const char *last, struct err *e)
 void fileio_stage_abort(struct fileio_stage *s);
 
 /* Join dir and name into out (size n); name absolute stays as is. */
-void fileio_join(char *out, size_t n, const char *dir, const char *name);
+/* Returns 0, or -1 when the joined path does not fit in n bytes: out is
+ * then "" (any use fails loudly, never on a shortened path). */
+int fileio_join(char *out, size_t n, const char *dir, const char *name);
 
 /* The folder part of path ("." when none) into out. */
 void fileio_dirname(char *out, size_t n, const char *path);

@@ -91,6 +91,23 @@ static void eval_print(const struct eval_spec *s, const struct eval_summary *m)
     printf("results    %s/result.json (intervals there)\n", s->out_dir);
 }
 
+/* Run s with the whole folder or nothing: written beside out, renamed into place. */
+static int eval_into_out(struct eval_spec *s, const char *out, struct err *e)
+{
+    char tmp[4200];
+    if (results_out_begin(out, tmp, sizeof tmp, e)) return err_wrap(e, "revisit eval"), cmd_report(e);
+    s->out_dir = tmp;
+    struct eval_summary sum;
+    if (eval_run(s, &sum, e)) {
+        results_out_fail(tmp, out, e);
+        return cmd_report(e);
+    }
+    if (results_out_commit(tmp, out, e)) return err_wrap(e, "revisit eval"), cmd_report(e);
+    s->out_dir = out;
+    eval_print(s, &sum);
+    return CMD_OK;
+}
+
 int cmd_eval(int argc, char **argv)
 {
     struct eval_opts o;
@@ -131,22 +148,15 @@ int cmd_eval(int argc, char **argv)
     struct eval_spec s;
     if (eval_finish_spec(&o, &s, &e)) return cmd_report(&e);
     if (fileio_out_unused(o.out, o.replace, &e)) return err_wrap(&e, "revisit eval"), cmd_report(&e);
-    char command[4096];
+    /* the command as given, whole (result.json keeps it to rerun the evaluation) */
+    size_t need = 9;
+    for (int k = 0; k < argc; k++) need += strlen(argv[k]) + 1;
+    char *command = malloc(need);
+    if (!command) return err_set(&e, "revisit eval: out of memory"), cmd_report(&e);
     size_t used = 0;
-    for (int k = 0; k < argc && used < sizeof command; k++)
-        used += (size_t)snprintf(command + used, sizeof command - used, "%s%s", k ? " " : "revisit ", argv[k]);
+    for (int k = 0; k < argc; k++) used += (size_t)sprintf(command + used, "%s%s", k ? " " : "revisit ", argv[k]);
     s.command = command;
-    /* the whole folder or nothing: written beside --out, renamed into place */
-    char tmp[4200];
-    if (results_out_begin(o.out, tmp, sizeof tmp, &e)) return err_wrap(&e, "revisit eval"), cmd_report(&e);
-    s.out_dir = tmp;
-    struct eval_summary sum;
-    if (eval_run(&s, &sum, &e)) {
-        results_out_fail(tmp, o.out, &e);
-        return cmd_report(&e);
-    }
-    if (results_out_commit(tmp, o.out, &e)) return err_wrap(&e, "revisit eval"), cmd_report(&e);
-    s.out_dir = o.out;
-    eval_print(&s, &sum);
-    return CMD_OK;
+    int rc = eval_into_out(&s, o.out, &e);
+    free(command);
+    return rc;
 }

@@ -203,8 +203,9 @@ static int index_resample(struct index_opts *o, const struct poses *ps, const ch
                 fprintf(stderr, "revisit index: scan %s (t %.6f s) dropped: %s\n", v[k].name, v[k].t, why);
             continue;
         }
-        snprintf(rel, sizeof rel, "%s/%s", scans_rel, v[k].name);
-        if (!(o->files[o->n_files++] = strdup(rel))) rc = err_set(e, "out of memory");
+        if (err_cut(snprintf(rel, sizeof rel, "%s/%s", scans_rel, v[k].name), sizeof rel))
+            rc = err_set(e, "revisit index: scan path %s/%s is too long", scans_rel, v[k].name);
+        else if (!(o->files[o->n_files++] = strdup(rel))) rc = err_set(e, "out of memory");
     }
     if (!rc && !o->n_files)
         rc = err_at(e, o->poses, 0, "none of the %zu scans has poses around its time at most %g s apart, expected "

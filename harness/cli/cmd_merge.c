@@ -45,9 +45,12 @@ static int merge_copy_cell(const char *src, const char *out, const char *id, str
         char from[4400], to[4400], *buf;
         size_t len;
         struct stat st;
-        snprintf(from, sizeof from, "%s/%s", src, de->d_name);
+        if (err_cut(snprintf(from, sizeof from, "%s/%s", src, de->d_name), sizeof from) ||
+            err_cut(snprintf(to, sizeof to, "%s/%s", part, de->d_name), sizeof to)) {
+            rc = err_at(e, src, 0, "path too long below this folder ('%s')", de->d_name);
+            break;
+        }
         if (de->d_name[0] == '.' || lstat(from, &st) || !S_ISREG(st.st_mode)) continue;
-        snprintf(to, sizeof to, "%s/%s", part, de->d_name);
         buf = NULL;
         rc = fileio_read(from, MERGE_FILE_MAX, &buf, &len, e) ? -1 : fileio_write(to, buf, len, e);
         free(buf);

@@ -189,7 +189,7 @@ static int rec_path(const struct rec_ctx *x, const char *dir, const char *rel, c
                     char *out, size_t n, struct err *e)
 {
     if (!rel[0]) return rec_bad(x, jpath, "empty path", "a file or folder name", e);
-    fileio_join(out, n, dir, rel);
+    if (fileio_join(out, n, dir, rel)) return rec_bad(x, jpath, "path too long", "a shorter path", e);
     char real[PATH_MAX];
     if (!realpath(out, real)) {
         char what[PATH_MAX + 64];
@@ -259,7 +259,10 @@ static int rec_list_dir(const struct rec_ctx *x, const char *dir, const char *pa
     for (struct dirent *de; (de = readdir(d)); ) {
         if (de->d_name[0] == '.' || fnmatch(pattern, de->d_name, FNM_PERIOD)) continue;
         char path[RECORDING_PATH_MAX];
-        fileio_join(path, sizeof path, dir, de->d_name);
+        if (fileio_join(path, sizeof path, dir, de->d_name)) {
+            rc = err_set(e, "%s: $.scans: '%s/%s' is too long a path", x->file, dir, de->d_name);
+            break;
+        }
         struct stat st;
         if (stat(path, &st) || !S_ISREG(st.st_mode)) continue;
         if (n >= RECORDING_MAX_SCANS) {
@@ -555,9 +558,10 @@ static int rec_manifest_path(const char *path, struct recording *rec, struct err
 {
     struct stat st;
     if (stat(path, &st)) return err_at(e, path, 0, "cannot open: %s", strerror(errno));
-    if (S_ISDIR(st.st_mode)) fileio_join(rec->manifest, sizeof rec->manifest, path, "recording.json");
-    else if (strlen(path) < sizeof rec->manifest) snprintf(rec->manifest, sizeof rec->manifest, "%s", path);
-    else return err_at(e, path, 0, "path too long");
+    int cut = S_ISDIR(st.st_mode) ? fileio_join(rec->manifest, sizeof rec->manifest, path, "recording.json")
+                                   : err_cut(snprintf(rec->manifest, sizeof rec->manifest, "%s", path),
+                                             sizeof rec->manifest);
+    if (cut) return err_at(e, path, 0, "path too long");
     fileio_dirname(rec->dir, sizeof rec->dir, rec->manifest);
     return 0;
 }

@@ -160,7 +160,8 @@ int recording_writer_source(struct recording_writer *w, const char *log_json, co
 
 void recording_writer_scan_path(const struct recording_writer *w, size_t i, char *out, size_t n)
 {
-    snprintf(out, n, "%s/scans/%06zu%s", w->dir, i, scan_layout_ext(w->layout));
+    /* recording_writer_begin keeps dir short enough; an empty path fails loudly at any use */
+    if (err_cut(snprintf(out, n, "%s/scans/%06zu%s", w->dir, i, scan_layout_ext(w->layout)), n)) out[0] = 0;
 }
 
 /* Where scan i will be once the recording is in place (for messages). */

@@ -52,14 +52,15 @@ static char *pl_dup(const char *s)
     return d;
 }
 
+/* JSON paths name places in messages; one cut to fit ends in "...". */
 static void pl_join(char *out, const char *jp, const char *key)
 {
-    snprintf(out, JP, "%s%s%s", jp, jp[0] ? "." : "", key);
+    if (err_cut(snprintf(out, JP, "%s%s%s", jp, jp[0] ? "." : "", key), JP)) memcpy(out + JP - 4, "...", 4);
 }
 
 static void pl_index(char *out, const char *jp, size_t k)
 {
-    snprintf(out, JP, "%s[%zu]", jp, k);
+    if (err_cut(snprintf(out, JP, "%s[%zu]", jp, k), JP)) memcpy(out + JP - 4, "...", 4);
 }
 
 /* Refuse keys outside allowed (NULL-terminated) and repeated keys. */
@@ -661,7 +662,11 @@ static int pl_cell(const struct pl *c, struct plan *p, size_t m, size_t ci, long
     } else if (d->chain && !(cell->chain = pl_dup(d->chain))) {
         return pl_fail(c, "conditions", "out of memory");
     }
-    snprintf(cell->id, sizeof cell->id, "%s__%s%s__s%llu", mid, d->name, val, (unsigned long long)seed);
+    /* a cut id could name two cells alike: refuse instead */
+    if (err_cut(snprintf(cell->id, sizeof cell->id, "%s__%s%s__s%llu", mid, d->name, val, (unsigned long long)seed),
+                sizeof cell->id))
+        return pl_fail(c, "conditions", "a cell id (method, condition, axis value, seed) is longer than the "
+                       "limit, expected shorter method or condition names");
     return 0;
 }
 

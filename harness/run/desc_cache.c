@@ -32,7 +32,7 @@ static uint64_t dc_get(const unsigned char *b, int bytes)
     return v;
 }
 
-void desc_cache_path(const char *dir, const struct desc_cache_key *k, char *out, size_t n)
+int desc_cache_path(const char *dir, const struct desc_cache_key *k, char *out, size_t n)
 {
     uint64_t h = DC_FNV_BASIS;
     const char *parts[] = {k->method, k->version, k->chain, k->source};
@@ -42,7 +42,7 @@ void desc_cache_path(const char *dir, const struct desc_cache_key *k, char *out,
     h = dc_fnv(h, s, 8);
     char name[64];
     snprintf(name, sizeof name, "desc-%016llx.bin", (unsigned long long)h);
-    fileio_join(out, n, dir, name);
+    return fileio_join(out, n, dir, name);
 }
 
 /* The header and strings for k into a malloc'ed buffer of *len bytes. */
@@ -74,8 +74,8 @@ int desc_cache_load(const char *dir, const struct desc_cache_key *k, float *desc
                     int *rejected, struct err *e)
 {
     char path[4200];
-    desc_cache_path(dir, k, path, sizeof path);
     *rejected = 0;
+    if (desc_cache_path(dir, k, path, sizeof path)) return err_at(e, dir, 0, "path too long for a cache file");
     struct stat st;
     if (stat(path, &st)) return 0;
     size_t hl, nd = (size_t)k->count * k->dim * 4, nk = (size_t)k->count * k->key_dim * 4;
@@ -110,7 +110,7 @@ int desc_cache_store(const char *dir, const struct desc_cache_key *k, const floa
 {
     char path[4200];
     if (fileio_mkdirs(dir, e)) return -1;
-    desc_cache_path(dir, k, path, sizeof path);
+    if (desc_cache_path(dir, k, path, sizeof path)) return err_at(e, dir, 0, "path too long for a cache file");
     size_t hl, nd = (size_t)k->count * k->dim * 4, nk = (size_t)k->count * k->key_dim * 4;
     unsigned char *h = dc_header(k, &hl);
     if (!h) return err_set(e, "%s: out of memory", path);

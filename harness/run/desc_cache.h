@@ -44,8 +44,8 @@ struct desc_cache_key {
     uint64_t count;
 };
 
-/* The file for k under dir (out of size n). */
-void desc_cache_path(const char *dir, const struct desc_cache_key *k, char *out, size_t n);
+/* The file for k under dir (out of size n). 0, or -1 when it does not fit. */
+int desc_cache_path(const char *dir, const struct desc_cache_key *k, char *out, size_t n);
 
 /* 1: desc (count x dim) and key (count x key_dim, may be NULL when key_dim
  * is 0) filled from the file; 0: no usable file (*rejected = 1 when one

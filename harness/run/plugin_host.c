@@ -318,15 +318,22 @@ static int plugin_apply_settings(const struct rv_method *m, const char *text, do
     return 0;
 }
 
-static void plugin_make_label(struct plugin *p)
+/* The label names the variant in results and in the cache key: refused,
+ * never cut, when it does not fit. */
+static int plugin_make_label(struct plugin *p, struct err *e)
 {
-    size_t used = (size_t)snprintf(p->label, sizeof p->label, "%s", p->name);
+    int n = snprintf(p->label, sizeof p->label, "%s", p->name);
+    size_t used = n < 0 ? sizeof p->label : (size_t)n;
     for (uint32_t k = 0; k < p->m->n_settings && used < sizeof p->label; k++) {
         char v[128];
         plugin_setting_text(&p->m->settings[k], p->values[k], v, sizeof v);
-        used += (size_t)snprintf(p->label + used, sizeof p->label - used, "%c%s=%s", k ? ',' : ':',
-                                 p->m->settings[k].key, v);
+        n = snprintf(p->label + used, sizeof p->label - used, "%c%s=%s", k ? ',' : ':', p->m->settings[k].key, v);
+        used = n < 0 ? sizeof p->label : used + (size_t)n;
     }
+    if (used >= sizeof p->label)
+        return err_set(e, "method '%s': its settings spelled out take more than %zu bytes, expected fewer or "
+                       "shorter settings", p->name, sizeof p->label - 1);
+    return 0;
 }
 
 static int plugin_open_so(struct plugin *p, const char *settings, struct err *e)
@@ -348,8 +355,7 @@ static int plugin_open_so(struct plugin *p, const char *settings, struct err *e)
     if (m->distance != RV_DIST_CUSTOM) p->key_dim = 0;  /* keys only serve a custom distance */
     p->distance = m->distance;
     p->flags = m->flags;
-    plugin_make_label(p);
-    return 0;
+    return plugin_make_label(p, e);
 }
 
 /* External program: settings become "key=value" arguments. */
@@ -359,9 +365,11 @@ static int plugin_open_external(struct plugin *p, const char *settings, const st
     char buf[2048] = "";
     const char *args[64];
     int nargs = 0;
-    if (settings) snprintf(buf, sizeof buf, "%s", settings);
-    for (char *save = NULL, *kv = strtok_r(buf, ",", &save); kv && nargs < 64; kv = strtok_r(NULL, ",", &save))
-        args[nargs++] = kv;
+    if (settings && err_cut(snprintf(buf, sizeof buf, "%s", settings), sizeof buf))
+        return err_set(e, "method '%s': settings longer than %zu bytes, expected fewer", p->path, sizeof buf - 1);
+    char *save = NULL, *kv = strtok_r(buf, ",", &save);
+    for (; kv && nargs < 64; kv = strtok_r(NULL, ",", &save)) args[nargs++] = kv;
+    if (kv) return err_set(e, "method '%s': more than 64 settings, expected at most 64", p->path);
     double scan_s = lim && lim->time_s > 0 ? lim->time_s : EXTERNAL_SCAN_S;
     struct external_limits xl = {scan_s > EXTERNAL_HELLO_S ? scan_s : EXTERNAL_HELLO_S, scan_s,
                                  lim ? lim->mem_bytes : 0};
@@ -372,8 +380,10 @@ static int plugin_open_external(struct plugin *p, const char *settings, const st
     p->key_dim = 0;
     p->distance = p->ext->distance;
     p->flags = 0;
-    snprintf(p->label, sizeof p->label, "%s%s%s", p->name, settings && *settings ? ":" : "",
-             settings ? settings : "");
+    if (err_cut(snprintf(p->label, sizeof p->label, "%s%s%s", p->name, settings && *settings ? ":" : "",
+                         settings ? settings : ""), sizeof p->label))
+        return err_set(e, "method '%s': its label with the settings takes more than %zu bytes, expected fewer",
+                       p->name, sizeof p->label - 1);
     return 0;
 }
 

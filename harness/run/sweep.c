@@ -194,7 +194,8 @@ static int sw_cell(void *arg, size_t task, int worker, struct err *e)
         return fileio_remove_tree(part, e);
     }
     char res[SW_PATH];
-    snprintf(res, sizeof res, "%s/result.json", part);
+    if (err_cut(snprintf(res, sizeof res, "%s/result.json", part), sizeof res))
+        return err_at(e, part, 0, "path too long for the cell's result.json");
     if (!rc && access(res, F_OK)) {              /* success is what is on disk, not what was said */
         rc = -1;
         snprintf(ce.msg, sizeof ce.msg, "method '%s' reported success but no result.json was written",
@@ -228,8 +229,10 @@ static int sw_clear_parts(const struct plan *p, const struct sweep_opts *o, stru
         long k = plan_find_cell(p, id);
         if (k >= 0 && !plan_in_shard((size_t)k, o->shard_i, o->shard_n)) continue;
         char sub[SW_PATH];
-        snprintf(sub, sizeof sub, "%s/%s", cells, de->d_name);
-        rc = fileio_remove_tree(sub, e);
+        if (err_cut(snprintf(sub, sizeof sub, "%s/%s", cells, de->d_name), sizeof sub))
+            rc = err_at(e, cells, 0, "path too long below this folder ('%s')", de->d_name);
+        else
+            rc = fileio_remove_tree(sub, e);
     }
     closedir(d);
     return rc;
