@@ -310,7 +310,11 @@ int fileio_stage_open(struct fileio_stage *s, const char *path, struct err *e)
     fileio_stage_sweep(parent, base);
     static unsigned counter;  /* only makes names unique; not part of any result */
     unsigned k = __atomic_add_fetch(&counter, 1, __ATOMIC_RELAXED);
-    snprintf(s->tmp, sizeof s->tmp, "%s/" FILEIO_STAGED "%s-%ld-%u", parent, base, (long)getpid(), k);
+    if (err_cut(snprintf(s->tmp, sizeof s->tmp, "%s/" FILEIO_STAGED "%s-%ld-%u", parent, base, (long)getpid(), k),
+                sizeof s->tmp)) {
+        s->tmp[0] = 0;
+        return err_at(e, path, 0, "path too long for a folder beside it");
+    }
     if (mkdir(s->tmp, 0755)) {
         int err = errno;
         s->tmp[0] = 0;
@@ -341,12 +345,15 @@ static int fileio_stage_merge(struct fileio_stage *s, const char *last)
             strlen(de->d_name) < sizeof names[0])
             strcpy(names[n++], de->d_name);
     closedir(d);
-    snprintf(to, sizeof to, "%s/%s", s->path, last);
+    if (err_cut(snprintf(to, sizeof to, "%s/%s", s->path, last), sizeof to)) { errno = ENAMETOOLONG; return -1; }
     if (unlink(to) && errno != ENOENT) return -1;
     for (int k = 0; k < n; k++) {
-        snprintf(from, sizeof from, "%s/%s", s->tmp, names[k]);
-        snprintf(to, sizeof to, "%s/%s", s->path, names[k]);
-        snprintf(old, sizeof old, "%s/.old-%s", s->tmp, names[k]);
+        if (err_cut(snprintf(from, sizeof from, "%s/%s", s->tmp, names[k]), sizeof from) ||
+            err_cut(snprintf(to, sizeof to, "%s/%s", s->path, names[k]), sizeof to) ||
+            err_cut(snprintf(old, sizeof old, "%s/.old-%s", s->tmp, names[k]), sizeof old)) {
+            errno = ENAMETOOLONG;
+            return -1;
+        }
         if ((rename(to, old) && errno != ENOENT) || rename(from, to)) return -1;
     }
     snprintf(from, sizeof from, "%s/%s", s->tmp, last);

@@ -121,7 +121,10 @@ int recording_writer_begin(struct recording_writer *w, const char *dir,
         return err_at(e, dir, 0, "sensor channels must be from 1 to 65535");
     if (strlen(dir) + 128 >= sizeof w->dir) return err_at(e, dir, 0, "path too long");
     if (fileio_stage_open(&w->stage, dir, e)) return -1;
-    snprintf(w->dir, sizeof w->dir, "%s", w->stage.tmp);
+    if (err_cut(snprintf(w->dir, sizeof w->dir, "%s", w->stage.tmp), sizeof w->dir)) {
+        fileio_stage_abort(&w->stage);
+        return err_at(e, dir, 0, "path too long");
+    }
     w->layout = layout;
     char scans[RECORDING_PATH_MAX];
     fileio_join(scans, sizeof scans, w->dir, "scans");
@@ -167,7 +170,8 @@ void recording_writer_scan_path(const struct recording_writer *w, size_t i, char
 /* Where scan i will be once the recording is in place (for messages). */
 static void rec_w_final_path(const struct recording_writer *w, size_t i, char *out, size_t n)
 {
-    snprintf(out, n, "%s/scans/%06zu%s", w->stage.path, i, scan_layout_ext(w->layout));
+    if (err_cut(snprintf(out, n, "%s/scans/%06zu%s", w->stage.path, i, scan_layout_ext(w->layout)), n) && n > 4)
+        memcpy(out + n - 4, "...", 4);  /* a name for messages only */
 }
 
 int recording_writer_scan(const struct recording_writer *w, size_t i, const struct cloud *c, struct err *e)
