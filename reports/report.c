@@ -101,7 +101,9 @@ static int plots_degradation(struct report_doc *d, struct plot_set *ps, struct p
             }
             if (!ns) continue;
             char name[64], title[512], xl[200];
-            snprintf(name, sizeof name, "degradation-%zu-%s", n_axes, rdata_metric_key(metrics[mk]));
+            char what[200];
+            snprintf(what, sizeof what, "%s %s %s", a->axis_stage, a->axis_key, rdata_metric_key(metrics[mk]));
+            report_plot_name(name, sizeof name, "degradation", n_axes, what);
             snprintf(title, sizeof title, "%s against %s %s (mean over seeds, band: 95%% interval)",
                      rdata_metric_name(metrics[mk]), a->axis_stage, a->axis_key);
             report_axis_label(xl, sizeof xl, a->axis_stage, a->axis_key);
@@ -143,7 +145,7 @@ static int plots_pr(struct report_doc *d, struct plot_set *ps, struct progress *
         }
         if (!ns) { report_note(d, "PR curves for condition %s: no cell holds a curve", report_cond_name(t, c)); continue; }
         char name[64], title[600];
-        snprintf(name, sizeof name, "pr-%zu", c);
+        report_plot_name(name, sizeof name, "pr", c, report_cond_name(t, c));
         snprintf(title, sizeof title, "PR curves, condition %s (first seed; dotted: the reference condition)",
                  report_cond_name(t, c));
         rc = plot_pr(ps, name, title, sr, ns, bh, e);

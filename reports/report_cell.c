@@ -48,7 +48,7 @@ static int matrix_plot(struct report_doc *d, struct plot_set *ps, size_t m, cons
         for (size_t k = 0; k < mx.cols; k++)
             truth[r * mx.cols + k] = (unsigned char)rstat_true_pair(p, &c->proto, mx.row_idx[r], mx.col_idx[k]);
     char name[64], title[700];
-    snprintf(name, sizeof name, "matrix-%zu", m);
+    report_plot_name(name, sizeof name, "distance-matrix", m, d->table->methods[m]);
     snprintf(title, sizeof title, "Descriptor distances, %s, condition %s", d->table->methods[m],
              report_cond_name(d->table, d->table->ref_cond[m]));
     int rc = plot_matrix(ps, name, title, &mx, truth, e);
@@ -66,13 +66,13 @@ static int outcome_plots(struct report_doc *d, struct plot_set *ps, size_t m, co
     if (!d->ov.have) overview_fill(d, c, p, &o);
     const char *cond = report_cond_name(d->table, d->table->ref_cond[m]);
     char name[64], title[700];
-    snprintf(name, sizeof name, "trajectory-%zu", m);
+    report_plot_name(name, sizeof name, "trajectory", m, d->table->methods[m]);
     snprintf(title, sizeof title, "Top view at the F1max threshold, %s, condition %s", d->table->methods[m], cond);
     int rc = plot_traj(ps, name, title, p, &o, e);
     struct rstat_hist h;
     if (!rc) rc = rstat_hist(&o, &c->proto, REPORT_HIST_BINS, &h, e);
     if (!rc) {
-        snprintf(name, sizeof name, "distances-%zu", m);
+        report_plot_name(name, sizeof name, "top1-distances", m, d->table->methods[m]);
         snprintf(title, sizeof title, "Top-1 distances, %s, condition %s",
                  d->table->methods[m], cond);
         rc = plot_hist(ps, name, title, &h, tau, c->m[RDATA_R100P].threshold, e);

@@ -38,6 +38,11 @@ struct report_doc {
 void report_findings(struct report_doc *d);
 /* "0.812 [0.770, 0.840]" (plus " sd 0.012" over several seeds) into out. */
 void report_cell_text(const struct rstat_group *g, int metric, char *out, size_t n);
+/* A plot's file stem named after what it shows: "KIND-INDEX-WHAT" with
+ * WHAT cut to its first 32 letters and digits, lower case, every other run
+ * as one '-' ("pr-3-sector-width-90"); the index keeps stems apart, and no
+ * character of the user's beyond [a-z0-9-] reaches a file name. */
+void report_plot_name(char *out, size_t n, const char *kind, size_t index, const char *what);
 /* Condition label: "name" or "none" for the unperturbed one. */
 const char *report_cond_name(const struct rstat_table *t, size_t c);
 /* Distinct non-empty values of the char array at offset in each cell

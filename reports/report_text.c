@@ -1,6 +1,7 @@
 /* report_text.c: text the report document uses: findings, cell values, caution. */
 #include "reports/report_int.h"
 
+#include <ctype.h>
 #include <math.h>
 #include <stdarg.h>
 #include <stdio.h>
@@ -12,6 +13,23 @@ const char report_caution[] =
     "regulations and the standards that apply (for road vehicles, e.g. ISO 26262 and ISO 21448), "
     "signed off by qualified safety engineers. A verdict of this tool is evidence for that "
     "process, never a substitute for it.";
+
+void report_plot_name(char *out, size_t n, const char *kind, size_t index, const char *what)
+{
+    int k = snprintf(out, n, "%s-%zu", kind, index);
+    if (k < 0 || (size_t)k >= n) { if (n) out[0] = 0; return; }
+    size_t len = (size_t)k, kept = 0;
+    int dash = 1;  /* a '-' goes before the next letter or digit */
+    for (const unsigned char *p = (const unsigned char *)what; *p && kept < 32; p++) {
+        if (!isalnum(*p)) { dash = 1; continue; }
+        if (len + (size_t)dash + 1 >= n) break;
+        if (dash) out[len++] = '-';
+        out[len++] = (char)tolower(*p);
+        kept++;
+        dash = 0;
+    }
+    out[len] = 0;
+}
 
 const char *report_cond_name(const struct rstat_table *t, size_t c)
 {

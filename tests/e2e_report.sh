@@ -125,8 +125,9 @@ EOF
 )
 expect "[ '$bal' = 0 ]" "every element of report.html is closed in order (html.parser)"
 expect_in "$(head -n 1 "$R/scalars.csv")" "method,condition,chain,axis,axis_value,seeds" "scalars.csv has its header"
-(cd "$R/plots" && gnuplot pr-0.gp) >/dev/null 2>&1
-expect "[ \$? -eq 0 ] && [ -s $R/plots/pr-0.png ]" "a written script redraws its plot when run by hand"
+expect "[ -s $R/plots/pr-3-sector-width-90.gp ] && [ -s $R/plots/trajectory-1-plain-hist.gp ] && [ -s $R/plots/degradation-0-sector-width-f1max.gp ]" "plot files are named after the condition, method or axis they show"
+(cd "$R/plots" && gnuplot pr-0-none.gp) >/dev/null 2>&1
+expect "[ \$? -eq 0 ] && [ -s $R/plots/pr-0-none.png ]" "a written script redraws its plot when run by hand"
 
 # --- every cell's command, however many cells --------------------------------------
 $PY "$FIX" "$T/many" --seeds 4
@@ -138,13 +139,15 @@ expect "[ $ncmd -eq 40 ]" "the reproducibility block lists the command of each o
 $PY "$FIX" "$T/evil" --method "$EVIL_GP" --method "$EVIL_HTML" --conditions 1
 (cd "$T" && "$REVISIT_BIN" report evil --out "$T/evil-out" --quiet); rc=$?
 expect "[ $rc -eq 0 ]" "report with quotes, backticks and system() in a method name exits 0"
+odd=$(ls "$T/evil-out/plots" | grep -cv '^[a-z0-9.-]*$')
+expect "[ $odd -eq 0 ]" "hostile method names leave only letters, digits, '-' and '.' in plot file names ($odd others)"
 left=$(find "$T" -name 'PWNED*' | wc -l)
 expect "[ $left -eq 0 ]" "no command in a method name ran (found $left PWNED files)"
 expect "! grep -q '\`' $T/evil-out/plots/*.gp" "no backtick reaches a gnuplot script"
-expect "! grep -q 'system(\"' $T/evil-out/plots/*.gp && grep -q 'system(\\\\042touch' $T/evil-out/plots/pr-0.gp" "the quotes of system(\"...\") reach the script only as octal escapes inside a string"
-hit=$($PY "$T/svgtext.py" "$T/evil-out/plots/pr-0.svg" "$EVIL_GP")
+expect "! grep -q 'system(\"' $T/evil-out/plots/*.gp && grep -q 'system(\\\\042touch' $T/evil-out/plots/pr-0-none.gp" "the quotes of system(\"...\") reach the script only as octal escapes inside a string"
+hit=$($PY "$T/svgtext.py" "$T/evil-out/plots/pr-0-none.svg" "$EVIL_GP")
 expect "[ '$hit' = 1 ]" "the hostile name is drawn literally in the PR curve legend"
-hit=$($PY "$T/svgtext.py" "$T/evil-out/plots/pr-0.svg" "$EVIL_HTML")
+hit=$($PY "$T/svgtext.py" "$T/evil-out/plots/pr-0-none.svg" "$EVIL_HTML")
 expect "[ '$hit' = 1 ]" "<script> in a name is drawn literally in the legend"
 eh=$(cat "$T/evil-out/report.html")
 expect_in "$eh" "&lt;script&gt;alert(1)&lt;/script&gt;" "<script> in a method name shows as text in HTML"
@@ -174,7 +177,7 @@ for l in rows:
 open(d + "/poses.csv", "w").write("\n".join(rows + q) + "\n")
 EOF
 "$REVISIT_BIN" report "$T/reloc" --quiet --format md
-gp=$(cat "$T/reloc/report/plots/trajectory-0.gp")
+gp=$(cat "$T/reloc/report/plots/trajectory-0-ring-key.gp")
 mc=$(grep -o "map.dat' using 1:2 with lines lc rgb '#[0-9a-f]*'" <<< "$gp" | grep -o "#[0-9a-f]*")
 qc=$(grep -o "query.dat' using 1:2 with lines lc rgb '#[0-9a-f]*'" <<< "$gp" | grep -o "#[0-9a-f]*")
 pal=$(grep -o "set style line [0-9]* lc rgb '#[0-9a-f]*'" <<< "$gp" | grep -o "#[0-9a-f]*" | tr '\n' ' ')
@@ -203,7 +206,7 @@ env PATH="$T/nobin" "$REVISIT_BIN" report "$T/sweep" --out "$T/nogp" --quiet; rc
 expect "[ $rc -eq 0 ]" "report without gnuplot on PATH exits 0"
 ng=$(cat "$T/nogp/report.md")
 expect_in "$ng" "## Skipped plots" "without gnuplot the report has a skipped-plots section"
-expect_in "$ng" '`trajectory-0.gp` (trajectory top view)' "the skipped list names each plot and its kind"
+expect_in "$ng" '`trajectory-0-ring-key.gp` (trajectory top view)' "the skipped list names each plot and its kind"
 expect_in "$ng" "gnuplot-nox" "the report says how to get the plots"
 expect "[ \$(ls $T/nogp/plots/*.png 2>/dev/null | wc -l) -eq 0 ] && [ \$(ls $T/nogp/plots/*.gp | wc -l) -eq 14 ]" "no images, but every script and data file is written"
 expect_in "$ng" "### F1max" "the tables are all there without gnuplot"

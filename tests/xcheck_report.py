@@ -89,12 +89,12 @@ def main():
         elif not acc and rev:
             want["missed"].add(q)
     for layer, col in (("correct", 2), ("wrong", 4), ("missed", 2)):
-        got = set(int(r[col]) for r in load_block(os.path.join(plots, "trajectory-0-%s.dat" % layer)))
+        got = set(int(r[col]) for r in load_block(os.path.join(plots, "trajectory-0-ring-key-%s.dat" % layer)))
         check(got == want[layer], "top view: %s queries match the scipy ground truth (%d vs %d)"
               % (layer, len(got), len(want[layer])))
     check(len(want["correct"]) > 10 and len(want["wrong"]) > 5 and len(want["missed"]) > 5,
           "the fixture exercises every outcome")
-    wrong = load_block(os.path.join(plots, "trajectory-0-wrong.dat"))
+    wrong = load_block(os.path.join(plots, "trajectory-0-ring-key-wrong.dat"))
     ok = all(abs(r[0] + r[2] - xyz[pos[top[int(r[4])][0]]][0]) < 1e-6 for r in wrong)
     check(ok, "each wrong-match segment ends at the wrongly matched place")
 
@@ -106,14 +106,14 @@ def main():
     rv = np.array([bool(true_cands(pos[q])) for q, c in top.items() if c])
     hw, _ = np.histogram(d1[(pd > r_pos) & rv], bins=40, range=rng)
     hn, _ = np.histogram(d1[(pd > r_pos) & ~rv], bins=40, range=rng)
-    h = np.array(load_block(os.path.join(plots, "distances-0.dat")))
+    h = np.array(load_block(os.path.join(plots, "top1-distances-0-ring-key.dat")))
     check(h.shape == (40, 5), "the distance histogram has 40 bins of three counts")
     check(np.array_equal(h[:, 2].astype(int), hc), "correct top-1 counts equal numpy.histogram")
     check(np.array_equal(h[:, 3].astype(int), hw), "wrong top-1 counts of queries with a revisit (scipy) equal numpy.histogram")
     check(np.array_equal(h[:, 4].astype(int), hn) and hn.sum() > 0,
           "top-1 counts of queries without a revisit (scipy) equal numpy.histogram")
     check(abs(h[0, 0] - rng[0]) < 1e-9 and abs(h[-1, 1] - rng[1]) < 1e-6, "bins span the top-1 distance range")
-    gp = open(os.path.join(plots, "distances-0.gp")).read()
+    gp = open(os.path.join(plots, "top1-distances-0-ring-key.gp")).read()
     check(("from %.9g," % tau) in gp, "the F1max threshold of result.json is marked")
     check(("'F1max threshold %.4g'" % tau) in gp, "the F1max threshold's value is written beside its mark")
 
@@ -127,7 +127,7 @@ def main():
         for c, mj in enumerate(ci):
             if mj in tc:
                 want_pairs.add((c, r))
-    got_pairs = set((int(a), int(b)) for a, b in load_block(os.path.join(plots, "matrix-0.dat"), 1))
+    got_pairs = set((int(a), int(b)) for a, b in load_block(os.path.join(plots, "distance-matrix-0-ring-key.dat"), 1))
     check(got_pairs == want_pairs and want_pairs, "matrix: true-revisit marks equal the scipy pairs (%d)" % len(want_pairs))
 
     # Table: mean and sample standard deviation over three seeds.
@@ -155,16 +155,16 @@ def pr_marks(sweep, plots):
     precision) at the F1max threshold result.json names."""
     for m in (0, 1):
         ref = json.load(open(os.path.join(sweep, "cells", "m%d-c0-s1" % m, "result.json")))["curve"]
-        got = np.array(load_block(os.path.join(plots, "pr-1-reference.dat"), m))
+        got = np.array(load_block(os.path.join(plots, "pr-1-sector-width-30-reference.dat"), m))
         check(np.allclose(got[:, 0], ref["recall"]) and np.allclose(got[:, 1], ref["precision"]),
               "PR curve behind method %d: the reference condition's curve" % m)
         r = json.load(open(os.path.join(sweep, "cells", "m%d-c1-s1" % m, "result.json")))
         k = r["curve"]["threshold"].index(r["metrics"]["f1max"]["threshold"])
-        pt = load_block(os.path.join(plots, "pr-1-f1max.dat"), m)
+        pt = load_block(os.path.join(plots, "pr-1-sector-width-30-f1max.dat"), m)
         check(len(pt) == 1 and np.allclose(pt[0], [r["curve"]["recall"][k], r["curve"]["precision"][k]]),
               "the F1max point of method %d lies at the result's F1max threshold on its curve" % m)
-    gp = open(os.path.join(plots, "pr-1.gp")).read()
-    check(gp.index("pr-1-reference.dat") < gp.index("'pr-1.dat'"), "the reference curves are drawn first, behind")
+    gp = open(os.path.join(plots, "pr-1-sector-width-30.gp")).read()
+    check(gp.index("pr-1-sector-width-30-reference.dat") < gp.index("'pr-1-sector-width-30.dat'"), "the reference curves are drawn first, behind")
 
 
 def summary_chart(sweep, plots):

@@ -57,7 +57,7 @@ def main():
     subprocess.run([sys.executable, os.path.join(ROOT, "reports/fixture.py"), tmp + "/one", "--single"], check=True)
     subprocess.run(["env", "PATH=" + tmp + "/none", BIN, "report", tmp + "/one", "--quiet", "--format", "md"],
                    check=True)
-    gp = open(tmp + "/one/report/plots/pr-0.gp").read()
+    gp = open(tmp + "/one/report/plots/pr-0-none.gp").read()
     styles = re.findall(r"set style line (\d+) lc rgb '(#[0-9a-f]{6})' lw \S+ dt (\S+) pt (\d+)", gp)
     check(len(styles) == 6, "six line styles in a plot script (found %d)" % len(styles))
     cols = [s[1] for s in styles]
