@@ -8,6 +8,7 @@
 
 #include "harness/base/fileio.h"
 #include "harness/base/progress.h"
+#include "harness/results/cells.h"
 
 #define REPORT_HIST_BINS 40
 
@@ -36,7 +37,7 @@ static int matrix_plot(struct report_doc *d, struct plot_set *ps, size_t m, cons
                        const struct rdata_poses *p, struct err *e)
 {
     char path[4200];
-    if (!file_exists(c->dir, "matrix.csv", path, sizeof path)) {
+    if (!file_exists(c->dir, RESULTS_MATRIX, path, sizeof path)) {
         report_note(d, "distance matrix of %s: cell %s has no matrix.csv", d->table->methods[m], c->id);
         return 0;
     }
@@ -92,7 +93,7 @@ static int method_plots(struct report_doc *d, struct plot_set *ps, size_t m, str
     }
     const struct rdata_cell *c = &d->set->cells[i];
     char pp[4200], qp[4200];
-    if (!file_exists(c->dir, "poses.csv", pp, sizeof pp) || !file_exists(c->dir, "queries.csv", qp, sizeof qp)) {
+    if (!file_exists(c->dir, RESULTS_POSES, pp, sizeof pp) || !file_exists(c->dir, RESULTS_QUERIES, qp, sizeof qp)) {
         report_note(d, "top view, distances and matrix of %s: cell %s lacks poses.csv or queries.csv",
                     t->methods[m], c->id);
         return 0;
