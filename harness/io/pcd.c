@@ -26,7 +26,7 @@
 #include <liblzf/lzf.h>
 
 #include "harness/base/fileio.h"
-#include "harness/io/scan_io.h"
+#include "harness/io/scan_body.h"
 
 #define PCD_MAX_FIELDS 64
 #define PCD_HEADER_MAX 65536

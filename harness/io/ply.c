@@ -14,7 +14,7 @@
 #include <string.h>
 
 #include "harness/base/fileio.h"
-#include "harness/io/scan_io.h"
+#include "harness/io/scan_body.h"
 
 #define PLY_MAX_ELEMENTS 16
 #define PLY_MAX_PROPS 64
@@ -321,7 +321,7 @@ int ply_read(const char *path, struct cloud *c, struct err *e)
     unsigned char *buf;
     size_t len;
     c->n = 0;
-    if (scan_slurp(path, PLY_FILE_MAX, &buf, &len, e)) return -1;
+    if (scan_body_slurp(path, PLY_FILE_MAX, &buf, &len, e)) return -1;
     struct ply_header h;
     int rc = ply_parse_header(buf, len, path, &h, e);
     if (!rc) rc = ply_body(buf, len, path, &h, c, e);

@@ -14,6 +14,7 @@
 #include "harness/base/fileio.h"
 #include "harness/io/pcd.h"
 #include "harness/io/ply.h"
+#include "harness/io/scan_body.h"
 
 #define SCAN_RAW_RECORD 16
 #define SCAN_TEXT_LINE_MAX 4096
@@ -134,32 +135,6 @@ static void scan_le_floats(float *v, size_t n)
 #endif
 }
 
-/* Read exactly len bytes from fd into buf.  With finite != NULL, read in
- * blocks and check each for NaN / infinity while it is in cache (len a
- * multiple of 4, buf float-aligned); *finite is 1 when none was found. */
-#define SCAN_BLOCK ((size_t)512 << 10)
-static int scan_read_full(int fd, void *buf, size_t len, int *finite, const char *path, struct err *e)
-{
-    unsigned char *p = buf;
-    size_t got = 0;
-    if (finite) *finite = 1;
-    while (got < len) {
-        size_t want = len - got;
-        if (finite && want > SCAN_BLOCK) want = SCAN_BLOCK;
-        ssize_t r = read(fd, p + got, want);
-        if (r < 0 && errno == EINTR) continue;
-        if (r < 0) return err_at(e, path, 0, "read failed: %s", strerror(errno));
-        if (r == 0) return err_at(e, path, 0, "file ended after %zu of %zu bytes", got, len);
-        if (finite && *finite) {
-            /* check the whole floats now complete, including one split by the previous read */
-            size_t from = got & ~(size_t)3, to = (got + (size_t)r) & ~(size_t)3;
-            *finite = cloud_values_finite((const float *)(p + from), (to - from) / 4);
-        }
-        got += (size_t)r;
-    }
-    return 0;
-}
-
 static int scan_read_raw(const char *path, struct cloud *c, int *finite, struct err *e)
 {
     int fd;
@@ -191,7 +166,7 @@ static int scan_read_raw(const char *path, struct cloud *c, int *finite, struct 
 #if defined(__BYTE_ORDER__) && __BYTE_ORDER__ == __ORDER_BIG_ENDIAN__
     finite = NULL;  /* the bytes are checked only after swapping: leave it to the caller */
 #endif
-    if (scan_read_full(fd, c->pts, size, finite, path, e)) goto done;
+    if (scan_body_read_full(fd, c->pts, size, finite, path, e)) goto done;
     scan_le_floats(c->pts, 4 * n);
     c->n = n;
     rc = 0;
@@ -299,64 +274,6 @@ int scan_read_finite(const char *path, enum scan_layout layout, struct cloud *c,
     size_t d = finite ? 0 : cloud_drop_nonfinite(c);
     if (n_dropped) *n_dropped = d;
     return 0;
-}
-
-int scan_slurp(const char *path, size_t max_bytes, unsigned char **buf, size_t *len,
-               struct err *e)
-{
-    *buf = NULL;
-    *len = 0;
-    int fd;
-    size_t size;
-    int rc = -1;
-    unsigned char *b = NULL;
-    if (fileio_open_regular(path, "a scan file", &fd, &size, e)) return -1;
-    if (size == 0) { err_at(e, path, 0, "file is empty, expected a scan"); goto done; }
-    if (size > max_bytes) {
-        err_at(e, path, 0, "file is %zu bytes, more than the limit of %zu for a scan", size, max_bytes);
-        goto done;
-    }
-    b = malloc(size + 1);
-    if (!b) { err_at(e, path, 0, "out of memory for %zu bytes", size); goto done; }
-    if (scan_read_full(fd, b, size, NULL, path, e)) goto done;
-    b[size] = 0;
-    *buf = b;
-    *len = size;
-    b = NULL;
-    rc = 0;
-done:
-    free(b);
-    close(fd);
-    return rc;
-}
-
-void scan_body_binary(FILE *f, const struct cloud *c)
-{
-    unsigned char buf[512 * 22];   /* records packed 512 at a time: one fwrite each */
-    size_t used = 0;
-    for (size_t k = 0; k < c->n; k++) {
-        unsigned char *rec = buf + used;
-        size_t o = 16;
-        memcpy(rec, c->pts + 4 * k, 16);
-        if (c->ring) { rec[o] = (unsigned char)(c->ring[k] & 0xff); rec[o + 1] = (unsigned char)(c->ring[k] >> 8); o += 2; }
-        if (c->time) { memcpy(rec + o, c->time + k, 4); o += 4; }
-        used += o;
-        if (used + 22 > sizeof buf) {
-            fwrite(buf, 1, used, f);
-            used = 0;
-        }
-    }
-    if (used) fwrite(buf, 1, used, f);
-}
-
-void scan_body_ascii(FILE *f, const struct cloud *c)
-{
-    for (size_t k = 0; k < c->n; k++) {
-        fprintf(f, "%.9g %.9g %.9g %.9g", CLOUD_X(c, k), CLOUD_Y(c, k), CLOUD_Z(c, k), CLOUD_I(c, k));
-        if (c->ring) fprintf(f, " %u", (unsigned)c->ring[k]);
-        if (c->time) fprintf(f, " %.9g", c->time[k]);
-        fputc('\n', f);
-    }
 }
 
 int scan_write_raw(const char *path, const struct cloud *c, struct err *e)

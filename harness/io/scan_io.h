@@ -93,19 +93,4 @@ int scan_write_raw(const char *path, const struct cloud *c, struct err *e);
 int scan_write_text(const char *path, const struct cloud *c, struct err *e);
 int scan_write(const char *path, enum scan_layout layout, const struct cloud *c, struct err *e);
 
-/* Internal to the readers (shared by raw/pcd/ply): read a whole file of at
- * most max_bytes; like fileio_read but without the NUL and with the bound in
- * the message phrased for scans.  0 or -1. */
-int scan_slurp(const char *path, size_t max_bytes, unsigned char **buf, size_t *len,
-               struct err *e);
-
-/* Internal to the PCD and PLY writers (shared by pcd/ply): the point body
- * after the header, into f.  scan_body_binary writes one record a point:
- * x y z intensity as float32, then ring as little-endian uint16 and time as
- * float32 when the cloud has them (up to 22 bytes); scan_body_ascii writes
- * one line a point, the same fields, floats with 9 significant digits.
- * Write errors show at afile_commit. */
-void scan_body_binary(FILE *f, const struct cloud *c);
-void scan_body_ascii(FILE *f, const struct cloud *c);
-
 #endif
