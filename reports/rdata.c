@@ -64,16 +64,13 @@ static const char *cell_condition(const cJSON *c, struct rdata_cell *cell)
     return cut;
 }
 
-static void cell_metrics(const cJSON *m, struct rdata_cell *cell)
+static void cell_metrics(const cJSON *root, struct rdata_cell *cell)
 {
     for (int k = 0; k < RDATA_NMETRIC; k++) {
-        const cJSON *o = cJSON_GetObjectItemCaseSensitive(m, rdata_metric_key(k));
+        struct result_metric m = {NAN, NAN, NAN, NAN};
         struct rdata_metric *r = &cell->m[k];
-        r->present = cJSON_IsObject(o) && cJSON_IsNumber(cJSON_GetObjectItemCaseSensitive(o, "value"));
-        r->value = r->present ? json_num(o, "value", NAN) : NAN;
-        r->lo = r->present ? json_num(o, "lo", NAN) : NAN;
-        r->hi = r->present ? json_num(o, "hi", NAN) : NAN;
-        r->threshold = r->present ? json_num(o, "threshold", NAN) : NAN;
+        r->present = result_json_metric(root, rdata_metric_key(k), &m);
+        *r = (struct rdata_metric){r->present, m.value, m.lo, m.hi, m.threshold};
     }
 }
 
@@ -157,7 +154,7 @@ int rdata_cell_parse(const char *text, const char *path, struct rdata_cell *c, s
                       "(two names alike in their first bytes would be taken for one)", cut);
     }
     result_json_protocol(root, &c->proto);
-    cell_metrics(cJSON_GetObjectItemCaseSensitive(root, "metrics"), c);
+    cell_metrics(root, c);
     int rc = cell_curve(cJSON_GetObjectItemCaseSensitive(root, "curve"), path, c, e);
     int ok = rc ? 0 : result_json_status(root, path, e);
     cJSON_Delete(root);

@@ -1,6 +1,7 @@
 /* result_json.c: read result.json back: parse, format, status, protocol. */
 #include "harness/results/result_json.h"
 
+#include <math.h>
 #include <stdlib.h>
 #include <string.h>
 
@@ -54,6 +55,16 @@ static double rj_num(const cJSON *o, const char *key, double dflt)
 {
     const cJSON *v = cJSON_GetObjectItemCaseSensitive(o, key);
     return cJSON_IsNumber(v) ? v->valuedouble : dflt;
+}
+
+int result_json_metric(const cJSON *root, const char *key, struct result_metric *out)
+{
+    const cJSON *m = cJSON_GetObjectItemCaseSensitive(cJSON_GetObjectItemCaseSensitive(root, "metrics"), key);
+    const cJSON *v = cJSON_GetObjectItemCaseSensitive(m, "value");
+    if (!cJSON_IsObject(m) || !cJSON_IsNumber(v)) return 0;
+    *out = (struct result_metric){v->valuedouble, rj_num(m, "lo", NAN), rj_num(m, "hi", NAN),
+                                  rj_num(m, "threshold", NAN)};
+    return 1;
 }
 
 int result_json_protocol(const cJSON *root, struct protocol *p)

@@ -40,6 +40,14 @@ cJSON *result_json_load(const char *path, struct err *e);
 /* 1 for status "ok", 0 for "failed", -1 (e set) for anything else. */
 int result_json_status(const cJSON *root, const char *path, struct err *e);
 
+/* One metric of the "metrics" object: its value, and lo, hi and threshold
+ * (NaN when the key is absent or null).  1 when root has the metric with a
+ * numeric value, 0 when not (*out untouched).  Cannot fail. */
+struct result_metric {
+    double value, lo, hi, threshold;
+};
+int result_json_metric(const cJSON *root, const char *key, struct result_metric *out);
+
 /* The "protocol" object into *p (defaults for keys it lacks; radius_neg
  * defaults to the radius).  1 when root has one, 0 when not (p holds the
  * defaults).  Cannot fail. */

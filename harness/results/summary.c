@@ -71,14 +71,11 @@ void summary_free(struct summary *s)
 int summary_metric(const struct summary *s, size_t k, const char *metric, double *value, double *lo, double *hi)
 {
     const struct summary_cell *c = &s->cells[k];
-    if (!c->ok) return -1;
-    const cJSON *m = cJSON_GetObjectItemCaseSensitive(cJSON_GetObjectItemCaseSensitive(c->result, "metrics"), metric);
-    const cJSON *v = cJSON_GetObjectItemCaseSensitive(m, "value");
-    if (!cJSON_IsNumber(v)) return -1;
-    const cJSON *l = cJSON_GetObjectItemCaseSensitive(m, "lo"), *h = cJSON_GetObjectItemCaseSensitive(m, "hi");
-    *value = v->valuedouble;
-    *lo = cJSON_IsNumber(l) ? l->valuedouble : NAN;
-    *hi = cJSON_IsNumber(h) ? h->valuedouble : NAN;
+    struct result_metric m;
+    if (!c->ok || !result_json_metric(c->result, metric, &m)) return -1;
+    *value = m.value;
+    *lo = m.lo;
+    *hi = m.hi;
     return 0;
 }
 
