@@ -11,6 +11,7 @@
 
 #include "harness/base/fileio.h"
 #include "harness/io/recording.h"
+#include "harness/io/scan_body.h"
 
 /* A growing little-endian byte buffer; with cdr set, values are aligned to
  * their size counted from byte 4 (after the encapsulation header). */
@@ -106,12 +107,8 @@ static void lw_cloud(struct logw_buf *b, int cdr, double t, const struct cloud *
     lw_uint(b, (uint64_t)step * c->n, 4);
     lw_uint(b, (uint64_t)step * c->n, 4);
     for (size_t k = 0; k < c->n; k++) {
-        unsigned char rec[22];
-        size_t o = 16;
-        memcpy(rec, c->pts + 4 * k, 16);
-        if (c->ring) { rec[o] = (unsigned char)(c->ring[k] & 0xff); rec[o + 1] = (unsigned char)(c->ring[k] >> 8); o += 2; }
-        if (c->time) { memcpy(rec + o, c->time + k, 4); o += 4; }
-        lw_raw(b, rec, o);
+        unsigned char rec[SCAN_BODY_RECORD_MAX];
+        lw_raw(b, rec, scan_body_record(c, k, rec));
     }
     lw_uint(b, 1, 1);
 }

@@ -64,18 +64,22 @@ done:
     return rc;
 }
 
+size_t scan_body_record(const struct cloud *c, size_t k, unsigned char rec[SCAN_BODY_RECORD_MAX])
+{
+    size_t o = 16;
+    memcpy(rec, c->pts + 4 * k, 16);
+    if (c->ring) { rec[o] = (unsigned char)(c->ring[k] & 0xff); rec[o + 1] = (unsigned char)(c->ring[k] >> 8); o += 2; }
+    if (c->time) { memcpy(rec + o, c->time + k, 4); o += 4; }
+    return o;
+}
+
 void scan_body_binary(FILE *f, const struct cloud *c)
 {
-    unsigned char buf[512 * 22];   /* records packed 512 at a time: one fwrite each */
+    unsigned char buf[512 * SCAN_BODY_RECORD_MAX];   /* records packed 512 at a time: one fwrite each */
     size_t used = 0;
     for (size_t k = 0; k < c->n; k++) {
-        unsigned char *rec = buf + used;
-        size_t o = 16;
-        memcpy(rec, c->pts + 4 * k, 16);
-        if (c->ring) { rec[o] = (unsigned char)(c->ring[k] & 0xff); rec[o + 1] = (unsigned char)(c->ring[k] >> 8); o += 2; }
-        if (c->time) { memcpy(rec + o, c->time + k, 4); o += 4; }
-        used += o;
-        if (used + 22 > sizeof buf) {
+        used += scan_body_record(c, k, buf + used);
+        if (used + SCAN_BODY_RECORD_MAX > sizeof buf) {
             fwrite(buf, 1, used, f);
             used = 0;
         }

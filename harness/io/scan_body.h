@@ -1,5 +1,5 @@
 /* scan_body.h: internal to the scan readers and writers of harness/io/
- * (scan_io.c, pcd.c, ply.c): whole reads of a scan file and the point body
+ * (scan_io.c, pcd.c, ply.c, and the log writer logwrite.c): whole reads of a scan file and the point body
  * written after a PCD or PLY header.  The format table (scan_io.h) names
  * the readers; they share this, so no reader calls another.
  *
@@ -31,6 +31,10 @@ int scan_body_slurp(const char *path, size_t max_bytes, unsigned char **buf, siz
  * float32 when the cloud has them (up to 22 bytes); scan_body_ascii writes
  * one line a point, the same fields, floats with 9 significant digits. */
 void scan_body_binary(FILE *f, const struct cloud *c);
+
+/* Point k as scan_body_binary writes it, into rec; the bytes used. */
+#define SCAN_BODY_RECORD_MAX 22
+size_t scan_body_record(const struct cloud *c, size_t k, unsigned char rec[SCAN_BODY_RECORD_MAX]);
 void scan_body_ascii(FILE *f, const struct cloud *c);
 
 #endif
