@@ -23,6 +23,9 @@ esac
 if [ "$wide" = 1 ] && [ "$old" = 1 ]; then
   expect_in "$v" "kernel Haswell (chosen by revisit; the library picked $lib)" \
     "a pre-AVX2 fallback on an AVX2 + FMA CPU is replaced by Haswell"
+  # empty: not a user's choice (this library then detects on its own)
+  user=0; OPENBLAS_CORETYPE= "$R" --version | grep -q 'set by OPENBLAS_CORETYPE' && user=1
+  expect "[ $user = 0 ]" "an empty OPENBLAS_CORETYPE counts as not set"
 else
   skip_test "the library picks $lib here and the CPU is wide=$wide: no kernel to replace"
   expect_in "$v" "kernel $lib (the library's choice)" "a good library pick is kept"

@@ -44,7 +44,8 @@ const char *blas_kernel(void)
 
 void blas_choose_kernel(char **argv)
 {
-    if (getenv(BLAS_ENV_CORE) || getenv(BLAS_ENV_FALLBACK)) return;
+    const char *user = getenv(BLAS_ENV_CORE);   /* set but empty counts as not set */
+    if ((user && *user) || getenv(BLAS_ENV_FALLBACK)) return;
     const char *k = blas_kernel();
     if (!blas_is_old(k) || !blas_cpu_wide()) return;
     if (setenv(BLAS_ENV_FALLBACK, k, 1) || setenv(BLAS_ENV_CORE, BLAS_WIDE, 1)) goto restore;
@@ -66,6 +67,7 @@ void blas_describe(char *buf, size_t size)
         snprintf(lib, sizeof lib, "%.*s", (int)(n < sizeof lib ? n : sizeof lib - 1), cfg);
     }
     const char *core = getenv(BLAS_ENV_CORE);
+    if (core && !*core) core = NULL;
     char how[96];
     if (fb && core) snprintf(how, sizeof how, "chosen by revisit; the library picked %.40s", fb);
     else if (core) snprintf(how, sizeof how, "set by " BLAS_ENV_CORE);
