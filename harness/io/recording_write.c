@@ -220,7 +220,7 @@ int recording_writer_finish(struct recording_writer *w, struct err *e)
     snprintf(pattern, sizeof pattern, "*%s", scan_layout_ext(w->layout));
     struct recording_manifest m = {
         .sensor = &w->sensor, .scans_dir = "scans", .scans_pattern = pattern, .layout = w->layout,
-        .poses_file = "poses.csv", .poses_layout = "csv", .perturbation = &w->perturbation,
+        .poses_file = "poses.csv", .poses_layout = "csv", .poses_time_unit = "s", .perturbation = &w->perturbation,
         .extrinsic = w->has_extrinsic ? &w->extrinsic : NULL, .log_json = w->log_json};
     char path[RECORDING_PATH_MAX];
     fileio_join(path, sizeof path, w->dir, "recording.json");
