@@ -63,12 +63,14 @@ void poses_free(struct poses *ps);
  * between poses must lie within [POSES_STEP_MIN_S, POSES_STEP_MAX_S] (1 kHz
  * down to 0.1 Hz), the median speed between poses must stay below
  * POSES_SPEED_MAX_MPS, and the largest time below POSES_TIME_MAX_S once
- * scaled (an epoch in seconds is about 1.7e9).  A unit the user names is
- * checked for magnitude only: a sparse recording (one scan every 40 s) is
- * then read as written rather than refused. */
+ * scaled (an epoch in seconds is about 1.7e9).  A unit that is named is
+ * checked for magnitude and for a step of POSES_STEP_MIN_S to
+ * POSES_STEP_MAX_NAMED_S, so a sparse recording (one scan every 40 s) is read
+ * as written, never as milliseconds. */
 enum poses_unit { POSES_UNIT_AUTO = 0, POSES_UNIT_S, POSES_UNIT_MS, POSES_UNIT_US, POSES_UNIT_NS };
 #define POSES_STEP_MIN_S 1e-3
 #define POSES_STEP_MAX_S 10.0
+#define POSES_STEP_MAX_NAMED_S 60.0
 #define POSES_TIME_MAX_S 1e11
 /* 100 m/s = 360 km/h: above any ground vehicle (common practice, no source) */
 #define POSES_SPEED_MAX_MPS 100.0

@@ -56,14 +56,21 @@ static int poses_median_step(const struct poses *ps, double *step, double *speed
     return 0;
 }
 
-/* 1 when times in unit u have a plausible magnitude and, when detected
- * (named == 0), a plausible step and speed. */
+/* Largest median step (s) accepted: wider for a unit that is named. */
+static double poses_step_max(int named)
+{
+    return named ? POSES_STEP_MAX_NAMED_S : POSES_STEP_MAX_S;
+}
+
+/* 1 when times in unit u have a plausible magnitude and step and, when
+ * detected (named == 0), a plausible speed. */
 static int poses_unit_fits(enum poses_unit u, double big, double step, double speed, size_t n, int named)
 {
     double d = poses_unit_per_s[u];
     if (big / d > POSES_TIME_MAX_S) return 0;
-    if (named || n < 2) return 1;
-    return step / d >= POSES_STEP_MIN_S && step / d <= POSES_STEP_MAX_S && speed * d <= POSES_SPEED_MAX_MPS;
+    if (n < 2) return 1;
+    if (step / d < POSES_STEP_MIN_S || step / d > poses_step_max(named)) return 0;
+    return named || speed * d <= POSES_SPEED_MAX_MPS;
 }
 
 int poses_apply_unit(struct poses *ps, enum poses_unit unit, const char *path, enum poses_unit *used,
@@ -79,11 +86,12 @@ int poses_apply_unit(struct poses *ps, enum poses_unit unit, const char *path, e
     if (u > POSES_UNIT_NS || !poses_unit_fits(u, big, step, speed, ps->n, named)) {
         const char *as = unit == POSES_UNIT_AUTO ? "s" : poses_unit_names[u];
         double d = poses_unit_per_s[unit == POSES_UNIT_AUTO ? POSES_UNIT_S : u];
+        double smax = poses_step_max(named);
         return err_at(e, path, 0, "pose times have a median step of %.6g and reach %.6g: in %s that is "
-                      "%.6g Hz at a median %.6g m/s, expected a step of %g to %g s (%g to %g Hz), "
-                      "speeds below %g m/s and times below %g s%s",
-                      step, big, as, step > 0 ? d / step : 0.0, speed * d, POSES_STEP_MIN_S, POSES_STEP_MAX_S,
-                      1 / POSES_STEP_MAX_S, 1 / POSES_STEP_MIN_S, POSES_SPEED_MAX_MPS, POSES_TIME_MAX_S,
+                      "%.6g Hz, expected a step of %g to %g s (%g to %g Hz), a median speed below %g m/s "
+                      "(here %.6g m/s) and times below %g s%s",
+                      step, big, as, step > 0 ? d / step : 0.0, POSES_STEP_MIN_S, smax,
+                      1 / smax, 1 / POSES_STEP_MIN_S, POSES_SPEED_MAX_MPS, speed * d, POSES_TIME_MAX_S,
                       unit == POSES_UNIT_AUTO ? " in any of s, ms, us, ns (name the unit: poses.time_unit, or index --time-unit)" : "");
     }
     double d = poses_unit_per_s[u];
