@@ -12,7 +12,7 @@ for i in 0 1 2 3; do printf '1 0 0\n0 1 0\n0 0 1\n' > "s/$i.txt"; done
 printf 't,x,y,z,qx,qy,qz,qw\n0,0,0,0,0,0,0,1\n40,100,0,0,0,0,0,1\n80,200,0,0,0,0,0,1\n120,300,0,0,0,0,0,1\n' > s/p.csv
 out=$("$R" index s --poses s/p.csv --channels 16 --out s/recording.json 2>&1); rc=$?
 expect "[ $rc -eq 2 ] && [ ! -f s/recording.json ]" "a 0.025 Hz pose file is not silently read as milliseconds (got rc $rc: ${out:0:300})"
-expect_in "$out" "speeds below 100 m/s" "the refusal names the speed limit a unit must keep"
+expect_in "$out" "a median speed below 100 m/s" "the refusal names the speed limit a unit must keep"
 expect_in "$out" "--time-unit" "the refusal says how to name the unit"
 out=$("$R" index s --poses s/p.csv --channels 16 --time-unit s --out s/recording.json 2>&1); rc=$?
 expect "[ $rc -eq 0 ]" "the unit named with --time-unit s is taken as written (${out:0:300})"
