@@ -129,6 +129,7 @@ static int jparse(const char *path, cJSON **out, struct err *e)
     char *buf;
     size_t len;
     if (fileio_read(path, SYNCONF_MAX_BYTES, &buf, &len, e)) return -1;
+    if (err_json_bom(buf, len, path, e)) { free(buf); return -1; }
     const char *end = NULL;
     *out = cJSON_ParseWithLengthOpts(buf, len, &end, 0);
     if (*out && end) {   /* only white space may follow the value */

@@ -41,6 +41,9 @@ out=$("$R" eval --map "$T/rec" --method range-height --out "$T/o3" --bootstrap -
 expect_in "$out" "--bootstrap expects 0 to 100000 resamples, got -5" "a bad resample count is named"
 out=$("$R" eval --map "$T/rec" --method range-height --out "$T/o3" --prefilter 0 2>&1)
 expect_in "$out" "--prefilter expects a whole number from 1 to 1000000, got 0" "a bad prefilter is named"
+out=$("$R" eval --map "$T/rec" --method range-height --out "$T/o3" --exclude-scans -1 2>&1); rc=$?
+expect "[ $rc -eq 2 ]" "a negative --exclude-scans is refused"
+expect_in "$out" "--exclude-scans expects a whole number 0 or more, got -1" "the bad count is named"
 out=$("$R" eval --map "$T/rec" --method range-height --out "$T/o3" stray 2>&1)
 expect_in "$out" "unexpected argument 'stray'" "a stray argument is named"
 out=$("$R" eval --map "$T/rec" --method range-height:bins=3 --out "$T/o3" 2>&1)

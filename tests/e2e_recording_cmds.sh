@@ -56,6 +56,12 @@ err=$("$REVISIT_BIN" index "$R/scans" --poses "$R/short.txt" --channels 16 --out
 expect "[ $rc -eq 2 ]" "scans and poses that do not pair up exit 2"
 expect_in "$err" "60 scans but 58 poses, expected one pose per scan" "the mismatch gives both counts"
 expect "[ ! -e '$R/bad.json' ] && ! ls '$R' | grep -q index-check" "a refused index leaves no manifest behind"
+case "$err" in *index-check*) expect false "the refusal names the manifest asked for, not a trial copy ($err)" ;;
+  *) expect_in "$err" "$R/bad.json" "the refusal names the manifest asked for, not a trial copy" ;; esac
+printf '\xef\xbb\xbf' > "$T/bom.json" && cat "$R/recording.json" >> "$T/bom.json"
+err=$("$REVISIT_BIN" inspect "$T/bom.json" --allow-outside 2>&1); rc=$?
+expect "[ $rc -eq 2 ]" "a manifest with a byte-order mark is refused"
+expect_in "$err" "bom.json:1:1: starts with a UTF-8 byte-order mark (bytes EF BB BF)" "the mark is named as such"
 err=$("$REVISIT_BIN" index "$R/scans" --poses "$R/poses.csv" --out "$R/nochan.json" 2>&1); rc=$?
 expect "[ $rc -eq 2 ]" "raw scans without --channels are refused"
 expect_in "$err" "expected --channels N" "the message asks for --channels"

@@ -105,6 +105,9 @@ static void test_good(void)
     plugin_close(&p);
     CHECK(plugin_open(&p, "good:bins=100", ".", &e) == -1, "a setting out of range is refused");
     CHECK_MSG(e.msg, "setting 'bins' is 100, expected a value from 1 to 64", "the range error names key and range");
+    CHECK(plugin_open(&p, "good:bins=6,scale=0.5,bins=8", ".", &e) == -1, "a setting given twice is refused");
+    CHECK_MSG(e.msg, "method 'outside': setting 'bins' is given twice, expected each at most once",
+              "the message names the repeated setting");
     CHECK(plugin_open(&p, "good:bisn=3", ".", &e) == -1, "an unknown setting is refused");
     CHECK_MSG(e.msg, "has no setting 'bisn', expected one of: bins, scale, mode, flip", "unknown key lists keys");
     CHECK(plugin_open(&p, "good:mode=avg", ".", &e) == -1, "an unknown choice is refused");

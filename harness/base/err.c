@@ -53,6 +53,24 @@ int err_wrap(struct err *e, const char *fmt, ...)
     return -1;
 }
 
+void err_subst(struct err *e, const char *from, const char *to)
+{
+    if (!e || !from[0]) return;
+    char *at = strstr(e->msg, from);
+    if (!at) return;
+    char rest[ERR_MSG_MAX];
+    snprintf(rest, sizeof rest, "%s", at + strlen(from));
+    size_t head = (size_t)(at - e->msg);
+    err_mark_cut(e, snprintf(at, sizeof e->msg - head, "%s%s", to, rest), head);
+}
+
+int err_json_bom(const char *text, size_t len, const char *path, struct err *e)
+{
+    if (len < 3 || memcmp(text, "\xEF\xBB\xBF", 3)) return 0;
+    return err_set(e, "%s:1:1: starts with a UTF-8 byte-order mark (bytes EF BB BF), expected plain JSON; "
+                   "save the file without the mark", path);
+}
+
 void err_line_col(const char *text, size_t offset, long *line, long *col)
 {
     long l = 1, c = 1;

@@ -34,6 +34,15 @@ int err_wrap(struct err *e, const char *fmt, ...)
 /* Translate a byte offset in a text buffer into 1-based line and column. */
 void err_line_col(const char *text, size_t offset, long *line, long *col);
 
+/* In e's message, the first occurrence of from becomes to (a temporary
+ * file or folder named as the one the user gave). No-op when absent. */
+void err_subst(struct err *e, const char *from, const char *to);
+
+/* -1 with "PATH:1:1: starts with a UTF-8 byte-order mark ..." when text
+ * begins with EF BB BF (JSON readers refuse it by name instead of calling it
+ * an invalid character); 0 otherwise. */
+int err_json_bom(const char *text, size_t len, const char *path, struct err *e);
+
 /* 1 when an snprintf into size bytes that returned n was cut (or failed):
  *     if (err_cut(snprintf(p, sizeof p, "%s/x", dir), sizeof p)) return err_at(e, dir, 0, "path too long");
  * Messages cut by err_set, err_at and err_wrap end in "..." instead. */

@@ -287,6 +287,7 @@ static int index_run(struct index_opts *o, struct err *e)
     if (!rc) loaded = !(rc = index_try(check, &m, o->allow_outside, &r, e));
     if (!rc && rename(check, o->out)) rc = err_at(e, o->out, 0, "cannot write: %s", strerror(errno));
     unlink(check);
+    if (rc) err_subst(e, check, o->out);  /* name the manifest the user asked for, not the trial copy */
     if (!rc && !o->quiet) {
         double dur = r.n > 1 ? r.poses[r.n - 1].t - r.poses[0].t : 0;
         printf("wrote %s: %zu scans (%s, %s/%s), %zu poses (%s, times in %s%s), %d channels, %.3f s\n", o->out,

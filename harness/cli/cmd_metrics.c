@@ -1,6 +1,7 @@
 /* cmd_metrics.c: `revisit metrics --results FILE ...`: score a per-query
  * results CSV made by any program against ground truth from poses. */
 #include <ctype.h>
+#include <limits.h>
 #include <math.h>
 #include <stdio.h>
 #include <stdlib.h>
@@ -172,8 +173,8 @@ static int mt_folder_protocol(const char *results, struct opt_protocol *op, int 
     if (isnan(op->r_pos)) op->r_pos = p.r_pos_m;
     if (isnan(op->r_neg)) op->r_neg = p.r_neg_m;
     if (isnan(op->excl_s)) op->excl_s = p.exclusion_s;
-    if (op->excl_scans < 0) op->excl_scans = p.exclusion_scans;
-    if (op->top_k < 0) op->top_k = p.top_k;
+    if (op->excl_scans == LONG_MIN && p.exclusion_scans >= 0) op->excl_scans = p.exclusion_scans;  /* -1: none */
+    if (op->top_k == LONG_MIN) op->top_k = p.top_k;
     if (p.planar) op->planar = 1;
     *used = 1;
     return 0;

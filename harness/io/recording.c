@@ -544,6 +544,7 @@ static int rec_check_values(const char *file, const char *buf, size_t len, struc
 /* Parse buf as JSON; a syntax error becomes "FILE:LINE:COL: ...". */
 static cJSON *rec_parse_json(const char *file, const char *buf, size_t len, struct err *e)
 {
+    if (err_json_bom(buf, len, file, e)) return NULL;
     const char *end = NULL;
     cJSON *root = cJSON_ParseWithLengthOpts(buf, len, &end, 0);
     if (root) return root;

@@ -713,6 +713,7 @@ int plan_parse(struct plan *p, const char *text, size_t len, const char *path, s
 {
     memset(p, 0, sizeof *p);
     struct pl c = {path, e, text, len};
+    if (err_json_bom(text, len, path, e)) return -1;
     const char *end = NULL;
     cJSON *root = cJSON_ParseWithLengthOpts(text, len, &end, 0);
     if (!root) {

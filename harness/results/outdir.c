@@ -29,14 +29,7 @@ void results_out_abort(const char *tmp)
 void results_out_fail(const char *tmp, const char *out, struct err *e)
 {
     results_out_abort(tmp);
-    if (!e) return;
-    char *at = strstr(e->msg, tmp);
-    if (!at) return;
-    char rest[sizeof e->msg];
-    snprintf(rest, sizeof rest, "%s", at + strlen(tmp));
-    size_t head = (size_t)(at - e->msg);
-    int n = snprintf(at, sizeof e->msg - head, "%s%s", out, rest);
-    (void)n;  /* out is no longer than tmp: the message only gets shorter */
+    err_subst(e, tmp, out);
 }
 
 int results_out_commit(const char *tmp, const char *out, struct err *e)

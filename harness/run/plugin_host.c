@@ -297,6 +297,7 @@ static int plugin_apply_settings(const struct rv_method *m, const char *text, do
                                  struct err *e)
 {
     char buf[2048];
+    unsigned char seen[PLUGIN_MAX_SETTINGS] = {0};
     if (strlen(text) >= sizeof buf) return err_set(e, "method '%s': settings too long", m->name);
     strcpy(buf, text);
     for (char *save = NULL, *kv = strtok_r(buf, ",", &save); kv; kv = strtok_r(NULL, ",", &save)) {
@@ -313,6 +314,8 @@ static int plugin_apply_settings(const struct rv_method *m, const char *text, do
             return err_set(e, "method '%s' has no setting '%s', expected one of: %s", m->name, kv,
                            m->n_settings ? keys : "(none)");
         }
+        if (k < PLUGIN_MAX_SETTINGS && seen[k]++)
+            return err_set(e, "method '%s': setting '%s' is given twice, expected each at most once", m->name, kv);
         if (plugin_parse_value(m, &m->settings[k], eq + 1, &values[k], e)) return -1;
     }
     return 0;
