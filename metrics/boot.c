@@ -26,7 +26,7 @@ static uint64_t boot_next(uint64_t *s)
     return z ^ (z >> 31);
 }
 
-static void boot_weights(uint64_t seed, int b, size_t n, uint32_t *w)
+void boot_weights(uint64_t seed, int b, size_t n, uint32_t *w)
 {
     uint64_t s = seed ^ 0x6a09e667f3bcc909ULL;
     s = boot_next(&s) ^ ((uint64_t)b * 0xd1b54a32d192ed03ULL);
@@ -167,9 +167,10 @@ int boot_percentile_ticked(const struct pr_set *s, int resamples, uint64_t seed,
     return 0;
 }
 
-/* 0 when slot k holds the same query in a and b for every k. */
-static int boot_same_queries(const struct pr_set *a, const struct pr_set *b, struct err *e)
+int boot_same_queries(const struct pr_set *a, const struct pr_set *b, struct err *e)
 {
+    if (a->n != b->n)
+        return err_set(e, "paired bootstrap: %zu and %zu scored queries, expected the same queries", a->n, b->n);
     size_t n = a->n, *q = malloc((n ? n : 1) * sizeof *q);
     if (!q) return err_set(e, "paired bootstrap: out of memory for %zu queries", n);
     for (size_t k = 0; k < n; k++) q[k] = SIZE_MAX;
@@ -193,8 +194,6 @@ int boot_paired_diff(const struct pr_set *a, const struct pr_set *b, int resampl
                      struct err *e)
 {
     if (boot_args(resamples, level, e)) return -1;
-    if (a->n != b->n)
-        return err_set(e, "paired bootstrap: %zu and %zu scored queries, expected the same queries", a->n, b->n);
     if (boot_same_queries(a, b, e)) return -1;
     double *vals = malloc((size_t)resamples * 2 * PR_N_METRICS * sizeof *vals);
     double *col = malloc((size_t)resamples * sizeof *col);

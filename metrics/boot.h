@@ -63,6 +63,15 @@ int boot_paired_diff(const struct pr_set *a, const struct pr_set *b, int resampl
                      uint64_t seed, double level, int threads, struct boot_paired *out,
                      struct err *e);
 
+/* The weights of resample b of n slots (n draws with replacement; w[k] is
+ * how often slot k was drawn), the same draws every function here makes:
+ * other resampled quantities (metrics/oppoint.h) reuse them.  Cannot fail. */
+void boot_weights(uint64_t seed, int b, size_t n, uint32_t *w);
+
+/* 0 when slot k holds the same query in a and b for every k (so a paired
+ * resample is meaningful); -1 with e naming the first slot that differs. */
+int boot_same_queries(const struct pr_set *a, const struct pr_set *b, struct err *e);
+
 /* Mean, standard deviation, min and max of v[0..n-1] (e.g. one scalar over
  * perturbation seeds).  -1 when n is 0 or a value is not finite. */
 int boot_spread_of(const double *v, size_t n, struct boot_spread *out, struct err *e);

@@ -146,12 +146,6 @@ void pr_set_free(struct pr_set *s)
 
 /* ---- the walk ------------------------------------------------------------ */
 
-struct pr_point {
-    double tau, tp, fp, fn, precision, recall;
-};
-
-typedef void (*pr_visit)(void *ctx, const struct pr_point *pt);
-
 static double pr_weight(const struct pr_set *s, const uint32_t *w, size_t k)
 {
     return w ? (double)w[s->o[k].slot] : 1.0;
@@ -186,6 +180,11 @@ static void pr_walk(const struct pr_set *s, const uint32_t *w, double revisits,
         if (tp + pt.fn > 0) pt.recall = tp / (tp + pt.fn);
         fn(ctx, &pt);
     }
+}
+
+void pr_points(const struct pr_set *s, const uint32_t *w, pr_visit fn, void *ctx)
+{
+    pr_walk(s, w, pr_revisits(s, w), fn, ctx);
 }
 
 /* ---- scalars ------------------------------------------------------------- */

@@ -104,6 +104,17 @@ void pr_set_free(struct pr_set *s);
  * bootstrap resample does.  Cannot fail; O(n). */
 void pr_scalars_compute(const struct pr_set *s, const uint32_t *w, struct pr_scalars *out);
 
+/* One point of the curve as the walk sees it (counts are weighted sums). */
+struct pr_point {
+    double tau, tp, fp, fn, precision, recall;
+};
+typedef void (*pr_visit)(void *ctx, const struct pr_point *pt);
+
+/* Visit one point per distinct finite d1 that carries weight, in ascending
+ * d1: the walk every scalar and the curve come from.  w as above.  Cannot
+ * fail; O(n). */
+void pr_points(const struct pr_set *s, const uint32_t *w, pr_visit fn, void *ctx);
+
 /* The exact curve.  Returns 0, or -1 on out of memory. */
 int pr_curve_build(const struct pr_set *s, struct pr_curve **out, struct err *e);
 void pr_curve_free(struct pr_curve *c);

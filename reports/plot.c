@@ -29,6 +29,7 @@ static const int points[PLOT_NCOLOURS] = {7, 5, 9, 13, 6, 4};
 static const char *const kind_names[PLOT_NKIND] = {
     "degradation curve", "PR curves", "trajectory top view", "distance matrix", "top-1 distance distributions",
     "summary chart",
+    "sensitivity ranking",
 };
 
 const char *plot_colour(size_t k) { return palette[k % PLOT_NCOLOURS]; }

@@ -24,7 +24,8 @@
 #include "harness/base/err.h"
 #include "reports/rstat.h"
 
-enum plot_kind { PLOT_DEGRADATION, PLOT_PR, PLOT_TRAJ, PLOT_MATRIX, PLOT_HIST, PLOT_SUMMARY, PLOT_NKIND };
+enum plot_kind { PLOT_DEGRADATION, PLOT_PR, PLOT_TRAJ, PLOT_MATRIX, PLOT_HIST, PLOT_SUMMARY, PLOT_SENSITIVITY,
+                 PLOT_NKIND };
 
 struct plot_item {
     char name[64];               /* file stem in the plot folder */
@@ -94,6 +95,11 @@ struct plot_dots {
 };
 int plot_summary(struct plot_set *ps, const char *name, const char *title, const char *const *rows, size_t n_rows,
                  const struct plot_dots *d, size_t n_panels, size_t n_series, struct err *e);
+
+/* 6. loss across the swept range per parameter (x: parameters in rank
+ * order, names[k]), one bar per series with its interval as an error bar. */
+int plot_sensitivity(struct plot_set *ps, const char *name, const char *title, const char *const *names,
+                     size_t n_names, const struct plot_series *s, size_t n, struct err *e);
 
 /* 1 when path holds a PNG signature and an IHDR chunk of non-zero size. */
 int plot_png_ok(const char *path, unsigned *w, unsigned *h);

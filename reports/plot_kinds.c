@@ -308,3 +308,42 @@ int plot_hist(struct plot_set *ps, const char *name, const char *title, const st
     if (plot_commit(&a, e)) return -1;
     return plot_finish(ps, name, title, PLOT_HIST, e);
 }
+
+int plot_sensitivity(struct plot_set *ps, const char *name, const char *title, const char *const *names,
+                     size_t n_names, const struct plot_series *s, size_t n, struct err *e)
+{
+    double bw = 0.8 / (double)(n ? n : 1);
+    struct afile a;
+    if (plot_open(ps, &a, name, "dat", e)) return -1;
+    fprintf(a.f, "# %s.dat: one block per series; parameter_index loss lo hi (F1max lost across the range)\n", name);
+    for (size_t k = 0; k < n; k++) {
+        for (size_t i = 0; i < s[k].n; i++)
+            fprintf(a.f, "%.9g %.9g %.9g %.9g\n", s[k].x[i], s[k].y[i], s[k].lo ? s[k].lo[i] : s[k].y[i],
+                    s[k].hi ? s[k].hi[i] : s[k].y[i]);
+        fprintf(a.f, "\n\n");
+    }
+    if (plot_commit(&a, e)) return -1;
+    if (plot_open(ps, &a, name, "gp", e)) return -1;
+    FILE *f = a.f;
+    plot_head(f, name, title);
+    fprintf(f, "set ylabel 'F1max lost across the swept range'\nset xrange [-0.6:%.9g]\n"
+               "set boxwidth %.9g absolute\nset key outside top center horizontal\nset xtics (", (double)n_names - 0.4, bw);
+    for (size_t i = 0; i < n_names; i++) {
+        if (i) fputs(", ", f);
+        esc_gp(f, names[i]);
+        fprintf(f, " %zu", i);
+    }
+    fprintf(f, ")\nset xtics rotate by -20\nset xzeroaxis\nset yrange [*<0:*]\nplot ");
+    /* One solid bar per method, side by side, its interval as an error bar. */
+    for (size_t k = 0; k < n; k++) {
+        double off = ((double)k - ((double)n - 1) / 2) * bw;
+        fprintf(f, "%s'%s.dat' index %zu using ($1%+.9g):2 with boxes fs solid 0.7 border lt -1 lc rgb '%s' title ",
+                k ? ", \\\n     " : "", name, k, off, plot_colour(k % PLOT_NCOLOURS));
+        esc_gp(f, s[k].name);
+        fprintf(f, ", '' index %zu using ($1%+.9g):2:3:4 with yerrorbars lt -1 pt 0 notitle", k, off);
+    }
+    fputc('\n', f);
+    plot_tail(f, name);
+    if (plot_commit(&a, e)) return -1;
+    return plot_finish(ps, name, title, PLOT_SENSITIVITY, e);
+}

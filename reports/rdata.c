@@ -64,6 +64,19 @@ static const char *cell_condition(const cJSON *c, struct rdata_cell *cell)
     return cut;
 }
 
+/* "kinds": per kind of revisit, its revisits, recall@1 and R@100P. */
+static void cell_kinds(const cJSON *k, struct rdata_cell *cell)
+{
+    static const char *const names[3] = {"same", "reverse", "crossing"};
+    cell->has_kinds = cJSON_IsObject(k);
+    for (int c = 0; c < 3; c++) {
+        const cJSON *o = cJSON_GetObjectItemCaseSensitive(k, names[c]);
+        cell->kind_revisits[c] = json_num(o, "revisits", 0);
+        cell->kind_recall1[c] = json_num(o, "recall_at_1", NAN);
+        cell->kind_r100p[c] = json_num(o, "r100p", NAN);
+    }
+}
+
 static void cell_metrics(const cJSON *root, struct rdata_cell *cell)
 {
     for (int k = 0; k < RDATA_NMETRIC; k++) {
@@ -155,6 +168,7 @@ int rdata_cell_parse(const char *text, const char *path, struct rdata_cell *c, s
     }
     result_json_protocol(root, &c->proto);
     cell_metrics(root, c);
+    cell_kinds(cJSON_GetObjectItemCaseSensitive(root, "kinds"), c);
     int rc = cell_curve(cJSON_GetObjectItemCaseSensitive(root, "curve"), path, c, e);
     int ok = rc ? 0 : result_json_status(root, path, e);
     cJSON_Delete(root);
@@ -284,6 +298,7 @@ int rdata_load(const char *dir, struct rdata_set *s, struct err *e)
         return err_at(e, dir, 0, "not a results folder, expected result.json or cells/");
     }
     if (!rc) rc = rdata_verdicts_read(s, e);
+    if (!rc) rc = rdata_sens_read(s, e);
     if (rc) rdata_free(s);
     return rc;
 }
@@ -293,7 +308,10 @@ void rdata_free(struct rdata_set *s)
     for (size_t k = 0; k < s->n; k++) rdata_cell_free(&s->cells[k]);
     free(s->cells);
     free(s->verdicts);
+    free(s->sens);
     s->cells = NULL;
     s->verdicts = NULL;
+    s->sens = NULL;
+    s->n_sens = 0;
     s->n = s->n_verdicts = 0;
 }

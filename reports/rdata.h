@@ -54,6 +54,8 @@ struct rdata_cell {
     struct rdata_metric m[RDATA_NMETRIC];
     size_t curve_n;            /* PR curve points (0 when absent) */
     double *curve_t, *curve_p, *curve_r;
+    int has_kinds;             /* "kinds" present: per kind of revisit (same, reverse, crossing) */
+    double kind_revisits[3], kind_recall1[3], kind_r100p[3];
 };
 
 /* One acceptance criterion result (see rdata_load for the file read). */
@@ -63,6 +65,17 @@ struct rdata_verdict {
     double value, lo, hi, threshold;
     double measured;           /* what the comparator judged; value when absent */
     int pass;
+    int has_op;                /* "operating_point": the threshold carried from tuned_on */
+    char tuned_on[256], rule[32];
+    double op_target, op_tau, op_tau_lo, op_tau_hi;
+};
+
+/* One row of DIR/sensitivity.csv (harness/results/sensitivity.h). */
+struct rdata_sens {
+    int stage;                 /* 0: a swept parameter, 1: a stage of a compound condition run alone */
+    char method[256], cond[256], parameter[256], unit[16], compound[256];
+    double from, to, per_unit, per_unit_lo, per_unit_hi, loss, loss_lo, loss_hi, compound_loss, share;
+    int rank;
 };
 
 struct rdata_set {
@@ -76,7 +89,13 @@ struct rdata_set {
     struct rdata_cell *cells;
     size_t n_verdicts;
     struct rdata_verdict *verdicts;
+    size_t n_sens;             /* rows of sensitivity.csv (0 when absent) */
+    struct rdata_sens *sens;
 };
+
+/* Read DIR/sensitivity.csv into s->sens when it exists (rdata_sens.c).
+ * 0, or -1 with e naming the file and line of a malformed row. */
+int rdata_sens_read(struct rdata_set *s, struct err *e);
 
 /* The display name and the result.json key of metric k. */
 const char *rdata_metric_name(int k);

@@ -110,6 +110,21 @@ static void verdict_fill(const cJSON *o, struct rdata_verdict *v)
         snprintf(v->cond + l, sizeof v->cond - l, " at %g", ax->valuedouble);
     }
     v->pass = cJSON_IsTrue(cJSON_GetObjectItemCaseSensitive(o, "pass"));
+    const cJSON *op = cJSON_GetObjectItemCaseSensitive(o, "operating_point");
+    v->has_op = cJSON_IsObject(op);
+    const char *ok[2] = {"tuned_on", "rule"};
+    char *od[2] = {v->tuned_on, v->rule};
+    size_t osz[2] = {sizeof v->tuned_on, sizeof v->rule};
+    for (int k = 0; v->has_op && k < 2; k++) {
+        const cJSON *s = cJSON_GetObjectItemCaseSensitive(op, ok[k]);
+        if (cJSON_IsString(s)) snprintf(od[k], osz[k], "%s", s->valuestring);
+    }
+    const char *tk[4] = {"target", "threshold", "threshold_lo", "threshold_hi"};
+    double *td[4] = {&v->op_target, &v->op_tau, &v->op_tau_lo, &v->op_tau_hi};
+    for (int k = 0; k < 4; k++) {
+        const cJSON *n = v->has_op ? cJSON_GetObjectItemCaseSensitive(op, tk[k]) : NULL;
+        *td[k] = cJSON_IsNumber(n) ? n->valuedouble : NAN;
+    }
 }
 
 /* DIR/verdicts.json: {"format": "revisit-verdicts-1", "criteria": [...]}, or

@@ -222,6 +222,7 @@ static int draw_all(struct report_doc *d, struct plot_set *ps, int quiet, struct
     if (!rc) rc = plots_degradation(d, ps, &pg, e);
     if (!rc) rc = plots_pr(d, ps, &pg, e);
     if (!rc) rc = report_cell_plots(d, ps, &pg, e);
+    if (!rc) rc = report_sens_plot(d, ps, e);
     progress_end(&pg);
     return rc;
 }

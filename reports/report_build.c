@@ -12,7 +12,7 @@
 
 static const char *const kind_heading[PLOT_NKIND] = {
     "Degradation curves", "PR curves", "Top views of the trajectory", "Distance matrices",
-    "Top-1 distance distributions", "Summary per condition",
+    "Top-1 distance distributions", "Summary per condition", "Sensitivity ranking",
 };
 
 static void sec_title(struct rdoc *r, const struct report_doc *d)
@@ -370,8 +370,8 @@ static void sec_repro(struct rdoc *r, const struct report_doc *d)
 
 typedef void (*section_fn)(struct rdoc *r, const struct report_doc *d);
 static const section_fn sections[] = {
-    sec_title, sec_verdicts, sec_summary, sec_overview, sec_settings, sec_findings, sec_tables, sec_plots, sec_skipped,
-    sec_failed, sec_repro,
+    sec_title, sec_verdicts, sec_summary, report_sec_oppoints, sec_overview, sec_settings, sec_findings,
+    sec_tables, report_sec_kinds, report_sec_sens, sec_plots, sec_skipped, sec_failed, sec_repro,
 };
 
 struct rdoc *report_build(const struct report_doc *d)

@@ -72,5 +72,12 @@ int report_summary_plot(struct report_doc *d, struct plot_set *ps, struct progre
  * when out of memory (a tree that ran out later says so in rdoc_oom). */
 struct rdoc;
 struct rdoc *report_build(const struct report_doc *d);
+/* Sections of report_deploy.c: verdicts at a carried threshold, and scores
+ * per kind of revisit; each adds nothing when the folder has none. */
+void report_sec_oppoints(struct rdoc *r, const struct report_doc *d);
+void report_sec_kinds(struct rdoc *r, const struct report_doc *d);
+/* The sensitivity ranking: its table (a section) and its chart (a plot). */
+void report_sec_sens(struct rdoc *r, const struct report_doc *d);
+int report_sens_plot(struct report_doc *d, struct plot_set *ps, struct err *e);
 
 #endif

@@ -91,7 +91,7 @@ static void be_retrieval(void)
     }
     double ts = INFINITY, tr = INFINITY;
     struct retrieval_mat mm = {m, n, dim}, qm = {q, n, dim};
-    struct retrieval_rule rule = {0, NULL, 0, -1};
+    struct retrieval_rule rule = {0, NULL, 0, -1, NULL};
     struct err e;
     for (int round = 0; round < 3; round++) {
         double t0 = progress_now();

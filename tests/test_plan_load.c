@@ -151,6 +151,31 @@ static void check_where(void)
     CHECK_MSG(bad(u), "sw.json:5:3: seedz", "line 5, column 3, as counted by hand");
 }
 
+/* Each stage of a compound condition alone: conditions appended after the listed ones. */
+static void check_stages_alone(void)
+{
+    const char *t = HEAD M1 "\"conditions\": [{\"name\": \"c\"}, {\"name\": \"mount\", \"on\": \"query\", "
+                    "\"chain\": \"sector:width=60,at=180+tilt:pitch=2\", \"stages_alone\": true}]}";
+    struct plan p;
+    struct err e;
+    CHECK(!plan_parse(&p, t, strlen(t), "sw.json", &e), "stages_alone loads");
+    CHECK(p.n_conds == 4 && p.n_cells == 4, "two stages add two conditions and their cells");
+    CHECK(p.n_conds == 4 && !strcmp(p.conds[2].name, "mount-only-sector") && !strcmp(p.conds[2].chain, "sector:width=60,at=180")
+          && p.conds[2].is_part && p.conds[2].part_of == 1 && !strcmp(p.conds[2].on, "query"),
+          "the first stage alone keeps its values and side");
+    CHECK(p.n_conds == 4 && !strcmp(p.conds[3].name, "mount-only-tilt") && !strcmp(p.conds[3].chain, "tilt:pitch=2"),
+          "the second stage alone");
+    CHECK(!p.conds[0].is_part && !p.conds[1].is_part, "listed conditions are not parts");
+    plan_free(&p);
+    CHECK_MSG(bad(HEAD M1 "\"conditions\": [{\"name\": \"a\", \"chain\": \"yaw\", \"stages_alone\": true}]}"),
+              "conditions[0].stages_alone: expected a chain of two or more stages and no axis", "one stage cannot be split");
+    CHECK_MSG(bad(HEAD M1 "\"conditions\": [{\"name\": \"a\", \"chain\": \"yaw+noise\", \"stages_alone\": 1}]}"),
+              "conditions[0].stages_alone: expected true or false", "stages_alone is a boolean");
+    CHECK_MSG(bad(HEAD M1 "\"conditions\": [{\"name\": \"a-only-yaw\"}, {\"name\": \"a\", \"chain\": \"yaw+noise\", "
+                  "\"stages_alone\": true}]}"),
+              "condition 'a-only-yaw' is also the name of a stage run alone", "a clash with a listed name is refused");
+}
+
 static void check_bad(void)
 {
     check_where();
@@ -243,6 +268,18 @@ static void check_bad_criteria(void)
               "criteria[0].baseline: only used with target diff", "a baseline without diff is refused");
     CHECK_MSG(bad(CRIT("{\"metric\": \"f1max\", \"condition\": \"c\", \"method\": \"sop\", \"comparator\": \">=\", \"threshold\": 1}")),
               "criteria[0].method: no method 'sop' in methods", "an unknown method is refused");
+    CHECK_MSG(bad(CRIT("{\"metric\": \"f1max\", \"condition\": \"c\", \"tuned_on\": \"c\", \"comparator\": \">=\", \"threshold\": 1}")),
+              "criteria[0].metric: 'f1max' is not a score at an operating point, expected precision", "tuned_on needs an operating-point score");
+    CHECK_MSG(bad(CRIT("{\"metric\": \"precision\", \"condition\": \"c\", \"tuned_on\": \"x\", \"comparator\": \">=\", \"threshold\": 1}")),
+              "criteria[0].tuned_on: no condition named 'x'", "an unknown tuned_on condition is refused");
+    CHECK_MSG(bad(CRIT("{\"metric\": \"precision\", \"condition\": \"c\", \"tuned_on\": \"c\", \"operating_point\": \"precision:2\", \"comparator\": \">=\", \"threshold\": 1}")),
+              "criteria[0].operating_point: operating point 'precision:2': expected a number above 0 and at most 1", "a bad operating point is refused");
+    CHECK_MSG(bad(CRIT("{\"metric\": \"precision\", \"condition\": \"c\", \"operating_point\": \"f1max\", \"comparator\": \">=\", \"threshold\": 1}")),
+              "criteria[0].operating_point: needs tuned_on", "an operating point without tuned_on is refused");
+    CHECK_MSG(bad(CRIT("{\"metric\": \"precision\", \"condition\": \"c\", \"tuned_on\": \"c\", \"target\": \"diff\", \"baseline\": \"c\", \"comparator\": \">=\", \"threshold\": 1}")),
+              "criteria[0].baseline: not used with tuned_on", "tuned_on differences need no baseline");
+    CHECK_MSG(bad(CRIT("{\"metric\": \"precision\", \"condition\": \"c\", \"tuned_on\": \"s\", \"comparator\": \">=\", \"threshold\": 1}")),
+              "criteria[0].tuned_on_value: missing, condition 's' sweeps sector.width", "an axis tuned_on needs a value");
     CHECK_MSG(bad(CRIT("{\"metric\": \"recall_at_0\", \"condition\": \"c\", \"comparator\": \">=\", \"threshold\": 1}")),
               "criteria[0].metric: 'recall_at_0' is not known", "recall at zero candidates is refused");
     CHECK_MSG(bad(CRIT("{\"metric\": \"ap\", \"condition\": \"c\", \"comparator\": \">=\", \"threshold\": 1, \"why\": 1}")),
@@ -281,6 +318,7 @@ int main(void)
     check_metric_table();
     check_chain_axis();
     check_chain_text();
+    check_stages_alone();
     check_bad();
     check_bad_criteria();
     char num[64];

@@ -39,17 +39,17 @@ int main(int argc, char **argv)
     size_t ml, ql = 0;
     if (fileio_read(argv[5], 1u << 30, &mb, &ml, &e)) return fprintf(stderr, "%s\n", e.msg), 2;
     struct retrieval_mat map = {(const float *)mb, ml / 4 / dim, dim}, q = map;
-    struct retrieval_rule rule = {0, NULL, 0, -1};
+    struct retrieval_rule rule = {0, NULL, 0, -1, NULL};
     int argi = 7;
     if (!strcmp(argv[1], "reloc")) {
         if (fileio_read(argv[6], 1u << 30, &qb, &ql, &e)) return fprintf(stderr, "%s\n", e.msg), 2;
         q = (struct retrieval_mat){(const float *)qb, ql / 4 / dim, dim};
     } else if (!strcmp(argv[1], "loop")) {
         if (fileio_read(argv[6], 1u << 30, &qb, &ql, &e)) return fprintf(stderr, "%s\n", e.msg), 2;
-        rule = (struct retrieval_rule){1, (const double *)qb, atof(argv[7]), -1};
+        rule = (struct retrieval_rule){1, (const double *)qb, atof(argv[7]), -1, NULL};
         argi = 8;
     } else {
-        rule = (struct retrieval_rule){1, NULL, 0, atol(argv[6])};
+        rule = (struct retrieval_rule){1, NULL, 0, atol(argv[6]), NULL};
     }
     int topc = argc > argi ? atoi(argv[argi]) : k;
     struct retrieval_out r;

@@ -3,6 +3,7 @@
 #include <stdio.h>
 #include <stdlib.h>
 #include <string.h>
+#include <unistd.h>
 
 #include "harness/cli/cmd.h"
 #include "harness/results/outdir.h"
@@ -10,6 +11,7 @@
 #include "harness/base/fileio.h"
 #include "harness/base/opt.h"
 #include "harness/cli/opt_protocol.h"
+#include "metrics/oppoint.h"
 
 static const char about[] =
     "Describe every scan of REC (and of the query recording) with the method,\n"
@@ -26,13 +28,19 @@ static const char about[] =
     "hangs or allocates without bound fails with a message naming it and the scan.\n"
     "External programs always run under both limits, in a process group of their\n"
     "own that ends with them.\n"
-    "An --out folder that already holds files is refused unless --replace is given.\n\n";
+    "An --out folder that already holds files is refused unless --replace is given.\n"
+
+    "--tuned-on DIR chooses a threshold on an earlier results folder (the clean\n"
+    "map, the old mount) by --operating-point and scores this run at it:\n"
+    "precision, recall, F1 and false positives (count, per km, per hour) with\n"
+    "intervals, the difference against DIR, and the threshold's own interval\n"
+    "(\"operating_point\" in result.json).\n\n";
 
 struct eval_opts {
-    const char *map, *query, *method, *out, *chain, *on, *plugin_path, *cache, *condition;
+    const char *map, *query, *method, *out, *chain, *on, *plugin_path, *cache, *condition, *tuned_on, *op_rule;
     unsigned long long seed, boot_seed;
     long boot, jobs, top_c, mem_mb;
-    double time_s;
+    double time_s, same_deg, reverse_deg;
     int quiet, isolate, replace;
     struct opt_protocol op;
 };
@@ -69,6 +77,21 @@ static int eval_finish_spec(struct eval_opts *o, struct eval_spec *s, struct err
         return err_set(e, "revisit eval: --time-limit expects seconds from 0 to 1000000, got %g", o->time_s);
     if (o->mem_mb < 0 || o->mem_mb > (1L << 24))
         return err_set(e, "revisit eval: --mem-limit expects MiB from 1 to 16777216, got %ld", o->mem_mb);
+    s->kinds = (struct kind_rule){o->same_deg, o->reverse_deg};
+    if (kind_rule_check(&s->kinds))
+        return err_set(e, "revisit eval: --same-within %g and --reverse-from %g, expected 0 <= same < reverse <= 180 degrees",
+                       o->same_deg, o->reverse_deg);
+    s->tuned_on = o->tuned_on;
+    if (o->op_rule && !o->tuned_on)
+        return err_set(e, "revisit eval: --operating-point needs --tuned-on, the results folder that chooses the threshold");
+    if (o->op_rule && oppoint_parse(o->op_rule, &s->op, e)) return err_wrap(e, "revisit eval: --operating-point");
+    for (int k = 0; o->tuned_on && k < 2; k++) {   /* before any work: the folder must hold both files */
+        char path[4200];
+        fileio_join(path, sizeof path, o->tuned_on, k ? "poses.csv" : "queries.csv");
+        if (access(path, R_OK))
+            return err_set(e, "revisit eval: --tuned-on %s: cannot read %s, expected a results folder of "
+                           "'revisit eval' or a sweep cell", o->tuned_on, path);
+    }
     s->time_limit_s = o->time_s;
     s->mem_limit_mb = (size_t)o->mem_mb;
     return 0;
@@ -88,6 +111,9 @@ static void eval_print(const struct eval_spec *s, const struct eval_summary *m)
     if (m->cache_stale)
         printf("cache      %zu descriptor set(s) made from another content of the recording or another build "
                "of the method: described again\n", m->cache_stale);
+    if (m->has_op)
+        printf("threshold  %.4f chosen on %s (%s): precision %.4f, recall %.4f, false positives %.0f\n",
+               m->op_tau, s->tuned_on, oppoint_rule_name(s->op.rule), m->op_precision, m->op_recall, m->op_fp);
     printf("results    %s/result.json (intervals there)\n", s->out_dir);
 }
 
@@ -116,6 +142,8 @@ int cmd_eval(int argc, char **argv)
     o.boot_seed = 1;
     o.boot = -1;
     o.top_c = -1;
+    o.same_deg = 45;
+    o.reverse_deg = 135;
     opt_protocol_init(&o.op);
     const struct opt table[] = {
         {"--map", OPT_STR, &o.map, "REC", "map recording (recording.json or its folder); loop mode uses it alone"},
@@ -129,6 +157,10 @@ int cmd_eval(int argc, char **argv)
         {"--prefilter", OPT_INT, &o.top_c, "C", "custom distances: candidates kept by the key prefilter (default 50)"},
         {"--bootstrap", OPT_INT, &o.boot, "N", "bootstrap resamples for intervals (default 1000; 0: none)"},
         {"--bootstrap-seed", OPT_U64, &o.boot_seed, "S", "bootstrap seed (default 1)"},
+        {"--tuned-on", OPT_STR, &o.tuned_on, "DIR", "results folder whose threshold is carried over (see --operating-point)"},
+        {"--operating-point", OPT_STR, &o.op_rule, "RULE", "f1max (default), precision:P, recall:R or fixed:D, chosen on --tuned-on"},
+        {"--same-within", OPT_DOUBLE, &o.same_deg, "DEG", "revisits turned at most DEG count as same direction (default 45)"},
+        {"--reverse-from", OPT_DOUBLE, &o.reverse_deg, "DEG", "revisits turned at least DEG count as reverse (default 135)"},
         {"--cache", OPT_STR, &o.cache, "DIR", "descriptor cache folder, shared between runs"},
         {"--condition", OPT_STR, &o.condition, "NAME", "condition name recorded in result.json"},
         {"--out", OPT_STR, &o.out, "DIR", "results folder (created; an existing one must be empty)"},

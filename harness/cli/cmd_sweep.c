@@ -2,6 +2,7 @@
 #include <signal.h>
 #include <cjson/cJSON.h>
 #include <stdio.h>
+#include <stdlib.h>
 #include <string.h>
 #include <unistd.h>
 
@@ -181,7 +182,10 @@ int cmd_sweep(int argc, char **argv)
         return cmd_report(&e);
     }
     if (dry) {
-        sweep_print_plan(stdout, &p, &o, sweep_scans(p.map_rec), sweep_scans(p.query_rec));
+        struct sweep_speed *sp = calloc(p.n_methods + 1, sizeof *sp);
+        if (sp) sweep_speeds(&p, &o, sp);
+        sweep_print_plan(stdout, &p, &o, sweep_scans(p.map_rec), sweep_scans(p.query_rec), sp);
+        free(sp);
         plan_free(&p);
         return CMD_OK;
     }

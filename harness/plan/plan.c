@@ -407,7 +407,7 @@ static int pl_axis(const struct pl *c, const cJSON *o, const char *jp, struct pl
 static int pl_cond(const struct pl *c, const cJSON *o, const char *jp, struct plan *p, struct plan_cond *d,
                    const uint64_t *seeds, size_t n_seeds)
 {
-    static const char *const keys[] = {"name", "chain", "on", "axis", "seeds", NULL};
+    static const char *const keys[] = {"name", "chain", "on", "axis", "seeds", "stages_alone", NULL};
     const char *name = NULL, *chain = NULL, *on = NULL;
     char sub[JP];
     int k;
@@ -427,9 +427,14 @@ static int pl_cond(const struct pl *c, const cJSON *o, const char *jp, struct pl
     pl_join(sub, jp, "chain");
     struct err ce;
     if (chain && chain_parse(chain, &d->parsed, &ce)) return pl_fail(c, sub, "%s", ce.msg);
-    const cJSON *ax = pl_get(o, "axis");
+    const cJSON *ax = pl_get(o, "axis"), *alone = pl_get(o, "stages_alone");
     pl_join(sub, jp, "axis");
     if (ax && pl_axis(c, ax, sub, d)) return -1;
+    pl_join(sub, jp, "stages_alone");
+    if (alone && !cJSON_IsBool(alone)) return pl_fail(c, sub, "expected true or false");
+    d->stages_alone = cJSON_IsTrue(alone);
+    if (d->stages_alone && (ax || !chain || !strchr(chain, '+')))
+        return pl_fail(c, sub, "expected a chain of two or more stages and no axis");
     const cJSON *sv = pl_get(o, "seeds");
     pl_join(sub, jp, "seeds");
     if (sv) return pl_seeds(c, sv, sub, &d->seeds, &d->n_seeds);
@@ -437,6 +442,47 @@ static int pl_cond(const struct pl *c, const cJSON *o, const char *jp, struct pl
     d->n_seeds = (chain || ax) ? n_seeds : 1;
     if (!(d->seeds = malloc(d->n_seeds * sizeof *d->seeds))) return pl_fail(c, jp, "out of memory");
     memcpy(d->seeds, seeds, d->n_seeds * sizeof *seeds);
+    return 0;
+}
+
+/* Append one condition per stage of compound condition k, that stage alone:
+ * "mount" with "sector:width=60+tilt:pitch=2" adds "mount-only-sector" and
+ * "mount-only-tilt" (same side and seeds), so the stage that dominates the
+ * compound loss can be named. */
+static int pl_stages_alone(const struct pl *c, struct plan *p, size_t k)
+{
+    size_t n = 1;
+    for (const char *q = p->conds[k].chain; *q; q++) n += *q == '+';
+    struct plan_cond *a = realloc(p->conds, (p->n_conds + n) * sizeof *a);
+    if (!a) return pl_fail(c, "conditions", "out of memory");
+    p->conds = a;
+    const char *at = p->conds[k].chain;
+    for (size_t j = 0; j < n; j++) {
+        const struct plan_cond *d = &p->conds[k];
+        size_t len = strcspn(at, "+"), stage = strcspn(at, ":+");
+        struct plan_cond *x = &p->conds[p->n_conds];
+        memset(x, 0, sizeof *x);
+        p->n_conds++;
+        char name[PLAN_ID_MAX];
+        if ((size_t)snprintf(name, sizeof name, "%s-only-%.*s", d->name, (int)stage, at) >= sizeof name)
+            return pl_fail(c, "conditions", "condition name '%s' too long for its stages", d->name);
+        x->name = pl_dup(name);
+        x->chain = malloc(len + 1);
+        if (x->chain) snprintf(x->chain, len + 1, "%.*s", (int)len, at);
+        x->on = d->on ? pl_dup(d->on) : NULL;
+        x->seeds = malloc((d->n_seeds ? d->n_seeds : 1) * sizeof *x->seeds);
+        if (!x->name || !x->chain || (d->on && !x->on) || !x->seeds) return pl_fail(c, "conditions", "out of memory");
+        memcpy(x->seeds, d->seeds, d->n_seeds * sizeof *x->seeds);
+        x->n_seeds = d->n_seeds;
+        x->is_part = 1;
+        x->part_of = k;
+        struct err ce;
+        if (chain_parse(x->chain, &x->parsed, &ce)) return pl_fail(c, "conditions", "%s: %s", name, ce.msg);
+        for (size_t i = 0; i + 1 < p->n_conds; i++)
+            if (!strcmp(p->conds[i].name, name))
+                return pl_fail(c, "conditions", "condition '%s' is also the name of a stage run alone", name);
+        at += len + (at[len] == '+');
+    }
     return 0;
 }
 
@@ -462,6 +508,8 @@ static int pl_conditions(const struct pl *c, const cJSON *root, struct plan *p)
         rc = pl_cond(c, o, jp, p, &p->conds[k], seeds, n_seeds);
         p->n_conds = k + 1;
     }
+    for (size_t k = 0, n0 = p->n_conds; !rc && k < n0; k++)
+        if (p->conds[k].stages_alone) rc = pl_stages_alone(c, p, k);
     if (seeds != &one) free(seeds);
     return rc;
 }
@@ -528,11 +576,43 @@ static int pl_select_method(const struct pl *c, const cJSON *o, const char *jp, 
     return pl_fail(c, sub, "no method '%s' in methods", m);
 }
 
+static int pl_op_metric(const char *m)
+{
+    for (int k = 0; k < OPP_N; k++)
+        if (!strcmp(oppoint_score_name((enum oppoint_score_id)k), m)) return 1;
+    return 0;
+}
+
+/* "tuned_on": a condition without an axis; "operating_point": how the
+ * threshold is chosen there (default f1max). */
+static int pl_tuned(const struct pl *c, const cJSON *o, const char *jp, const struct plan *p,
+                    struct plan_criterion *r)
+{
+    const char *rule = NULL;
+    char sub[JP];
+    size_t k;
+    r->tuned_on = -1;
+    if (pl_str(c, o, jp, "operating_point", 0, &rule)) return -1;
+    if (!pl_get(o, "tuned_on")) {
+        pl_join(sub, jp, "operating_point");
+        return rule ? pl_fail(c, sub, "needs tuned_on, the condition whose cells choose the threshold") : 0;
+    }
+    if (pl_select_cond(c, o, jp, p, "tuned_on", "tuned_on_value", &k, &r->has_tuned_value, &r->tuned_value))
+        return -1;
+    r->tuned_on = (long)k;
+    r->op = (struct oppoint_choice){OPPOINT_F1MAX, 0};
+    pl_join(sub, jp, "operating_point");
+    struct err e;
+    if (rule && oppoint_parse(rule, &r->op, &e)) return pl_fail(c, sub, "%s", e.msg);
+    return 0;
+}
+
 static int pl_criterion(const struct pl *c, const cJSON *o, const char *jp, const struct plan *p,
                         struct plan_criterion *r)
 {
     static const char *const keys[] = {"text", "metric", "method", "condition", "value", "baseline",
-                                       "baseline_value", "target", "comparator", "threshold", NULL};
+                                       "baseline_value", "target", "comparator", "threshold",
+                                       "tuned_on", "tuned_on_value", "operating_point", NULL};
     static const char *const targets[] = {"mean", "lo", "hi", "diff", "diff_lo", "diff_hi", NULL};
     static const char *const cmps[] = {">=", ">", "<=", "<", NULL};
     const char *text = NULL, *metric = NULL, *target = "mean", *cmp = NULL;
@@ -542,8 +622,12 @@ static int pl_criterion(const struct pl *c, const cJSON *o, const char *jp, cons
         pl_str(c, o, jp, "metric", 1, &metric) || pl_str(c, o, jp, "target", 0, &target) ||
         pl_str(c, o, jp, "comparator", 1, &cmp))
         return -1;
+    if (pl_tuned(c, o, jp, p, r)) return -1;
     pl_join(sub, jp, "metric");
-    if (pr_metric_find(metric) < 0) {
+    if (r->tuned_on >= 0 && !pl_op_metric(metric))
+        return pl_fail(c, sub, "'%s' is not a score at an operating point, expected precision, recall, f1, "
+                       "false_positives, false_positives_per_km or false_positives_per_hour", metric);
+    if (r->tuned_on < 0 && pr_metric_find(metric) < 0) {
         char keys[512];
         pl_metric_keys(keys, sizeof keys);
         return pl_fail(c, sub, "'%s' is not known, expected %s", metric, keys);
@@ -564,9 +648,10 @@ static int pl_criterion(const struct pl *c, const cJSON *o, const char *jp, cons
     r->baseline = -1;
     int diff = r->target >= PLAN_DIFF;
     pl_join(sub, jp, "baseline");
-    if (!diff && pl_get(o, "baseline"))
-        return pl_fail(c, sub, "only used with target diff, diff_lo or diff_hi");
-    if (diff) {
+    if ((!diff || r->tuned_on >= 0) && pl_get(o, "baseline"))
+        return pl_fail(c, sub, r->tuned_on >= 0 ? "not used with tuned_on: a difference is taken against "
+                       "the tuned_on condition at its threshold" : "only used with target diff, diff_lo or diff_hi");
+    if (diff && r->tuned_on < 0) {
         size_t b;
         if (pl_select_cond(c, o, jp, p, "baseline", "baseline_value", &b, &r->has_base_value, &r->base_value))
             return -1;
@@ -574,8 +659,12 @@ static int pl_criterion(const struct pl *c, const cJSON *o, const char *jp, cons
     }
     if (!(r->text = pl_dup(text))) {
         char t[512];
-        snprintf(t, sizeof t, "%s %s of %s on %s %s %g", plan_target_name(r->target), metric,
-                 r->method < 0 ? "every method" : p->methods[r->method].label, p->conds[r->cond].name,
+        char at[200] = "";
+        if (r->tuned_on >= 0)
+            snprintf(at, sizeof at, " at the threshold tuned on %s (%s)", p->conds[r->tuned_on].name,
+                     oppoint_rule_name(r->op.rule));
+        snprintf(t, sizeof t, "%s %s of %s on %s%s %s %g", plan_target_name(r->target), metric,
+                 r->method < 0 ? "every method" : p->methods[r->method].label, p->conds[r->cond].name, at,
                  plan_cmp_name(r->cmp), r->threshold);
         if (!(r->text = pl_dup(t))) return pl_fail(c, jp, "out of memory");
     }

@@ -27,6 +27,7 @@
 #include <stddef.h>
 #include <stdint.h>
 #include "harness/base/err.h"
+#include "metrics/oppoint.h"
 #include "metrics/protocol.h"
 #include "perturb/chain.h"
 
@@ -47,6 +48,9 @@ struct plan_cond {
     double *values;
     size_t n_seeds;
     uint64_t *seeds;
+    int stages_alone;     /* the scenario asked for each stage of the chain alone */
+    int is_part;          /* this condition is one stage of a compound condition run alone */
+    size_t part_of;       /* is_part: index of that compound condition */
 };
 
 struct plan_cell {
@@ -76,6 +80,10 @@ struct plan_criterion {
     enum plan_target target;
     enum plan_cmp cmp;
     double threshold;
+    long tuned_on;        /* index into conds whose cells choose the operating point, or -1 */
+    int has_tuned_value;  /* axis value of tuned_on (a condition with an axis) */
+    double tuned_value;
+    struct oppoint_choice op;   /* how (tuned_on >= 0); metric is then a metrics/oppoint.h score */
 };
 
 struct plan {

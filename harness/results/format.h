@@ -29,6 +29,7 @@
 #define RESULTS_QUERIES_KIND "per-query results"
 #define RESULTS_POSES_KIND "scan poses"
 #define RESULTS_MATRIX_KIND "distance matrix"
+#define RESULTS_SENSITIVITY_KIND "sensitivity ranking"
 #define RESULTS_FORMAT_VERSION 1
 
 /* 1: line is the marker of kind at RESULTS_FORMAT_VERSION; 0: not a marker

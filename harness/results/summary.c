@@ -1,5 +1,6 @@
 /* summary.c: read every cell of a sweep folder and write the summary tables. */
 #include "harness/results/summary.h"
+#include "harness/results/sensitivity.h"
 
 #include <cjson/cJSON.h>
 #include <math.h>
@@ -267,7 +268,19 @@ static int sm_write_json(const struct summary *s, struct err *e)
     return json_file_write(path, root, e);
 }
 
+/* DIR/sensitivity.csv (sensitivity.h), when the plan has an axis or a stage run alone. */
+static int sm_write_sensitivity(const struct summary *s, struct err *e)
+{
+    struct sens_row *rows = NULL;
+    size_t n = 0;
+    if (sens_compute(s, &rows, &n, e)) return -1;
+    int rc = n ? sens_write(s, rows, n, e) : 0;
+    sens_free(rows);
+    return rc;
+}
+
 int summary_write(const struct summary *s, struct err *e)
 {
-    return sm_write_cells_csv(s, e) || sm_write_groups_csv(s, e) || sm_write_json(s, e) ? -1 : 0;
+    return sm_write_cells_csv(s, e) || sm_write_groups_csv(s, e) || sm_write_json(s, e) ||
+           sm_write_sensitivity(s, e) ? -1 : 0;
 }

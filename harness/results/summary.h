@@ -57,6 +57,8 @@ struct summary_verdict {
     double value, lo, hi;  /* mean over seeds and the cautious interval */
     double measured;       /* what the comparator judged */
     int pass;
+    double tau, tau_lo, tau_hi;   /* operating-point criteria: the threshold carried (mean over
+                                   * seeds) and the widest interval of its choice; else NaN */
 };
 
 /* Read DIR/cells/ID/result.json of every cell of the plan.  A result with

@@ -13,46 +13,23 @@
 #include "harness/base/json_file.h"
 #include "harness/results/cells.h"
 #include "harness/results/format.h"
-#include "harness/results/poses_csv.h"
-#include "harness/results/queries_csv.h"
+#include "harness/results/cell_set.h"
 #include "metrics/boot.h"
 #include "metrics/gt.h"
+#include "metrics/oppoint.h"
 #include "metrics/pr.h"
 
 #define SV_VERDICTS_MAX ((size_t)1 << 30)
 
-/* The scored query set of one cell, rebuilt from its folder. */
-static int sv_cell_set(const struct summary *s, size_t k, struct pr_set **out, struct err *e)
+/* The scored query set of cell k, rebuilt from its folder (cell_set.h). */
+static int sv_cell_set(const struct summary *s, size_t k, struct pr_set **out, struct oppoint_drive *drive,
+                       struct err *e)
 {
-    const char *id = s->p->cells[k].id;
-    char path[4300];
-    struct poses_csv ps;
-    if (results_cell_path(path, sizeof path, s->dir, id, RESULTS_POSES, e) || poses_csv_read(path, &ps, e))
-        return err_wrap(e, "cell %s", id);
-    int reloc = s->p->protocol.mode == PROTOCOL_RELOC;
-    const struct poses_csv_set *m = &ps.set[ps.set[POSES_CSV_MAP].n ? POSES_CSV_MAP : POSES_CSV_QUERY];
-    const struct poses_csv_set *qs = &ps.set[POSES_CSV_QUERY];   /* loop mode may list the one recording as either set */
-    struct gt_poses map = {m->xyz, m->t, m->n}, query = {qs->xyz, qs->t, qs->n};
-    struct gt *g = NULL;
-    struct queries_csv q;
-    size_t *off = NULL;
-    struct pr_cand *c = NULL;
-    memset(&q, 0, sizeof q);
-    int rc = gt_build(&s->p->protocol, &map, reloc ? &query : NULL, NULL, 0, &g, e);
-    if (!rc) rc = results_cell_path(path, sizeof path, s->dir, id, RESULTS_QUERIES, e);
-    if (!rc) rc = queries_csv_read(path, &q, e);
-    if (!rc) rc = queries_csv_lists(&q, g, &off, &c, e);
-    if (!rc) {
-        struct pr_lists pl = {g->n_query, off, c};
-        rc = pr_set_build(g, &pl, out, e);
-    }
-    if (rc) err_wrap(e, "cell %s", id);
-    free(off);
-    free(c);
-    queries_csv_free(&q);
-    gt_free(g);
-    poses_csv_free(&ps);
-    return rc;
+    char dir[4400];
+    int n = snprintf(dir, sizeof dir, "%s/cells/%s", s->dir, s->p->cells[k].id);
+    if (n < 0 || (size_t)n >= sizeof dir) return err_set(e, "cell %s: its folder path is too long", s->p->cells[k].id);
+    if (cell_set_load(dir, &s->p->protocol, out, drive, e)) return err_wrap(e, "cell %s", s->p->cells[k].id);
+    return 0;
 }
 
 /* Cells of method m, condition cond, at the axis value when has: indices
@@ -110,7 +87,7 @@ static int sv_pair(const struct summary *s, size_t a, size_t b, int m, double *d
                    struct err *e)
 {
     struct pr_set *sa = NULL, *sb = NULL;
-    int rc = sv_cell_set(s, a, &sa, e) || sv_cell_set(s, b, &sb, e) ? -1 : 0;
+    int rc = sv_cell_set(s, a, &sa, NULL, e) || sv_cell_set(s, b, &sb, NULL, e) ? -1 : 0;
     if (!rc && s->p->bootstrap > 0) {
         struct boot_paired bp;
         rc = boot_paired_diff(sa, sb, s->p->bootstrap, s->p->bootstrap_seed, 0.95, 1, &bp, e);
@@ -152,6 +129,69 @@ static int sv_paired(const struct summary *s, const struct plan_criterion *r, co
     return 0;
 }
 
+/* Score index of an operating-point metric name, or -1. */
+static int sv_op_index(const char *name)
+{
+    for (int k = 0; k < OPP_N; k++)
+        if (!strcmp(oppoint_score_name((enum oppoint_score_id)k), name)) return k;
+    return -1;
+}
+
+/* One cell at the threshold chosen on its tuned_on cell: the score (or the
+ * difference against the tuned_on cell) with its interval, and the threshold. */
+static int sv_op_pair(const struct summary *s, const struct plan_criterion *r, size_t a, size_t b, double out[6],
+                      struct err *e)
+{
+    struct pr_set *sa = NULL, *sb = NULL;
+    struct oppoint_drive da, db;
+    struct oppoint_result o;
+    int k = sv_op_index(r->metric), diff = r->target >= PLAN_DIFF;
+    int rc = sv_cell_set(s, a, &sa, &da, e) || sv_cell_set(s, b, &sb, &db, e) ? -1 : 0;
+    if (!rc && oppoint_carry(sb, sa, &r->op, &db, &da, s->p->bootstrap, s->p->bootstrap_seed, 0.95, &o, e))
+        rc = err_wrap(e, "cells %s and %s", s->p->cells[a].id, s->p->cells[b].id);
+    if (!rc) {
+        out[0] = diff ? o.diff[k] : o.at.v[k];
+        out[1] = diff ? o.diff_lo[k] : o.lo[k];
+        out[2] = diff ? o.diff_hi[k] : o.hi[k];
+        out[3] = o.tau;
+        out[4] = o.tau_lo;
+        out[5] = o.tau_hi;
+        if (s->p->bootstrap <= 0) out[1] = out[2] = out[0];
+    }
+    pr_set_free(sa);
+    pr_set_free(sb);
+    return rc;
+}
+
+static int sv_oppoint(const struct summary *s, const struct plan_criterion *r, const size_t *g, size_t n,
+                      const size_t *base, size_t nb, struct summary_verdict *v, struct err *e)
+{
+    double sum = 0, lo = INFINITY, hi = -INFINITY, tsum = 0, tlo = INFINITY, thi = -INFINITY;
+    for (size_t j = 0; j < n; j++) {
+        size_t b = 0;
+        while (nb > 1 && b < nb && s->p->cells[base[b]].seed != s->p->cells[g[j]].seed) b++;
+        if (b == nb)
+            return err_at(e, s->p->path, 0, "tuned_on '%s' has no seed %llu to pair with cell %s",
+                          s->p->conds[r->tuned_on].name, (unsigned long long)s->p->cells[g[j]].seed,
+                          s->p->cells[g[j]].id);
+        double x[6];
+        if (sv_op_pair(s, r, g[j], base[b], x, e)) return -1;
+        sum += x[0];
+        lo = fmin(lo, x[1]);
+        hi = fmax(hi, x[2]);
+        tsum += x[3];
+        tlo = fmin(tlo, x[4]);
+        thi = fmax(thi, x[5]);
+    }
+    v->value = sum / (double)n;   /* NaN when the rule found no threshold: the criterion fails */
+    v->lo = isfinite(lo) ? lo : NAN;
+    v->hi = isfinite(hi) ? hi : NAN;
+    v->tau = tsum / (double)n;
+    v->tau_lo = isfinite(tlo) ? tlo : NAN;
+    v->tau_hi = isfinite(thi) ? thi : NAN;
+    return 0;
+}
+
 /* One verdict: criterion r for method m. */
 static int sv_judge_one(const struct summary *s, size_t ri, size_t m, struct summary_verdict *v, struct err *e)
 {
@@ -159,8 +199,10 @@ static int sv_judge_one(const struct summary *s, size_t ri, size_t m, struct sum
     size_t *g = NULL, *base = NULL;
     size_t n = sv_group(s->p, m, r->cond, r->has_value, r->value, &g), nb = 0;
     int rc = n == (size_t)-1 ? err_set(e, "out of memory") : 0;
-    if (!rc && r->baseline >= 0) {
-        nb = sv_group(s->p, m, (size_t)r->baseline, r->has_base_value, r->base_value, &base);
+    if (!rc && (r->baseline >= 0 || r->tuned_on >= 0)) {
+        int tuned = r->tuned_on >= 0;
+        nb = sv_group(s->p, m, (size_t)(tuned ? r->tuned_on : r->baseline), tuned ? r->has_tuned_value : r->has_base_value,
+                      tuned ? r->tuned_value : r->base_value, &base);
         if (nb == (size_t)-1) rc = err_set(e, "out of memory");
     }
     if (!rc) rc = sv_ready(s, g, n, e) || sv_ready(s, base, nb, e) ? -1 : 0;
@@ -168,7 +210,10 @@ static int sv_judge_one(const struct summary *s, size_t ri, size_t m, struct sum
     v->criterion = ri;
     v->method = m;
     v->seeds = n;
-    if (!rc) rc = r->baseline >= 0 ? sv_paired(s, r, g, n, base, nb, v, e) : sv_plain(s, r, g, n, v, e);
+    v->tau = v->tau_lo = v->tau_hi = NAN;
+    if (!rc)
+        rc = r->tuned_on >= 0 ? sv_oppoint(s, r, g, n, base, nb, v, e)
+           : r->baseline >= 0 ? sv_paired(s, r, g, n, base, nb, v, e) : sv_plain(s, r, g, n, v, e);
     if (!rc) {
         enum plan_target t = r->target;
         v->measured = (t == PLAN_LO || t == PLAN_DIFF_LO) ? v->lo : (t == PLAN_HI || t == PLAN_DIFF_HI) ? v->hi : v->value;
@@ -228,6 +273,16 @@ int summary_write_verdicts(const struct summary *s, const struct summary_verdict
         if (r->has_value) cJSON_AddNumberToObject(o, "axis_value", r->value);
         if (r->baseline >= 0) cJSON_AddStringToObject(o, "baseline", p->conds[r->baseline].name);
         if (r->has_base_value) cJSON_AddNumberToObject(o, "baseline_value", r->base_value);
+        if (r->tuned_on >= 0) {
+            cJSON *t = cJSON_AddObjectToObject(o, "operating_point");
+            cJSON_AddStringToObject(t, "tuned_on", p->conds[r->tuned_on].name);
+            if (r->has_tuned_value) cJSON_AddNumberToObject(t, "tuned_on_value", r->tuned_value);
+            cJSON_AddStringToObject(t, "rule", oppoint_rule_name(r->op.rule));
+            if (r->op.rule != OPPOINT_F1MAX) cJSON_AddNumberToObject(t, "target", r->op.target);
+            sv_add_num(t, "threshold", v[k].tau);
+            sv_add_num(t, "threshold_lo", v[k].tau_lo);
+            sv_add_num(t, "threshold_hi", v[k].tau_hi);
+        }
         sv_add_num(o, "value", v[k].value);
         sv_add_num(o, "lo", v[k].lo);
         sv_add_num(o, "hi", v[k].hi);

@@ -22,6 +22,8 @@
 #include "harness/run/plugin_host.h"
 #include "harness/base/pool.h"
 #include "harness/base/progress.h"
+#include "harness/results/cell_set.h"
+#include "harness/results/oppoint_json.h"
 #include "harness/io/recording.h"
 #include "harness/results/result_metrics.h"
 #include "harness/run/retrieval.h"
@@ -54,6 +56,9 @@ struct ev_ctx {
     struct gt *g;
     struct pr_set *ps;
     struct boot_result br;
+    int has_op;                  /* op holds the operating point carried from s->tuned_on */
+    struct oppoint_result op;
+    struct kind_scores kinds;
     struct pr_curve *curve;
     struct ev_set *iso_set;      /* the set an isolated child describes */
     uint64_t map_digest, query_digest;  /* recording_digest of each */
@@ -302,7 +307,9 @@ static double ev_custom(const void *ctx, const float *a, const float *b)
 static int ev_retrieve(struct ev_ctx *c, struct err *e)
 {
     const struct protocol *p = &c->s->protocol;
-    struct retrieval_rule rule = {!c->reloc, c->mset.t, p->exclusion_s, p->exclusion_scans};
+    struct progress prog;
+    struct retrieval_rule rule = {!c->reloc, c->mset.t, p->exclusion_s, p->exclusion_scans, &prog};
+    progress_start(&prog, "retrieval", c->qset.n, c->s->quiet);
     struct retrieval_mat m = {c->mset.desc, c->mset.n, c->plug.dim}, q = {c->qset.desc, c->qset.n, c->plug.dim};
     double t0 = progress_now();
     int rc;
@@ -315,6 +322,7 @@ static int ev_retrieve(struct ev_ctx *c, struct err *e)
     } else {
         rc = retrieval_dense(&m, &q, c->plug.distance, &rule, p->top_k, c->s->jobs, &c->r, e);
     }
+    progress_end(&prog);
     c->sum.retrieval_s = progress_now() - t0;
     return rc;
 }
@@ -341,6 +349,57 @@ static int ev_lists(const struct ev_ctx *c, size_t **off, struct pr_cand **cand,
     return 0;
 }
 
+static void ev_tick(void *ctx, size_t done)
+{
+    progress_add(ctx, done);
+}
+
+/* Heading of a pose: the direction of its x axis in the world's x-y plane. */
+static double ev_heading(const struct pose *p)
+{
+    return atan2(p->R[3], p->R[0]);
+}
+
+/* The kind of every revisit query (heading difference to the pose it
+ * revisits), and recall and R@100P per kind. */
+static int ev_kinds(struct ev_ctx *c, struct err *e)
+{
+    struct kind_rule r = c->s->kinds;
+    if (r.same_deg == 0 && r.reverse_deg == 0) kind_rule_defaults(&r);
+    size_t n = c->g->n_query;
+    unsigned char *kind = malloc(n ? n : 1);
+    if (!kind) return err_set(e, "out of memory");
+    for (size_t i = 0; i < n; i++) {
+        const struct gt_query *q = &c->g->q[i];
+        kind[i] = KIND_NONE;
+        if (q->revisit && q->nearest >= 0)
+            kind[i] = (unsigned char)kind_of(ev_heading(&c->qset.rec->poses[i]),
+                                             ev_heading(&c->mset.rec->poses[q->nearest]), &r);
+    }
+    kind_scores(c->ps, kind, n, &r, &c->kinds);
+    free(kind);
+    return 0;
+}
+
+/* The threshold chosen on the results folder s->tuned_on, carried here. */
+static int ev_oppoint(struct ev_ctx *c, struct err *e)
+{
+    struct pr_set *ref = NULL;
+    struct oppoint_drive dr, da = cell_set_drive(c->qset.xyz, c->qset.t, c->qset.n);
+    if (cell_set_load(c->s->tuned_on, &c->s->protocol, &ref, &dr, e))
+        return err_wrap(e, "--tuned-on %s", c->s->tuned_on);
+    int rc = oppoint_carry(ref, c->ps, &c->s->op, &dr, &da, c->s->bootstrap, c->s->bootstrap_seed, 0.95,
+                           &c->op, e);
+    pr_set_free(ref);
+    c->has_op = !rc;
+    c->sum.has_op = !rc;
+    c->sum.op_tau = c->op.tau;
+    c->sum.op_precision = c->op.at.v[OPP_PRECISION];
+    c->sum.op_recall = c->op.at.v[OPP_RECALL];
+    c->sum.op_fp = c->op.at.v[OPP_FP];
+    return rc;
+}
+
 static int ev_metrics(struct ev_ctx *c, const struct pr_lists *l, struct err *e)
 {
     double t0 = progress_now();
@@ -348,9 +407,13 @@ static int ev_metrics(struct ev_ctx *c, const struct pr_lists *l, struct err *e)
     if (gt_build(&c->s->protocol, &mp, c->reloc ? &qp : NULL, NULL, 0, &c->g, e)) return -1;
     if (pr_set_build(c->g, l, &c->ps, e) || pr_curve_build(c->ps, &c->curve, e)) return -1;
     if (c->s->bootstrap > 0) {
-        if (boot_percentile(c->ps, c->s->bootstrap, c->s->bootstrap_seed, 0.95, pool_threads(c->s->jobs),
-                            &c->br, e))
-            return -1;
+        struct progress prog;
+        progress_start(&prog, "bootstrap", (size_t)c->s->bootstrap, c->s->quiet);
+        struct boot_tick tk = {ev_tick, &prog};
+        int rc = boot_percentile_ticked(c->ps, c->s->bootstrap, c->s->bootstrap_seed, 0.95,
+                                        pool_threads(c->s->jobs), &tk, &c->br, e);
+        progress_end(&prog);
+        if (rc) return -1;
     } else {
         pr_scalars_compute(c->ps, NULL, &c->br.point);
         for (int m = 0; m < PR_N_METRICS; m++) c->br.lo[m] = c->br.hi[m] = NAN;
@@ -365,6 +428,8 @@ static int ev_metrics(struct ev_ctx *c, const struct pr_lists *l, struct err *e)
     c->sum.recall1pct = v[PR_RECALL_1PCT];
     c->sum.queries = c->ps->n;
     c->sum.revisits = c->g->n_revisits;
+    if (c->s->tuned_on && ev_oppoint(c, e)) return -1;
+    if (ev_kinds(c, e)) return -1;
     c->sum.metrics_s = progress_now() - t0;
     return 0;
 }
@@ -507,6 +572,22 @@ static cJSON *ev_inputs_json(const struct ev_ctx *c)
     return o;
 }
 
+/* "kinds": {"same_deg": 45, "reverse_deg": 135, "same": {"revisits": N,
+ * "recall_at_1": x, "r100p": y}, "reverse": {...}, "crossing": {...}} */
+static cJSON *ev_kinds_json(const struct kind_scores *k)
+{
+    cJSON *o = cJSON_CreateObject();
+    cJSON_AddNumberToObject(o, "same_deg", k->rule.same_deg);
+    cJSON_AddNumberToObject(o, "reverse_deg", k->rule.reverse_deg);
+    for (int c = 0; c < KIND_N; c++) {
+        cJSON *m = cJSON_AddObjectToObject(o, kind_name((enum kind_id)c));
+        cJSON_AddNumberToObject(m, "revisits", k->revisits[c]);
+        cJSON_AddNumberToObject(m, "recall_at_1", k->recall_at_1[c]);
+        cJSON_AddNumberToObject(m, "r100p", k->r100p[c]);
+    }
+    return o;
+}
+
 static cJSON *ev_result_json(const struct ev_ctx *c, struct err *e)
 {
     const struct eval_spec *s = c->s;
@@ -529,6 +610,8 @@ static cJSON *ev_result_json(const struct ev_ctx *c, struct err *e)
         cJSON_Delete(o);
         return NULL;
     }
+    if (c->has_op) cJSON_AddItemToObject(o, "operating_point", oppoint_json(&c->op, s->tuned_on));
+    cJSON_AddItemToObject(o, "kinds", ev_kinds_json(&c->kinds));
     cJSON *t = cJSON_AddObjectToObject(o, "timing");
     cJSON_AddNumberToObject(t, "describe_s", c->sum.describe_s);
     cJSON_AddNumberToObject(t, "retrieval_s", c->sum.retrieval_s);

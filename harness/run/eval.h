@@ -16,6 +16,8 @@
 
 #include <stdint.h>
 #include "harness/base/err.h"
+#include "metrics/kinds.h"
+#include "metrics/oppoint.h"
 #include "metrics/protocol.h"
 
 struct eval_spec {
@@ -48,6 +50,10 @@ struct eval_spec {
                                   program); isolated and external methods are stopped when they hang */
     size_t mem_limit_mb;       /* address space an isolated child may add, or an external program may
                                   use (0 = EVAL_MEM_LIMIT_MB) */
+    /* operating point carried from another results folder */
+    const char *tuned_on;      /* results folder (queries.csv, poses.csv) choosing the threshold, or NULL */
+    struct oppoint_choice op;  /* the rule (zero: F1max) */
+    struct kind_rule kinds;    /* revisit kinds by heading difference (zero: 45 and 135 degrees) */
 };
 
 struct eval_summary {
@@ -62,6 +68,9 @@ struct eval_summary {
     size_t cache_stale;        /* cache files of another recording content or method build, rebuilt */
     size_t scans_hashed;       /* scan files read to update the recordings' digests */
     double matrix_s;           /* the distances of matrix.csv */
+    /* operating point (spec.tuned_on) */
+    int has_op;
+    double op_tau, op_precision, op_recall, op_fp;
 };
 
 void eval_spec_defaults(struct eval_spec *s);

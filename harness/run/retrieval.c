@@ -216,6 +216,7 @@ static int retr_custom_task(void *arg, size_t i, int worker, struct err *e)
         retr_push(&h, isfinite(d) && d >= 0 ? d : INFINITY, (int32_t)j);
     }
     retr_rank(c->map, c->q, RV_DIST_CUSTOM, h.s, h.j, h.n, i, tmp, c->out);
+    if (c->rule->prog) progress_add(c->rule->prog, 1);
     free(tmp);
     free(js);
     free(s);
@@ -230,7 +231,9 @@ int retrieval_custom(const struct retrieval_mat *map, const struct retrieval_mat
     if (retr_check(map, q, rule, k, e)) return -1;
     struct retrieval_out pre = {0};
     int use_keys = map_key && query_key && map_key->dim > 0;
-    if (use_keys && retrieval_dense(map_key, query_key, RV_DIST_L2, rule, top_c > k ? top_c : k, jobs, &pre, e))
+    struct retrieval_rule pre_rule = *rule;
+    pre_rule.prog = NULL;   /* the re-ranking below counts the queries */
+    if (use_keys && retrieval_dense(map_key, query_key, RV_DIST_L2, &pre_rule, top_c > k ? top_c : k, jobs, &pre, e))
         return -1;
     if (retr_out_alloc(out, q->n, k, e)) {
         retrieval_out_free(&pre);

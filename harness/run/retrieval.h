@@ -35,6 +35,7 @@
 #include <stddef.h>
 #include <stdint.h>
 #include "harness/base/err.h"
+#include "harness/base/progress.h"
 #include "harness/revisit_plugin.h"
 
 struct retrieval_mat {
@@ -48,6 +49,7 @@ struct retrieval_rule {
     const double *t;       /* loop with a time exclusion: one stamp per scan */
     double exclusion_s;
     long exclusion_scans;  /* >= 0: index window instead of time */
+    struct progress *prog; /* advanced by the queries done; NULL: none */
 };
 
 struct retrieval_out {

@@ -293,6 +293,7 @@ static int retr_task(void *arg, size_t task, int w, struct err *e)
         }
     }
     retr_task_rank(d, tops, q0, nq, w);
+    if (d->rule->prog) progress_add(d->rule->prog, nq);
     return 0;
 }
 

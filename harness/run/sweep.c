@@ -4,6 +4,7 @@
 #include <cjson/cJSON.h>
 #include <dirent.h>
 #include <errno.h>
+#include <math.h>
 #include <stdio.h>
 #include <stdlib.h>
 #include <string.h>
@@ -183,6 +184,7 @@ static int sw_cell(void *arg, size_t task, int worker, struct err *e)
         return -1;
     struct eval_spec s;
     struct eval_summary sum;
+    memset(&sum, 0, sizeof sum);
     struct err ce;
     ce.msg[0] = 0;
     sweep_cell_spec(c->p, k, c->o, part, c->cache, &s);
@@ -208,6 +210,7 @@ static int sw_cell(void *arg, size_t task, int worker, struct err *e)
         return err_at(e, done, 0, "cannot move the finished cell into place: %s", strerror(saved));
     }
     c->state[task] = rc ? SW_FAILED : SW_OK;
+    if (!rc) progress_note(&c->prog, "scans described", sum.described);
     progress_add(&c->prog, 1);
     return 0;
 }
@@ -434,29 +437,71 @@ static size_t sw_cell_work(const struct plan *p, size_t k, size_t n_map, size_t 
     return n_map;
 }
 
+/* The estimated time of the cells to run, one line per method's speed. */
+static void sw_print_time(FILE *f, const struct plan *p, const struct sweep_opts *o,
+                          const struct sweep_speed *sp, const double *scans, const size_t *cells)
+{
+    double total = 0;
+    size_t n_cells = 0;
+    int known = 1;
+    for (size_t m = 0; m < p->n_methods; m++) {
+        const struct sweep_speed *s = &sp[m];
+        if (!cells[m]) continue;
+        n_cells += cells[m];
+        if (isnan(s->s_per_scan)) {
+            fprintf(f, "speed of %s: unknown (%s)\n", p->methods[m].label, s->why);
+            known = 0;
+            continue;
+        }
+        if (s->cells)
+            fprintf(f, "speed of %s: %.1f ms per scan, %.2f s per cell besides describing "
+                    "(from %d finished cells)\n", p->methods[m].label, 1e3 * s->s_per_scan, s->other_s, s->cells);
+        else
+            fprintf(f, "speed of %s: %.1f ms per scan (measured on %d scans; retrieval, metrics and "
+                    "writing not included)\n", p->methods[m].label, 1e3 * s->s_per_scan, s->measured);
+        total += scans[m] * s->s_per_scan + (double)cells[m] * s->other_s;
+    }
+    if (!n_cells) return;
+    int par = pool_threads(o->jobs);
+    if ((size_t)par > n_cells) par = (int)n_cells;
+    double wall = total / par;
+    fprintf(f, "estimated time: %s%02d:%02d:%02d with %d cell%s at once (%.0f s of work)\n", known ? "" : "at least ",
+            (int)(wall / 3600), (int)fmod(wall / 60, 60), (int)fmod(wall, 60), par, par == 1 ? "" : "s", total);
+}
+
 void sweep_print_plan(FILE *f, const struct plan *p, const struct sweep_opts *o,
-                      size_t n_map, size_t n_query)
+                      size_t n_map, size_t n_query, const struct sweep_speed *sp)
 {
     size_t mine = 0, done = 0, perturbed = 0, shared = 0;
     unsigned *seen = calloc(p->n_methods + 1, sizeof *seen);
+    double *scans = calloc(p->n_methods + 1, sizeof *scans);
+    size_t *cells = calloc(p->n_methods + 1, sizeof *cells);
     fprintf(f, "scenario %s (hash %s)%s%s\n", p->path, p->hash, p->name ? ": " : "", p->name ? p->name : "");
-    fprintf(f, "%-52s %-8s %s\n", "cell", "state", "chain (on)");
+    fprintf(f, "%-52s %s\n", "cell to run", "chain (on)");
     for (size_t k = 0; k < p->n_cells; k++) {
         if (!plan_in_shard(k, o->shard_i, o->shard_n)) continue;
         const struct plan_cell *c = &p->cells[k];
         int is_done = o->out_dir && results_cell_done(o->out_dir, c->id);
+        unsigned sh;
         mine++;
         done += is_done;
-        fprintf(f, "%-52s %-8s %s (%s)\n", c->id, is_done ? "done" : "to run", c->chain ? c->chain : "-",
+        if (is_done) {   /* its unperturbed sets are in the cache now */
+            sw_cell_work(p, k, n_map, n_query, &sh);
+            if (seen) seen[c->method] |= sh;
+            continue;
+        }
+        fprintf(f, "%-52s %s (%s)\n", c->id, c->chain ? c->chain : "-",
                 p->conds[c->cond].on ? p->conds[c->cond].on : "default");
-        if (is_done) continue;
-        unsigned sh;
-        perturbed += sw_cell_work(p, k, n_map, n_query, &sh);
-        if (seen && (sh & 1) && !(seen[c->method] & 1)) shared += n_map;
-        if (seen && (sh & 2) && !(seen[c->method] & 2)) shared += n_query;
+        size_t w = sw_cell_work(p, k, n_map, n_query, &sh), own = 0;
+        perturbed += w;
+        if (seen && (sh & 1) && !(seen[c->method] & 1)) own += n_map;
+        if (seen && (sh & 2) && !(seen[c->method] & 2)) own += n_query;
+        shared += own;
         if (seen) seen[c->method] |= sh;
+        if (scans) scans[c->method] += (double)(w + own);
+        if (cells) cells[c->method]++;
     }
-    free(seen);
+    if (done) fprintf(f, "(%zu finished cell%s left out)\n", done, done == 1 ? "" : "s");
     fprintf(f, "\n%zu of %zu %s in shard %d/%d, %zu done, %zu to run", mine, p->n_cells,
             numfmt_noun(p->n_cells, "cell", "cells"), o->shard_i, o->shard_n, done, mine - done);
     fprintf(f, " (%zu %s x %zu %s)\n", p->n_methods, numfmt_noun(p->n_methods, "method", "methods"), p->n_conds,
@@ -466,4 +511,8 @@ void sweep_print_plan(FILE *f, const struct plan *p, const struct sweep_opts *o,
                 perturbed + shared, numfmt_noun(perturbed + shared, "description", "descriptions"), perturbed, shared);
     else
         fprintf(f, "estimated work: scan counts unknown (recording not readable)\n");
+    if (sp && n_map && scans && cells) sw_print_time(f, p, o, sp, scans, cells);
+    free(seen);
+    free(scans);
+    free(cells);
 }

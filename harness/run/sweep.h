@@ -70,10 +70,27 @@ int sweep_prepare(const struct plan *p, const char *out_dir, struct err *e);
  * are counted in st->failed.  Writes nothing outside o->out_dir. */
 int sweep_run(const struct plan *p, const struct sweep_opts *o, struct sweep_stats *st, struct err *e);
 
-/* Print the plan with the estimated work (cells, scan descriptions) to f.
- * n_map, n_query: scans in the recordings (0 when unknown). */
+/* A method's speed for the dry run's estimate. */
+struct sweep_speed {
+    double s_per_scan;   /* seconds to describe one scan; NaN when unknown */
+    double other_s;      /* a cell's seconds besides describing (0 when measured) */
+    int cells;           /* finished cells it comes from; 0 when measured */
+    int measured;        /* scans described to measure it (cells == 0) */
+    double describe_s, described;   /* the sums behind s_per_scan */
+    char why[ERR_MSG_MAX];   /* why it is unknown */
+};
+
+/* Speeds of every method (sp has p->n_methods entries): from the timings of
+ * its finished cells in o->out_dir, else measured by describing three map
+ * scans on one thread.  Cannot fail: an unknown speed is NaN with why set. */
+void sweep_speeds(const struct plan *p, const struct sweep_opts *o, struct sweep_speed *sp);
+
+/* Print the cells still to run (finished ones are left out and counted)
+ * with the estimated work (scan descriptions) and, when sp is given, the
+ * estimated time to f.  n_map, n_query: scans in the recordings (0 when
+ * unknown). */
 void sweep_print_plan(FILE *f, const struct plan *p, const struct sweep_opts *o,
-                      size_t n_map, size_t n_query);
+                      size_t n_map, size_t n_query, const struct sweep_speed *sp);
 
 /* Fill an eval_spec for cell k (strings borrow from p and o). */
 void sweep_cell_spec(const struct plan *p, size_t k, const struct sweep_opts *o,
