@@ -1,5 +1,7 @@
-/* logwrite.c: a recording as a ROS 1 bag or an MCAP file (see logwrite.h;
- * the record layouts are those bag.h and mcap.h read). */
+/* logwrite.c: a recording as a robot log (see logwrite.h): the byte
+ * buffer, the two message bodies, the topic table, and the walk over the
+ * scans that hands each message to the container (logwrite_bag.c,
+ * logwrite_mcap.c). */
 #include "harness/io/logwrite.h"
 
 #include <math.h>
@@ -10,18 +12,11 @@
 #include <strings.h>
 
 #include "harness/base/fileio.h"
+#include "harness/io/logwrite_out.h"
 #include "harness/io/recording.h"
 #include "harness/io/scan_body.h"
 
-/* A growing little-endian byte buffer; with cdr set, values are aligned to
- * their size counted from byte 4 (after the encapsulation header). */
-struct logw_buf {
-    unsigned char *p;
-    size_t len, cap;
-    int cdr, oom;
-};
-
-static void lw_raw(struct logw_buf *b, const void *v, size_t n)
+void logw_raw(struct logw_buf *b, const void *v, size_t n)
 {
     if (b->oom) return;
     if (b->len + n > b->cap) {
@@ -36,248 +31,132 @@ static void lw_raw(struct logw_buf *b, const void *v, size_t n)
     b->len += n;
 }
 
-static void lw_align(struct logw_buf *b, size_t a)
+static void logw_align(struct logw_buf *b, size_t a)
 {
     static const unsigned char zero[8] = {0};
-    if (b->cdr && (b->len - 4) % a) lw_raw(b, zero, a - (b->len - 4) % a);
+    if (b->cdr && (b->len - 4) % a) logw_raw(b, zero, a - (b->len - 4) % a);
 }
 
-/* An unsigned value of n bytes, little-endian, aligned in CDR. */
-static void lw_uint(struct logw_buf *b, uint64_t v, int n)
+void logw_uint(struct logw_buf *b, uint64_t v, int n)
 {
     unsigned char t[8];
     for (int k = 0; k < n; k++) t[k] = (unsigned char)(v >> (8 * k));
-    lw_align(b, (size_t)n);
-    lw_raw(b, t, (size_t)n);
+    logw_align(b, (size_t)n);
+    logw_raw(b, t, (size_t)n);
 }
 
-static void lw_f64(struct logw_buf *b, double v)
+static void logw_f64(struct logw_buf *b, double v)
 {
     uint64_t u;
     memcpy(&u, &v, 8);
-    lw_uint(b, u, 8);
+    logw_uint(b, u, 8);
 }
 
-static void lw_str(struct logw_buf *b, const char *s)
+void logw_str(struct logw_buf *b, const char *s)
 {
     size_t n = strlen(s);
-    lw_uint(b, n + (b->cdr ? 1 : 0), 4);
-    lw_raw(b, s, n + (b->cdr ? 1 : 0));
+    logw_uint(b, n + (b->cdr ? 1 : 0), 4);
+    logw_raw(b, s, n + (b->cdr ? 1 : 0));
 }
 
-static void lw_stamp(struct logw_buf *b, double t, const char *frame)
-{
-    double sec = floor(t);
-    uint64_t ns = (uint64_t)llround((t - sec) * 1e9);
-    if (ns >= 1000000000u) { sec += 1; ns -= 1000000000u; }
-    if (!b->cdr) lw_uint(b, 0, 4);  /* ROS 1 header seq */
-    lw_uint(b, (uint64_t)(uint32_t)(int64_t)sec, 4);
-    lw_uint(b, ns, 4);
-    lw_str(b, frame);
-}
-
-static void lw_begin(struct logw_buf *b, int cdr)
+void logw_begin(struct logw_buf *b, int cdr)
 {
     b->len = 0;
     b->cdr = cdr;
-    if (cdr) lw_raw(b, "\x00\x01\x00\x00", 4);  /* CDR little-endian */
+    if (cdr) logw_raw(b, "\x00\x01\x00\x00", 4);  /* CDR little-endian */
+}
+
+void logw_write(struct logw_out *o, const void *p, size_t n)
+{
+    if (n) fwrite(p, 1, n, o->f);
+    o->pos += n;
+}
+
+/* A message header: (ROS 1: seq,) sec, nsec, frame. */
+static void logw_stamp(struct logw_buf *b, uint64_t t_ns, const char *frame)
+{
+    if (!b->cdr) logw_uint(b, 0, 4);  /* ROS 1 header seq */
+    logw_uint(b, t_ns / 1000000000u, 4);
+    logw_uint(b, t_ns % 1000000000u, 4);
+    logw_str(b, frame);
 }
 
 /* PointCloud2: x y z intensity float32, ring uint16, time float32, packed. */
-static void lw_cloud(struct logw_buf *b, int cdr, double t, const struct cloud *c)
+static void logw_cloud(struct logw_buf *b, int cdr, uint64_t t_ns, const struct cloud *c)
 {
     static const char *const names[6] = {"x", "y", "z", "intensity", "ring", "time"};
     int nf = 4 + (c->ring != NULL) + (c->time != NULL);
     uint32_t step = 16 + (c->ring ? 2 : 0) + (c->time ? 4 : 0), off = 0;
-    lw_begin(b, cdr);
-    lw_stamp(b, t, "sensor");
-    lw_uint(b, 1, 4);
-    lw_uint(b, c->n, 4);
-    lw_uint(b, (uint64_t)nf, 4);
+    logw_begin(b, cdr);
+    logw_stamp(b, t_ns, "sensor");
+    logw_uint(b, 1, 4);
+    logw_uint(b, c->n, 4);
+    logw_uint(b, (uint64_t)nf, 4);
     for (int k = 0; k < 6; k++) {
         if ((k == 4 && !c->ring) || (k == 5 && !c->time)) continue;
-        lw_str(b, names[k]);
-        lw_uint(b, off, 4);
-        lw_uint(b, k == 4 ? 4 : 7, 1);  /* PointField UINT16 = 4, FLOAT32 = 7 */
-        lw_uint(b, 1, 4);
+        logw_str(b, names[k]);
+        logw_uint(b, off, 4);
+        logw_uint(b, k == 4 ? 4 : 7, 1);  /* PointField UINT16 = 4, FLOAT32 = 7 */
+        logw_uint(b, 1, 4);
         off += k == 4 ? 2 : 4;
     }
-    lw_uint(b, 0, 1);
-    lw_uint(b, step, 4);
-    lw_uint(b, (uint64_t)step * c->n, 4);
-    lw_uint(b, (uint64_t)step * c->n, 4);
+    logw_uint(b, 0, 1);
+    logw_uint(b, step, 4);
+    logw_uint(b, (uint64_t)step * c->n, 4);
+    logw_uint(b, (uint64_t)step * c->n, 4);
     for (size_t k = 0; k < c->n; k++) {
         unsigned char rec[SCAN_BODY_RECORD_MAX];
-        lw_raw(b, rec, scan_body_record(c, k, rec));
+        logw_raw(b, rec, scan_body_record(c, k, rec));
     }
-    lw_uint(b, 1, 1);
+    logw_uint(b, 1, 1);
 }
 
 /* Odometry: the pose, zero covariance, zero twist. */
-static void lw_odom(struct logw_buf *b, int cdr, const struct pose *p)
+static void logw_odom(struct logw_buf *b, int cdr, uint64_t t_ns, const struct pose *p)
 {
-    lw_begin(b, cdr);
-    lw_stamp(b, p->t, "world");
-    lw_str(b, "sensor");
-    for (int k = 0; k < 3; k++) lw_f64(b, p->p[k]);
-    for (int k = 0; k < 4; k++) lw_f64(b, p->q[k]);
-    for (int k = 0; k < 36 + 6 + 36; k++) lw_f64(b, 0);
+    logw_begin(b, cdr);
+    logw_stamp(b, t_ns, "world");
+    logw_str(b, "sensor");
+    for (int k = 0; k < 3; k++) logw_f64(b, p->p[k]);
+    for (int k = 0; k < 4; k++) logw_f64(b, p->q[k]);
+    for (int k = 0; k < 36 + 6 + 36; k++) logw_f64(b, 0);
 }
 
-/* ---- ROS 1 bag: header fields "len name=value", records "hlen header dlen data" ---- */
+/* The message definitions, without comments: ROS 1 (in the bag's
+ * connection records; the MD5 is the ROS 1 checksum of that definition)
+ * and ROS 2 (the MCAP schemas, ros2msg). */
+#define LOGW_SEP "\n================================================================================\nMSG: "
+#define LOGW_R1_HEADER "std_msgs/Header\nuint32 seq\ntime stamp\nstring frame_id"
+#define LOGW_R2_HEADER "std_msgs/Header\nbuiltin_interfaces/Time stamp\nstring frame_id" LOGW_SEP \
+                       "builtin_interfaces/Time\nint32 sec\nuint32 nanosec"
+#define LOGW_CLOUD(header, field_consts) \
+    "std_msgs/Header header\nuint32 height\nuint32 width\nsensor_msgs/PointField[] fields\nbool is_bigendian\n" \
+    "uint32 point_step\nuint32 row_step\nuint8[] data\nbool is_dense" LOGW_SEP header LOGW_SEP \
+    "sensor_msgs/PointField\n" field_consts "string name\nuint32 offset\nuint8 datatype\nuint32 count"
+#define LOGW_FIELD_CONSTS "uint8 INT8=1\nuint8 UINT8=2\nuint8 INT16=3\nuint8 UINT16=4\nuint8 INT32=5\n" \
+                          "uint8 UINT32=6\nuint8 FLOAT32=7\nuint8 FLOAT64=8\n"
+#define LOGW_ODOM(header, qdefault) \
+    "std_msgs/Header header\nstring child_frame_id\ngeometry_msgs/PoseWithCovariance pose\n" \
+    "geometry_msgs/TwistWithCovariance twist" LOGW_SEP header LOGW_SEP \
+    "geometry_msgs/PoseWithCovariance\ngeometry_msgs/Pose pose\nfloat64[36] covariance" LOGW_SEP \
+    "geometry_msgs/Pose\ngeometry_msgs/Point position\ngeometry_msgs/Quaternion orientation" LOGW_SEP \
+    "geometry_msgs/Point\nfloat64 x\nfloat64 y\nfloat64 z" LOGW_SEP \
+    "geometry_msgs/Quaternion\nfloat64 x" qdefault(0) "\nfloat64 y" qdefault(0) "\nfloat64 z" qdefault(0) \
+    "\nfloat64 w" qdefault(1) LOGW_SEP \
+    "geometry_msgs/TwistWithCovariance\ngeometry_msgs/Twist twist\nfloat64[36] covariance" LOGW_SEP \
+    "geometry_msgs/Twist\ngeometry_msgs/Vector3 linear\ngeometry_msgs/Vector3 angular" LOGW_SEP \
+    "geometry_msgs/Vector3\nfloat64 x\nfloat64 y\nfloat64 z"
+#define LOGW_NO_DEFAULT(v) ""
+#define LOGW_DEFAULT(v) " " #v
 
-static void lw_field(struct logw_buf *h, const char *name, const void *v, size_t n)
-{
-    lw_uint(h, strlen(name) + 1 + n, 4);
-    lw_raw(h, name, strlen(name));
-    lw_raw(h, "=", 1);
-    lw_raw(h, v, n);
-}
-
-static void lw_field_u(struct logw_buf *h, const char *name, uint64_t v, int n)
-{
-    unsigned char t[8];
-    for (int k = 0; k < n; k++) t[k] = (unsigned char)(v >> (8 * k));
-    lw_field(h, name, t, (size_t)n);
-}
-
-static void lw_record(FILE *f, const struct logw_buf *h, const void *data, size_t n)
-{
-    unsigned char t[4];
-    for (int k = 0; k < 4; k++) t[k] = (unsigned char)(h->len >> (8 * k));
-    fwrite(t, 1, 4, f);
-    fwrite(h->p, 1, h->len, f);
-    for (int k = 0; k < 4; k++) t[k] = (unsigned char)(n >> (8 * k));
-    fwrite(t, 1, 4, f);
-    if (n) fwrite(data, 1, n, f);
-}
-
-/* The topics: name, ROS 1 type, its definition's MD5 (the ROS 1 message
- * checksums of these two standard types) and the ROS 2 schema name. */
-static const struct {
-    const char *topic, *type, *md5, *ros2;
-} logw_topics[2] = {
-    {"/points", "sensor_msgs/PointCloud2", "1158d486dd51d683ce2f1be655c3c181", "sensor_msgs/msg/PointCloud2"},
-    {"/odom", "nav_msgs/Odometry", "cd5e73d190d741a2f92e81eda573aca7", "nav_msgs/msg/Odometry"},
+const struct logw_topic logw_topics[LOGW_TOPICS] = {
+    [LOGW_POINTS] = {"/points", "sensor_msgs/PointCloud2", "1158d486dd51d683ce2f1be655c3c181",
+                     LOGW_CLOUD(LOGW_R1_HEADER, LOGW_FIELD_CONSTS), "sensor_msgs/msg/PointCloud2",
+                     LOGW_CLOUD(LOGW_R2_HEADER, "")},
+    [LOGW_ODOM] = {"/odom", "nav_msgs/Odometry", "cd5e73d190d741a2f92e81eda573aca7",
+                   LOGW_ODOM(LOGW_R1_HEADER, LOGW_NO_DEFAULT), "nav_msgs/msg/Odometry",
+                   LOGW_ODOM(LOGW_R2_HEADER, LOGW_DEFAULT)},
 };
-
-static void lw_bag_start(FILE *f, struct logw_buf *h)
-{
-    fputs("#ROSBAG V2.0\n", f);
-    lw_begin(h, 0);
-    lw_field(h, "op", "\x03", 1);
-    lw_field_u(h, "index_pos", 0, 8);  /* no index: a reader walks the records */
-    lw_field_u(h, "conn_count", 2, 4);
-    lw_field_u(h, "chunk_count", 0, 4);
-    char pad[4096];
-    memset(pad, ' ', sizeof pad);
-    lw_record(f, h, pad, 4096 - 13 - 8 - h->len);
-    for (uint32_t k = 0; k < 2; k++) {
-        struct logw_buf d = {0};
-        lw_begin(h, 0);
-        lw_field(h, "op", "\x07", 1);
-        lw_field_u(h, "conn", k, 4);
-        lw_field(h, "topic", logw_topics[k].topic, strlen(logw_topics[k].topic));
-        lw_field(&d, "topic", logw_topics[k].topic, strlen(logw_topics[k].topic));
-        lw_field(&d, "type", logw_topics[k].type, strlen(logw_topics[k].type));
-        lw_field(&d, "md5sum", logw_topics[k].md5, 32);
-        lw_field(&d, "message_definition", "", 0);
-        lw_record(f, h, d.p, d.len);
-        h->oom |= d.oom;
-        free(d.p);
-    }
-}
-
-static void lw_bag_msg(FILE *f, struct logw_buf *h, uint32_t conn, double t, const struct logw_buf *m)
-{
-    double sec = floor(t);
-    uint64_t ns = (uint64_t)llround((t - sec) * 1e9);
-    if (ns >= 1000000000u) { sec += 1; ns -= 1000000000u; }
-    lw_begin(h, 0);
-    lw_field(h, "op", "\x02", 1);
-    lw_field_u(h, "conn", conn, 4);
-    lw_field_u(h, "time", (uint64_t)(uint32_t)sec | ns << 32, 8);
-    lw_record(f, h, m->p, m->len);
-}
-
-/* ---- MCAP: "opcode, uint64 length, content" records ---- */
-
-#define LW_SEP "\n================================================================================\nMSG: "
-#define LW_HEADER "std_msgs/Header\nbuiltin_interfaces/Time stamp\nstring frame_id" LW_SEP \
-                  "builtin_interfaces/Time\nint32 sec\nuint32 nanosec"
-static const char *const logw_schemas[2] = {
-    "std_msgs/Header header\nuint32 height\nuint32 width\nsensor_msgs/PointField[] fields\nbool is_bigendian\n"
-    "uint32 point_step\nuint32 row_step\nuint8[] data\nbool is_dense" LW_SEP LW_HEADER LW_SEP
-    "sensor_msgs/PointField\nstring name\nuint32 offset\nuint8 datatype\nuint32 count",
-    "std_msgs/Header header\nstring child_frame_id\ngeometry_msgs/PoseWithCovariance pose\n"
-    "geometry_msgs/TwistWithCovariance twist" LW_SEP LW_HEADER LW_SEP
-    "geometry_msgs/PoseWithCovariance\ngeometry_msgs/Pose pose\nfloat64[36] covariance" LW_SEP
-    "geometry_msgs/Pose\ngeometry_msgs/Point position\ngeometry_msgs/Quaternion orientation" LW_SEP
-    "geometry_msgs/Point\nfloat64 x\nfloat64 y\nfloat64 z" LW_SEP
-    "geometry_msgs/Quaternion\nfloat64 x 0\nfloat64 y 0\nfloat64 z 0\nfloat64 w 1" LW_SEP
-    "geometry_msgs/TwistWithCovariance\ngeometry_msgs/Twist twist\nfloat64[36] covariance" LW_SEP
-    "geometry_msgs/Twist\ngeometry_msgs/Vector3 linear\ngeometry_msgs/Vector3 angular" LW_SEP
-    "geometry_msgs/Vector3\nfloat64 x\nfloat64 y\nfloat64 z",
-};
-
-static void lw_mcap_record(FILE *f, uint8_t op, const struct logw_buf *c)
-{
-    unsigned char t[9];
-    t[0] = op;
-    for (int k = 0; k < 8; k++) t[1 + k] = (unsigned char)((uint64_t)c->len >> (8 * k));
-    fwrite(t, 1, 9, f);
-    if (c->len) fwrite(c->p, 1, c->len, f);
-}
-
-static void lw_mcap_start(FILE *f, struct logw_buf *c)
-{
-    fwrite("\x89MCAP0\r\n", 1, 8, f);
-    lw_begin(c, 0);
-    lw_str(c, "ros2");
-    lw_str(c, "revisit");
-    lw_mcap_record(f, 0x01, c);
-    for (uint16_t k = 0; k < 2; k++) {
-        lw_begin(c, 0);
-        lw_uint(c, k + 1u, 2);
-        lw_str(c, logw_topics[k].ros2);
-        lw_str(c, "ros2msg");
-        lw_str(c, logw_schemas[k]);   /* uint32 length + bytes, as a string */
-        lw_mcap_record(f, 0x03, c);
-        lw_begin(c, 0);
-        lw_uint(c, k, 2);
-        lw_uint(c, k + 1u, 2);
-        lw_str(c, logw_topics[k].topic);
-        lw_str(c, "cdr");
-        lw_uint(c, 0, 4);             /* empty metadata map */
-        lw_mcap_record(f, 0x04, c);
-    }
-}
-
-static void lw_mcap_msg(FILE *f, struct logw_buf *c, uint16_t ch, uint32_t seq, double t, const struct logw_buf *m)
-{
-    double sec = floor(t);
-    uint64_t ns = (uint64_t)llround((t - sec) * 1e9), when = (uint64_t)sec * 1000000000u + ns;
-    lw_begin(c, 0);
-    lw_uint(c, ch, 2);
-    lw_uint(c, seq, 4);
-    lw_uint(c, when, 8);
-    lw_uint(c, when, 8);
-    lw_raw(c, m->p, m->len);
-    lw_mcap_record(f, 0x05, c);
-}
-
-static void lw_mcap_end(FILE *f, struct logw_buf *c)
-{
-    lw_begin(c, 0);
-    lw_uint(c, 0, 4);                 /* data end: no CRC */
-    lw_mcap_record(f, 0x0f, c);
-    lw_begin(c, 0);
-    lw_uint(c, 0, 8);                 /* footer: no summary section */
-    lw_uint(c, 0, 8);
-    lw_uint(c, 0, 4);
-    lw_mcap_record(f, 0x02, c);
-    fwrite("\x89MCAP0\r\n", 1, 8, f);
-}
 
 enum logf_kind logw_kind_of(const char *path)
 {
@@ -287,28 +166,41 @@ enum logf_kind logw_kind_of(const char *path)
     return 0;
 }
 
+/* A stamp in whole nanoseconds (t is checked to lie in 0 .. 2^32 s). */
+static uint64_t logw_ns(double t)
+{
+    double sec = floor(t);
+    return (uint64_t)sec * 1000000000u + (uint64_t)llround((t - sec) * 1e9);
+}
+
+static void logw_out_free(struct logw_out *o)
+{
+    free(o->rec.p);
+    free(o->chunk.p);
+    free(o->tail.p);
+    for (int k = 0; k < LOGW_TOPICS; k++) free(o->index[k].p);
+}
+
 static int logw_scans(const struct recording *r, FILE *f, enum logf_kind kind, struct err *e)
 {
-    struct logw_buf h = {0}, m = {0};
+    const struct logw_container *w = kind == LOGF_MCAP ? &logw_mcap : &logw_bag;
+    struct logw_out o = {.f = f};
+    struct logw_buf m = {0};
     struct cloud c;
     cloud_init(&c);
-    int rc = 0, cdr = kind == LOGF_MCAP;
-    if (cdr) lw_mcap_start(f, &h);
-    else lw_bag_start(f, &h);
+    int rc = w->start(&o, e), cdr = kind == LOGF_MCAP;
     for (size_t k = 0; !rc && k < r->n; k++) {
         size_t dropped;
         if (recording_load_scan(r, k, &c, &dropped, e)) { rc = -1; break; }
-        double t = r->poses[k].t;
-        lw_cloud(&m, cdr, t, &c);
-        if (cdr) lw_mcap_msg(f, &h, 0, (uint32_t)(2 * k), t, &m);
-        else lw_bag_msg(f, &h, 0, t, &m);
-        lw_odom(&m, cdr, &r->poses[k]);
-        if (cdr) lw_mcap_msg(f, &h, 1, (uint32_t)(2 * k + 1), t, &m);
-        else lw_bag_msg(f, &h, 1, t, &m);
-        if (h.oom || m.oom) rc = err_set(e, "out of memory writing scan %zu", k);
+        uint64_t t = logw_ns(r->poses[k].t);
+        logw_cloud(&m, cdr, t, &c);
+        rc = m.oom ? err_set(e, "out of memory writing scan %zu", k) : w->message(&o, LOGW_POINTS, t, &m, e);
+        if (rc) break;
+        logw_odom(&m, cdr, t, &r->poses[k]);
+        rc = m.oom ? err_set(e, "out of memory writing scan %zu", k) : w->message(&o, LOGW_ODOM, t, &m, e);
     }
-    if (!rc && cdr) lw_mcap_end(f, &h);
-    free(h.p);
+    if (!rc) rc = w->end(&o, e);
+    logw_out_free(&o);
     free(m.p);
     cloud_free(&c);
     return rc;
