@@ -5,9 +5,11 @@
  * intensity as float32, then ring as uint16 and time as float32 when the
  * scans have them, frame "sensor", stamped with the scan's pose time) and
  * /odom (nav_msgs/Odometry, frame "world", child "sensor", the scan's pose
- * at the same stamp).  LOGF_BAG writes a ROS 1 bag 2.0 of top-level
- * connection and message records (no chunks, no index, no message
- * definitions: bag.h reads it, tools that need the index do not);
+ * at the same stamp).  LOGF_BAG writes a ROS 1 bag 2.0 with its index:
+ * uncompressed chunks of about 1 MiB, each followed by its index data
+ * records, then the connection and chunk info records the bag header
+ * points at, and the full ROS 1 message definitions (logwrite_bag.c;
+ * tests/xcheck_bag_written.py opens it with python3-rosbag);
  * LOGF_MCAP writes an MCAP file with ros2msg schemas, CDR messages and no
  * summary section (tests/xcheck_mcap.py opens it with @mcap/core).  Reading it back
  * with `revisit log FILE --scans /points --poses /odom` gives the same
