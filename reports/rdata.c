@@ -136,6 +136,7 @@ static const char *cell_header(const cJSON *root, struct rdata_cell *c)
     const cJSON *m = cJSON_GetObjectItemCaseSensitive(root, "method");
     cut = first_cut(cut, json_str(m, "name", c->method, sizeof c->method));
     cut = first_cut(cut, json_str(m, "label", c->label, sizeof c->label));
+    cut = first_cut(cut, json_str(m, "alias", c->alias, sizeof c->alias));
     if (!c->label[0]) snprintf(c->label, sizeof c->label, "%s", c->method);
     const cJSON *rec = cJSON_GetObjectItemCaseSensitive(root, "recordings");
     cut = first_cut(cut, json_str(rec, "map", c->rec_map, sizeof c->rec_map));

@@ -37,7 +37,7 @@ struct rdata_metric {
 struct rdata_cell {
     char id[256];              /* folder name under cells/, or "." */
     char dir[4096];            /* folder holding result.json */
-    char method[256], label[1024];
+    char method[256], label[1024], alias[256];   /* alias: the scenario's short name, or "" */
     char cond[256], chain[512], on[32];
     unsigned long long seed;
     int has_axis;              /* condition.axis present */

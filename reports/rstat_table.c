@@ -123,7 +123,7 @@ static void method_names(const struct rdata_set *s, struct rstat_table *t)
         int shared = !c->method[0];
         for (size_t i = 0; i < s->n && !shared; i++)
             shared = t->cell_method[i] != m && !strcmp(s->cells[i].method, c->method);
-        t->methods[m] = shared ? t->labels[m] : c->method;
+        t->methods[m] = c->alias[0] ? c->alias : shared ? t->labels[m] : c->method;
     }
 }
 

@@ -312,10 +312,53 @@ static void check_metric_table(void)
     }
 }
 
+/* Short names: an "alias" names a method in cell ids, criteria and
+ * tables; the label keeps the full settings for eval. */
+static void check_alias(void)
+{
+#define AL(methods, crit) HEAD "\"methods\": [" methods "], " C1 ", \"criteria\": [" crit "]}"
+    const char *t = AL("{\"name\": \"scan-context\", \"variants\": [{\"alias\": \"sc-fine\", \"rings\": 40}, {\"rings\": 20}]},"
+                       " {\"name\": \"m2dp\", \"alias\": \"m2\"}",
+                       "{\"metric\": \"ap\", \"method\": \"sc-fine\", \"condition\": \"c\", \"comparator\": \">\", \"threshold\": 0},"
+                       " {\"metric\": \"ap\", \"method\": \"scan-context:rings=20\", \"condition\": \"c\", \"comparator\": \">\", \"threshold\": 0}");
+    struct plan p;
+    struct err e;
+    int rc = plan_parse(&p, t, strlen(t), "sw.json", &e);
+    CHECK(rc == 0, "a scenario with aliases loads");
+    if (rc) { fprintf(stderr, "%s\n", e.msg); return; }
+    CHECK(!strcmp(p.methods[0].label, "scan-context:rings=40") && !strcmp(p.methods[0].name, "sc-fine") &&
+          p.methods[0].has_alias, "a variant's alias is its name; the label keeps the settings without it");
+    CHECK(!strcmp(p.methods[1].name, "scan-context:rings=20") && !p.methods[1].has_alias,
+          "a variant without an alias is named by its label");
+    CHECK(!strcmp(p.methods[2].label, "m2dp") && !strcmp(p.methods[2].name, "m2"), "a method's own alias");
+    CHECK(!strcmp(p.cells[0].id, "sc-fine__c__s1") && !strcmp(p.cells[2].id, "m2__c__s1"), "cell ids use the alias");
+    CHECK(!strcmp(p.cells[1].id, "scan-context_rings-20__c__s1"), "cell ids without an alias are unchanged");
+    CHECK(p.criteria[0].method == 0 && p.criteria[1].method == 1, "criteria name a method by alias or by label");
+    CHECK(strstr(p.criteria[0].text, "of sc-fine on c") != NULL, "a criterion's own text names the alias");
+    plan_free(&p);
+    CHECK_MSG(bad(AL("{\"name\": \"a\", \"variants\": [{\"alias\": \"x\", \"k\": 1}, {\"alias\": \"x\", \"k\": 2}]}", "")),
+              "sw.json:1:123: methods[0].variants[1].alias: two methods are called 'x'", "two variants with one alias are refused");
+    CHECK_MSG(bad(AL("{\"name\": \"a\", \"alias\": \"b\"}, {\"name\": \"b\"}", "")),
+              "sw.json:1:101: methods[1].name: two methods are called 'b'", "an alias equal to another method's name is refused");
+    CHECK_MSG(bad(AL("{\"name\": \"a\", \"variants\": [{\"alias\": \"x\", \"k\": 1}, {\"k\": 2, \"alias\": \"a:k=1\"}]}", "")),
+              "methods[0].variants[1].alias: 'a:k=1' is not a plain word", "an alias that is not a plain word is refused");
+    CHECK_MSG(bad(AL("{\"name\": \"a\", \"alias\": \"fine tuned\"}", "")),
+              "methods[0].alias: 'fine tuned' is not a plain word", "an alias with a space is refused");
+    CHECK_MSG(bad(AL("{\"name\": \"a\", \"alias\": \"x\", \"variants\": [{\"k\": 1}]}", "")),
+              "methods[0].alias: a method with variants", "an alias beside variants is refused");
+    CHECK_MSG(bad(AL("{\"name\": \"a\", \"variants\": [{\"alias\": 5, \"k\": 1}]}", "")),
+              "methods[0].variants[0].alias: expected a non-empty string", "a number as alias is refused");
+    CHECK_MSG(bad(AL("{\"name\": \"a\", \"alias\": \"x\"}",
+                     "{\"metric\": \"ap\", \"method\": \"y\", \"condition\": \"c\", \"comparator\": \">\", \"threshold\": 0}")),
+              "criteria[0].method: no method 'y' in methods, expected one of x", "a criterion naming no method is refused, listing the names");
+#undef AL
+}
+
 int main(void)
 {
     check_good();
     check_metric_table();
+    check_alias();
     check_chain_axis();
     check_chain_text();
     check_stages_alone();

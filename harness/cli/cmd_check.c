@@ -42,8 +42,8 @@ static void check_line(FILE *f, const struct plan *p, const struct summary_verdi
              r->baseline >= 0 ? p->conds[r->baseline].name : "", plan_cmp_name(r->cmp), r->threshold);
     if (heading) fprintf(f, "criterion %zu: %s\n  rule: %s\n", v->criterion + 1, r->text, rule);
     fprintf(f, "  %s  %-30s measured %9s  interval [%s, %s]  over %zu seed%s\n", v->pass ? "PASS" : "FAIL",
-            p->methods[v->method].label, meas, lo, hi, v->seeds, v->seeds == 1 ? "" : "s");
-    snprintf(msg, n, "%s of %s is %s, expected %s %g", rule, p->methods[v->method].label, meas,
+            p->methods[v->method].name, meas, lo, hi, v->seeds, v->seeds == 1 ? "" : "s");
+    snprintf(msg, n, "%s of %s is %s, expected %s %g", rule, p->methods[v->method].name, meas,
              plan_cmp_name(r->cmp), r->threshold);
 }
 
@@ -56,7 +56,7 @@ static int check_junit(const char *path, const struct plan *p, const struct summ
     int rc = c && names ? 0 : err_set(e, "out of memory");
     snprintf(classname, sizeof classname, "revisit.%s", p->name ? p->name : "scenario");
     for (size_t k = 0; !rc && k < n; k++) {
-        snprintf(names[k], sizeof names[k], "%s [%s]", p->criteria[v[k].criterion].text, p->methods[v[k].method].label);
+        snprintf(names[k], sizeof names[k], "%s [%s]", p->criteria[v[k].criterion].text, p->methods[v[k].method].name);
         c[k] = (struct junit_case){names[k], classname, v[k].pass, v[k].pass ? NULL : table_msgs + 512 * k};
     }
     if (!rc) rc = junit_write(path, "revisit check", c, n, e);

@@ -311,24 +311,64 @@ static int pl_setting(const struct pl *c, const cJSON *it, const char *jp, char 
     return 0;
 }
 
-static int pl_add_method(const struct pl *c, struct plan *p, const char *label, const char *jp)
+/* Append a method; alias (NULL: none) must be a plain word, and no two
+ * methods may share a label or a name (an alias equal to another method's
+ * label would name two methods too).  jp names the entry, ajp its alias. */
+static int pl_add_method(const struct pl *c, struct plan *p, const char *label, const char *alias,
+                         const char *jp, const char *ajp)
 {
-    for (size_t k = 0; k < p->n_methods; k++)
-        if (!strcmp(p->methods[k].label, label)) return pl_fail(c, jp, "method '%s' given twice", label);
+    if (alias && !pl_plain(alias))
+        return pl_fail(c, ajp, "'%s' is not a plain word, expected letters, digits, '.', '_', '-'", alias);
+    const char *mine = alias ? alias : label;
+    for (size_t k = 0; k < p->n_methods; k++) {
+        const struct plan_method *o = &p->methods[k];
+        if (!strcmp(o->label, label)) return pl_fail(c, jp, "method '%s' given twice", label);
+        if (!strcmp(o->name, mine) || !strcmp(o->label, mine) || !strcmp(o->name, label))
+            return pl_fail(c, alias ? ajp : jp, "two methods are called '%s', expected a name of its own for each",
+                           !strcmp(o->name, label) ? label : mine);
+    }
     struct plan_method *m = realloc(p->methods, (p->n_methods + 1) * sizeof *m);
     if (!m) return pl_fail(c, jp, "out of memory");
     p->methods = m;
-    if (!(m[p->n_methods].label = pl_dup(label))) return pl_fail(c, jp, "out of memory");
+    m += p->n_methods;
+    memset(m, 0, sizeof *m);
     p->n_methods++;
+    m->label = pl_dup(label);
+    m->name = pl_dup(alias ? alias : label);
+    m->has_alias = alias != NULL;
+    if (!m->label || !m->name) return pl_fail(c, jp, "out of memory");
     return 0;
+}
+
+/* One variant object: settings "key": value, and an optional "alias". */
+static int pl_variant(const struct pl *c, const cJSON *v, const char *el, const char *name, struct plan *p)
+{
+    char label[1024], ajp[JP];
+    const char *alias = NULL;
+    if (!cJSON_IsObject(v)) return pl_fail(c, el, "expected an object of settings");
+    snprintf(label, sizeof label, "%s", name);
+    for (const cJSON *it = v->child; it; it = it->next) {
+        char kp[JP];
+        pl_join(kp, el, it->string);
+        if (!strcmp(it->string, "alias")) {
+            if (pl_str(c, v, el, "alias", 1, &alias)) return -1;
+            continue;
+        }
+        if (!it->string[0] || !pl_plain(it->string)) return pl_fail(c, kp, "expected a plain setting name");
+        if (pl_setting(c, it, kp, label, sizeof label)) return -1;
+    }
+    pl_join(ajp, el, "alias");
+    return pl_add_method(c, p, label, alias, el, ajp);
 }
 
 static int pl_method(const struct pl *c, const cJSON *o, const char *jp, struct plan *p)
 {
-    static const char *const keys[] = {"name", "variants", NULL};
-    const char *name = NULL;
-    if (pl_keys(c, o, jp, keys) || pl_str(c, o, jp, "name", 1, &name)) return -1;
-    char sub[JP], el[JP], label[1024];
+    static const char *const keys[] = {"name", "alias", "variants", NULL};
+    const char *name = NULL, *alias = NULL;
+    if (pl_keys(c, o, jp, keys) || pl_str(c, o, jp, "name", 1, &name) || pl_str(c, o, jp, "alias", 0, &alias))
+        return -1;
+    char sub[JP], el[JP], ajp[JP];
+    pl_join(ajp, jp, "alias");
     if (strpbrk(name, ":,=+ ")) {
         pl_join(sub, jp, "name");
         return pl_fail(c, sub, "'%s' holds settings, expected them under \"variants\"", name);
@@ -336,23 +376,16 @@ static int pl_method(const struct pl *c, const cJSON *o, const char *jp, struct 
     const cJSON *vs = pl_get(o, "variants");
     if (!vs) {
         pl_join(sub, jp, "name");
-        return pl_add_method(c, p, name, sub);
+        return pl_add_method(c, p, name, alias, sub, ajp);
     }
+    if (alias) return pl_fail(c, ajp, "a method with variants, expected an \"alias\" in each variant instead");
     pl_join(sub, jp, "variants");
     if (!cJSON_IsArray(vs) || !cJSON_GetArraySize(vs))
         return pl_fail(c, sub, "expected a non-empty list of setting objects");
     size_t k = 0;
     for (const cJSON *v = vs->child; v; v = v->next, k++) {
         pl_index(el, sub, k);
-        if (!cJSON_IsObject(v)) return pl_fail(c, el, "expected an object of settings");
-        snprintf(label, sizeof label, "%s", name);
-        for (const cJSON *it = v->child; it; it = it->next) {
-            char kp[JP];
-            pl_join(kp, el, it->string);
-            if (!it->string[0] || !pl_plain(it->string)) return pl_fail(c, kp, "expected a plain setting name");
-            if (pl_setting(c, it, kp, label, sizeof label)) return -1;
-        }
-        if (pl_add_method(c, p, label, el)) return -1;
+        if (pl_variant(c, v, el, name, p)) return -1;
     }
     return 0;
 }
@@ -566,14 +599,18 @@ static int pl_select_method(const struct pl *c, const cJSON *o, const char *jp, 
     pl_join(sub, jp, "method");
     long found = -1, hits = 0;
     size_t len = strlen(m);
+    for (size_t k = 0; k < p->n_methods; k++)
+        if (!strcmp(p->methods[k].name, m) || !strcmp(p->methods[k].label, m)) { *out = (long)k; return 0; }
     for (size_t k = 0; k < p->n_methods; k++) {
         const char *l = p->methods[k].label;
-        if (!strcmp(l, m)) { *out = (long)k; return 0; }
         if (!strncmp(l, m, len) && l[len] == ':') { found = (long)k; hits++; }
     }
     if (hits == 1) { *out = found; return 0; }
     if (hits > 1) return pl_fail(c, sub, "'%s' names %ld variants, expected one full label", m, hits);
-    return pl_fail(c, sub, "no method '%s' in methods", m);
+    char names[512] = "";
+    for (size_t k = 0; k < p->n_methods; k++)
+        snprintf(names + strlen(names), sizeof names - strlen(names), "%s%s", k ? ", " : "", p->methods[k].name);
+    return pl_fail(c, sub, "no method '%s' in methods, expected one of %s", m, names);
 }
 
 static int pl_op_metric(const char *m)
@@ -664,7 +701,7 @@ static int pl_criterion(const struct pl *c, const cJSON *o, const char *jp, cons
             snprintf(at, sizeof at, " at the threshold tuned on %s (%s)", p->conds[r->tuned_on].name,
                      oppoint_rule_name(r->op.rule));
         snprintf(t, sizeof t, "%s %s of %s on %s%s %s %g", plan_target_name(r->target), metric,
-                 r->method < 0 ? "every method" : p->methods[r->method].label, p->conds[r->cond].name, at,
+                 r->method < 0 ? "every method" : p->methods[r->method].name, p->conds[r->cond].name, at,
                  plan_cmp_name(r->cmp), r->threshold);
         if (!(r->text = pl_dup(t))) return pl_fail(c, jp, "out of memory");
     }
@@ -737,7 +774,7 @@ static int pl_cell(const struct pl *c, struct plan *p, size_t m, size_t ci, long
 {
     const struct plan_cond *d = &p->conds[ci];
     char mid[96], val[64] = "";
-    pl_id_part(mid, sizeof mid, p->methods[m].label);
+    pl_id_part(mid, sizeof mid, p->methods[m].name);
     cell->method = m;
     cell->cond = ci;
     cell->seed = seed;
@@ -836,7 +873,10 @@ int plan_load(struct plan *p, const char *path, struct err *e)
 void plan_free(struct plan *p)
 {
     if (!p) return;
-    for (size_t k = 0; k < p->n_methods; k++) free(p->methods[k].label);
+    for (size_t k = 0; k < p->n_methods; k++) {
+        free(p->methods[k].label);
+        free(p->methods[k].name);
+    }
     for (size_t k = 0; k < p->n_conds; k++) {
         struct plan_cond *d = &p->conds[k];
         free(d->name); free(d->chain); free(d->on); free(d->axis_stage); free(d->axis_key);

@@ -36,6 +36,9 @@
 
 struct plan_method {
     char *label;          /* "name" or "name:key=value,...", what eval_run takes */
+    char *name;           /* what the method is called in cell ids, tables, criteria and
+                           * verdicts: its "alias" in the scenario, else the label */
+    int has_alias;        /* name is an alias given in the scenario */
 };
 
 struct plan_cond {

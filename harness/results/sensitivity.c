@@ -275,7 +275,7 @@ int sens_write(const struct summary *s, const struct sens_row *rows, size_t n, s
         const struct sens_row *x = &rows[r];
         const struct plan_cond *d = &s->p->conds[x->cond];
         fputs(x->kind == SENS_AXIS ? "axis" : "stage", a.f);
-        sn_quoted(a.f, s->p->methods[x->method].label);
+        sn_quoted(a.f, s->p->methods[x->method].name);
         fprintf(a.f, ",%s", d->name);
         sn_quoted(a.f, x->parameter);
         fprintf(a.f, ",%s", x->unit);

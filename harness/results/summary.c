@@ -108,7 +108,7 @@ static void sm_keys(FILE *f, const struct plan *p, size_t k)
 {
     const struct plan_cell *c = &p->cells[k];
     const struct plan_cond *d = &p->conds[c->cond];
-    fprintf(f, "\"%s\",%s,%s,%s", p->methods[c->method].label, d->name,
+    fprintf(f, "\"%s\",%s,%s,%s", p->methods[c->method].name, d->name,
             c->has_axis ? d->axis_stage : "", c->has_axis ? d->axis_key : "");
     if (c->has_axis) sm_num(f, c->axis_value);
     else fputs(",", f);
@@ -207,7 +207,7 @@ static cJSON *sm_keys_json(const struct plan *p, size_t k)
     const struct plan_cell *c = &p->cells[k];
     const struct plan_cond *d = &p->conds[c->cond];
     cJSON *o = cJSON_CreateObject();
-    cJSON_AddStringToObject(o, "method", p->methods[c->method].label);
+    cJSON_AddStringToObject(o, "method", p->methods[c->method].name);
     cJSON_AddStringToObject(o, "condition", d->name);
     cell_json_axis(o, p, k);
     return o;
@@ -259,6 +259,13 @@ static int sm_write_json(const struct summary *s, struct err *e)
     cJSON_AddNumberToObject(root, "cells_total", (double)s->p->n_cells);
     cJSON_AddNumberToObject(root, "cells_done", (double)s->n_done);
     cJSON_AddNumberToObject(root, "cells_failed", (double)s->n_failed);
+    cJSON *methods = cJSON_AddArrayToObject(root, "methods");
+    for (size_t m = 0; methods && m < s->p->n_methods; m++) {
+        cJSON *o = cJSON_CreateObject();
+        cJSON_AddStringToObject(o, "name", s->p->methods[m].name);
+        cJSON_AddStringToObject(o, "label", s->p->methods[m].label);
+        cJSON_AddItemToArray(methods, o);
+    }
     cJSON *cells = cJSON_AddArrayToObject(root, "cells"), *groups = cJSON_AddArrayToObject(root, "groups");
     for (size_t k = 0; k < s->p->n_cells; k++) cJSON_AddItemToArray(cells, sm_cell_json(s, k));
     for (size_t k = 0, end; k < s->p->n_cells; k = end) {

@@ -268,7 +268,7 @@ int summary_write_verdicts(const struct summary *s, const struct summary_verdict
         cJSON *o = cJSON_CreateObject();
         cJSON_AddStringToObject(o, "criterion", r->text);
         cJSON_AddStringToObject(o, "metric", r->metric);
-        cJSON_AddStringToObject(o, "method", p->methods[v[k].method].label);
+        cJSON_AddStringToObject(o, "method", p->methods[v[k].method].name);
         cJSON_AddStringToObject(o, "condition", p->conds[r->cond].name);
         if (r->has_value) cJSON_AddNumberToObject(o, "axis_value", r->value);
         if (r->baseline >= 0) cJSON_AddStringToObject(o, "baseline", p->conds[r->baseline].name);

@@ -598,7 +598,9 @@ static cJSON *ev_result_json(const struct ev_ctx *c, struct err *e)
     cJSON_AddStringToObject(o, "software", "revisit " RV_VERSION);
     ev_str(o, "command", s->command);
     ev_str(o, "scenario_hash", s->scenario_hash);
-    cJSON_AddItemToObject(o, "method", ev_method_json(&c->plug));
+    cJSON *meth = ev_method_json(&c->plug);
+    if (s->alias) cJSON_AddStringToObject(meth, "alias", s->alias);
+    cJSON_AddItemToObject(o, "method", meth);
     cJSON_AddItemToObject(o, "condition", ev_condition_json(c));
     cJSON_AddItemToObject(o, "protocol", ev_protocol_json(c));
     cJSON *r = cJSON_AddObjectToObject(o, "recordings");

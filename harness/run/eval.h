@@ -24,6 +24,7 @@ struct eval_spec {
     const char *map_rec;       /* recording.json (or its folder) */
     const char *query_rec;     /* NULL: loop mode on map_rec */
     const char *method;        /* "name[:key=value,...]" or a path to a .so / external program */
+    const char *alias;         /* the method's short name in a scenario (result.json method.alias), or NULL */
     const char *plugin_path;   /* extra plugin search folders, ':'-separated, or NULL */
     const char *chain;         /* perturbation chain or NULL */
     const char *on;            /* "query" | "map" | "both" (default "query" in reloc, "both" in loop) */

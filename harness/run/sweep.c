@@ -71,6 +71,7 @@ void sweep_cell_spec(const struct plan *p, size_t k, const struct sweep_opts *o,
     s->map_rec = p->map_rec;
     s->query_rec = p->query_rec;
     s->method = p->methods[c->method].label;
+    s->alias = p->methods[c->method].has_alias ? p->methods[c->method].name : NULL;
     s->plugin_path = o->plugin_path;
     s->chain = c->chain;
     s->on = d->on;
@@ -143,6 +144,7 @@ static int sw_write_failed(const struct plan *p, size_t k, const char *part, con
     snprintf(name, sizeof name, "%.*s", colon ? (int)(colon - label) : (int)strlen(label), label);
     cJSON_AddStringToObject(m, "name", name);
     cJSON_AddStringToObject(m, "label", label);
+    if (p->methods[p->cells[k].method].has_alias) cJSON_AddStringToObject(m, "alias", p->methods[p->cells[k].method].name);
     cJSON_AddItemToObject(o, "condition", sw_condition_json(p, k));
     cJSON_AddStringToObject(o, "status", "failed");
     cJSON_AddStringToObject(o, "error", msg);
@@ -449,16 +451,16 @@ static void sw_print_time(FILE *f, const struct plan *p, const struct sweep_opts
         if (!cells[m]) continue;
         n_cells += cells[m];
         if (isnan(s->s_per_scan)) {
-            fprintf(f, "speed of %s: unknown (%s)\n", p->methods[m].label, s->why);
+            fprintf(f, "speed of %s: unknown (%s)\n", p->methods[m].name, s->why);
             known = 0;
             continue;
         }
         if (s->cells)
             fprintf(f, "speed of %s: %.1f ms per scan, %.2f s per cell besides describing "
-                    "(from %d finished cells)\n", p->methods[m].label, 1e3 * s->s_per_scan, s->other_s, s->cells);
+                    "(from %d finished cells)\n", p->methods[m].name, 1e3 * s->s_per_scan, s->other_s, s->cells);
         else
             fprintf(f, "speed of %s: %.1f ms per scan (measured on %d scans; retrieval, metrics and "
-                    "writing not included)\n", p->methods[m].label, 1e3 * s->s_per_scan, s->measured);
+                    "writing not included)\n", p->methods[m].name, 1e3 * s->s_per_scan, s->measured);
         total += scans[m] * s->s_per_scan + (double)cells[m] * s->other_s;
     }
     if (!n_cells) return;
