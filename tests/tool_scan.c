@@ -2,6 +2,9 @@
  *
  *   tool_scan dump IN            print "n N ring R time T" then one line per
  *                                point: x y z i [ring] [time] (9 digits)
+ *   tool_scan finite IN          the same after scan_read_finite (points with
+ *                                a non-finite coordinate dropped), with
+ *                                "dropped D" after the first line
  *   tool_scan convert IN OUT     read IN (layout by extension), write OUT:
  *                                .bin raw, .pcd PCD binary, .ply PLY binary,
  *                                .txt text; "-ascii" before the extension
@@ -22,9 +25,10 @@ static int ends_with(const char *s, const char *tail)
     return a >= b && !strcmp(s + a - b, tail);
 }
 
-static int dump(const struct cloud *c)
+static int dump(const struct cloud *c, long dropped)
 {
     printf("n %zu ring %d time %d\n", c->n, c->ring != NULL, c->time != NULL);
+    if (dropped >= 0) printf("dropped %ld\n", dropped);
     for (size_t k = 0; k < c->n; k++) {
         printf("%.9g %.9g %.9g %.9g", CLOUD_X(c, k), CLOUD_Y(c, k), CLOUD_Z(c, k), CLOUD_I(c, k));
         if (c->ring) printf(" %u", (unsigned)c->ring[k]);
@@ -41,7 +45,10 @@ int main(int argc, char **argv)
     cloud_init(&c);
     int rc = 2;
     if (argc == 3 && !strcmp(argv[1], "dump")) {
-        if (!scan_read(argv[2], SCAN_AUTO, &c, &e)) rc = dump(&c);
+        if (!scan_read(argv[2], SCAN_AUTO, &c, &e)) rc = dump(&c, -1);
+    } else if (argc == 3 && !strcmp(argv[1], "finite")) {
+        size_t d;
+        if (!scan_read_finite(argv[2], SCAN_AUTO, &c, &d, &e)) rc = dump(&c, (long)d);
     } else if (argc == 4 && !strcmp(argv[1], "convert")) {
         const char *out = argv[3];
         if (!scan_read(argv[2], SCAN_AUTO, &c, &e)) {
@@ -51,7 +58,7 @@ int main(int argc, char **argv)
             else rc = scan_write(out, scan_layout_from_path(out), &c, &e) ? 2 : 0;
         }
     } else {
-        snprintf(e.msg, sizeof e.msg, "usage: tool_scan dump IN | convert IN OUT");
+        snprintf(e.msg, sizeof e.msg, "usage: tool_scan dump IN | finite IN | convert IN OUT");
     }
     if (rc) fprintf(stderr, "%s\n", e.msg);
     cloud_free(&c);

@@ -30,7 +30,8 @@
 
 #define PCD_MAX_FIELDS 64
 #define PCD_HEADER_MAX 65536
-#define PCD_BLOCK ((size_t)64 << 10)  /* binary bodies are read in blocks of this size */
+#define PCD_BLOCK ((size_t)256 << 10)  /* binary bodies are read in blocks of this size (in cache) */
+#define PCD_HEAD_READ ((size_t)PCD_HEADER_MAX + 4096)  /* the first read: the longest header and a margin */
 /* A scan file is at most the point bound times a generous record size. */
 #define PCD_FILE_MAX ((size_t)CLOUD_MAX_POINTS * 64)
 
@@ -234,13 +235,14 @@ static double pcd_value(const unsigned char *p, char type, int size)
     }
 }
 
+/* Make room for the points; ring and time arrays exactly when the file has
+ * those fields (a buffer of the same kind from the last scan is reused: the
+ * reader overwrites every entry). */
 static int pcd_prepare(struct cloud *c, const struct pcd_header *h)
 {
-    free(c->ring);
-    free(c->time);
-    c->ring = NULL;
-    c->time = NULL;
     c->n = 0;
+    if (h->ir < 0) { free(c->ring); c->ring = NULL; }
+    if (h->it < 0) { free(c->time); c->time = NULL; }
     if (cloud_reserve(c, h->points)) return -1;
     if (h->ir >= 0 && cloud_enable_ring(c)) return -1;
     if (h->it >= 0 && cloud_enable_time(c)) return -1;
@@ -294,14 +296,45 @@ static int pcd_xyzi_leading(const struct pcd_header *h)
 #endif
 }
 
-/* Convert m consecutive binary records at p into points k0 .. k0 + m - 1. */
-static void pcd_convert(const struct pcd_header *h, const unsigned char *p, size_t k0, size_t m, int fast,
+/* 1 when the kept fields are laid out so a record unpacks by plain copies:
+ * x y z intensity float32 leading (pcd_xyzi_leading), ring (when present)
+ * uint16 and time (when present) float32, anywhere after them. */
+static int pcd_packed(const struct pcd_header *h)
+{
+    if (!pcd_xyzi_leading(h)) return 0;
+    const struct pcd_field *r = h->ir >= 0 ? &h->f[h->ir] : NULL, *t = h->it >= 0 ? &h->f[h->it] : NULL;
+    return (!r || (r->type == 'U' && r->size == 2)) && (!t || (t->type == 'F' && t->size == 4));
+}
+
+/* Points k0 .. k0 + m - 1 from m packed records at p (pcd_packed): one
+ * 16-byte copy a point, then the ring and time values by their offsets. */
+static void pcd_unpack(const struct pcd_header *h, const unsigned char *p, size_t k0, size_t m, struct cloud *c)
+{
+    const size_t ps = h->point_size;
+    float *q = c->pts + 4 * k0;
+    for (size_t k = 0; k < m; k++) memcpy(q + 4 * k, p + k * ps, 16);
+    if (c->ring) {
+        const unsigned char *s = p + h->f[h->ir].offset;
+        uint16_t *r = c->ring + k0;
+        for (size_t k = 0; k < m; k++) memcpy(r + k, s + k * ps, 2);
+    }
+    if (c->time) {
+        const unsigned char *s = p + h->f[h->it].offset;
+        float *t = c->time + k0;
+        for (size_t k = 0; k < m; k++) memcpy(t + k, s + k * ps, 4);
+    }
+}
+
+/* Convert m consecutive binary records at p into points k0 .. k0 + m - 1,
+ * field by field (any types and sizes the header allows); with lead
+ * (pcd_xyzi_leading) the first 16 bytes are copied as they stand. */
+static void pcd_convert(const struct pcd_header *h, const unsigned char *p, size_t k0, size_t m, int lead,
                         struct cloud *c)
 {
     const size_t ps = h->point_size;
     for (size_t k = k0; k < k0 + m; k++, p += ps) {
         float *q = c->pts + 4 * k;
-        if (fast) {
+        if (lead) {
             memcpy(q, p, 16);
         } else {
             q[0] = (float)pcd_get(p, &h->f[h->ix]);
@@ -327,10 +360,8 @@ static int pcd_read_n(int fd, unsigned char *buf, size_t len, const char *path, 
     return 0;
 }
 
-/* The binary body, streamed through a block buffer: the part already read
- * with the header (head[h->body .. head_len)), then the rest from fd. */
-static int pcd_body_binary(int fd, size_t size, const unsigned char *head, size_t head_len, const char *path,
-                           const struct pcd_header *h, struct cloud *c, struct err *e)
+/* The body size against POINTS: refused when short or long. */
+static int pcd_body_size(size_t size, const char *path, const struct pcd_header *h, struct err *e)
 {
     size_t have = size - h->body, ps = h->point_size;
     if (ps == 0 || have / ps < h->points)
@@ -340,38 +371,53 @@ static int pcd_body_binary(int fd, size_t size, const unsigned char *head, size_
         return err_at(e, path, 0, "binary body is %zu bytes, POINTS %zu needs %zu (%zu bytes per point): "
                       "%zu bytes more than the header declares, expected POINTS to count every point",
                       have, h->points, h->points * ps, ps, have - h->points * ps);
+    return 0;
+}
+
+/* The binary body, streamed through blk (cap bytes, which holds the part
+ * read with the header at blk[h->body .. head_len)): whole records are
+ * converted in place, the part of one left over moves to the front, the
+ * next read fills the rest.  Each block's points are checked for
+ * non-finite values while in cache (*finite 1 when none was found).
+ * Records that are cloud records as they stand are read straight into
+ * cloud.pts instead. */
+static int pcd_body_binary(int fd, size_t size, unsigned char *blk, size_t head_len, size_t cap, const char *path,
+                           const struct pcd_header *h, struct cloud *c, int *finite, struct err *e)
+{
+    if (pcd_body_size(size, path, h, e)) return -1;
     if (pcd_prepare(c, h)) return err_at(e, path, 0, "out of memory for %zu points", h->points);
-    size_t body = h->points * ps, fill = head_len - h->body, taken = 0, k = 0;
-    if (fill > body) fill = body;
-    /* whole records, at least one, and room for what came with the header */
-    size_t cap = ((fill > PCD_BLOCK ? fill : PCD_BLOCK) / ps + 1) * ps;
-    unsigned char *blk = malloc(cap);
-    if (!blk) return err_at(e, path, 0, "out of memory");
-    int fast = pcd_xyzi_leading(h), rc = 0;
-    if (fast && ps == 16) {
-        /* records are cloud records as they stand: read straight into place */
-        free(blk);
-        memcpy(c->pts, head + h->body, fill);
-        rc = pcd_read_n(fd, (unsigned char *)c->pts + fill, body - fill, path, e);
+    const size_t ps = h->point_size, body = h->points * ps;
+    size_t fill = head_len - h->body < body ? head_len - h->body : body;
+    *finite = 1;
+    if (ps == 16 && pcd_xyzi_leading(h)) {
+        memcpy(c->pts, blk + h->body, fill);
+        *finite = cloud_values_finite(c->pts, fill / 4);
+        int all = 1, rc = scan_body_read_full(fd, (unsigned char *)c->pts + fill, body - fill, &all, path, e);
         if (!rc) c->n = h->points;
+        *finite = *finite && all;
         return rc;
     }
-    memcpy(blk, head + h->body, fill);
-    taken = fill;
-    while (k < h->points) {
-        size_t want = cap - fill < body - taken ? cap - fill : body - taken;
-        if (want && (rc = pcd_read_n(fd, blk + fill, want, path, e))) break;
+    const int packed = pcd_packed(h), lead = pcd_xyzi_leading(h);
+    const unsigned char *p = blk + h->body;
+    size_t taken = fill, k = 0;
+    for (;;) {
+        size_t m = fill / ps;
+        if (packed) pcd_unpack(h, p, k, m, c);
+        else pcd_convert(h, p, k, m, lead, c);
+        if (*finite) *finite = cloud_values_finite(c->pts + 4 * k, 4 * m);
+        k += m;
+        if (k == h->points) break;
+        memmove(blk, p + m * ps, fill - m * ps);
+        fill -= m * ps;
+        p = blk;
+        size_t want = cap / ps * ps - fill;  /* the block ends on a record boundary */
+        if (want > body - taken) want = body - taken;
+        if (pcd_read_n(fd, blk + fill, want, path, e)) return -1;
         fill += want;
         taken += want;
-        size_t m = fill / ps;
-        pcd_convert(h, blk, k, m, fast, c);
-        k += m;
-        memmove(blk, blk + m * ps, fill - m * ps);
-        fill -= m * ps;
     }
-    free(blk);
-    if (!rc) c->n = h->points;
-    return rc;
+    c->n = h->points;
+    return 0;
 }
 
 static uint32_t pcd_u32le(const unsigned char *p)
@@ -473,31 +519,32 @@ static int pcd_body_ascii(const unsigned char *buf, size_t len, const char *path
 }
 
 /* Open path and read its first bytes (the header, at most PCD_HEADER_MAX
- * and a margin) into a NUL-terminated buffer. */
-static int pcd_open(const char *path, int *fd, size_t *size, unsigned char **head, size_t *head_len,
+ * and a margin) into a NUL-terminated buffer of cap + 1 bytes. */
+static int pcd_open(const char *path, int *fd, size_t *size, unsigned char **head, size_t *head_len, size_t cap,
                     struct err *e)
 {
     if (fileio_open_regular(path, "a scan file", fd, size, e)) return -1;
     if (*size == 0) return err_at(e, path, 0, "file is empty, expected a scan");
     if (*size > PCD_FILE_MAX)
         return err_at(e, path, 0, "file is %zu bytes, more than the limit of %zu for a scan", *size, PCD_FILE_MAX);
-    *head_len = *size < PCD_HEADER_MAX + 4096 ? *size : PCD_HEADER_MAX + 4096;
-    if (!(*head = malloc(*head_len + 1))) return err_at(e, path, 0, "out of memory");
+    *head_len = *size < PCD_HEAD_READ ? *size : PCD_HEAD_READ;
+    if (!(*head = malloc(cap + 1))) return err_at(e, path, 0, "out of memory");
     (*head)[*head_len] = 0;
     return pcd_read_n(*fd, *head, *head_len, path, e);
 }
 
-int pcd_read(const char *path, struct cloud *c, struct err *e)
+int pcd_read_finite(const char *path, struct cloud *c, int *finite, struct err *e)
 {
     int fd = -1;
     size_t size = 0, len = 0;
     unsigned char *buf = NULL;
     c->n = 0;
+    *finite = 0;
     struct pcd_header h;
-    int rc = pcd_open(path, &fd, &size, &buf, &len, e);
+    int rc = pcd_open(path, &fd, &size, &buf, &len, PCD_BLOCK, e);
     if (!rc) rc = pcd_parse_header(buf, len, path, &h, e);
     if (!rc && h.data == PCD_BINARY) {
-        rc = pcd_body_binary(fd, size, buf, len, path, &h, c, e);
+        rc = pcd_body_binary(fd, size, buf, len, PCD_BLOCK, path, &h, c, finite, e);
     } else if (!rc) {
         /* ascii and binary_compressed: the whole file in memory */
         unsigned char *all = realloc(buf, size + 1);
@@ -512,8 +559,14 @@ int pcd_read(const char *path, struct cloud *c, struct err *e)
     }
     free(buf);
     if (fd >= 0) close(fd);
-    if (rc) c->n = 0;
+    if (rc) { c->n = 0; *finite = 0; }
     return rc;
+}
+
+int pcd_read(const char *path, struct cloud *c, struct err *e)
+{
+    int finite;
+    return pcd_read_finite(path, c, &finite, e);
 }
 
 static void pcd_write_header(FILE *f, const struct cloud *c, const char *data)

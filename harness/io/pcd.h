@@ -21,6 +21,10 @@
 #include "harness/base/err.h"
 
 int pcd_read(const char *path, struct cloud *c, struct err *e);
+/* pcd_read, and *finite 1 when every value of x y z intensity is finite
+ * (binary bodies are checked block by block while in cache), else 0 (a
+ * value was not, or the body kind is not checked here). */
+int pcd_read_finite(const char *path, struct cloud *c, int *finite, struct err *e);
 int pcd_write_binary(const char *path, const struct cloud *c, struct err *e);
 /* The same content as DATA ascii (9 significant digits). */
 int pcd_write_ascii(const char *path, const struct cloud *c, struct err *e);

@@ -20,18 +20,22 @@
 #define SCAN_TEXT_LINE_MAX 4096
 
 static int scan_read_raw_any(const char *path, struct cloud *c, struct err *e);
+static int scan_read_raw(const char *path, struct cloud *c, int *finite, struct err *e);
 static int scan_read_text(const char *path, struct cloud *c, struct err *e);
 
 /* The one table of scan formats: name, extensions (the first is written),
- * reader, writer, whether recordings may be written in it, and what a file
- * of it keeps.  index, perturb, synth and the recording writer ask here. */
+ * reader (and the one that checks finiteness while reading, if any),
+ * writer, whether recordings may be written in it, and what a file of it
+ * keeps.  index, perturb, synth and the recording writer ask here. */
 static const struct scan_format scan_formats[] = {
-    {SCAN_RAW, "raw", {".bin"}, scan_read_raw_any, scan_write_raw, 1, "x y z intensity as float32"},
-    {SCAN_PCD, "pcd", {".pcd"}, pcd_read, pcd_write_binary, 1, "x y z intensity, ring and time when present"},
-    {SCAN_PLY, "ply", {".ply"}, ply_read, ply_write_binary, 1, "x y z intensity, ring and time when present"},
-    {SCAN_TEXT, "text", {".txt", ".xyz", ".csv"}, scan_read_text, scan_write_text, 0, "x y z [intensity] as text"},
+    {SCAN_RAW, "raw", {".bin"}, scan_read_raw_any, scan_read_raw, scan_write_raw, 1, "x y z intensity as float32"},
+    {SCAN_PCD, "pcd", {".pcd"}, pcd_read, pcd_read_finite, pcd_write_binary, 1,
+     "x y z intensity, ring and time when present"},
+    {SCAN_PLY, "ply", {".ply"}, ply_read, NULL, ply_write_binary, 1, "x y z intensity, ring and time when present"},
+    {SCAN_TEXT, "text", {".txt", ".xyz", ".csv"}, scan_read_text, NULL, scan_write_text, 0,
+     "x y z [intensity] as text"},
     /* the same files as pcd (its reader reads every DATA kind), written LZF-compressed */
-    {SCAN_PCD_COMPRESSED, "pcd-compressed", {".pcd"}, pcd_read, pcd_write_compressed, 1,
+    {SCAN_PCD_COMPRESSED, "pcd-compressed", {".pcd"}, pcd_read, pcd_read_finite, pcd_write_compressed, 1,
      "x y z intensity, ring and time when present, LZF-compressed"},
 };
 #define SCAN_N_FORMATS (sizeof scan_formats / sizeof scan_formats[0])
@@ -264,10 +268,11 @@ int scan_read_finite(const char *path, enum scan_layout layout, struct cloud *c,
 {
     if (n_dropped) *n_dropped = 0;
     if (layout == SCAN_AUTO) layout = scan_layout_from_path(path);
+    const struct scan_format *f = scan_format_of(layout);
     int finite = 0;
-    if (layout == SCAN_RAW) {
+    if (f && f->read_finite) {
         c->n = 0;
-        if (scan_read_raw(path, c, &finite, e)) { c->n = 0; return -1; }
+        if (f->read_finite(path, c, &finite, e)) { c->n = 0; return -1; }
     } else if (scan_read(path, layout, c, e)) {
         return -1;
     }

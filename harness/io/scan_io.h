@@ -49,6 +49,10 @@ struct scan_format {
     const char *name;                       /* "pcd" */
     const char *exts[SCAN_FORMAT_EXTS];     /* ".pcd"; NULL after the last */
     int (*read)(const char *path, struct cloud *c, struct err *e);
+    /* the reader again, also telling whether every value of x y z
+     * intensity is finite (*finite 1; checked while the bytes are in
+     * cache), or NULL: scan_read_finite then checks after reading */
+    int (*read_finite)(const char *path, struct cloud *c, int *finite, struct err *e);
     int (*write)(const char *path, const struct cloud *c, struct err *e);
     int recording;                          /* recordings may be written in it */
     const char *keeps;                      /* what a file of it holds of a point */
@@ -81,8 +85,9 @@ const char *scan_layout_ext(enum scan_layout layout);
 int scan_read(const char *path, enum scan_layout layout, struct cloud *c, struct err *e);
 
 /* scan_read, then drop the points with a non-finite coordinate and count
- * them in *n_dropped (may be NULL).  For raw files the check runs on each
- * block as it is read, while it is still in cache. */
+ * them in *n_dropped (may be NULL).  For formats whose row has a
+ * read_finite (raw, pcd) the check runs on each block as it is read, while
+ * it is still in cache. */
 int scan_read_finite(const char *path, enum scan_layout layout, struct cloud *c, size_t *n_dropped,
                      struct err *e);
 
