@@ -20,6 +20,10 @@
 #if defined(__SSE2__)
 #include <emmintrin.h>
 #endif
+#if defined(__x86_64__) || defined(__i386__)
+#include <immintrin.h>
+#define RETR_X86 1
+#endif
 
 #include "harness/base/blas.h"
 #include "harness/base/pool.h"
@@ -66,18 +70,22 @@ static float retr_key_score(uint64_t k)
     return s;
 }
 
+typedef uint64_t (*retr_screen_fn)(int cosine, const float *r, const float *m, float qn, float bar, size_t nb,
+                                   float *sc);
+
 struct retr_dense {
     const struct retrieval_mat *map, *q;
     enum rv_distance kind;
     const struct retrieval_rule *rule;
     struct retrieval_out *out;
     size_t n_tasks;
-    int cap, room, workers;
+    int cap, room, workers, fast;
+    retr_screen_fn screen;    /* retr_screen_base or a wider one */
     float *qn, *mn;           /* squared norms (L2) or inverse norms (cosine) */
     float *blk;               /* per worker: scores */
     uint64_t *keys;           /* per worker: RETR_TQ collectors of room keys */
     int32_t *js;              /* per worker: room indices, for the re-rank */
-    double *pair;             /* per worker: re-rank scratch */
+    double *pair;             /* per worker: re-rank scratch (2 room, then dim) */
 };
 
 static void retr_dense_free(struct retr_dense *d)
@@ -137,11 +145,12 @@ static void retr_top_trim(struct retr_top *t, int cap)
 
 /* Scores of nb map rows (r: their dot products with the query, m: their
  * norms) into sc; returns a bit per score that a collector with this bar
- * may take (bit b for sc[b], NaN included).  Full chunks use SSE where the
- * target has it: the same float operations in the same order as the
- * scalar expressions, so the scores are the same bit for bit. */
-static uint64_t retr_screen(int cosine, const float *r, const float *m, float qn, float bar, size_t nb,
-                            float *sc)
+ * may take (bit b for sc[b], NaN included).  Full chunks use SSE or AVX2
+ * where the CPU has it: the same float operations in the same order as
+ * the scalar expressions (no fused multiply-add), so the scores are the
+ * same bit for bit. */
+static uint64_t retr_screen_base(int cosine, const float *r, const float *m, float qn, float bar, size_t nb,
+                                 float *sc)
 {
     uint64_t mask = 0;
 #if defined(__SSE2__)
@@ -163,6 +172,42 @@ static uint64_t retr_screen(int cosine, const float *r, const float *m, float qn
         mask |= (uint64_t)!(sc[b] >= bar) << b;
     }
     return mask;
+}
+
+#if RETR_X86
+__attribute__((target("avx2"), optimize("fp-contract=off")))
+static uint64_t retr_screen_avx2(int cosine, const float *r, const float *m, float qn, float bar, size_t nb,
+                                 float *sc)
+{
+    if (nb != RETR_CHUNK) return retr_screen_base(cosine, r, m, qn, bar, nb, sc);
+    const __m256 vq = _mm256_set1_ps(qn), vbar = _mm256_set1_ps(bar), one = _mm256_set1_ps(1.0f),
+                 two = _mm256_set1_ps(2.0f);
+    uint64_t mask = 0;
+    if (cosine) {
+        for (size_t b = 0; b < RETR_CHUNK; b += 8) {
+            __m256 v = _mm256_sub_ps(one, _mm256_mul_ps(_mm256_mul_ps(_mm256_loadu_ps(r + b), vq),
+                                                        _mm256_loadu_ps(m + b)));
+            _mm256_storeu_ps(sc + b, v);
+            mask |= (uint64_t)(uint32_t)_mm256_movemask_ps(_mm256_cmp_ps(v, vbar, _CMP_NGE_UQ)) << b;
+        }
+        return mask;
+    }
+    for (size_t b = 0; b < RETR_CHUNK; b += 8) {
+        __m256 v = _mm256_sub_ps(_mm256_add_ps(vq, _mm256_loadu_ps(m + b)), _mm256_mul_ps(two, _mm256_loadu_ps(r + b)));
+        _mm256_storeu_ps(sc + b, v);
+        mask |= (uint64_t)(uint32_t)_mm256_movemask_ps(_mm256_cmp_ps(v, vbar, _CMP_NGE_UQ)) << b;
+    }
+    return mask;
+}
+#endif
+
+static retr_screen_fn retr_screen_pick(void)
+{
+#if RETR_X86
+    __builtin_cpu_init();
+    if (__builtin_cpu_supports("avx2")) return retr_screen_avx2;
+#endif
+    return retr_screen_base;
 }
 
 /* Offer score s of map row j to a collector (the bar is passed already). */
@@ -206,11 +251,16 @@ static void retr_top_seed(const struct retr_dense *d, struct retr_top *t, size_t
         if (at < rank) low[at] = s;
     }
     if (nl < rank) return;
-    float v = low[rank - 1];
+    float v = low[rank - 1], sc[RETR_CHUNK];
     size_t below = 0;
-    for (size_t b = 0; b < n; b++)
-        if (retr_score(d, i, row, m0, b) < v && (!d->rule->loop || retrieval_is_candidate(d->rule, i, m0 + b)))
-            below++;
+    for (size_t b0 = 0; b0 < n; b0 += RETR_CHUNK) {   /* candidates scoring below v, counted exactly */
+        size_t nb = n - b0 < RETR_CHUNK ? n - b0 : RETR_CHUNK;
+        uint64_t mask = d->screen(d->kind == RV_DIST_COSINE, row + b0, d->mn + m0 + b0, d->qn[i], v, nb, sc);
+        for (; mask; mask &= mask - 1) {
+            size_t b = (size_t)__builtin_ctzll(mask);
+            below += sc[b] < v && (!d->rule->loop || retrieval_is_candidate(d->rule, i, m0 + b0 + b));
+        }
+    }
     if (below < (size_t)d->cap) return;
     t->bar = v;
     t->bar_key = retr_key(v, 0);
@@ -228,7 +278,7 @@ static void retr_feed(const struct retr_dense *d, struct retr_top *t, size_t i, 
     retr_top_seed(d, t, i, row, m0, n);
     for (size_t b0 = 0; b0 < n; b0 += RETR_CHUNK) {
         size_t nb = n - b0 < RETR_CHUNK ? n - b0 : RETR_CHUNK;
-        uint64_t mask = retr_screen(cosine, row + b0, mn + b0, qn, t->bar, nb, sc);
+        uint64_t mask = d->screen(cosine, row + b0, mn + b0, qn, t->bar, nb, sc);
         for (; mask; mask &= mask - 1) {
             size_t b = (size_t)__builtin_ctzll(mask);
             if (sc[b] >= t->bar) continue;   /* the bar may have dropped since the screen */
@@ -253,14 +303,14 @@ static void retr_prefetch(const struct retrieval_mat *map, const struct retr_top
  * and re-rank them exactly, fetching the next query's rows meanwhile. */
 static void retr_task_rank(const struct retr_dense *d, struct retr_top *tops, size_t q0, size_t nq, int w)
 {
-    double *pair = d->pair + (size_t)w * 2 * d->room;
+    double *pair = d->pair + (size_t)w * (2 * d->room + d->q->dim);
     int32_t *js = d->js + (size_t)w * d->room;
     for (size_t a = 0; a < nq; a++)
         if (tops[a].n > d->cap) retr_top_keep(&tops[a], d->cap);
     for (size_t a = 0; a < nq; a++) {
         if (a + 1 < nq) retr_prefetch(d->map, &tops[a + 1]);
         for (int c = 0; c < tops[a].n; c++) js[c] = (int32_t)(uint32_t)tops[a].key[c];
-        retr_rank(d->map, d->q, d->kind, NULL, js, tops[a].n, q0 + a, pair, d->out);
+        retr_exact(d->map, d->q, d->kind, d->fast, js, tops[a].n, q0 + a, pair + 2 * d->room, pair, d->out);
     }
 }
 
@@ -311,7 +361,9 @@ static int retr_dense_alloc(struct retr_dense *d, int k, int jobs, struct err *e
     d->blk = malloc(w * RETR_TQ * RETR_BM * sizeof *d->blk);
     d->keys = malloc(slots * sizeof *d->keys);
     d->js = malloc(w * (size_t)d->room * sizeof *d->js);
-    d->pair = malloc(w * 2 * (size_t)d->room * sizeof *d->pair);
+    d->pair = malloc(w * (2 * (size_t)d->room + d->q->dim) * sizeof *d->pair);
+    d->fast = retr_exact_fast();
+    d->screen = retr_screen_pick();
     if (!d->qn || !d->mn || !d->blk || !d->keys || !d->js || !d->pair) {
         retr_dense_free(d);
         return err_set(e, "retrieval: out of memory for %zu queries", d->q->n);

@@ -1,6 +1,6 @@
 /* retrieval_rank.h: what the two halves of the retrieval module share
  * (retrieval.c: pairs, rules, the custom path; retrieval_dense.c: the
- * sgemm path).  Internal to harness/run/retrieval*.c; see retrieval.h for
+ * sgemm path; retrieval_exact.c: its re-rank).  Internal to harness/run/retrieval*.c; see retrieval.h for
  * the module's contract.
  *
  * A candidate list is (score, index) pairs in any order; retr_rank turns
@@ -25,5 +25,12 @@ int retr_check(const struct retrieval_mat *map, const struct retrieval_mat *q,
  * only); pair is scratch of 2 n doubles.  Cannot fail. */
 void retr_rank(const struct retrieval_mat *map, const struct retrieval_mat *q, enum rv_distance kind,
                const double *s, const int32_t *j, int n, size_t i, double *pair, struct retrieval_out *o);
+
+/* retr_rank for L2 and cosine, the same output, faster: the distances in
+ * AVX2 lanes (retrieval_exact.c) when fast (retr_exact_fast() said so);
+ * a is scratch of dim doubles, pair of 2 n.  Cannot fail. */
+int retr_exact_fast(void);
+void retr_exact(const struct retrieval_mat *map, const struct retrieval_mat *q, enum rv_distance kind, int fast,
+                const int32_t *js, int n, size_t i, double *a, double *pair, struct retrieval_out *o);
 
 #endif
