@@ -108,27 +108,33 @@ static void retr_norms(const struct retrieval_mat *m, enum rv_distance kind, flo
     }
 }
 
-/* Keep the k (< n) smallest keys, in any order (selection by Hoare
- * partition; keys are distinct, since every index differs). */
+/* Keep the k (< n) smallest keys, in any order: quickselect with a
+ * median-of-three pivot and a partition without branches on the data (the
+ * keys are distinct, since every index differs).  [lo, hi) holds the k-th
+ * smallest; a pass leaves the pivot at s with smaller keys before it. */
 static void retr_top_keep(struct retr_top *t, int k)
 {
     uint64_t *v = t->key;
-    int lo = 0, hi = t->n - 1;
-    while (lo < hi) {
-        uint64_t p = v[lo + (hi - lo) / 2];
-        int a = lo, b = hi;
-        while (a <= b) {
-            while (v[a] < p) a++;
-            while (v[b] > p) b--;
-            if (a <= b) {
-                uint64_t x = v[a];
-                v[a++] = v[b];
-                v[b--] = x;
-            }
+    int lo = 0, hi = t->n;
+    while (hi - lo > 1) {
+        int m = lo + (hi - lo) / 2, e = hi - 1;
+        uint64_t a = v[lo], b = v[m], c = v[e];
+        int med = (a < b) == (b < c) ? m : (b < a) == (a < c) ? lo : e;
+        uint64_t p = v[med];
+        v[med] = c;
+        v[e] = p;
+        int s = lo;
+        for (int i = lo; i < e; i++) {
+            uint64_t x = v[i];
+            v[i] = v[s];
+            v[s] = x;
+            s += x < p;
         }
-        if (k - 1 <= b) hi = b;      /* [lo, b] <= p <= [a, hi] */
-        else if (k - 1 >= a) lo = a;
-        else break;                  /* k - 1 holds p: in place */
+        v[e] = v[s];
+        v[s] = p;
+        if (k - 1 == s) break;
+        if (k - 1 < s) hi = s;
+        else lo = s + 1;
     }
     t->n = k;
 }
@@ -229,53 +235,34 @@ static float retr_score(const struct retr_dense *d, size_t i, const float *row, 
     return d->kind == RV_DIST_COSINE ? 1.0f - r * qn * m : qn + m - 2.0f * r;
 }
 
-/* A first bar for a collector that has none yet, from these rows: the
- * rank-th smallest of about RETR_SEED evenly spaced candidate scores,
- * kept only when at least cap candidates here score below it (counted
- * exactly), so no score at or above it can reach the cap best.  It saves
- * the buffer from filling with the many early, loose entries.
- *     cap 39, 1024 rows: the 5th of 64 samples, about 80 rows below it */
-static void retr_top_seed(const struct retr_dense *d, struct retr_top *t, size_t i, const float *row,
-                          size_t m0, size_t n)
+/* Samples for a first bar: the up to RETR_SEED / 4 smallest of about
+ * RETR_SEED evenly spaced candidate scores of these rows, ascending, into
+ * low; returns their count (0: too few rows to sample). */
+static size_t retr_top_sample(const struct retr_dense *d, size_t i, const float *row, size_t m0, size_t n,
+                              float low[RETR_SEED / 4])
 {
-    size_t step = n / RETR_SEED, rank = 2 * (size_t)d->cap * RETR_SEED / (n ? n : 1) + 1;
-    if (t->bar == t->bar || step == 0 || rank > RETR_SEED / 4) return;
-    float low[RETR_SEED / 4];
-    size_t nl = 0;
-    for (size_t b = 0; b < n; b += step) {   /* the rank smallest samples, ascending */
+    size_t step = n / RETR_SEED, nl = 0, keep = RETR_SEED / 4;
+    if (step == 0) return 0;
+    for (size_t b = 0; b < n; b += step) {
         float s = retr_score(d, i, row, m0, b);
         if (s != s || (d->rule->loop && !retrieval_is_candidate(d->rule, i, m0 + b))) continue;
-        size_t at = nl < rank ? nl++ : rank;
+        size_t at = nl < keep ? nl++ : keep;
         for (; at > 0 && low[at - 1] > s; at--)
-            if (at < rank) low[at] = low[at - 1];
-        if (at < rank) low[at] = s;
+            if (at < keep) low[at] = low[at - 1];
+        if (at < keep) low[at] = s;
     }
-    if (nl < rank) return;
-    float v = low[rank - 1], sc[RETR_CHUNK];
-    size_t below = 0;
-    for (size_t b0 = 0; b0 < n; b0 += RETR_CHUNK) {   /* candidates scoring below v, counted exactly */
-        size_t nb = n - b0 < RETR_CHUNK ? n - b0 : RETR_CHUNK;
-        uint64_t mask = d->screen(d->kind == RV_DIST_COSINE, row + b0, d->mn + m0 + b0, d->qn[i], v, nb, sc);
-        for (; mask; mask &= mask - 1) {
-            size_t b = (size_t)__builtin_ctzll(mask);
-            below += sc[b] < v && (!d->rule->loop || retrieval_is_candidate(d->rule, i, m0 + b0 + b));
-        }
-    }
-    if (below < (size_t)d->cap) return;
-    t->bar = v;
-    t->bar_key = retr_key(v, 0);
+    return nl;
 }
 
 /* Feed the scores of map rows [m0, m0 + n) against query i (row: their
- * dot products) into its collector. */
-static void retr_feed(const struct retr_dense *d, struct retr_top *t, size_t i, const float *row, size_t m0,
-                      size_t n)
+ * dot products) into its collector, under its bar. */
+static void retr_feed_rows(const struct retr_dense *d, struct retr_top *t, size_t i, const float *row, size_t m0,
+                           size_t n)
 {
     const float *mn = d->mn + m0;
     const float qn = d->qn[i];
     const int cosine = d->kind == RV_DIST_COSINE, loop = d->rule->loop;
     float sc[RETR_CHUNK];
-    retr_top_seed(d, t, i, row, m0, n);
     for (size_t b0 = 0; b0 < n; b0 += RETR_CHUNK) {
         size_t nb = n - b0 < RETR_CHUNK ? n - b0 : RETR_CHUNK;
         uint64_t mask = d->screen(cosine, row + b0, mn + b0, qn, t->bar, nb, sc);
@@ -289,6 +276,29 @@ static void retr_feed(const struct retr_dense *d, struct retr_top *t, size_t i, 
     }
 }
 
+/* Feed these rows; a collector with no bar yet first tries one from the
+ * rows' samples: the rank-th smallest, then the 4 rank-th.  A tried bar v
+ * stands when at least cap candidates here score below it (they are the
+ * entries, all of them: so no score at or above v can reach the cap best);
+ * otherwise the collector is emptied and the next try, or no bar, runs.
+ * It saves the buffer from filling with the many early, loose entries.
+ *     cap 39, 1024 rows: the 5th of 64 samples, about 80 rows below it */
+static void retr_feed(const struct retr_dense *d, struct retr_top *t, size_t i, const float *row, size_t m0,
+                      size_t n)
+{
+    float low[RETR_SEED / 4];
+    size_t rank = 2 * (size_t)d->cap * RETR_SEED / (n ? n : 1) + 1, nl = 0;
+    if (t->bar != t->bar && rank <= RETR_SEED / 4) nl = retr_top_sample(d, i, row, m0, n, low);
+    for (size_t r = rank; r <= nl; r = r < nl && 4 * r > nl ? nl : 4 * r) {
+        t->bar = low[r - 1];
+        t->bar_key = retr_key(t->bar, 0);
+        retr_feed_rows(d, t, i, row, m0, n);
+        if (t->n >= d->cap) return;
+        *t = (struct retr_top){t->key, 0, NAN, UINT64_MAX};
+    }
+    retr_feed_rows(d, t, i, row, m0, n);
+}
+
 /* Ask the cache for a query's kept rows before they are re-ranked. */
 static void retr_prefetch(const struct retrieval_mat *map, const struct retr_top *t)
 {
@@ -299,18 +309,64 @@ static void retr_prefetch(const struct retrieval_mat *map, const struct retr_top
     }
 }
 
-/* Every query of a task has met every map row: keep the cap best of each
+/* A bound on |score - exact distance| for one pair, doubled: L2 scores
+ * carry at most (dim + 5) u (|q|^2 + |m|^2) (u = 2^-24: the sgemm's
+ * dot product in any order, the float norms, two float operations),
+ * cosine scores (dim + 7) u; twice that is (dim + 8) 2^-23 times the
+ * same scale.  NaN or infinity when the scores cannot be trusted. */
+static float retr_slack(const struct retr_dense *d, float qn, float mn)
+{
+    float rho = (float)(d->q->dim + 8) * 0x1p-23f;
+    return d->kind == RV_DIST_COSINE ? rho : rho * (qn + mn);
+}
+
+/* Cut a query's kept candidates to the k best and those that may still
+ * rank among them in double precision: a candidate c whose score minus
+ * its slack exceeds every k-best score plus slack is farther than each of
+ * those k in exact arithmetic by more than the double re-rank's error, so
+ * it can never enter the output; dropping it leaves the output of the
+ * re-rank over the cap best unchanged.  The rest keep their place in key
+ * order: a survivor beyond the cap best (cap or more smaller keys) is not
+ * a candidate at all.  Returns the rows to re-rank in js.
+ *     k 2, cap 3:  scores 1.0 1.2 5.0, slack 0.01  ->  rows of 1.0, 1.2 */
+static int retr_top_cut(const struct retr_dense *d, struct retr_top *t, size_t i, int32_t *js)
+{
+    int k = d->out->k, n = 0;
+    if (t->n <= k) {
+        for (int c = 0; c < t->n; c++) js[n++] = (int32_t)(uint32_t)t->key[c];
+        return n;
+    }
+    int all = t->n;
+    retr_top_keep(t, k);
+    t->n = all;
+    float reach = -INFINITY, qn = d->qn[i];
+    for (int c = 0; c < k; c++) {
+        int32_t j = (int32_t)(uint32_t)t->key[c];
+        float s = retr_key_score(t->key[c]), r = s + retr_slack(d, qn, d->mn[j]);
+        reach = r > reach ? r : reach;
+        js[n++] = j;
+    }
+    for (int c = k; c < all; c++) {
+        int32_t j = (int32_t)(uint32_t)t->key[c];
+        float s = retr_key_score(t->key[c]);
+        if (s - retr_slack(d, qn, d->mn[j]) > reach) continue;   /* false for NaN: kept */
+        int smaller = 0;
+        for (int o = 0; o < all; o++) smaller += t->key[o] < t->key[c];
+        if (smaller < d->cap) js[n++] = j;
+    }
+    return n;
+}
+
+/* Every query of a task has met every map row: cut each one's candidates
  * and re-rank them exactly, fetching the next query's rows meanwhile. */
 static void retr_task_rank(const struct retr_dense *d, struct retr_top *tops, size_t q0, size_t nq, int w)
 {
     double *pair = d->pair + (size_t)w * (2 * d->room + d->q->dim);
     int32_t *js = d->js + (size_t)w * d->room;
-    for (size_t a = 0; a < nq; a++)
-        if (tops[a].n > d->cap) retr_top_keep(&tops[a], d->cap);
     for (size_t a = 0; a < nq; a++) {
         if (a + 1 < nq) retr_prefetch(d->map, &tops[a + 1]);
-        for (int c = 0; c < tops[a].n; c++) js[c] = (int32_t)(uint32_t)tops[a].key[c];
-        retr_exact(d->map, d->q, d->kind, d->fast, js, tops[a].n, q0 + a, pair + 2 * d->room, pair, d->out);
+        int n = retr_top_cut(d, &tops[a], q0 + a, js);
+        retr_exact(d->map, d->q, d->kind, d->fast, js, n, q0 + a, pair + 2 * d->room, pair, d->out);
     }
 }
 

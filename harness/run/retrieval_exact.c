@@ -14,9 +14,11 @@
  *           r2: c0 ...      |        t2: ...
  *           r3: d0 ...      |        t3: ...
  *
- * A CPU without AVX2, or a NaN among a query's distances (whose order the
- * shared comparator leaves to the sort), goes through retr_rank instead,
- * which gives the same output by construction. */
+ * A CPU without AVX2 goes through retr_rank instead, which gives the same
+ * output by construction.  So does a NaN among a query's distances (only
+ * from NaN in the descriptors, which eval refuses): the shared comparator
+ * leaves the order of NaNs to the sort, so the candidates are first put in
+ * index order, which makes that order depend on the candidate set alone. */
 #include "harness/run/retrieval_rank.h"
 
 #include <math.h>
@@ -181,6 +183,12 @@ static void retr_pair_sort(double *pair, int n)
     }
 }
 
+static int retr_index_cmp(const void *x, const void *y)
+{
+    int32_t a = *(const int32_t *)x, b = *(const int32_t *)y;
+    return (a > b) - (a < b);
+}
+
 int retr_exact_fast(void)
 {
 #if RETR_X86
@@ -192,7 +200,7 @@ int retr_exact_fast(void)
 }
 
 void retr_exact(const struct retrieval_mat *map, const struct retrieval_mat *q, enum rv_distance kind, int fast,
-                const int32_t *js, int n, size_t i, double *a, double *pair, struct retrieval_out *o)
+                int32_t *js, int n, size_t i, double *a, double *pair, struct retrieval_out *o)
 {
 #if RETR_X86
     if (n == 0 || !fast) {
@@ -206,6 +214,7 @@ void retr_exact(const struct retrieval_mat *map, const struct retrieval_mat *q, 
         na += a[k] * a[k];
     }
     if (retr_exact_pairs(map, kind, a, na, js, n, pair)) {
+        qsort(js, (size_t)n, sizeof *js, retr_index_cmp);
         retr_rank(map, q, kind, NULL, js, n, i, pair, o);
         return;
     }

@@ -28,9 +28,10 @@ void retr_rank(const struct retrieval_mat *map, const struct retrieval_mat *q, e
 
 /* retr_rank for L2 and cosine, the same output, faster: the distances in
  * AVX2 lanes (retrieval_exact.c) when fast (retr_exact_fast() said so);
- * a is scratch of dim doubles, pair of 2 n.  Cannot fail. */
+ * a is scratch of dim doubles, pair of 2 n; js may be reordered.  Cannot
+ * fail. */
 int retr_exact_fast(void);
 void retr_exact(const struct retrieval_mat *map, const struct retrieval_mat *q, enum rv_distance kind, int fast,
-                const int32_t *js, int n, size_t i, double *a, double *pair, struct retrieval_out *o);
+                int32_t *js, int n, size_t i, double *a, double *pair, struct retrieval_out *o);
 
 #endif
