@@ -14,7 +14,7 @@ need=(libopenblas-dev liblapacke-dev libcjson-dev liblzf-dev libbz2-dev liblz4-d
 case "$goal" in
   build) ;;
   demo) need+=(gnuplot-nox) ;;
-  test) need+=(gnuplot-nox python3-numpy python3-scipy python3-sklearn python3-open3d
+  test) need+=(gnuplot-nox python3-numpy python3-scipy python3-sklearn python3-open3d python3-pil
                parallel valgrind chromium pcl-tools python3-rosbag python3-sensor-msgs python3-nav-msgs
                python3-geometry-msgs python3-tf2-msgs) ;;
   *) echo "revisit: deps.sh: unknown goal '$goal' (expected build, demo or test)" >&2; exit 2 ;;

@@ -87,14 +87,14 @@ int plot_commit(struct afile *a, struct err *e)
     return afile_commit(a, e);
 }
 
-void plot_head(FILE *f, const char *name, const char *title)
+void plot_head(FILE *f, const char *name, const char *title, unsigned h)
 {
     fprintf(f, "# %s.gp: written by revisit report beside %s.dat.\n"
                "# Redraw with: gnuplot %s.gp (in this folder) after restyling.\n"
                "set encoding utf8\n"
-               "set terminal pngcairo noenhanced size 960,600 font 'Sans,11'\n"
+               "set terminal pngcairo noenhanced size %u,%u font 'Sans,11'\n"
                "set output '%s.png'\n"
-               "set title ", name, name, name, name);
+               "set title ", name, name, name, PLOT_W_PX, h, name);
     esc_gp(f, title);
     fputs("\nset key outside right top box opaque\nset grid lc rgb '#d0d0d0'\n", f);
     for (size_t k = 0; k < PLOT_NCOLOURS; k++)
@@ -102,10 +102,56 @@ void plot_head(FILE *f, const char *name, const char *title)
                 k + 1, palette[k], dashes[k], points[k]);
 }
 
-void plot_tail(FILE *f, const char *name)
+void plot_tail(FILE *f, const char *name, unsigned h)
 {
-    fprintf(f, "set terminal svg noenhanced size 960,600 font 'Sans,11'\n"
-               "set output '%s.svg'\nreplot\nunset output\n", name);
+    fprintf(f, "set terminal svg noenhanced size %u,%u font 'Sans,11'\n"
+               "set output '%s.svg'\nreplot\nunset output\n", PLOT_W_PX, h, name);
+}
+
+size_t plot_key_len(const char *name)
+{
+    size_t n = strlen(name);
+    return n <= PLOT_KEY_MAX ? n : PLOT_KEY_MAX + 3;
+}
+
+void plot_key_title(FILE *f, const char *name)
+{
+    size_t n = strlen(name);
+    if (n <= PLOT_KEY_MAX) { esc_gp(f, name); return; }
+    char cut[PLOT_KEY_MAX + 4];
+    size_t k = PLOT_KEY_MAX;
+    while (k > 0 && ((unsigned char)name[k] & 0xC0) == 0x80) k--;
+    memcpy(cut, name, k);
+    memcpy(cut + k, "...", 4);
+    esc_gp(f, cut);
+}
+
+/* Pixel sizes of the 11-point Sans the terminals use, rounded up: a
+ * character's advance, a key row, and what the x tic labels and the x
+ * label take under the graph. */
+#define UNDER_CHAR_PX 9
+#define UNDER_ROW_PX 18
+#define UNDER_SAMPLE_PX 100  /* a key column's sample line and gaps */
+#define UNDER_LABELS_PX 64   /* tic labels, x label and their offsets */
+#define UNDER_PAD_PX 12      /* between the x label and the key, and under the key */
+
+struct plot_under plot_under_layout(size_t entries, size_t longest)
+{
+    size_t colw = UNDER_CHAR_PX * longest + UNDER_SAMPLE_PX, cols = (PLOT_W_PX - 40) / colw;
+    if (cols < 1) cols = 1;
+    if (cols > entries) cols = entries ? entries : 1;
+    struct plot_under u;
+    u.rows = (unsigned)((entries + cols - 1) / cols);
+    u.bottom_px = UNDER_LABELS_PX + 2 * UNDER_PAD_PX + UNDER_ROW_PX * u.rows;
+    u.h = PLOT_GRAPH_PX + u.bottom_px;
+    return u;
+}
+
+void plot_under_write(FILE *f, const struct plot_under *u)
+{
+    fprintf(f, "set bmargin at screen %.4f\n"
+               "set key at screen 0.5, screen %.4f center bottom vertical maxrows %u Left reverse nobox\n",
+            (double)u->bottom_px / u->h, (double)UNDER_PAD_PX / 2 / u->h, u->rows ? u->rows : 1);
 }
 
 int plot_png_ok(const char *path, unsigned *w, unsigned *h)

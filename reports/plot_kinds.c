@@ -5,22 +5,12 @@
 #include "reports/esc.h"
 #include "reports/plot_int.h"
 
-/* A legend entry: at most PLOT_KEY_MAX bytes of the name (cut before a
- * UTF-8 continuation byte), then "...", so a long label cannot push the
- * key over the plot.  The tables carry the full name. */
-#define PLOT_KEY_MAX 80
-/* Line plots put the key under the graph, so long names take no width from it. */
-static const char key_below[] = "set key below center vertical Left reverse nobox maxrows 4\n";
-static void key_title(FILE *f, const char *name)
+/* The longest key entry of n series (their names; NULL or n == 0 skipped). */
+static size_t key_longest(const struct plot_series *s, size_t n, size_t longest)
 {
-    size_t n = strlen(name);
-    if (n <= PLOT_KEY_MAX) { esc_gp(f, name); return; }
-    char cut[PLOT_KEY_MAX + 4];
-    size_t k = PLOT_KEY_MAX;
-    while (k > 0 && ((unsigned char)name[k] & 0xC0) == 0x80) k--;
-    memcpy(cut, name, k);
-    memcpy(cut + k, "...", 4);
-    esc_gp(f, cut);
+    for (size_t k = 0; s && k < n; k++)
+        if (s[k].n && s[k].name && plot_key_len(s[k].name) > longest) longest = plot_key_len(s[k].name);
+    return longest;
 }
 
 static double or_y(const double *v, size_t i, double y)
@@ -51,11 +41,13 @@ int plot_degradation(struct plot_set *ps, const char *name, const char *title, c
     struct afile a;
     if (plot_open(ps, &a, name, "gp", e)) return -1;
     FILE *f = a.f;
-    plot_head(f, name, title);
+    /* Line plots put the key under the graph, so long names take no width from it. */
+    struct plot_under u = plot_under_layout(n, key_longest(s, n, 0));
+    plot_head(f, name, title, u.h);
+    plot_under_write(f, &u);
     fputs("set xlabel ", f); esc_gp(f, xlabel);
     fputs("\nset ylabel ", f); esc_gp(f, ylabel);
     fputc('\n', f);
-    fputs(key_below, f);
     /* The x axis spans the swept values exactly: no padding past them. */
     fputs("set yrange [0:1.05]\nset autoscale xfix\nset offsets 0, 0, 0, 0\n"
           "set style fill transparent solid 0.18 noborder\n", f);
@@ -65,10 +57,10 @@ int plot_degradation(struct plot_set *ps, const char *name, const char *title, c
     for (size_t k = 0; k < n; k++) {
         fputs(", \\\n     ", f);
         fprintf(f, "'%s.dat' index %zu using 1:2 with linespoints ls %zu title ", name, k, k % PLOT_NCOLOURS + 1);
-        key_title(f, s[k].name);
+        plot_key_title(f, s[k].name);
     }
     fputc('\n', f);
-    plot_tail(f, name);
+    plot_tail(f, name, u.h);
     if (plot_commit(&a, e)) return -1;
     return plot_finish(ps, name, title, PLOT_DEGRADATION, e);
 }
@@ -106,23 +98,24 @@ int plot_pr(struct plot_set *ps, const char *name, const char *title, const stru
     struct afile a;
     if (plot_open(ps, &a, name, "gp", e)) return -1;
     FILE *f = a.f;
-    plot_head(f, name, title);
-    fputs(key_below, f);
+    struct plot_under u = plot_under_layout(n + nb + 1, key_longest(behind, n, key_longest(s, n, strlen("F1max point"))));
+    plot_head(f, name, title, u.h);
+    plot_under_write(f, &u);
     fputs("set xlabel 'recall'\nset ylabel 'precision'\nset xrange [0:1]\nset yrange [0:1.05]\nplot ", f);
     /* The reference curves first, thin and dotted, so the perturbed ones lie on top. */
     for (size_t k = 0; nb && k < n; k++) {
         if (!behind[k].n) continue;
         fprintf(f, "'%s.dat' index %zu using 1:2 with lines lc rgb '%s' lw 1 dt (2,3) title ", ref, k, plot_colour(k));
-        key_title(f, behind[k].name);
+        plot_key_title(f, behind[k].name);
         fputs(", \\\n     ", f);
     }
     for (size_t k = 0; k < n; k++) {
         fprintf(f, "'%s.dat' index %zu using 1:2 with lines ls %zu title ", name, k, k % PLOT_NCOLOURS + 1);
-        key_title(f, s[k].name);
+        plot_key_title(f, s[k].name);
         fprintf(f, ", \\\n     '%s-f1max.dat' index %zu using 1:2 with points ls %zu pt 7 ps 1.8 %s%s", name, k,
                 k % PLOT_NCOLOURS + 1, k ? "notitle" : "title 'F1max point'", k + 1 < n ? ", \\\n     " : "\n");
     }
-    plot_tail(f, name);
+    plot_tail(f, name, u.h);
     if (plot_commit(&a, e)) return -1;
     return plot_finish(ps, name, title, PLOT_PR, e);
 }
@@ -174,7 +167,7 @@ int plot_traj(struct plot_set *ps, const char *name, const char *title, const st
     struct afile a;
     if (plot_open(ps, &a, name, "gp", e)) return -1;
     FILE *f = a.f;
-    plot_head(f, name, title);
+    plot_head(f, name, title, PLOT_H_PX);
     /* Shapes as well as colours tell the outcomes apart: filled circles,
      * filled triangles with dashed segments, open squares. */
     fputs("set size ratio -1\nset xlabel 'x (m)'\nset ylabel 'y (m)'\nset offsets graph 0.03, graph 0.03, graph 0.03, graph 0.03\n", f);
@@ -205,7 +198,7 @@ int plot_traj(struct plot_set *ps, const char *name, const char *title, const st
         fprintf(f, "%s'%s-missed.dat' using 1:2 with points pt 4 ps 0.9 lw 1.5 lc rgb '%s' title 'missed revisit'",
                 sep, name, plot_colour(0));
     fputc('\n', f);
-    plot_tail(f, name);
+    plot_tail(f, name, PLOT_H_PX);
     if (plot_commit(&a, e)) return -1;
     return plot_finish(ps, name, title, PLOT_TRAJ, e);
 }
@@ -245,7 +238,7 @@ int plot_matrix(struct plot_set *ps, const char *name, const char *title,
     struct afile a;
     if (plot_open(ps, &a, name, "gp", e)) return -1;
     FILE *f = a.f;
-    plot_head(f, name, title);
+    plot_head(f, name, title, PLOT_H_PX);
     /* A lightness ramp in the palette's own colours: near (small distance)
      * is dark, far is light, so the image reads the same in grey.  True
      * revisits are rings drawn twice, black under white, visible on both. */
@@ -261,7 +254,7 @@ int plot_matrix(struct plot_set *ps, const char *name, const char *title,
         fprintf(f, ", \\\n     '' index 1 using 1:2 with points pt 6 ps 0.7 lw 3 lc rgb 'black' title 'true revisit'"
                    ", \\\n     '' index 1 using 1:2 with points pt 6 ps 0.7 lw 1 lc rgb 'white' notitle");
     fputc('\n', f);
-    plot_tail(f, name);
+    plot_tail(f, name, PLOT_H_PX);
     if (plot_commit(&a, e)) return -1;
     return plot_finish(ps, name, title, PLOT_MATRIX, e);
 }
@@ -287,8 +280,11 @@ int plot_hist(struct plot_set *ps, const char *name, const char *title, const st
     if (plot_commit(&a, e)) return -1;
     if (plot_open(ps, &a, name, "gp", e)) return -1;
     FILE *f = a.f;
-    plot_head(f, name, title);
-    fputs(key_below, f);
+    static const char *const bars[3] = {"correct top-1 (within r_pos)", "wrong top-1 (beyond r_neg, a revisit existed)",
+                                        "no revisit to find (top-1 beyond r_neg)"};
+    struct plot_under u = plot_under_layout(3, strlen(bars[1]));
+    plot_head(f, name, title, u.h);
+    plot_under_write(f, &u);
     fprintf(f, "set xlabel 'top-1 descriptor distance'\nset ylabel 'queries'\nset yrange [0:*]\n"
                "set boxwidth %.9g absolute\n", w / 3);
     char text[80];
@@ -298,13 +294,13 @@ int plot_hist(struct plot_set *ps, const char *name, const char *title, const st
     threshold_mark(f, 2, tau_r100, text, plot_colour(3), 0.85);
     /* Three bars per bin, solid, hatched and crossed, so grey print keeps them apart. */
     fprintf(f, "plot '%s.dat' using (($1+$2)/2 - %.9g):3 with boxes fs solid 0.75 border lt -1 "
-               "lc rgb '%s' title 'correct top-1 (within r_pos)', \\\n"
+               "lc rgb '%s' title '%s', \\\n"
                "     '' using (($1+$2)/2):4 with boxes fs pattern 4 border lt -1 "
-               "lc rgb '%s' title 'wrong top-1 (beyond r_neg, a revisit existed)', \\\n"
+               "lc rgb '%s' title '%s', \\\n"
                "     '' using (($1+$2)/2 + %.9g):5 with boxes fs pattern 2 border lt -1 "
-               "lc rgb '%s' title 'no revisit to find (top-1 beyond r_neg)'\n",
-            name, w / 3, plot_colour(2), plot_colour(1), w / 3, plot_colour(4));
-    plot_tail(f, name);
+               "lc rgb '%s' title '%s'\n",
+            name, w / 3, plot_colour(2), bars[0], plot_colour(1), bars[1], w / 3, plot_colour(4), bars[2]);
+    plot_tail(f, name, u.h);
     if (plot_commit(&a, e)) return -1;
     return plot_finish(ps, name, title, PLOT_HIST, e);
 }
@@ -325,7 +321,7 @@ int plot_sensitivity(struct plot_set *ps, const char *name, const char *title, c
     if (plot_commit(&a, e)) return -1;
     if (plot_open(ps, &a, name, "gp", e)) return -1;
     FILE *f = a.f;
-    plot_head(f, name, title);
+    plot_head(f, name, title, PLOT_H_PX);
     fprintf(f, "set ylabel 'F1max lost across the swept range'\nset xrange [-0.6:%.9g]\n"
                "set boxwidth %.9g absolute\nset key outside top center horizontal\nset xtics (", (double)n_names - 0.4, bw);
     for (size_t i = 0; i < n_names; i++) {
@@ -343,7 +339,7 @@ int plot_sensitivity(struct plot_set *ps, const char *name, const char *title, c
         fprintf(f, ", '' index %zu using ($1%+.9g):2:3:4 with yerrorbars lt -1 pt 0 notitle", k, off);
     }
     fputc('\n', f);
-    plot_tail(f, name);
+    plot_tail(f, name, PLOT_H_PX);
     if (plot_commit(&a, e)) return -1;
     return plot_finish(ps, name, title, PLOT_SENSITIVITY, e);
 }

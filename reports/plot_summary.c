@@ -9,6 +9,7 @@
 #include "reports/plot_int.h"
 
 #define SUMMARY_ROW_PX 34
+#define SUMMARY_TOP_PX 70   /* the chart's title and the panels' titles */
 
 static int summary_data(struct plot_set *ps, const char *name, size_t n_rows, const struct plot_dots *d,
                         size_t n, struct err *e)
@@ -62,7 +63,7 @@ static void summary_panel(FILE *f, const char *name, size_t p, size_t n_panels, 
                 name, p * n_series + s, off, s % PLOT_NCOLOURS + 1);
         if (p) { fputs("notitle", f); continue; }
         fputs("title ", f);
-        esc_gp(f, d[s].name);
+        plot_key_title(f, d[s].name);
     }
     fputc('\n', f);
     (void)n;
@@ -76,17 +77,20 @@ int plot_summary(struct plot_set *ps, const char *name, const char *title, const
     struct afile a;
     if (plot_open(ps, &a, name, "gp", e)) return -1;
     FILE *f = a.f;
-    unsigned h = (unsigned)(150 + SUMMARY_ROW_PX * n_rows + 18 * ((n_series + 2) / 3));
-    double bottom = (double)(60 + 18 * ((n_series + 2) / 3)) / h, top = 1 - 70.0 / h;
-    plot_head(f, name, title);
+    size_t longest = 0;
+    for (size_t s = 0; s < n_series; s++)
+        if (plot_key_len(d[s].name) > longest) longest = plot_key_len(d[s].name);
+    struct plot_under u = plot_under_layout(n_series, longest);
+    u.h = (unsigned)(SUMMARY_TOP_PX + SUMMARY_ROW_PX * n_rows) + u.bottom_px;
+    plot_head(f, name, title, u.h);
+    plot_under_write(f, &u);
     fprintf(f, "unset title\nset xrange [0:1]\nset yrange [%zu.5:-0.5]\nset grid xtics noytics\n"
-               "set xlabel 'score (1 is best)'\nset tmargin at screen %.4f\nset bmargin at screen %.4f\n"
-               "set key at screen 0.5, screen 0.01 center bottom horizontal maxcols 3 nobox\n"
+               "set xlabel 'score (1 is best)'\nset tmargin at screen %.4f\n"
                "set style line 100 lc rgb '#d0d0d0'\nset errorbars large\n",
-            n_rows - 1, top, bottom);
-    fprintf(f, "do for [pass=1:2] {\n  if (pass == 1) { set terminal pngcairo noenhanced size 1000,%u font 'Sans,11'; "
-               "set output '%s.png' } else { set terminal svg noenhanced size 1000,%u font 'Sans,11'; "
-               "set output '%s.svg' }\n  set multiplot title ", h, name, h, name);
+            n_rows - 1, 1 - (double)SUMMARY_TOP_PX / u.h);
+    fprintf(f, "do for [pass=1:2] {\n  if (pass == 1) { set terminal pngcairo noenhanced size %u,%u font 'Sans,11'; "
+               "set output '%s.png' } else { set terminal svg noenhanced size %u,%u font 'Sans,11'; "
+               "set output '%s.svg' }\n  set multiplot title ", PLOT_W_PX, u.h, name, PLOT_W_PX, u.h, name);
     esc_gp(f, title);
     fputc('\n', f);
     for (size_t p = 0; p < n_panels; p++) summary_panel(f, name, p, n_panels, rows, n_rows, d, n, n_series);
