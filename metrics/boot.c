@@ -111,15 +111,18 @@ static void boot_interval(const double *vals, int nsets, int resamples, int m, i
 {
     size_t stride = (size_t)nsets * PR_N_METRICS;
     int wins = 0;
+    size_t n = 0;   /* resamples where the metric is defined (PR_OP_* rates may be NaN) */
     for (int b = 0; b < resamples; b++) {
         const double *row = vals + (size_t)b * stride;
-        col[b] = diff ? row[m] - row[PR_N_METRICS + m] : row[m];
+        double x = diff ? row[m] - row[PR_N_METRICS + m] : row[m];
         if (diff && row[m] > row[PR_N_METRICS + m]) wins++;
+        if (!isnan(x)) col[n++] = x;
     }
-    qsort(col, (size_t)resamples, sizeof *col, boot_cmp);
-    *lo = boot_quantile(col, (size_t)resamples, (1 - level) / 2);
-    *hi = boot_quantile(col, (size_t)resamples, (1 + level) / 2);
     if (better) *better = (double)wins / resamples;
+    if (!n) { *lo = *hi = NAN; return; }
+    qsort(col, n, sizeof *col, boot_cmp);
+    *lo = boot_quantile(col, n, (1 - level) / 2);
+    *hi = boot_quantile(col, n, (1 + level) / 2);
 }
 
 static int boot_args(int resamples, double level, struct err *e)

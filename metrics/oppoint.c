@@ -57,51 +57,20 @@ double oppoint_choose(const struct pr_set *s, const uint32_t *w, const struct op
 
 /* ---- scoring ------------------------------------------------------------- */
 
-struct opp_at {
-    double tau;
-    struct pr_point last;   /* the last point with point tau <= tau */
-    int seen;
-};
-
-static void opp_visit_at(void *ctx, const struct pr_point *pt)
-{
-    struct opp_at *a = ctx;
-    if (pt->tau <= a->tau) { a->last = *pt; a->seen = 1; }
-}
-
-static double opp_revisits(const struct pr_set *s, const uint32_t *w)
-{
-    double r = 0;
-    for (size_t k = 0; k < s->n; k++)
-        if (s->o[k].revisit) r += w ? (double)w[s->o[k].slot] : 1.0;
-    return r;
-}
+/* The scores are rows of the one metric table (pr.h), in the same order. */
+_Static_assert(PR_OP_FP_PER_HOUR - PR_OP_PRECISION == OPP_FP_PER_HOUR - OPP_PRECISION &&
+               PR_OP_FP - PR_OP_PRECISION == OPP_FP, "oppoint scores follow the PR_OP_* metrics");
 
 void oppoint_score(const struct pr_set *s, const uint32_t *w, double tau,
                    const struct oppoint_drive *drive, struct oppoint_scores *out)
 {
-    memset(out, 0, sizeof *out);
-    if (isnan(tau)) {
-        for (int k = 0; k < OPP_N; k++) out->v[k] = NAN;
-        out->tp = out->fn = out->accepted = NAN;
-        return;
-    }
-    struct opp_at a;
-    memset(&a, 0, sizeof a);
-    a.tau = tau;
-    pr_points(s, w, opp_visit_at, &a);
-    double tp = 0, fp = 0, fn = opp_revisits(s, w), p = 1, r = 0;
-    if (a.seen) { tp = a.last.tp; fp = a.last.fp; fn = a.last.fn; p = a.last.precision; r = a.last.recall; }
-    out->v[OPP_PRECISION] = p;
-    out->v[OPP_RECALL] = r;
-    out->v[OPP_F1] = p + r > 0 ? 2 * p * r / (p + r) : 0;
-    out->v[OPP_FP] = fp;
-    out->v[OPP_FP_PER_KM] = drive && drive->km > 0 ? fp / drive->km : NAN;
-    out->v[OPP_FP_PER_HOUR] = drive && drive->hours > 0 ? fp / drive->hours : NAN;
-    out->tp = tp;
-    out->fn = fn;
-    for (size_t k = 0; k < s->n && s->o[k].d1 <= tau; k++)
-        out->accepted += w ? (double)w[s->o[k].slot] : 1.0;
+    struct pr_set at = *s;   /* shares the outcomes; only the operating point differs */
+    struct pr_scalars sc;
+    at.op_tau = tau;
+    at.km = drive ? drive->km : 0;
+    at.hours = drive ? drive->hours : 0;
+    pr_scalars_compute(&at, w, &sc);
+    for (int k = 0; k < OPP_N; k++) out->v[k] = sc.v[PR_OP_PRECISION + k];
 }
 
 /* ---- carrying with intervals ---------------------------------------------- */

@@ -55,8 +55,7 @@ struct oppoint_drive {
 };
 
 struct oppoint_scores {
-    double v[OPP_N];
-    double tp, fn, accepted;   /* weighted counts at tau */
+    double v[OPP_N];           /* = the PR_OP_* rows of pr.h's metric table at tau */
 };
 
 struct oppoint_result {
@@ -72,7 +71,8 @@ struct oppoint_result {
 /* The rule's tau on s (weights w as in pr.h, NULL = 1); NaN when none. */
 double oppoint_choose(const struct pr_set *s, const uint32_t *w, const struct oppoint_choice *c);
 
-/* Scores of s at tau (NaN tau: every score NaN). */
+/* Scores of s at tau (NaN tau: every score NaN): pr_scalars_compute's
+ * PR_OP_* metrics with op_tau = tau and the drive's km and hours. */
 void oppoint_score(const struct pr_set *s, const uint32_t *w, double tau,
                    const struct oppoint_drive *drive, struct oppoint_scores *out);
 

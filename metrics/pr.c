@@ -25,6 +25,16 @@ static const struct pr_metric_def pr_table[PR_N_METRICS] = {
     [PR_RECALL_25] = {"recall_at_25", "recall@25", PR_HIGHER_BETTER, "share of revisits with a correct candidate among the first 25"},
     [PR_RECALL_1PCT] = {"recall_at_1pct", "recall@1%", PR_HIGHER_BETTER,
                         "the same among the first 1% of the map scans (at least 1)"},
+    [PR_OP_PRECISION] = {"op_precision", "P@op", PR_HIGHER_BETTER,
+                         "precision at the operating threshold carried from another condition", 1},
+    [PR_OP_RECALL] = {"op_recall", "R@op", PR_HIGHER_BETTER, "recall at the operating threshold", 1},
+    [PR_OP_F1] = {"op_f1", "F1@op", PR_HIGHER_BETTER, "F1 score at the operating threshold", 1},
+    [PR_OP_FP] = {"op_false_positives", "FP@op", PR_LOWER_BETTER,
+                  "false positives (false loop closures) accepted at the operating threshold", 1},
+    [PR_OP_FP_PER_KM] = {"op_false_positives_per_km", "FP/km@op", PR_LOWER_BETTER,
+                         "the same per km driven", 1},
+    [PR_OP_FP_PER_HOUR] = {"op_false_positives_per_hour", "FP/h@op", PR_LOWER_BETTER,
+                           "the same per hour driven", 1},
 };
 
 const struct pr_metric_def *pr_metric_def(enum pr_metric m)
@@ -97,6 +107,7 @@ static struct pr_set *pr_set_alloc(size_t n)
     s->o = malloc((n ? n : 1) * sizeof *s->o);
     if (!s->o) { free(s); return NULL; }
     s->n = n;
+    s->op_tau = NAN;
     return s;
 }
 
@@ -229,6 +240,38 @@ static double pr_recall_at(const struct pr_set *s, const uint32_t *w, struct pr_
     return revisits;
 }
 
+/* The last point with tau <= a->tau (a->seen 0: none). */
+struct pr_at {
+    double tau;
+    struct pr_point last;
+    int seen;
+};
+
+static void pr_visit_at(void *ctx, const struct pr_point *pt)
+{
+    struct pr_at *a = ctx;
+    if (pt->tau <= a->tau) { a->last = *pt; a->seen = 1; }
+}
+
+/* The PR_OP_* metrics at s->op_tau (NaN without it). */
+static void pr_op_scores(const struct pr_set *s, const uint32_t *w, double revisits, struct pr_scalars *out)
+{
+    double *v = out->v;
+    if (isnan(s->op_tau)) {
+        for (int m = PR_OP_PRECISION; m <= PR_OP_FP_PER_HOUR; m++) v[m] = NAN;
+        return;
+    }
+    struct pr_at a = {s->op_tau, {0, 0, 0, 0, 1, 0}, 0};
+    pr_walk(s, w, revisits, pr_visit_at, &a);
+    double p = a.last.precision, r = a.last.recall;
+    v[PR_OP_PRECISION] = p;
+    v[PR_OP_RECALL] = r;
+    v[PR_OP_F1] = p + r > 0 ? 2 * p * r / (p + r) : 0;
+    v[PR_OP_FP] = a.last.fp;
+    v[PR_OP_FP_PER_KM] = s->km > 0 ? a.last.fp / s->km : NAN;
+    v[PR_OP_FP_PER_HOUR] = s->hours > 0 ? a.last.fp / s->hours : NAN;
+}
+
 void pr_scalars_compute(const struct pr_set *s, const uint32_t *w, struct pr_scalars *out)
 {
     memset(out, 0, sizeof *out);
@@ -238,6 +281,7 @@ void pr_scalars_compute(const struct pr_set *s, const uint32_t *w, struct pr_sca
     struct pr_acc a = {out, 0, 0, 1};
     pr_walk(s, w, revisits, pr_visit_scalars, &a);
     out->v[PR_EP] = (out->v[PR_P_R0] + out->v[PR_R100P]) / 2;
+    pr_op_scores(s, w, revisits, out);
 }
 
 /* ---- curve --------------------------------------------------------------- */

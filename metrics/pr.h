@@ -24,6 +24,13 @@
  * recall@K counts only what the lists hold: K beyond the list length sees the
  * whole list.  recall@1% uses K = max(1, round(n_map / 100)).
  *
+ * At an operating point (op_tau set, e.g. a threshold tuned on another
+ * condition, metrics/oppoint.h) the PR_OP_* metrics score the set at that
+ * threshold alone: the last curve point with tau <= op_tau gives precision,
+ * recall, F1 and the false positives (a count, per km and per hour when km
+ * and hours are known); nothing accepted: precision 1, recall 0, FP 0.
+ * Without op_tau they are NaN (null in result.json).
+ *
  * Ownership: _build/_from_outcomes return a set the caller frees with
  * pr_set_free; pr_curve_build returns a curve freed with pr_curve_free (both
  * accept NULL).  Sets and curves are read-only afterwards and thread-safe.
@@ -62,11 +69,17 @@ struct pr_set {
     size_t n_map;            /* map size, for recall@1% */
     enum protocol_counting counting;
     size_t n_excluded;       /* listed candidates dropped as inside the exclusion window */
+    double op_tau;           /* operating threshold carried from another set (oppoint.h);
+                              * NaN (as built): none, and the PR_OP_* metrics are NaN */
+    double km, hours;        /* driven while the set was recorded, for PR_OP_FP_PER_KM and
+                              * PR_OP_FP_PER_HOUR (0 as built: unknown, those are NaN) */
 };
 
 enum pr_metric {
     PR_F1MAX, PR_R100P, PR_P_R0, PR_EP, PR_AP,
     PR_RECALL_1, PR_RECALL_5, PR_RECALL_10, PR_RECALL_25, PR_RECALL_1PCT,
+    /* at the set's op_tau, in the order of oppoint.h's scores */
+    PR_OP_PRECISION, PR_OP_RECALL, PR_OP_F1, PR_OP_FP, PR_OP_FP_PER_KM, PR_OP_FP_PER_HOUR,
     PR_N_METRICS
 };
 
@@ -129,6 +142,7 @@ struct pr_metric_def {
     const char *label;         /* for tables and plots: "F1max" */
     enum pr_better better;     /* which way is better */
     const char *description;   /* one line */
+    int at_op;                 /* 1: defined only at an operating point (pr_set.op_tau), else NaN */
 };
 
 /* Row m of the table; NULL when m is out of range. */

@@ -304,7 +304,14 @@ static void check_metric_table(void)
     snprintf(msg, sizeof msg, "%s", bad(CRIT("{\"metric\": \"nope\", \"condition\": \"c\", \"comparator\": \">=\", \"threshold\": 1}")));
     for (int m = 0; m < PR_N_METRICS; m++) {
         const char *key = pr_metric_name((enum pr_metric)m);
+        int op = pr_metric_def((enum pr_metric)m)->at_op;
         snprintf(text, sizeof text, CRIT("{\"metric\": \"%s\", \"condition\": \"c\", \"comparator\": \">=\", \"threshold\": 0}"), key);
+        if (op) {   /* a score at the operating point needs the scenario's one */
+            snprintf(desc, sizeof desc, "%s is refused without the scenario's operating_point", key);
+            CHECK_MSG(bad(text), "is a score at the operating point, expected the scenario's \"operating_point\"", desc);
+            char *end = strrchr(text, '}');
+            snprintf(end, sizeof text - (size_t)(end - text), ", \"operating_point\": {\"tuned_on\": \"c\"}}");
+        }
         snprintf(desc, sizeof desc, "criteria accept the table's metric %s", key);
         CHECK(!strcmp(bad(text), "(accepted)"), desc);
         snprintf(desc, sizeof desc, "the refusal of an unknown metric lists %s", key);
@@ -354,11 +361,36 @@ static void check_alias(void)
 #undef AL
 }
 
+/* The scenario's operating point: its keys checked on load. */
+static void check_operating_point(void)
+{
+#define OPS(op) HEAD M1 "\"conditions\": [{\"name\": \"c\"}, {\"name\": \"s\", \"axis\": {\"stage\": \"sector\", " \
+    "\"key\": \"width\", \"values\": [30, 60]}}], \"operating_point\": " op "}"
+    struct plan p;
+    struct err e;
+    const char *t = OPS("{\"tuned_on\": \"s\", \"tuned_on_value\": 60, \"rule\": \"recall:0.5\"}");
+    CHECK(!plan_parse(&p, t, strlen(t), "sw.json", &e) && p.op.on && p.op.tuned_on == 1 && p.op.has_value &&
+          p.op.value == 60 && p.op.rule.rule == OPPOINT_RECALL && p.op.rule.target == 0.5, "an operating point loads");
+    plan_free(&p);
+    t = OPS("{\"tuned_on\": \"c\"}");
+    CHECK(!plan_parse(&p, t, strlen(t), "sw.json", &e) && p.op.rule.rule == OPPOINT_F1MAX, "the rule defaults to f1max");
+    plan_free(&p);
+    CHECK_MSG(bad(OPS("{\"tuned_on\": \"x\"}")), "operating_point.tuned_on: no condition named 'x'", "an unknown tuned_on is refused");
+    CHECK_MSG(bad(OPS("{\"tuned_on\": \"s\"}")), "operating_point.tuned_on_value: missing, condition 's' sweeps sector.width",
+              "an axis tuned_on needs its value");
+    CHECK_MSG(bad(OPS("{\"tuned_on\": \"c\", \"rule\": \"precision:7\"}")), "operating_point.rule: operating point 'precision:7'",
+              "a bad rule is refused");
+    CHECK_MSG(bad(OPS("{\"tuned_on\": \"c\", \"why\": 1}")), "operating_point.why: unknown key", "an unknown key is refused");
+    CHECK_MSG(bad(OPS("{\"rule\": \"f1max\"}")), "operating_point.tuned_on: missing", "tuned_on is required");
+#undef OPS
+}
+
 int main(void)
 {
     check_good();
     check_metric_table();
     check_alias();
+    check_operating_point();
     check_chain_axis();
     check_chain_text();
     check_stages_alone();

@@ -28,7 +28,8 @@ R_POS, EXCL = 3.0, 30.0
 
 def cell_outcomes(d):
     """Per query (d1, class, revisit) and the km and hours driven, from a cell folder."""
-    rows = [l.split(",") for l in open(os.path.join(d, "poses.csv")) if l[0].isalpha() and not l.startswith("set")]
+    # loop mode: the map rows (the query rows repeat the same poses for the perturbed copy)
+    rows = [l.split(",") for l in open(os.path.join(d, "poses.csv")) if l.startswith("map,")]
     t = np.array([float(r[2]) for r in rows])
     xyz = np.array([[float(v) for v in r[3:6]] for r in rows])
     d1, cls, rev = [], [], []

@@ -18,16 +18,20 @@
 #include "harness/base/pool.h"
 #include "harness/io/poses_io.h"
 #include "harness/base/progress.h"
+#include "harness/results/cell_set.h"
 #include "harness/results/cells.h"
 #include "harness/results/format.h"
+#include "harness/results/oppoint_json.h"
 #include "harness/results/poses_csv.h"
 #include "harness/results/queries_csv.h"
 #include "harness/results/result_json.h"
 #include "harness/io/recording.h"
 #include "harness/results/result_metrics.h"
 #include "metrics/boot.h"
+#include "metrics/oppoint.h"
 
 #define MT_FILE_MAX ((size_t)1 << 32)   /* --only lists */
+#define MT_KEY_W(r) ((r)->has_op ? 27 : 16)   /* metric column: room for the op_ keys when shown */
 
 static const char about[] =
     "Score retrieval results made by any program.  FILE is a per-query results CSV\n"
@@ -46,7 +50,13 @@ static const char about[] =
     "--listed the queries are the rows of FILE only.\n"
     "--against scores a second results file on the same queries and gives each\n"
     "difference with a paired-bootstrap interval and the share of resamples in\n"
-    "which the first is better.\n\n";
+    "which the first is better.\n"
+    "--tuned-on DIR carries an operating threshold over from another results\n"
+    "folder (queries.csv and poses.csv, as eval and sweep cells write them):\n"
+    "the threshold --operating-point chooses there is applied here, and the\n"
+    "op_ rows give precision, recall, F1 and false positives (count, per km, per\n"
+    "hour) at it, with intervals; with --against, the second file is scored at\n"
+    "the same threshold.\n\n";
 
 struct mt_set {
     double *xyz, *t;
@@ -54,7 +64,7 @@ struct mt_set {
 };
 
 struct mt_opts {
-    const char *results, *poses, *rec, *qposes, *qrec, *only, *json, *against;
+    const char *results, *poses, *rec, *qposes, *qrec, *only, *json, *against, *tuned_on, *op_rule;
     long bootstrap, jobs;
     unsigned long long seed;
     int quiet, listed;
@@ -201,6 +211,10 @@ struct mt_run {
     struct pr_set *set2;
     struct pr_scalars point2;
     struct boot_paired bp;
+    /* --tuned-on: the operating point carried from another results folder */
+    int has_op;
+    struct oppoint_choice rule;
+    struct oppoint_result op;
 };
 
 static void mt_free(struct mt_run *r)
@@ -309,6 +323,29 @@ static int mt_score(struct mt_run *r, struct err *e)
     return rc;
 }
 
+/* --tuned-on DIR: choose the threshold on DIR's outcomes (same protocol),
+ * score the results at it; the op_ rows of the table hold the scores. */
+static int mt_oppoint(struct mt_run *r, struct err *e)
+{
+    struct pr_set *ref = NULL;
+    struct oppoint_drive dr;
+    int reloc = r->p.mode == PROTOCOL_RELOC;
+    const struct mt_set *scored = reloc ? &r->qry : &r->map;
+    struct oppoint_drive da = cell_set_drive(scored->xyz, scored->t, scored->n);
+    if (cell_set_load(r->o.tuned_on, &r->p, &ref, &dr, e)) return err_wrap(e, "revisit metrics: --tuned-on %s", r->o.tuned_on);
+    int rc = oppoint_carry(ref, r->set, &r->rule, &dr, &da, (int)r->o.bootstrap, r->o.seed, 0.95, &r->op, e);
+    pr_set_free(ref);
+    if (rc) return err_wrap(e, "revisit metrics: --tuned-on %s", r->o.tuned_on);
+    if (r->o.bootstrap <= 0)
+        for (int m = 0; m < PR_N_METRICS; m++) r->br.lo[m] = r->br.hi[m] = NAN;
+    result_metrics_oppoint(&r->op, &r->br.point, r->br.lo, r->br.hi);
+    r->set->op_tau = r->op.tau;
+    r->set->km = da.km;
+    r->set->hours = da.hours;
+    r->has_op = 1;
+    return 0;
+}
+
 /* Score --against on the same ground truth; paired bootstrap of the difference. */
 static int mt_against(struct mt_run *r, struct err *e)
 {
@@ -317,6 +354,9 @@ static int mt_against(struct mt_run *r, struct err *e)
         return -1;
     struct pr_lists l = {r->g->n_query, r->off2, r->cand2};
     if (pr_set_build(r->g, &l, &r->set2, e)) return err_wrap(e, "%s", r->o.against);
+    r->set2->op_tau = r->set->op_tau;   /* --tuned-on: both at the one carried threshold */
+    r->set2->km = r->set->km;
+    r->set2->hours = r->set->hours;
     pr_scalars_compute(r->set2, NULL, &r->point2);
     if (r->o.bootstrap <= 0) {
         for (int m = 0; m < PR_N_METRICS; m++) r->bp.diff[m] = r->br.point.v[m] - r->point2.v[m];
@@ -330,9 +370,10 @@ static void mt_print_against(const struct mt_run *r)
 {
     int ci = r->o.bootstrap > 0;
     printf("\nagainst %s (difference = results - against, paired over the same queries)\n", r->o.against);
-    printf("%-16s %9s %9s%s\n", "metric", "against", "diff", ci ? "  95% interval of diff  first better" : "");
+    printf("%-*s %9s %9s%s\n", MT_KEY_W(r), "metric", "against", "diff", ci ? "  95% interval of diff  first better" : "");
     for (int m = 0; m < PR_N_METRICS; m++) {
-        printf("%-16s %9.4f %+9.4f", pr_metric_name((enum pr_metric)m), r->point2.v[m], r->bp.diff[m]);
+        if (pr_metric_def((enum pr_metric)m)->at_op && !r->has_op) continue;
+        printf("%-*s %9.4f %+9.4f", MT_KEY_W(r), pr_metric_name((enum pr_metric)m), r->point2.v[m], r->bp.diff[m]);
         if (ci) printf("  [%+8.4f, %+8.4f]  %6.1f%%", r->bp.lo[m], r->bp.hi[m], 100 * r->bp.share_better[m]);
         printf("\n");
     }
@@ -367,10 +408,18 @@ static void mt_print(const struct mt_run *r)
     int ci = r->o.bootstrap > 0;
     printf("queries %zu, revisits %zu, curve points %zu", r->set->n, r->g->n_revisits, r->curve->n);
     if (r->set->n_excluded) printf(", %zu listed candidates inside the exclusion window ignored", r->set->n_excluded);
-    printf("\n%-16s %9s%s  threshold\n", "metric", "value", ci ? "  95% interval        " : "");
+    if (r->has_op) {
+        char nb[NUMFMT_LEN];
+        printf("operating point: threshold %s chosen on %s by %s", numfmt(nb, r->op.tau), r->o.tuned_on,
+               oppoint_rule_name(r->rule.rule));
+        if (ci) printf(" (95%% interval of the choice [%.4f, %.4f])", r->op.tau_lo, r->op.tau_hi);
+        printf("\n");
+    }
+    printf("\n%-*s %9s%s  threshold\n", MT_KEY_W(r), "metric", "value", ci ? "  95% interval        " : "");
     for (int m = 0; m < PR_N_METRICS; m++) {
         char line[160], nb[NUMFMT_LEN];
-        int at = snprintf(line, sizeof line, "%-16s %9.4f", pr_metric_name((enum pr_metric)m), b->point.v[m]);
+        if (pr_metric_def((enum pr_metric)m)->at_op && !r->has_op) continue;
+        int at = snprintf(line, sizeof line, "%-*s %9.4f", MT_KEY_W(r), pr_metric_name((enum pr_metric)m), b->point.v[m]);
         if (ci) at += snprintf(line + at, sizeof line - (size_t)at, "  [%8.4f, %8.4f]", b->lo[m], b->hi[m]);
         if (m == PR_F1MAX || m == PR_R100P) {
             double t = m == PR_F1MAX ? b->point.f1max_threshold : b->point.r100p_threshold;
@@ -409,6 +458,7 @@ static int mt_json(const struct mt_run *r, int argc, char **argv, struct err *e)
         cJSON_AddNumberToObject(counts, "without_row", (double)r->without_row);
     }
     if (!rc && r->set2) cJSON_AddItemToObject(root, "against", mt_against_json(r));
+    if (!rc && r->has_op) cJSON_AddItemToObject(root, "operating_point", oppoint_json(&r->op, r->o.tuned_on));
     cJSON_AddStringToObject(root, "status", "ok");
     char *txt = rc ? NULL : numfmt_json_print(root);
     if (!rc && !txt) rc = err_set(e, "out of memory printing %s", r->o.json);
@@ -441,6 +491,8 @@ int cmd_metrics(int argc, char **argv)
         {"--only", OPT_STR, &r.o.only, "FILE", "score only the query indices listed (one per line)"},
         {"--listed", OPT_FLAG, &r.o.listed, NULL, "score only the queries with a row in the results file"},
         {"--against", OPT_STR, &r.o.against, "FILE", "a second results CSV on the same queries: paired differences"},
+        {"--tuned-on", OPT_STR, &r.o.tuned_on, "DIR", "results folder whose threshold is carried over (see --operating-point)"},
+        {"--operating-point", OPT_STR, &r.o.op_rule, "RULE", "f1max (default), precision:P, recall:R or fixed:D, chosen on --tuned-on"},
         {"--bootstrap", OPT_INT, &r.o.bootstrap, "N", "bootstrap resamples for the intervals (default 1000; 0 = none)"},
         {"--seed", OPT_U64, &r.o.seed, "S", "bootstrap seed (default 1)"},
         {"--jobs", OPT_INT, &r.o.jobs, "N", "threads for the bootstrap (default: online cores)"},
@@ -456,6 +508,12 @@ int cmd_metrics(int argc, char **argv)
     if (r.o.bootstrap < 0 || r.o.bootstrap > 1000000)
         return err_set(&e, "revisit metrics: --bootstrap expects 0 to 1000000 resamples, got %ld", r.o.bootstrap),
                cmd_report(&e);
+    r.rule = (struct oppoint_choice){OPPOINT_F1MAX, 0};
+    if (r.o.op_rule && !r.o.tuned_on)
+        return err_set(&e, "revisit metrics: --operating-point needs --tuned-on, the results folder that chooses the "
+                       "threshold"), cmd_report(&e);
+    if (r.o.op_rule && oppoint_parse(r.o.op_rule, &r.rule, &e))
+        return err_wrap(&e, "revisit metrics: --operating-point"), cmd_report(&e);
     if (!op.mode && (r.o.qposes || r.o.qrec)) op.mode = protocol_mode_name(PROTOCOL_RELOC);
     int from_folder = 0;
     if (!r.o.poses && !r.o.rec && mt_folder_protocol(r.o.results, &op, &from_folder, &e))
@@ -463,6 +521,7 @@ int cmd_metrics(int argc, char **argv)
     if (from_folder && !r.o.quiet)
         fprintf(stderr, "revisit metrics: protocol of the results folder (its result.json), options given override it\n");
     int rc = opt_protocol_finish(&op, "metrics", &r.p, &e) || mt_poses(&r, &e) || mt_score(&r, &e) ||
+             (r.o.tuned_on && mt_oppoint(&r, &e)) ||
              (r.o.against && mt_against(&r, &e)) || (r.o.json && mt_json(&r, argc, argv, &e));
     if (!rc) mt_print(&r);
     if (!rc && r.o.against) mt_print_against(&r);

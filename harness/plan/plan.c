@@ -644,6 +644,27 @@ static int pl_tuned(const struct pl *c, const cJSON *o, const char *jp, const st
     return 0;
 }
 
+/* "operating_point": {"tuned_on": COND, "tuned_on_value": V, "rule": RULE}
+ * for the whole scenario (the PR_OP_* metrics of every cell). */
+static int pl_op(const struct pl *c, const cJSON *root, struct plan *p)
+{
+    static const char *const keys[] = {"tuned_on", "tuned_on_value", "rule", NULL};
+    const cJSON *o = pl_get(root, "operating_point");
+    const char *rule = NULL;
+    size_t k;
+    if (!o) return 0;
+    if (pl_keys(c, o, "operating_point", keys) || pl_str(c, o, "operating_point", "rule", 0, &rule) ||
+        pl_select_cond(c, o, "operating_point", p, "tuned_on", "tuned_on_value", &k, &p->op.has_value,
+                       &p->op.value))
+        return -1;
+    p->op.on = 1;
+    p->op.tuned_on = k;
+    p->op.rule = (struct oppoint_choice){OPPOINT_F1MAX, 0};
+    struct err e;
+    if (rule && oppoint_parse(rule, &p->op.rule, &e)) return pl_fail(c, "operating_point.rule", "%s", e.msg);
+    return 0;
+}
+
 static int pl_criterion(const struct pl *c, const cJSON *o, const char *jp, const struct plan *p,
                         struct plan_criterion *r)
 {
@@ -669,6 +690,9 @@ static int pl_criterion(const struct pl *c, const cJSON *o, const char *jp, cons
         pl_metric_keys(keys, sizeof keys);
         return pl_fail(c, sub, "'%s' is not known, expected %s", metric, keys);
     }
+    if (r->tuned_on < 0 && !p->op.on && pr_metric_def((enum pr_metric)pr_metric_find(metric))->at_op)
+        return pl_fail(c, sub, "'%s' is a score at the operating point, expected the scenario's "
+                       "\"operating_point\" (or tuned_on in this criterion)", metric);
     if (!(r->metric = pl_dup(metric))) return pl_fail(c, jp, "out of memory");
     pl_join(sub, jp, "target");
     if (pl_pick(c, sub, target, targets, &k)) return -1;
@@ -824,14 +848,15 @@ static int pl_expand(const struct pl *c, struct plan *p)
 static int pl_root(const struct pl *c, const cJSON *root, struct plan *p)
 {
     static const char *const keys[] = {"format", "name", "description", "recordings", "protocol",
-                                       "methods", "conditions", "seeds", "bootstrap", "criteria", NULL};
+                                       "methods", "conditions", "seeds", "bootstrap", "criteria",
+                                       "operating_point", NULL};
     const char *fmt = NULL, *name = NULL, *desc = NULL;
     if (pl_keys(c, root, "", keys) || pl_str(c, root, "", "format", 1, &fmt)) return -1;
     if (strcmp(fmt, PLAN_FORMAT)) return pl_fail(c, "format", "'%s' is not known, expected '%s'", fmt, PLAN_FORMAT);
     if (pl_str(c, root, "", "name", 0, &name) || pl_str(c, root, "", "description", 0, &desc)) return -1;
     if (name && !(p->name = pl_dup(name))) return pl_fail(c, "name", "out of memory");
     return pl_recordings(c, root, p) || pl_protocol(c, root, p) || pl_bootstrap(c, root, p) ||
-           pl_methods(c, root, p) || pl_conditions(c, root, p) || pl_criteria(c, root, p) ||
+           pl_methods(c, root, p) || pl_conditions(c, root, p) || pl_op(c, root, p) || pl_criteria(c, root, p) ||
            pl_expand(c, p) ? -1 : 0;
 }
 

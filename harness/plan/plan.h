@@ -89,6 +89,18 @@ struct plan_criterion {
     struct oppoint_choice op;   /* how (tuned_on >= 0); metric is then a metrics/oppoint.h score */
 };
 
+/* The scenario's "operating_point": the threshold every cell is scored at
+ * for the PR_OP_* metrics (metrics/pr.h), chosen by rule on the cell of
+ * condition tuned_on with the same method and seed (a tuned_on with one
+ * seed serves every seed). */
+struct plan_op {
+    int on;               /* 0: the scenario has no operating point (the rest unused) */
+    size_t tuned_on;      /* index into conds */
+    int has_value;        /* axis value of tuned_on (a condition with an axis) */
+    double value;
+    struct oppoint_choice rule;
+};
+
 struct plan {
     char *path;           /* the scenario file as given */
     char hash[17];        /* FNV-1a 64 of the file bytes, hex */
@@ -97,6 +109,7 @@ struct plan {
     struct protocol protocol;
     int bootstrap;        /* resamples per cell (default 1000) */
     uint64_t bootstrap_seed;
+    struct plan_op op;
     size_t n_methods, n_conds, n_cells, n_criteria;
     struct plan_method *methods;
     struct plan_cond *conds;

@@ -2,6 +2,7 @@
 #include "harness/results/result_metrics.h"
 
 #include <math.h>
+#include <string.h>
 
 /* A number, or null when it is not finite. */
 static cJSON *rm_number(double v)
@@ -99,7 +100,10 @@ int result_metrics_read(const cJSON *root, struct pr_scalars *value, double *lo,
         const char *name = pr_metric_name((enum pr_metric)m);
         const cJSON *o = cJSON_GetObjectItemCaseSensitive(metrics, name);
         double v = rm_get(o, "value");
-        if (!cJSON_IsObject(o) || isnan(v))
+        /* a score at an operating point is null (or, written before it existed, absent) without one */
+        int op = pr_metric_def((enum pr_metric)m)->at_op;
+        if (op && (!o || cJSON_IsNull(cJSON_GetObjectItemCaseSensitive(o, "value")))) v = NAN;
+        else if (!cJSON_IsObject(o) || isnan(v))
             return err_set(e, "result: $.metrics.%s.value is missing or not a number, expected a number", name);
         value->v[m] = v;
         if (lo) lo[m] = rm_get(o, "lo");
@@ -107,5 +111,32 @@ int result_metrics_read(const cJSON *root, struct pr_scalars *value, double *lo,
     }
     value->f1max_threshold = rm_get(cJSON_GetObjectItemCaseSensitive(metrics, "f1max"), "threshold");
     value->r100p_threshold = rm_get(cJSON_GetObjectItemCaseSensitive(metrics, "r100p"), "threshold");
+    return 0;
+}
+
+void result_metrics_oppoint(const struct oppoint_result *o, struct pr_scalars *point, double *lo, double *hi)
+{
+    for (int k = 0; k < OPP_N; k++) {
+        point->v[PR_OP_PRECISION + k] = o->at.v[k];
+        lo[PR_OP_PRECISION + k] = o->lo[k];
+        hi[PR_OP_PRECISION + k] = o->hi[k];
+    }
+}
+
+int result_metrics_replace_op(cJSON *root, const struct pr_scalars *point, const double *lo, const double *hi,
+                              struct err *e)
+{
+    cJSON *metrics = cJSON_GetObjectItemCaseSensitive(root, "metrics");
+    if (!cJSON_IsObject(metrics)) return err_set(e, "result has no \"metrics\" object, expected one");
+    struct boot_result ci;
+    memcpy(ci.lo, lo, sizeof ci.lo);
+    memcpy(ci.hi, hi, sizeof ci.hi);
+    for (int m = PR_OP_PRECISION; m <= PR_OP_FP_PER_HOUR; m++) {
+        const char *key = pr_metric_name((enum pr_metric)m);
+        cJSON *row = rm_metric(point, &ci, m);
+        if (!row) return err_set(e, "out of memory writing the metrics of a result");
+        cJSON_DeleteItemFromObjectCaseSensitive(metrics, key);
+        if (rm_put(metrics, key, row)) return err_set(e, "out of memory writing the metrics of a result");
+    }
     return 0;
 }

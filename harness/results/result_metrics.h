@@ -10,7 +10,10 @@
  *               "r100p": {"value": .., "lo": .., "hi": .., "threshold": ..},
  *               "p_r0": {"value": .., "lo": .., "hi": ..}, "ep", "ap",
  *               "recall_at_1", "recall_at_5", "recall_at_10", "recall_at_25",
- *               "recall_at_1pct": the same three keys}
+ *               "recall_at_1pct": the same three keys,
+ *               "op_precision", "op_recall", "op_f1", "op_false_positives",
+ *               "op_false_positives_per_km", "op_false_positives_per_hour": the
+ *               same at an operating point, every number null without one}
  *   "curve":   {"threshold": [..], "precision": [..], "recall": [..]}
  *
  * "lo"/"hi" are null without a bootstrap; a threshold is null when it is
@@ -31,6 +34,7 @@
 
 #include "harness/base/err.h"
 #include "metrics/boot.h"
+#include "metrics/oppoint.h"
 #include "metrics/pr.h"
 #include "metrics/protocol.h"
 
@@ -47,8 +51,19 @@ int result_metrics_add(cJSON *root, const struct pr_scalars *point, const struct
 
 /* Read the "metrics" object back (values; thresholds NaN when null).  Keys it
  * does not know are ignored.  -1 with e set when a metric is missing or not a
- * number; lo/hi may be NULL. */
+ * number (a score at an operating point may be null or absent: NaN); lo/hi
+ * may be NULL. */
 int result_metrics_read(const cJSON *root, struct pr_scalars *value, double *lo, double *hi,
                         struct err *e);
+
+/* The scores of an operating point carried here (metrics/oppoint.h) as the
+ * PR_OP_* rows of point, lo and hi (the rest untouched), so they are
+ * written like every other metric.  Cannot fail. */
+void result_metrics_oppoint(const struct oppoint_result *o, struct pr_scalars *point, double *lo, double *hi);
+
+/* Replace the PR_OP_* rows of root's "metrics" object by those of point, lo
+ * and hi.  0, or -1 with e set (no "metrics" object, out of memory). */
+int result_metrics_replace_op(cJSON *root, const struct pr_scalars *point, const double *lo, const double *hi,
+                              struct err *e);
 
 #endif

@@ -58,6 +58,10 @@ int summary_load(struct summary *s, const struct plan *p, const char *dir, struc
             summary_free(s);
             return -1;
         }
+    if (summary_op_fill(s, e)) {
+        summary_free(s);
+        return -1;
+    }
     return 0;
 }
 
@@ -286,8 +290,22 @@ static int sm_write_sensitivity(const struct summary *s, struct err *e)
     return rc;
 }
 
+/* The result.json of every cell scored at the operating point, rewritten
+ * (atomically) with its rows: a cell's results hold what summary.csv shows. */
+static int sm_write_op_cells(const struct summary *s, struct err *e)
+{
+    for (size_t k = 0; k < s->p->n_cells; k++) {
+        char path[4200];
+        if (!s->cells[k].has_op) continue;
+        if (results_cell_path(path, sizeof path, s->dir, s->p->cells[k].id, RESULTS_RESULT, e) ||
+            json_file_write(path, cJSON_Duplicate(s->cells[k].result, 1), e))
+            return -1;
+    }
+    return 0;
+}
+
 int summary_write(const struct summary *s, struct err *e)
 {
-    return sm_write_cells_csv(s, e) || sm_write_groups_csv(s, e) || sm_write_json(s, e) ||
-           sm_write_sensitivity(s, e) ? -1 : 0;
+    return sm_write_op_cells(s, e) || sm_write_cells_csv(s, e) || sm_write_groups_csv(s, e) ||
+           sm_write_json(s, e) || sm_write_sensitivity(s, e) ? -1 : 0;
 }

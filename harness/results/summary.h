@@ -12,7 +12,9 @@
  * Files written (all atomically):
  *   summary.csv        one row per cell: cell, method, condition, axis_stage,
  *                      axis_key, axis_value, seed, status, queries, revisits,
- *                      then METRIC, METRIC_lo, METRIC_hi for every metric
+ *                      then METRIC, METRIC_lo, METRIC_hi for every metric of
+ *                      the table (metrics/pr.h; the op_ ones empty without
+ *                      the scenario's operating point)
  *   summary_seeds.csv  one row per method x condition x axis value over its
  *                      seeds: ..., seeds, ok, then METRIC_mean, _sd, _min, _max
  *   summary.json       both, as "cells" and "groups"
@@ -41,6 +43,9 @@ struct summary_cell {
     int done;              /* result.json exists */
     int ok;                /* its status is "ok" */
     struct cJSON *result;  /* parsed result.json, NULL when not done */
+    int has_op;            /* scored at the scenario's operating point (summary_op_fill) */
+    double op_tau;         /* that threshold (NaN when its rule found none) */
+    struct oppoint_drive drive;   /* km and hours of the cell's scored recording */
 };
 
 struct summary {
@@ -62,7 +67,9 @@ struct summary_verdict {
 };
 
 /* Read DIR/cells/ID/result.json of every cell of the plan.  A result with
- * another scenario hash, or one that does not parse, is an error. 0 or -1. */
+ * another scenario hash, or one that does not parse, is an error.  With the
+ * scenario's operating point, summary_op_fill then scores every cell at it.
+ * 0 or -1. */
 int summary_load(struct summary *s, const struct plan *p, const char *dir, struct err *e);
 void summary_free(struct summary *s);
 
@@ -71,7 +78,18 @@ void summary_free(struct summary *s);
 int summary_metric(const struct summary *s, size_t k, const char *metric,
                    double *value, double *lo, double *hi);
 
-/* summary.csv, summary_seeds.csv and summary.json in s->dir. 0 or -1. */
+/* The scenario's operating point (plan.h struct plan_op) carried to every
+ * ok cell whose tuned_on cell (same method; same seed, or the one seed of
+ * tuned_on) is ok: the threshold chosen there, the PR_OP_* metrics of the
+ * cell at it with intervals, put into the cell's parsed result ("metrics"
+ * rows and an "operating_point" object, as eval --tuned-on writes them).
+ * Other cells keep those rows null.  0, or -1 when a cell's queries.csv or
+ * poses.csv cannot be read. */
+int summary_op_fill(struct summary *s, struct err *e);
+
+/* summary.csv, summary_seeds.csv and summary.json in s->dir; and the
+ * result.json of every cell summary_op_fill scored, rewritten with its
+ * operating-point rows. 0 or -1. */
 int summary_write(const struct summary *s, struct err *e);
 
 /* Judge every criterion (one verdict per criterion and method).  -1 when a

@@ -29,6 +29,12 @@ static int sv_cell_set(const struct summary *s, size_t k, struct pr_set **out, s
     int n = snprintf(dir, sizeof dir, "%s/cells/%s", s->dir, s->p->cells[k].id);
     if (n < 0 || (size_t)n >= sizeof dir) return err_set(e, "cell %s: its folder path is too long", s->p->cells[k].id);
     if (cell_set_load(dir, &s->p->protocol, out, drive, e)) return err_wrap(e, "cell %s", s->p->cells[k].id);
+    const struct summary_cell *c = &s->cells[k];
+    if (c->has_op) {   /* paired differences of the PR_OP_* metrics at the cell's own threshold */
+        (*out)->op_tau = c->op_tau;
+        (*out)->km = c->drive.km;
+        (*out)->hours = c->drive.hours;
+    }
     return 0;
 }
 

@@ -391,6 +391,12 @@ static int ev_oppoint(struct ev_ctx *c, struct err *e)
     int rc = oppoint_carry(ref, c->ps, &c->s->op, &dr, &da, c->s->bootstrap, c->s->bootstrap_seed, 0.95,
                            &c->op, e);
     pr_set_free(ref);
+    if (!rc) {   /* the carried scores are rows of the metric table too */
+        result_metrics_oppoint(&c->op, &c->br.point, c->br.lo, c->br.hi);
+        c->ps->op_tau = c->op.tau;
+        c->ps->km = da.km;
+        c->ps->hours = da.hours;
+    }
     c->has_op = !rc;
     c->sum.has_op = !rc;
     c->sum.op_tau = c->op.tau;
