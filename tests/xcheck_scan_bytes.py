@@ -188,6 +188,13 @@ with tempfile.TemporaryDirectory() as d:
     want = revisit_ply_header(n, "binary_little_endian") + a.tobytes()
     check(rc == 0 and open(P("w.ply"), "rb").read() == want,
           "revisit's binary PLY is the documented header and numpy's body (%s)" % err)
+    big = points(250000, 3)   # 5.5 MB: the writer hands it to the file in several blocks
+    write_pcd(P("big.pcd"), big, "FFFFUF")
+    for ext, head in ((".pcd", revisit_pcd_header(len(big), 1, 1, "binary")),
+                      (".ply", revisit_ply_header(len(big), "binary_little_endian"))):
+        rc, _, err = tool("convert", P("big.pcd"), P("wbig" + ext))
+        check(rc == 0 and open(P("wbig" + ext), "rb").read() == head + big.tobytes(),
+              "a scan of several MiB is written as the header and numpy's body (%s %s)" % (ext, err))
     rc, _, err = tool("convert", P("xyzi.pcd"), P("w16.pcd"))
     want = revisit_pcd_header(len(x16), 0, 0, "binary") + x16.tobytes()
     check(rc == 0 and open(P("w16.pcd"), "rb").read() == want,

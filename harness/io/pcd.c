@@ -569,36 +569,27 @@ int pcd_read(const char *path, struct cloud *c, struct err *e)
     return pcd_read_finite(path, c, &finite, e);
 }
 
-static void pcd_write_header(FILE *f, const struct cloud *c, const char *data)
+/* The header of what revisit writes: x y z intensity, then ring and time
+ * when the cloud has them; word is the DATA kind. */
+static int pcd_header(char *out, size_t n, const struct cloud *c, const char *word)
 {
-    fprintf(f, "# .PCD v0.7 - written by revisit\nVERSION 0.7\nFIELDS x y z intensity%s%s\n",
-            c->ring ? " ring" : "", c->time ? " time" : "");
-    fprintf(f, "SIZE 4 4 4 4%s%s\nTYPE F F F F%s%s\nCOUNT 1 1 1 1%s%s\n",
-            c->ring ? " 2" : "", c->time ? " 4" : "", c->ring ? " U" : "", c->time ? " F" : "",
-            c->ring ? " 1" : "", c->time ? " 1" : "");
-    fprintf(f, "WIDTH %zu\nHEIGHT 1\nVIEWPOINT 0 0 0 1 0 0 0\nPOINTS %zu\nDATA %s\n", c->n, c->n, data);
+    const char *r = c->ring ? " " : "", *t = c->time ? " " : "";
+    return snprintf(out, n, "# .PCD v0.7 - written by revisit\nVERSION 0.7\nFIELDS x y z intensity%s%s%s%s\n"
+                    "SIZE 4 4 4 4%s%s%s%s\nTYPE F F F F%s%s%s%s\nCOUNT 1 1 1 1%s%s%s%s\n"
+                    "WIDTH %zu\nHEIGHT 1\nVIEWPOINT 0 0 0 1 0 0 0\nPOINTS %zu\nDATA %s\n",
+                    r, c->ring ? "ring" : "", t, c->time ? "time" : "", r, c->ring ? "2" : "", t,
+                    c->time ? "4" : "", r, c->ring ? "U" : "", t, c->time ? "F" : "", r, c->ring ? "1" : "", t,
+                    c->time ? "1" : "", c->n, c->n, word);
 }
 
 int pcd_write_binary(const char *path, const struct cloud *c, struct err *e)
 {
-    struct afile a;
-    if (afile_open(&a, path, e)) return -1;
-    pcd_write_header(a.f, c, "binary");
-    if (!c->ring && !c->time) {
-        if (c->n) fwrite(c->pts, 16, c->n, a.f);
-    } else {
-        scan_body_binary(a.f, c);
-    }
-    return afile_commit(&a, e);
+    return scan_body_write(path, c, pcd_header, "binary", SCAN_BODY_RECORDS, NULL, 0, e);
 }
 
 int pcd_write_ascii(const char *path, const struct cloud *c, struct err *e)
 {
-    struct afile a;
-    if (afile_open(&a, path, e)) return -1;
-    pcd_write_header(a.f, c, "ascii");
-    scan_body_ascii(a.f, c);
-    return afile_commit(&a, e);
+    return scan_body_write(path, c, pcd_header, "ascii", SCAN_BODY_LINES, NULL, 0, e);
 }
 
 static void pcd_put_u32le(unsigned char *p, uint32_t v)
@@ -607,7 +598,7 @@ static void pcd_put_u32le(unsigned char *p, uint32_t v)
 }
 
 /* The cloud's fields one after another (x of every point, then y, ...),
- * in the order and sizes pcd_write_header declares; *len bytes, malloc'ed. */
+ * in the order and sizes pcd_header declares; *len bytes, malloc'ed. */
 static unsigned char *pcd_columns(const struct cloud *c, size_t *len)
 {
     size_t n = c->n, rec = 16 + (c->ring ? 2 : 0) + (c->time ? 4 : 0);
@@ -644,10 +635,7 @@ int pcd_write_compressed(const char *path, const struct cloud *c, struct err *e)
     }
     pcd_put_u32le(z, packed);
     pcd_put_u32le(z + 4, (uint32_t)len);
-    struct afile a;
-    if (afile_open(&a, path, e)) { free(z); return -1; }
-    pcd_write_header(a.f, c, "binary_compressed");
-    fwrite(z, 1, 8 + (size_t)packed, a.f);
+    int rc = scan_body_write(path, c, pcd_header, "binary_compressed", SCAN_BODY_GIVEN, z, 8 + (size_t)packed, e);
     free(z);
-    return afile_commit(&a, e);
+    return rc;
 }

@@ -330,28 +330,22 @@ int ply_read(const char *path, struct cloud *c, struct err *e)
     return rc;
 }
 
-static void ply_write_header(FILE *f, const struct cloud *c, const char *format)
+/* The header of what revisit writes: float x y z intensity, then ushort
+ * ring and float time when the cloud has them; word is the format. */
+static int ply_header(char *out, size_t n, const struct cloud *c, const char *word)
 {
-    fprintf(f, "ply\nformat %s 1.0\ncomment written by revisit\nelement vertex %zu\n"
-               "property float x\nproperty float y\nproperty float z\nproperty float intensity\n%s%s"
-               "end_header\n", format, c->n, c->ring ? "property ushort ring\n" : "",
-            c->time ? "property float time\n" : "");
+    return snprintf(out, n, "ply\nformat %s 1.0\ncomment written by revisit\nelement vertex %zu\n"
+                    "property float x\nproperty float y\nproperty float z\nproperty float intensity\n%s%s"
+                    "end_header\n", word, c->n, c->ring ? "property ushort ring\n" : "",
+                    c->time ? "property float time\n" : "");
 }
 
 int ply_write_binary(const char *path, const struct cloud *c, struct err *e)
 {
-    struct afile a;
-    if (afile_open(&a, path, e)) return -1;
-    ply_write_header(a.f, c, "binary_little_endian");
-    scan_body_binary(a.f, c);
-    return afile_commit(&a, e);
+    return scan_body_write(path, c, ply_header, "binary_little_endian", SCAN_BODY_RECORDS, NULL, 0, e);
 }
 
 int ply_write_ascii(const char *path, const struct cloud *c, struct err *e)
 {
-    struct afile a;
-    if (afile_open(&a, path, e)) return -1;
-    ply_write_header(a.f, c, "ascii");
-    scan_body_ascii(a.f, c);
-    return afile_commit(&a, e);
+    return scan_body_write(path, c, ply_header, "ascii", SCAN_BODY_LINES, NULL, 0, e);
 }

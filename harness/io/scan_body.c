@@ -1,8 +1,9 @@
 /* scan_body.c: what the scan readers and writers share: whole reads of a
- * scan file and the point body after a header. */
+ * scan file, and the writer of PCD and PLY files (header, then body). */
 #include "harness/io/scan_body.h"
 
 #include <errno.h>
+#include <stdio.h>
 #include <stdlib.h>
 #include <string.h>
 #include <unistd.h>
@@ -73,21 +74,55 @@ size_t scan_body_record(const struct cloud *c, size_t k, unsigned char rec[SCAN_
     return o;
 }
 
-void scan_body_binary(FILE *f, const struct cloud *c)
+/* Points k0 .. k0 + m - 1 as records into dst; the bytes used.  The usual
+ * kinds (no ring and time, or both) copy fixed sizes in a loop of their own. */
+static size_t scan_body_pack(unsigned char *dst, const struct cloud *c, size_t k0, size_t m)
 {
-    unsigned char buf[512 * SCAN_BODY_RECORD_MAX];   /* records packed 512 at a time: one fwrite each */
-    size_t used = 0;
-    for (size_t k = 0; k < c->n; k++) {
-        used += scan_body_record(c, k, buf + used);
-        if (used + SCAN_BODY_RECORD_MAX > sizeof buf) {
-            fwrite(buf, 1, used, f);
-            used = 0;
-        }
+    unsigned char *d = dst;
+    if (!c->ring && !c->time) {
+        memcpy(d, c->pts + 4 * k0, 16 * m);
+        return 16 * m;
     }
-    if (used) fwrite(buf, 1, used, f);
+#if !defined(__BYTE_ORDER__) || __BYTE_ORDER__ == __ORDER_LITTLE_ENDIAN__
+    if (c->ring && c->time) {
+        for (size_t k = k0; k < k0 + m; k++, d += 22) {
+            memcpy(d, c->pts + 4 * k, 16);
+            memcpy(d + 16, c->ring + k, 2);
+            memcpy(d + 18, c->time + k, 4);
+        }
+        return 22 * m;
+    }
+#endif
+    for (size_t k = k0; k < k0 + m; k++) d += scan_body_record(c, k, d);
+    return (size_t)(d - dst);
 }
 
-void scan_body_ascii(FILE *f, const struct cloud *c)
+#define SCAN_BODY_BLOCK ((size_t)4 << 20)   /* records are handed to the file this many bytes at a time */
+
+/* The header and the records, packed into blocks, one fwrite each: a block
+ * as large as the stream's buffer or larger goes to the file as it is. */
+static int scan_body_records(struct afile *a, const struct cloud *c, const char *head, size_t hl, struct err *e)
+{
+    const size_t rec = 16 + (c->ring ? 2 : 0) + (c->time ? 4 : 0), total = hl + c->n * rec;
+    const size_t cap = total < SCAN_BODY_BLOCK ? total : SCAN_BODY_BLOCK;
+    unsigned char *buf = malloc(cap);
+    if (!buf) return err_at(e, a->path, 0, "out of memory for %zu bytes", cap);
+    memcpy(buf, head, hl);
+    size_t used = hl;
+    for (size_t k = 0; k < c->n;) {
+        size_t m = (cap - used) / rec;
+        if (m > c->n - k) m = c->n - k;
+        used += scan_body_pack(buf + used, c, k, m);
+        k += m;
+        fwrite(buf, 1, used, a->f);
+        used = 0;
+    }
+    if (used) fwrite(buf, 1, used, a->f);
+    free(buf);
+    return 0;
+}
+
+static void scan_body_lines(FILE *f, const struct cloud *c)
 {
     for (size_t k = 0; k < c->n; k++) {
         fprintf(f, "%.9g %.9g %.9g %.9g", CLOUD_X(c, k), CLOUD_Y(c, k), CLOUD_Z(c, k), CLOUD_I(c, k));
@@ -97,3 +132,26 @@ void scan_body_ascii(FILE *f, const struct cloud *c)
     }
 }
 
+int scan_body_write(const char *path, const struct cloud *c, scan_header_fn header, const char *word,
+                    enum scan_body_kind kind, const void *given, size_t len, struct err *e)
+{
+    char head[SCAN_HEADER_MAX];
+    int hl = header(head, sizeof head, c, word);
+    if (hl < 0 || (size_t)hl >= sizeof head)
+        return err_at(e, path, 0, "header longer than %zu bytes, expected fewer", sizeof head - 1);
+    struct afile a;
+    if (afile_open(&a, path, e)) return -1;
+    int rc = 0;
+    if (kind == SCAN_BODY_RECORDS) {
+        rc = scan_body_records(&a, c, head, (size_t)hl, e);
+    } else {
+        fwrite(head, 1, (size_t)hl, a.f);
+        if (kind == SCAN_BODY_LINES) scan_body_lines(a.f, c);
+        else if (len) fwrite(given, 1, len, a.f);
+    }
+    if (rc) {
+        afile_abort(&a);
+        return -1;
+    }
+    return afile_commit(&a, e);
+}
