@@ -79,7 +79,8 @@ int fileio_out_unused(const char *path, int replace, struct err *e);
  * fileio_stage_commit syncs the file system once (syncfs) and renames the
  * folder into place, so no half-written folder is ever visible there.
  * afile does not fsync files under a .staged- folder one by one: the commit
- * covers them.  A folder left by a killed run is removed by the next
+ * covers them (each such file's write-out to the disk is started when it is
+ * committed, so that sync mostly finds it done).  A folder left by a killed run is removed by the next
  * fileio_stage_open of the same path (its process is gone).
  *
  *     struct fileio_stage st;
