@@ -89,12 +89,17 @@ int plot_commit(struct afile *a, struct err *e)
 
 void plot_head(FILE *f, const char *name, const char *title, unsigned h)
 {
+    plot_head_size(f, name, title, PLOT_W_PX, h);
+}
+
+void plot_head_size(FILE *f, const char *name, const char *title, unsigned w, unsigned h)
+{
     fprintf(f, "# %s.gp: written by revisit report beside %s.dat.\n"
                "# Redraw with: gnuplot %s.gp (in this folder) after restyling.\n"
                "set encoding utf8\n"
                "set terminal pngcairo noenhanced size %u,%u font 'Sans,11'\n"
                "set output '%s.png'\n"
-               "set title ", name, name, name, PLOT_W_PX, h, name);
+               "set title ", name, name, name, w, h, name);
     esc_gp(f, title);
     fputs("\nset key outside right top box opaque\nset grid lc rgb '#d0d0d0'\n", f);
     for (size_t k = 0; k < PLOT_NCOLOURS; k++)
@@ -104,8 +109,13 @@ void plot_head(FILE *f, const char *name, const char *title, unsigned h)
 
 void plot_tail(FILE *f, const char *name, unsigned h)
 {
+    plot_tail_size(f, name, PLOT_W_PX, h);
+}
+
+void plot_tail_size(FILE *f, const char *name, unsigned w, unsigned h)
+{
     fprintf(f, "set terminal svg noenhanced size %u,%u font 'Sans,11'\n"
-               "set output '%s.svg'\nreplot\nunset output\n", PLOT_W_PX, h, name);
+               "set output '%s.svg'\nreplot\nunset output\n", w, h, name);
 }
 
 size_t plot_key_len(const char *name)

@@ -68,15 +68,27 @@ int plot_degradation(struct plot_set *ps, const char *name, const char *title, c
 /* 2. precision against recall, one line per series (x = recall, y =
  * precision) with its F1max point marked; behind (NULL, or n entries, an
  * entry with n == 0 for none) are the same methods' reference curves,
- * drawn first, thin and dotted (NAME-reference.dat, NAME-f1max.dat). */
+ * drawn first, thin and dotted (NAME-reference.dat, NAME-f1max.dat); ops
+ * (n_ops, may be 0) are operating points, each a square in its series'
+ * colour with its label beside it (NAME-oppoints.dat). */
+struct plot_oppoint {
+    size_t series;               /* the curve it lies on */
+    double recall, precision;
+    const char *label;           /* user text, drawn literally */
+};
 int plot_pr(struct plot_set *ps, const char *name, const char *title, const struct plot_series *s, size_t n,
-            const struct plot_series *behind, struct err *e);
+            const struct plot_series *behind, const struct plot_oppoint *ops, size_t n_ops, struct err *e);
 /* 3. top view: the path, correct, wrong (with segments) and missed queries. */
 int plot_traj(struct plot_set *ps, const char *name, const char *title, const struct rdata_poses *p,
               const struct rstat_outcomes *o, struct err *e);
-/* 4. the distance matrix as an image; true marks rows x cols (1 = true revisit). */
+/* 4. the distance matrix as an image, a pixel or more per distance up to
+ * 2,000 a side; true marks rows x cols (1 = true revisit).  NAME.bin holds
+ * the image's distances, NAME.dat the true revisits (plot_matrix.c). */
 int plot_matrix(struct plot_set *ps, const char *name, const char *title,
                 const struct matrix_csv *m, const unsigned char *truth, struct err *e);
+/* The f of a matrix shown with each pixel the smallest of f x f distances
+ * (1: every distance its own pixel or more). */
+size_t plot_matrix_pool(const struct matrix_csv *m);
 /* 5. top-1 distance histograms with the two thresholds marked (NaN: not drawn). */
 int plot_hist(struct plot_set *ps, const char *name, const char *title, const struct rstat_hist *h,
               double tau_f1, double tau_r100, struct err *e);

@@ -19,6 +19,9 @@ int plot_commit(struct afile *a, struct err *e);
 void plot_head(FILE *f, const char *name, const char *title, unsigned h);
 /* Script end: the SVG terminal of the same size and a replot. */
 void plot_tail(FILE *f, const char *name, unsigned h);
+/* The same for a canvas of w x h pixels. */
+void plot_head_size(FILE *f, const char *name, const char *title, unsigned w, unsigned h);
+void plot_tail_size(FILE *f, const char *name, unsigned w, unsigned h);
 
 /* A legend entry: at most PLOT_KEY_MAX bytes of the name (cut before a
  * UTF-8 continuation byte), then "...", so a long label cannot push the

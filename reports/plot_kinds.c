@@ -1,5 +1,7 @@
-/* plot_kinds.c: the five plot kinds, each a data file and a script. */
+/* plot_kinds.c: the line, point and bar plot kinds, each a data file and a script
+ * (the distance matrix is in plot_matrix.c, the summary chart in plot_summary.c). */
 #include <math.h>
+#include <stdlib.h>
 #include <string.h>
 
 #include "reports/esc.h"
@@ -51,9 +53,12 @@ int plot_degradation(struct plot_set *ps, const char *name, const char *title, c
     /* The x axis spans the swept values exactly: no padding past them. */
     fputs("set yrange [0:1.05]\nset autoscale xfix\nset offsets 0, 0, 0, 0\n"
           "set style fill transparent solid 0.18 noborder\n", f);
+    /* Each band is edged by thin lines in its series' dash pattern, so
+     * overlapping bands stay apart where their tints mix. */
     for (size_t k = 0; k < n; k++)
-        fprintf(f, "%s'%s.dat' index %zu using 1:3:4 with filledcurves lc rgb '%s' notitle",
-                k ? ", \\\n     " : "plot ", name, k, plot_colour(k));
+        fprintf(f, "%s'%s.dat' index %zu using 1:3:4 with filledcurves lc rgb '%s' notitle, \\\n"
+                   "     '' index %zu using 1:3 with lines ls %zu lw 0.8 notitle, '' index %zu using 1:4 with lines ls %zu lw 0.8 notitle",
+                k ? ", \\\n     " : "plot ", name, k, plot_colour(k), k, k % PLOT_NCOLOURS + 1, k, k % PLOT_NCOLOURS + 1);
     for (size_t k = 0; k < n; k++) {
         fputs(", \\\n     ", f);
         fprintf(f, "'%s.dat' index %zu using 1:2 with linespoints ls %zu title ", name, k, k % PLOT_NCOLOURS + 1);
@@ -86,21 +91,52 @@ static int pr_marks(struct plot_set *ps, const char *name, const struct plot_ser
     return plot_commit(&a, e);
 }
 
+/* NAME-oppoints.dat: recall precision series colour (0xRRGGBB) per point. */
+static int pr_ops_data(struct plot_set *ps, const char *name, const struct plot_oppoint *ops, size_t n_ops,
+                       struct err *e)
+{
+    char stem[96];
+    snprintf(stem, sizeof stem, "%s-oppoints", name);
+    struct afile a;
+    if (plot_open(ps, &a, stem, "dat", e)) return -1;
+    fprintf(a.f, "# %s.dat: operating points: recall precision series colour\n", stem);
+    for (size_t k = 0; k < n_ops; k++)
+        fprintf(a.f, "%.9g %.9g %zu %ld\n", ops[k].recall, ops[k].precision, ops[k].series,
+                strtol(plot_colour(ops[k].series) + 1, NULL, 16));
+    return plot_commit(&a, e);
+}
+
+/* Each operating point's label, beside it, inward from the nearer edge. */
+static void pr_ops_labels(FILE *f, const struct plot_oppoint *ops, size_t n_ops)
+{
+    for (size_t k = 0; k < n_ops; k++) {
+        int right = ops[k].recall > 0.55;
+        fprintf(f, "set label %zu ", 10 + k);
+        esc_gp(f, ops[k].label);
+        fprintf(f, " at %.9g, %.9g %s offset %s,-1.1 front\n", ops[k].recall, ops[k].precision,
+                right ? "right" : "left", right ? "-1" : "1");
+    }
+}
+
 int plot_pr(struct plot_set *ps, const char *name, const char *title, const struct plot_series *s, size_t n,
-            const struct plot_series *behind, struct err *e)
+            const struct plot_series *behind, const struct plot_oppoint *ops, size_t n_ops, struct err *e)
 {
     char ref[96];
     snprintf(ref, sizeof ref, "%s-reference", name);
     size_t nb = 0;
     for (size_t k = 0; behind && k < n; k++) nb += behind[k].n > 0;
-    if (series_data(ps, name, s, n, e) || (nb && series_data(ps, ref, behind, n, e)) || pr_marks(ps, name, s, n, e))
+    if (series_data(ps, name, s, n, e) || (nb && series_data(ps, ref, behind, n, e)) || pr_marks(ps, name, s, n, e) ||
+        (n_ops && pr_ops_data(ps, name, ops, n_ops, e)))
         return -1;
     struct afile a;
     if (plot_open(ps, &a, name, "gp", e)) return -1;
     FILE *f = a.f;
-    struct plot_under u = plot_under_layout(n + nb + 1, key_longest(behind, n, key_longest(s, n, strlen("F1max point"))));
+    static const char op_key[] = "operating point (threshold carried)";
+    struct plot_under u = plot_under_layout(n + nb + 1 + (n_ops > 0),
+                                            key_longest(behind, n, key_longest(s, n, strlen(op_key))));
     plot_head(f, name, title, u.h);
     plot_under_write(f, &u);
+    pr_ops_labels(f, ops, n_ops);
     fputs("set xlabel 'recall'\nset ylabel 'precision'\nset xrange [0:1]\nset yrange [0:1.05]\nplot ", f);
     /* The reference curves first, thin and dotted, so the perturbed ones lie on top. */
     for (size_t k = 0; nb && k < n; k++) {
@@ -112,9 +148,15 @@ int plot_pr(struct plot_set *ps, const char *name, const char *title, const stru
     for (size_t k = 0; k < n; k++) {
         fprintf(f, "'%s.dat' index %zu using 1:2 with lines ls %zu title ", name, k, k % PLOT_NCOLOURS + 1);
         plot_key_title(f, s[k].name);
-        fprintf(f, ", \\\n     '%s-f1max.dat' index %zu using 1:2 with points ls %zu pt 7 ps 1.8 %s%s", name, k,
-                k % PLOT_NCOLOURS + 1, k ? "notitle" : "title 'F1max point'", k + 1 < n ? ", \\\n     " : "\n");
+        fprintf(f, ", \\\n     '%s-f1max.dat' index %zu using 1:2 with points ls %zu pt 7 ps 1.8 %s", name, k,
+                k % PLOT_NCOLOURS + 1, k ? "notitle" : "title 'F1max point'");
+        fputs(k + 1 < n ? ", \\\n     " : "", f);
     }
+    /* Operating points: a black-edged square in the curve's colour. */
+    if (n_ops)
+        fprintf(f, ", \\\n     '%s-oppoints.dat' using 1:2 with points pt 5 ps 1.9 lc rgb 'black' title '%s'"
+                   ", \\\n     '' using 1:2:4 with points pt 5 ps 1.2 lc rgb variable notitle", name, op_key);
+    fputc('\n', f);
     plot_tail(f, name, u.h);
     if (plot_commit(&a, e)) return -1;
     return plot_finish(ps, name, title, PLOT_PR, e);
@@ -201,62 +243,6 @@ int plot_traj(struct plot_set *ps, const char *name, const char *title, const st
     plot_tail(f, name, PLOT_H_PX);
     if (plot_commit(&a, e)) return -1;
     return plot_finish(ps, name, title, PLOT_TRAJ, e);
-}
-
-static int matrix_data(struct plot_set *ps, const char *name, const struct matrix_csv *m,
-                       const unsigned char *truth, size_t *n_true, struct err *e)
-{
-    struct afile a;
-    if (plot_open(ps, &a, name, "dat", e)) return -1;
-    fprintf(a.f, "# %s.dat: block 0 column row distance (positions in matrix.csv), block 1 true revisits\n", name);
-    for (size_t r = 0; r < m->rows; r++) {
-        for (size_t c = 0; c < m->cols; c++) fprintf(a.f, "%zu %zu %.9g\n", c, r, m->d[r * m->cols + c]);
-        fputc('\n', a.f);
-    }
-    fputc('\n', a.f);
-    *n_true = 0;
-    for (size_t r = 0; r < m->rows; r++)
-        for (size_t c = 0; c < m->cols; c++)
-            if (truth[r * m->cols + c]) { fprintf(a.f, "%zu %zu\n", c, r); (*n_true)++; }
-    return plot_commit(&a, e);
-}
-
-/* About eight tics labelled with the scan indices the positions stand for. */
-static void index_tics(FILE *f, const char *axis, const long *idx, size_t n)
-{
-    size_t step = n > 8 ? (n + 7) / 8 : 1;
-    fprintf(f, "set %stics (", axis);
-    for (size_t k = 0; k < n; k += step) fprintf(f, "%s\"%ld\" %zu", k ? ", " : "", idx[k], k);
-    fputs(")\n", f);
-}
-
-int plot_matrix(struct plot_set *ps, const char *name, const char *title,
-                const struct matrix_csv *m, const unsigned char *truth, struct err *e)
-{
-    size_t n_true;
-    if (matrix_data(ps, name, m, truth, &n_true, e)) return -1;
-    struct afile a;
-    if (plot_open(ps, &a, name, "gp", e)) return -1;
-    FILE *f = a.f;
-    plot_head(f, name, title, PLOT_H_PX);
-    /* A lightness ramp in the palette's own colours: near (small distance)
-     * is dark, far is light, so the image reads the same in grey.  True
-     * revisits are rings drawn twice, black under white, visible on both. */
-    fprintf(f, "set palette defined (0 '%s', 0.35 '%s', 0.7 '%s', 1 '%s')\n", plot_colour(0),
-            plot_colour(2), plot_colour(3), plot_colour(5));
-    fputs("set size ratio -1\nset xlabel 'map scan'\nset ylabel 'query scan'\n"
-          "set cblabel 'descriptor distance'\nset yrange [*:*] reverse\nset autoscale fix\n"
-          "set key outside right bottom\n", f);
-    index_tics(f, "x", m->col_idx, m->cols);
-    index_tics(f, "y", m->row_idx, m->rows);
-    fprintf(f, "plot '%s.dat' index 0 using 1:2:3 with image notitle", name);
-    if (n_true)
-        fprintf(f, ", \\\n     '' index 1 using 1:2 with points pt 6 ps 0.7 lw 3 lc rgb 'black' title 'true revisit'"
-                   ", \\\n     '' index 1 using 1:2 with points pt 6 ps 0.7 lw 1 lc rgb 'white' notitle");
-    fputc('\n', f);
-    plot_tail(f, name, PLOT_H_PX);
-    if (plot_commit(&a, e)) return -1;
-    return plot_finish(ps, name, title, PLOT_MATRIX, e);
 }
 
 static void threshold_mark(FILE *f, int k, double tau, const char *text, const char *colour, double at)

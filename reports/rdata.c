@@ -308,11 +308,10 @@ void rdata_free(struct rdata_set *s)
 {
     for (size_t k = 0; k < s->n; k++) rdata_cell_free(&s->cells[k]);
     free(s->cells);
-    free(s->verdicts);
+    rdata_verdicts_free(s);
     free(s->sens);
     s->cells = NULL;
-    s->verdicts = NULL;
     s->sens = NULL;
     s->n_sens = 0;
-    s->n = s->n_verdicts = 0;
+    s->n = 0;
 }

@@ -61,12 +61,15 @@ struct rdata_cell {
 /* One acceptance criterion result (see rdata_load for the file read). */
 /* From DIR/verdicts.json as `revisit check` writes it (harness/results/summary.h). */
 struct rdata_verdict {
-    char text[512], metric[64], method[256], cond[256], cmp[8], target[16];
+    char *text, *metric, *method, *cond, *cmp, *target;  /* sized to their text; "" when absent */
     double value, lo, hi, threshold;
     double measured;           /* what the comparator judged; value when absent */
     int pass;
+    int has_axis;              /* "axis_value": cond ends in " at VALUE" after cond_len bytes */
+    size_t cond_len;
+    double axis_value;
     int has_op;                /* "operating_point": the threshold carried from tuned_on */
-    char tuned_on[256], rule[32];
+    char *tuned_on, *rule;     /* "" when absent */
     double op_target, op_tau, op_tau_lo, op_tau_hi;
 };
 
@@ -110,6 +113,8 @@ void rdata_free(struct rdata_set *s);
 /* Read s->root/verdicts.json (called by rdata_load).  No file: 0 and no
  * verdicts.  A bad file: -1 with its position. */
 int rdata_verdicts_read(struct rdata_set *s, struct err *e);
+/* Release the verdicts (called by rdata_free). */
+void rdata_verdicts_free(struct rdata_set *s);
 
 /* Parse one result.json text (path is used in messages only). 0 or -1. */
 int rdata_cell_parse(const char *text, const char *path, struct rdata_cell *c, struct err *e);

@@ -87,16 +87,32 @@ int rdata_queries_load(const char *path, struct rdata_queries *q, struct err *e)
     return 0;
 }
 
-static void verdict_fill(const cJSON *o, struct rdata_verdict *v)
+/* o[key] as a string of its own size into *dst ("" when absent), with
+ * suffix appended.  0, or -1 when out of memory. */
+static int verdict_str(char **dst, const cJSON *o, const char *key, const char *suffix)
 {
-    const char *keys[6] = {"criterion", "metric", "method", "condition", "comparator", "target"};
-    char *dst[6] = {v->text, v->metric, v->method, v->cond, v->cmp, v->target};
-    size_t sz[6] = {sizeof v->text, sizeof v->metric, sizeof v->method, sizeof v->cond, sizeof v->cmp,
-                    sizeof v->target};
-    for (int k = 0; k < 6; k++) {
-        const cJSON *s = cJSON_GetObjectItemCaseSensitive(o, keys[k]);
-        if (cJSON_IsString(s)) snprintf(dst[k], sz[k], "%s", s->valuestring);
-    }
+    const cJSON *v = cJSON_GetObjectItemCaseSensitive(o, key);
+    const char *t = cJSON_IsString(v) && v->valuestring ? v->valuestring : "";
+    size_t n = strlen(t), m = strlen(suffix);
+    if (!(*dst = malloc(n + m + 1))) return -1;
+    memcpy(*dst, t, n);
+    memcpy(*dst + n, suffix, m + 1);
+    return 0;
+}
+
+static void verdict_free(struct rdata_verdict *v)
+{
+    char **f[8] = {&v->text, &v->metric, &v->method, &v->cond, &v->cmp, &v->target, &v->tuned_on, &v->rule};
+    for (int k = 0; k < 8; k++) { free(*f[k]); *f[k] = NULL; }
+}
+
+/* 0, or -1 when out of memory (v freed). */
+static int verdict_fill(const cJSON *o, struct rdata_verdict *v)
+{
+    const char *keys[5] = {"criterion", "metric", "method", "comparator", "target"};
+    char **dst[5] = {&v->text, &v->metric, &v->method, &v->cmp, &v->target};
+    int rc = 0;
+    for (int k = 0; k < 5; k++) rc |= verdict_str(dst[k], o, keys[k], "");
     const char *nk[5] = {"value", "lo", "hi", "threshold", "measured"};
     double *nd[5] = {&v->value, &v->lo, &v->hi, &v->threshold, &v->measured};
     for (int k = 0; k < 5; k++) {
@@ -105,26 +121,35 @@ static void verdict_fill(const cJSON *o, struct rdata_verdict *v)
     }
     if (isnan(v->measured)) v->measured = v->value;
     const cJSON *ax = cJSON_GetObjectItemCaseSensitive(o, "axis_value");
+    char at[48] = "";
     if (cJSON_IsNumber(ax)) {
-        size_t l = strlen(v->cond);
-        snprintf(v->cond + l, sizeof v->cond - l, " at %g", ax->valuedouble);
+        v->has_axis = 1;
+        v->axis_value = ax->valuedouble;
+        snprintf(at, sizeof at, " at %g", ax->valuedouble);   /* %g: at most 13 bytes */
     }
+    rc |= verdict_str(&v->cond, o, "condition", at);
+    if (!rc) v->cond_len = strlen(v->cond) - strlen(at);
     v->pass = cJSON_IsTrue(cJSON_GetObjectItemCaseSensitive(o, "pass"));
     const cJSON *op = cJSON_GetObjectItemCaseSensitive(o, "operating_point");
     v->has_op = cJSON_IsObject(op);
-    const char *ok[2] = {"tuned_on", "rule"};
-    char *od[2] = {v->tuned_on, v->rule};
-    size_t osz[2] = {sizeof v->tuned_on, sizeof v->rule};
-    for (int k = 0; v->has_op && k < 2; k++) {
-        const cJSON *s = cJSON_GetObjectItemCaseSensitive(op, ok[k]);
-        if (cJSON_IsString(s)) snprintf(od[k], osz[k], "%s", s->valuestring);
-    }
+    rc |= verdict_str(&v->tuned_on, op, "tuned_on", "");
+    rc |= verdict_str(&v->rule, op, "rule", "");
     const char *tk[4] = {"target", "threshold", "threshold_lo", "threshold_hi"};
     double *td[4] = {&v->op_target, &v->op_tau, &v->op_tau_lo, &v->op_tau_hi};
     for (int k = 0; k < 4; k++) {
         const cJSON *n = v->has_op ? cJSON_GetObjectItemCaseSensitive(op, tk[k]) : NULL;
         *td[k] = cJSON_IsNumber(n) ? n->valuedouble : NAN;
     }
+    if (rc) verdict_free(v);
+    return rc ? -1 : 0;
+}
+
+void rdata_verdicts_free(struct rdata_set *s)
+{
+    for (size_t k = 0; k < s->n_verdicts; k++) verdict_free(&s->verdicts[k]);
+    free(s->verdicts);
+    s->verdicts = NULL;
+    s->n_verdicts = 0;
 }
 
 /* DIR/verdicts.json: {"format": "revisit-verdicts-1", "criteria": [...]}, or
@@ -141,7 +166,10 @@ int rdata_verdicts_read(struct rdata_set *s, struct err *e)
     size_t n = (size_t)cJSON_GetArraySize(list);
     s->verdicts = calloc(n ? n : 1, sizeof *s->verdicts);
     if (!s->verdicts) rc = err_at(e, path, 0, "out of memory");
-    for (const cJSON *o = list->child; !rc && o; o = o->next) verdict_fill(o, &s->verdicts[s->n_verdicts++]);
+    for (const cJSON *o = list->child; !rc && o; o = o->next) {
+        if (verdict_fill(o, &s->verdicts[s->n_verdicts])) rc = err_at(e, path, 0, "out of memory for the verdicts");
+        else s->n_verdicts++;
+    }
     if (!rc) snprintf(s->verdict_file, sizeof s->verdict_file, "%s", RESULTS_VERDICTS);
     cJSON_Delete(root);
     return rc;

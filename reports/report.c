@@ -126,12 +126,63 @@ static struct plot_series pr_series(const struct report_doc *d, size_t m, size_t
     return (struct plot_series){name, cl->curve_n, cl->curve_r, cl->curve_p, NULL, NULL};
 }
 
+#define REPORT_OP_LABEL 1400   /* a method's short name, the tuned-on name, the rule */
+
+/* 1 when the verdict's condition (or, tuned, its tuned-on condition) is condition c. */
+static int verdict_on(const struct report_doc *d, const struct rdata_verdict *v, size_t c, int tuned)
+{
+    const struct rdata_cell *cl = &d->set->cells[d->table->cond_cell[c]];
+    if (tuned) return !cl->has_axis && !strcmp(cl->cond, v->tuned_on);
+    return strlen(cl->cond) == v->cond_len && !strncmp(cl->cond, v->cond, v->cond_len) &&
+           cl->has_axis == v->has_axis && (!v->has_axis || cl->axis_value == v->axis_value);
+}
+
+/* The operating points on condition c's curves: each carried threshold of
+ * a verdict on c or tuned on c, at the curve's point of the largest
+ * threshold not above it (what a deployed system accepts).  label holds
+ * max texts (a text too long is cut, ending in "..."); returns the count. */
+static size_t pr_oppoints(struct report_doc *d, size_t c, const struct plot_series *sr, const size_t *sm, size_t ns,
+                          struct plot_oppoint *ops, char (*label)[REPORT_OP_LABEL], size_t max)
+{
+    const struct rstat_table *t = d->table;
+    size_t n = 0;
+    for (size_t k = 0; k < d->set->n_verdicts && n < max; k++) {
+        const struct rdata_verdict *v = &d->set->verdicts[k];
+        if (!v->has_op || !isfinite(v->op_tau) || !(verdict_on(d, v, c, 0) || verdict_on(d, v, c, 1))) continue;
+        size_t j = 0;
+        while (j < ns && strcmp(t->labels[sm[j]], v->method) && strcmp(t->methods[sm[j]], v->method)) j++;
+        if (j == ns) continue;
+        const struct rdata_cell *cl = &d->set->cells[report_ok_cell(d->set, t, sm[j], c)];  /* sr[j]'s cell */
+        size_t at = 0;
+        for (size_t i = 0; i < cl->curve_n; i++)  /* the curve's thresholds ascend (metrics/pr.h) */
+            if (cl->curve_t[i] <= v->op_tau) at = i + 1;
+        if (!at) {
+            report_note(d, "operating point of %s on %s: no query accepted at the threshold %.4g",
+                        t->methods[sm[j]], report_cond_name(t, c), v->op_tau);
+            continue;
+        }
+        if (err_cut(snprintf(label[n], sizeof label[n], "%s at %.4g (tuned on %s, %s %g)", t->methods[sm[j]],
+                             v->op_tau, v->tuned_on, v->rule, v->op_target), sizeof label[n]))
+            memcpy(label[n] + sizeof label[n] - 4, "...", 4);
+        int dup = 0;
+        for (size_t q = 0; q < n && !dup; q++) dup = !strcmp(label[q], label[n]);
+        if (dup) continue;
+        ops[n] = (struct plot_oppoint){j, sr[j].x[at - 1], sr[j].y[at - 1], label[n]};
+        n++;
+    }
+    return n;
+}
+
 static int plots_pr(struct report_doc *d, struct plot_set *ps, struct progress *pg, struct err *e)
 {
     const struct rstat_table *t = d->table;
+    size_t max_ops = d->set->n_verdicts + 1;
     struct plot_series *sr = malloc((2 * t->n_methods + 1) * sizeof *sr), *bh = sr + t->n_methods;
     char (*refname)[320] = malloc((t->n_methods + 1) * sizeof *refname);
-    int rc = sr && refname ? 0 : err_set(e, "out of memory for PR curves");
+    size_t *sm = malloc((t->n_methods + 1) * sizeof *sm);
+    struct plot_oppoint *ops = malloc(max_ops * sizeof *ops);
+    char (*oplabel)[REPORT_OP_LABEL] = malloc(max_ops * sizeof *oplabel);
+    int rc = sr && refname && sm && ops && oplabel ? 0 : err_set(e, "out of memory for PR curves");
     for (size_t c = 0; !rc && c < t->n_conds; c++) {
         size_t ns = 0;
         for (size_t m = 0; m < t->n_methods; m++) {
@@ -141,18 +192,23 @@ static int plots_pr(struct report_doc *d, struct plot_set *ps, struct progress *
                      report_cond_name(t, t->ref_cond[m]));
             bh[ns] = t->ref_cond[m] == c ? (struct plot_series){NULL, 0, NULL, NULL, NULL, NULL}
                                          : pr_series(d, m, t->ref_cond[m], refname[ns]);
+            sm[ns] = m;
             sr[ns++] = cur;
         }
         if (!ns) { report_note(d, "PR curves for condition %s: no cell holds a curve", report_cond_name(t, c)); continue; }
+        size_t n_ops = pr_oppoints(d, c, sr, sm, ns, ops, oplabel, max_ops);
         char name[64], title[600];
         report_plot_name(name, sizeof name, "pr", c, report_cond_name(t, c));
-        snprintf(title, sizeof title, "PR curves, condition %s (first seed; dotted: the reference condition)",
-                 report_cond_name(t, c));
-        rc = plot_pr(ps, name, title, sr, ns, bh, e);
+        snprintf(title, sizeof title, "PR curves, condition %s (first seed; dotted: the reference condition%s)",
+                 report_cond_name(t, c), n_ops ? "; squares: operating points" : "");
+        rc = plot_pr(ps, name, title, sr, ns, bh, ops, n_ops, e);
         progress_add(pg, 1);
     }
     free(sr);
     free(refname);
+    free(sm);
+    free(ops);
+    free(oplabel);
     return rc;
 }
 

@@ -77,7 +77,7 @@ static void sec_overview(struct rdoc *r, const struct report_doc *d)
 
 /* A chain with every value, defaults included; the text as given when it
  * does not parse (a result written by another version). */
-static void chain_cell(struct rdoc *r, const char *text)
+void report_chain_cell(struct rdoc *r, const char *text)
 {
     struct chain *ch = NULL;
     char full[2048];
@@ -125,15 +125,14 @@ static void sec_settings(struct rdoc *r, const struct report_doc *d)
         const struct rdata_cell *cc = &d->set->cells[t->cond_cell[c]];
         rdoc_cell(r, 0); rdoc_text(r, report_cond_name(t, c));
         rdoc_cell(r, 0); rdoc_text(r, cc->chain[0] && cc->on[0] ? cc->on : "-");
-        rdoc_cell(r, 0); chain_cell(r, cc->chain);
+        rdoc_cell(r, 0); report_chain_cell(r, cc->chain);
     }
     rdoc_para(r, 0);
     rdoc_text(r, "ms per scan: the mean time to describe one scan over the method's cells (scans served from "
                  "the descriptor cache not counted); descriptor bytes: descriptor and key as 4-byte floats.");
 }
 
-/* The short name of a full method label ("At a glance" lists both). */
-static const char *short_name(const struct rstat_table *t, const char *label)
+const char *report_short_name(const struct rstat_table *t, const char *label)
 {
     for (size_t m = 0; m < t->n_methods; m++)
         if (!strcmp(t->labels[m], label)) return t->methods[m];
@@ -143,13 +142,18 @@ static const char *short_name(const struct rstat_table *t, const char *label)
 static void verdict_row(struct rdoc *r, const struct rstat_table *t, const struct rdata_verdict *v)
 {
     rdoc_cell(r, 0); rdoc_text(r, v->text);
-    rdoc_cell(r, 0); rdoc_text(r, short_name(t, v->method));
+    rdoc_cell(r, 0); rdoc_text(r, report_short_name(t, v->method));
     rdoc_cell(r, 0); rdoc_text(r, v->cond);
     rdoc_cell(r, 0); rdoc_num(r, "%.3f [%.3f, %.3f]", v->value, v->lo, v->hi);
     rdoc_cell(r, 0); rdoc_text(r, v->target[0] ? v->target : "value"); rdoc_num(r, " %.3f", v->measured);
     rdoc_cell(r, 0); rdoc_text(r, v->cmp); rdoc_num(r, " %.3f", v->threshold);
-    rdoc_cell(r, v->pass ? RDOC_PASS : RDOC_FAIL);
-    rdoc_strong(r, v->pass ? "\u2713 PASS" : "\u2717 FAIL");
+    report_verdict_mark(r, v->pass);
+}
+
+void report_verdict_mark(struct rdoc *r, int pass)
+{
+    rdoc_cell(r, pass ? RDOC_PASS : RDOC_FAIL);
+    rdoc_strong(r, pass ? "\u2713 PASS" : "\u2717 FAIL");
 }
 
 static void sec_verdicts(struct rdoc *r, const struct report_doc *d)

@@ -33,25 +33,37 @@ static void overview_fill(struct report_doc *d, const struct rdata_cell *c, cons
     for (int k = 0; k < RSTAT_NKIND; k++) { v->kinds[k] = o->kinds[k]; v->revisits += o->kinds[k]; }
 }
 
+/* 1 when idx counts up by one: every scan of the span, none left out. */
+static int consecutive(const long *idx, size_t n)
+{
+    for (size_t k = 1; k < n; k++)
+        if (idx[k] != idx[k - 1] + 1) return 0;
+    return 1;
+}
+
 static int matrix_plot(struct report_doc *d, struct plot_set *ps, size_t m, const struct rdata_cell *c,
                        const struct rdata_poses *p, struct err *e)
 {
-    char path[4200];
-    if (!file_exists(c->dir, RESULTS_MATRIX, path, sizeof path)) {
+    struct matrix_csv mx;
+    int got = matrix_csv_load(c->dir, &mx, e);
+    if (got < 0) return -1;
+    if (got) {
         report_note(d, "distance matrix of %s: cell %s has no matrix.csv", d->table->methods[m], c->id);
         return 0;
     }
-    struct matrix_csv mx;
-    if (matrix_csv_read(path, &mx, e)) return -1;
     unsigned char *truth = calloc(mx.rows * mx.cols, 1);
     if (!truth) { matrix_csv_free(&mx); return err_set(e, "out of memory for the matrix truth mask"); }
     for (size_t r = 0; r < mx.rows; r++)
         for (size_t k = 0; k < mx.cols; k++)
             truth[r * mx.cols + k] = (unsigned char)rstat_true_pair(p, &c->proto, mx.row_idx[r], mx.col_idx[k]);
-    char name[64], title[700];
+    char name[64], title[700], shown[96];
+    size_t f = plot_matrix_pool(&mx);
+    if (f > 1) snprintf(shown, sizeof shown, "%zu x %zu, each pixel the smallest of %zu x %zu", mx.rows, mx.cols, f, f);
+    else snprintf(shown, sizeof shown, "%zu x %zu scans%s", mx.rows, mx.cols,
+                  consecutive(mx.row_idx, mx.rows) && consecutive(mx.col_idx, mx.cols) ? "" : ", evenly spaced");
     report_plot_name(name, sizeof name, "distance-matrix", m, d->table->methods[m]);
-    snprintf(title, sizeof title, "Descriptor distances, %s, condition %s", d->table->methods[m],
-             report_cond_name(d->table, d->table->ref_cond[m]));
+    snprintf(title, sizeof title, "Descriptor distances, %s, condition %s (%s)", d->table->methods[m],
+             report_cond_name(d->table, d->table->ref_cond[m]), shown);
     int rc = plot_matrix(ps, name, title, &mx, truth, e);
     free(truth);
     matrix_csv_free(&mx);

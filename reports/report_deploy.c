@@ -8,9 +8,9 @@
 #include "reports/rdoc.h"
 #include "reports/report_int.h"
 
-static void op_row(struct rdoc *r, const struct rdata_verdict *v)
+static void op_row(struct rdoc *r, const struct rstat_table *t, const struct rdata_verdict *v)
 {
-    rdoc_cell(r, 0); rdoc_text(r, v->method);
+    rdoc_cell(r, 0); rdoc_text(r, report_short_name(t, v->method));
     rdoc_cell(r, 0); rdoc_text(r, v->cond);
     rdoc_cell(r, 0); rdoc_text(r, v->tuned_on);
     rdoc_cell(r, 0); rdoc_text(r, v->rule);
@@ -22,8 +22,7 @@ static void op_row(struct rdoc *r, const struct rdata_verdict *v)
     rdoc_cell(r, 0);
     if (isnan(v->value)) rdoc_text(r, "no threshold to score at");
     else rdoc_num(r, "%.3f [%.3f, %.3f]", v->value, v->lo, v->hi);
-    rdoc_cell(r, v->pass ? RDOC_PASS : RDOC_FAIL);
-    rdoc_strong(r, v->pass ? "pass" : "FAIL");
+    report_verdict_mark(r, v->pass);
 }
 
 /* Criteria judged at a threshold carried from another condition. */
@@ -35,7 +34,7 @@ void report_sec_oppoints(struct rdoc *r, const struct report_doc *d)
     size_t n = 0;
     for (size_t k = 0; k < s->n_verdicts; k++) n += (size_t)s->verdicts[k].has_op;
     if (!n) return;
-    rdoc_heading(r, 3, "Operating points");
+    rdoc_heading(r, 2, "Operating points");
     rdoc_para(r, 0);
     rdoc_text(r, "A deployed system keeps the threshold it was tuned with. Each row takes the threshold chosen "
                  "on the tuned-on condition by the rule (with the 95% interval of that choice over bootstrap "
@@ -43,7 +42,7 @@ void report_sec_oppoints(struct rdoc *r, const struct report_doc *d)
     rdoc_table(r, 8, "llllrlrl");
     for (size_t k = 0; k < 8; k++) { rdoc_cell(r, 0); rdoc_text(r, head[k]); }
     for (size_t k = 0; k < s->n_verdicts; k++)
-        if (s->verdicts[k].has_op) op_row(r, &s->verdicts[k]);
+        if (s->verdicts[k].has_op) op_row(r, d->table, &s->verdicts[k]);
 }
 
 /* Same (method, condition, axis value) as cell b. */
@@ -54,10 +53,11 @@ static int kind_same_group(const struct rdata_cell *a, const struct rdata_cell *
 }
 
 /* One row: the group of cell k (its first cell), means over its seeds. */
-static void kind_row(struct rdoc *r, const struct rdata_set *s, size_t k)
+static void kind_row(struct rdoc *r, const struct report_doc *d, size_t k)
 {
+    const struct rdata_set *s = d->set;
     const struct rdata_cell *c = &s->cells[k];
-    rdoc_cell(r, 0); rdoc_text(r, c->label);
+    rdoc_cell(r, 0); rdoc_text(r, d->table->methods[d->table->cell_method[k]]);
     rdoc_cell(r, 0); rdoc_text(r, c->cond[0] ? c->cond : "none");
     if (c->has_axis) rdoc_num(r, " %s=%g", c->axis_key, c->axis_value);
     for (int kind = 0; kind < 3; kind++) {
@@ -88,7 +88,7 @@ void report_sec_kinds(struct rdoc *r, const struct report_doc *d)
     size_t n = 0;
     for (size_t k = 0; k < s->n; k++) n += (size_t)(s->cells[k].ok && s->cells[k].has_kinds);
     if (!n) return;
-    rdoc_heading(r, 3, "Scores per kind of revisit");
+    rdoc_heading(r, 2, "Scores per kind of revisit");
     rdoc_para(r, 0);
     rdoc_text(r, "Revisits classed by the heading difference to the pose they revisit: same direction "
                  "(within 45 degrees unless the run set otherwise), reverse (from 135 degrees), crossing "
@@ -102,7 +102,7 @@ void report_sec_kinds(struct rdoc *r, const struct report_doc *d)
         if (!c->ok || !c->has_kinds) continue;
         size_t j = 0;
         while (j < k && !(s->cells[j].ok && s->cells[j].has_kinds && kind_same_group(&s->cells[j], c))) j++;
-        if (j == k) kind_row(r, s, k);
+        if (j == k) kind_row(r, d, k);
     }
 }
 
@@ -182,7 +182,7 @@ static void sens_stage_row(struct rdoc *r, const struct rdata_sens *x)
 {
     rdoc_cell(r, 0); rdoc_text(r, x->compound);
     rdoc_cell(r, 0); rdoc_text(r, x->method);
-    rdoc_cell(r, 0); rdoc_code(r, x->parameter);
+    rdoc_cell(r, 0); report_chain_cell(r, x->parameter);
     rdoc_cell(r, 0); rdoc_num(r, "%.3f [%.3f, %.3f]", x->loss, x->loss_lo, x->loss_hi);
     rdoc_cell(r, 0); rdoc_num(r, "%.3f", x->compound_loss);
     rdoc_cell(r, 0); rdoc_num(r, "%.0f%%", 100 * x->share);
@@ -200,7 +200,7 @@ void report_sec_sens(struct rdoc *r, const struct report_doc *d)
     size_t na = 0, ns = 0;
     for (size_t k = 0; k < s->n_sens; k++) { na += !s->sens[k].stage; ns += (size_t)s->sens[k].stage; }
     if (!na && !ns) return;
-    rdoc_heading(r, 3, "Sensitivity ranking");
+    rdoc_heading(r, 2, "Sensitivity ranking");
     rdoc_para(r, 0);
     rdoc_text(r, "What costs the most, per method (from ");
     rdoc_code(r, "sensitivity.csv");

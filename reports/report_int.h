@@ -75,6 +75,13 @@ struct rdoc *report_build(const struct report_doc *d);
 /* Sections of report_deploy.c: verdicts at a carried threshold, and scores
  * per kind of revisit; each adds nothing when the folder has none. */
 void report_sec_oppoints(struct rdoc *r, const struct report_doc *d);
+/* The short name of a full method label (the label itself when no method has it). */
+const char *report_short_name(const struct rstat_table *t, const char *label);
+/* A table cell holding a verdict: its colour, a mark and the word. */
+void report_verdict_mark(struct rdoc *r, int pass);
+/* A chain with every value, defaults included (the text as given when it
+ * does not parse); "none (unperturbed)" for "". */
+void report_chain_cell(struct rdoc *r, const char *text);
 void report_sec_kinds(struct rdoc *r, const struct report_doc *d);
 /* The sensitivity ranking: its table (a section) and its chart (a plot). */
 void report_sec_sens(struct rdoc *r, const struct report_doc *d);

@@ -1,4 +1,4 @@
-/* fuzz_results.c: the poses.csv, matrix.csv and result.json readers of a
+/* fuzz_results.c: the poses.csv, matrix.csv, matrix.bin and result.json readers of a
  * results folder on arbitrary bytes (the first byte picks the reader, the
  * rest is the file). */
 #include "harness/results/matrix_csv.h"
@@ -11,7 +11,7 @@ int LLVMFuzzerTestOneInput(const uint8_t *data, size_t size)
     if (!size) return 0;
     char path[256];
     struct err e;
-    int which = data[0] % 3;
+    int which = data[0] % 4;
     if (!fuzz_file(path, sizeof path, "results.file", data + 1, size - 1)) return 0;
     if (which == 0) {
         struct poses_csv p;
@@ -19,6 +19,9 @@ int LLVMFuzzerTestOneInput(const uint8_t *data, size_t size)
     } else if (which == 1) {
         struct matrix_csv m;
         if (!matrix_csv_read(path, &m, &e)) matrix_csv_free(&m);
+    } else if (which == 3) {
+        struct matrix_csv m;
+        if (!matrix_csv_bin_read(path, &m, &e)) matrix_csv_free(&m);
     } else {
         cJSON *r = result_json_load(path, &e);
         struct protocol p;

@@ -50,6 +50,7 @@ def main():
     sweep = os.path.join(tmp, "sweep")
     subprocess.run([sys.executable, os.path.join(ROOT, "reports/fixture.py"), sweep, "--seeds", "3",
                     "--conditions", "2"], check=True)
+    op_marks(tmp)
     subprocess.run([BIN, "report", sweep, "--quiet"], check=True)
     cell = os.path.join(sweep, "cells", "m0-c0-s1")
     plots = os.path.join(sweep, "report", "plots")
@@ -127,7 +128,7 @@ def main():
         for c, mj in enumerate(ci):
             if mj in tc:
                 want_pairs.add((c, r))
-    got_pairs = set((int(a), int(b)) for a, b in load_block(os.path.join(plots, "distance-matrix-0-ring-key.dat"), 1))
+    got_pairs = set((int(a), int(b)) for a, b in load_block(os.path.join(plots, "distance-matrix-0-ring-key.dat"), 0))
     check(got_pairs == want_pairs and want_pairs, "matrix: true-revisit marks equal the scipy pairs (%d)" % len(want_pairs))
 
     # Table: mean and sample standard deviation over three seeds.
@@ -147,6 +148,32 @@ def main():
     pr_marks(sweep, plots)
     shutil.rmtree(tmp, ignore_errors=True)
     return done()
+
+
+def op_marks(tmp):
+    """Operating points on the PR curves: the threshold a verdict carries
+    from 'none' to 'dropout-0.5' is marked on both conditions' curves of its
+    method, at the curve point of the largest threshold not above it
+    (numpy.searchsorted(side='right') - 1 on result.json's ascending
+    thresholds: a query is accepted when its distance <= the threshold),
+    with its label."""
+    sweep = os.path.join(tmp, "ops")
+    subprocess.run([sys.executable, os.path.join(ROOT, "reports/fixture.py"), sweep, "--verdicts"], check=True)
+    subprocess.run([BIN, "report", sweep, "--quiet", "--format", "md"], check=True)
+    plots = os.path.join(sweep, "report", "plots")
+    v = [c for c in json.load(open(os.path.join(sweep, "verdicts.json")))["criteria"] if "operating_point" in c][0]
+    tau = v["operating_point"]["threshold"]
+    for cell, plot in (("m0-c0-s1", "pr-0-none"), ("m0-c4-s1", "pr-1-dropout-0-5")):
+        cv = json.load(open(os.path.join(sweep, "cells", cell, "result.json")))["curve"]
+        k = int(np.searchsorted(cv["threshold"], tau, side="right")) - 1
+        path = os.path.join(plots, plot + "-oppoints.dat")
+        got = load_block(path) if os.path.exists(path) else []
+        check(len(got) == 1 and k >= 0 and np.allclose(got[0][:3], [cv["recall"][k], cv["precision"][k], 0]),
+              "%s: the operating point lies on ring-key's curve at the carried threshold %.4g" % (plot, tau))
+        gp = open(os.path.join(plots, plot + ".gp")).read()
+        check(("\"ring-key at %.4g (tuned on none, precision 0.99)\"" % tau) in gp, "%s: the point is labelled" % plot)
+    check(not os.path.exists(os.path.join(plots, "pr-2-sector-width-30-oppoints.dat")),
+          "no operating point on a condition no verdict names")
 
 
 def pr_marks(sweep, plots):

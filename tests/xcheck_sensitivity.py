@@ -89,7 +89,10 @@ def main():
     p = subprocess.run([BIN, "report", sw, "--quiet"], capture_output=True, text=True)
     check(p.returncode == 0, "the report is written: " + p.stderr[-300:])
     md = open(os.path.join(sw, "report", "report.md")).read()
-    check("### Sensitivity ranking" in md, "the report has a sensitivity section")
+    check("\n## Sensitivity ranking\n" in md, "the report has a sensitivity section (in the contents)")
+    # A stage run alone shows its chain with every value, defaults included
+    # (units as the settings table writes them): tilt:pitch=4 is tilt:roll=0deg,pitch=4deg.
+    check("| `tilt:roll=0deg,pitch=4deg` |" in md, "a stage alone is shown with all its values")
     for r in sens:
         if r["kind"] == "axis":
             row = "| %s | %s | %s |" % (r["rank"], r["method"].replace("_", "\\_"), r["parameter"])

@@ -1,4 +1,5 @@
 /* cmd_eval.c: `revisit eval`: one evaluation, end to end, into a results folder. */
+#include <limits.h>
 #include <math.h>
 #include <stdio.h>
 #include <stdlib.h>
@@ -6,6 +7,7 @@
 #include <unistd.h>
 
 #include "harness/cli/cmd.h"
+#include "harness/results/matrix_csv.h"
 #include "harness/results/outdir.h"
 #include "harness/run/eval.h"
 #include "harness/base/fileio.h"
@@ -19,7 +21,9 @@ static const char about[] =
     "them against the poses and write DIR/result.json (every scalar with its\n"
     "bootstrap interval, the curve, settings, chain, seed, timings),\n"
     "DIR/queries.csv (what 'revisit metrics' reads), DIR/poses.csv and\n"
-    "DIR/matrix.csv.  Loop mode by default; --query makes it reloc.  METHOD is a\n"
+    "DIR/matrix.csv (every query against every map scan up to --matrix-scans;\n"
+    "past 400 x 400 the whole matrix is DIR/matrix.bin and matrix.csv a sample).\n"
+    "Loop mode by default; --query makes it reloc.  METHOD is a\n"
     "plugin name ('revisit methods' lists them), a path to a .so, or a path to a\n"
     "program speaking the external protocol.  --cache DIR keeps descriptors so a\n"
     "repeated run (another protocol or threshold) does not describe again.\n"
@@ -39,7 +43,7 @@ static const char about[] =
 struct eval_opts {
     const char *map, *query, *method, *out, *chain, *on, *plugin_path, *cache, *condition, *tuned_on, *op_rule;
     unsigned long long seed, boot_seed;
-    long boot, jobs, top_c, mem_mb;
+    long boot, jobs, top_c, mem_mb, matrix_scans;
     double time_s, same_deg, reverse_deg;
     int quiet, isolate, replace;
     struct opt_protocol op;
@@ -94,6 +98,9 @@ static int eval_finish_spec(struct eval_opts *o, struct eval_spec *s, struct err
     }
     s->time_limit_s = o->time_s;
     s->mem_limit_mb = (size_t)o->mem_mb;
+    if (o->matrix_scans != LONG_MIN && (o->matrix_scans < 0 || o->matrix_scans > MATRIX_BIN_MAX))
+        return err_set(e, "revisit eval: --matrix-scans expects 0 to %d scans, got %ld", MATRIX_BIN_MAX, o->matrix_scans);
+    s->matrix_scans = o->matrix_scans == LONG_MIN ? 0 : o->matrix_scans ? o->matrix_scans : -1;
     return 0;
 }
 
@@ -142,6 +149,7 @@ int cmd_eval(int argc, char **argv)
     o.boot_seed = 1;
     o.boot = -1;
     o.top_c = -1;
+    o.matrix_scans = LONG_MIN;   /* not given */
     o.same_deg = 45;
     o.reverse_deg = 135;
     opt_protocol_init(&o.op);
@@ -161,6 +169,8 @@ int cmd_eval(int argc, char **argv)
         {"--operating-point", OPT_STR, &o.op_rule, "RULE", "f1max (default), precision:P, recall:R or fixed:D, chosen on --tuned-on"},
         {"--same-within", OPT_DOUBLE, &o.same_deg, "DEG", "revisits turned at most DEG count as same direction (default 45)"},
         {"--reverse-from", OPT_DOUBLE, &o.reverse_deg, "DEG", "revisits turned at least DEG count as reverse (default 135)"},
+        {"--matrix-scans", OPT_INT, &o.matrix_scans, "N",
+         "distance matrix of every scan when map and queries have at most N each (default 4000; 0: a sample only)"},
         {"--cache", OPT_STR, &o.cache, "DIR", "descriptor cache folder, shared between runs"},
         {"--condition", OPT_STR, &o.condition, "NAME", "condition name recorded in result.json"},
         {"--out", OPT_STR, &o.out, "DIR", "results folder (created; an existing one must be empty)"},

@@ -2,6 +2,7 @@
  * keeps its cells.
  *
  *     DIR/result.json, queries.csv, poses.csv, matrix.csv   one evaluation
+ *     DIR/matrix.bin                    beside them, a matrix too large for matrix.csv
  *     DIR/scenario.json                 a sweep folder: its scenario
  *     DIR/cells/ID/                     a finished cell (an evaluation folder)
  *     DIR/cells/.part-ID/               a cell being written
@@ -26,6 +27,7 @@
 #define RESULTS_QUERIES "queries.csv"
 #define RESULTS_POSES "poses.csv"
 #define RESULTS_MATRIX "matrix.csv"
+#define RESULTS_MATRIX_BIN "matrix.bin"      /* a matrix larger than matrix.csv holds */
 #define RESULTS_SCENARIO "scenario.json"
 #define RESULTS_VERDICTS "verdicts.json"
 #define RESULTS_SUMMARY_CSV "summary.csv"

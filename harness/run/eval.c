@@ -62,8 +62,9 @@ struct ev_ctx {
     struct pr_curve *curve;
     struct ev_set *iso_set;      /* the set an isolated child describes */
     uint64_t map_digest, query_digest;  /* recording_digest of each */
-    size_t mat_ri[400], mat_ci[400], mat_nr, mat_nc;   /* matrix.csv: rows, columns */
+    size_t *mat_ri, *mat_ci, mat_nr, mat_nc;   /* the distance matrix: scan of each row, column */
     double *mat;                 /* mat_nr x mat_nc distances */
+    struct progress mat_prog;
 };
 
 void eval_spec_defaults(struct eval_spec *s)
@@ -92,6 +93,8 @@ static void ev_free(struct ev_ctx *c)
     if (!c->shared) ev_set_free(&c->qset);
     retrieval_out_free(&c->r);
     free(c->mat);
+    free(c->mat_ri);
+    free(c->mat_ci);
     pr_curve_free(c->curve);
     pr_set_free(c->ps);
     gt_free(c->g);
@@ -467,30 +470,67 @@ static int ev_matrix_row(void *arg, size_t r, int w, struct err *e)
     (void)w;
     (void)e;
     struct ev_ctx *c = arg;
-    for (size_t k = 0; k < c->mat_nc; k++)
+    /* Loop mode: a query's candidates are earlier scans, so the row stops at
+     * the diagonal (the columns are in scan order: a prefix). */
+    size_t nk = c->mat_nc;
+    if (!c->reloc)
+        for (nk = 0; nk < c->mat_nc && c->mat_ci[nk] <= c->mat_ri[r];) nk++;
+    for (size_t k = 0; k < nk; k++)
         c->mat[r * c->mat_nc + k] = ev_pair(c, c->mat_ri[r], c->mat_ci[k]);
+    for (size_t k = nk; k < c->mat_nc; k++) c->mat[r * c->mat_nc + k] = NAN;
+    progress_add(&c->mat_prog, 1);
     return 0;
 }
 
-/* The distances matrix.csv shows: at most 400 x 400 (a custom distance,
- * being slower, 60 x 60), rows on the pool (the distance is called from
- * several threads in retrieval already), timed as matrix_s. */
+/* The distance matrix, timed as matrix_s.  Every query against every map
+ * scan when both sets have at most matrix_scans scans (EVAL_MATRIX_SCANS
+ * unless the spec says; a negative value: never); otherwise an evenly
+ * spaced sample of MATRIX_CSV_MAX rows and columns (60 for a custom
+ * distance, being slower).  In loop mode only the pairs on and below the
+ * diagonal (the map scan no later than the query) are computed, the rest
+ * are NaN: no later scan is ever a candidate.  Rows run on the pool (the
+ * distance is called from several threads in retrieval already). */
 static int ev_matrix(struct ev_ctx *c, struct err *e)
 {
     double t0 = progress_now();
-    size_t most = c->plug.distance == RV_DIST_CUSTOM ? 60 : 400;
-    c->mat_nr = ev_spread(c->qset.n, most, c->mat_ri);
-    c->mat_nc = ev_spread(c->mset.n, most, c->mat_ci);
+    long most = c->s->matrix_scans ? c->s->matrix_scans : EVAL_MATRIX_SCANS;
+    int full = most > 0 && c->qset.n <= (size_t)most && c->mset.n <= (size_t)most;
+    size_t sample = c->plug.distance == RV_DIST_CUSTOM ? 60 : MATRIX_CSV_MAX;
+    c->mat_ri = malloc((c->qset.n + 1) * sizeof *c->mat_ri);
+    c->mat_ci = malloc((c->mset.n + 1) * sizeof *c->mat_ci);
+    if (!c->mat_ri || !c->mat_ci) return err_set(e, "out of memory for the distance matrix's indices");
+    c->mat_nr = ev_spread(c->qset.n, full ? c->qset.n : sample, c->mat_ri);
+    c->mat_nc = ev_spread(c->mset.n, full ? c->mset.n : sample, c->mat_ci);
     c->mat = malloc((c->mat_nr * c->mat_nc + 1) * sizeof *c->mat);
     if (!c->mat) return err_set(e, "out of memory for a %zu x %zu distance matrix", c->mat_nr, c->mat_nc);
-    if (pool_run(c->mat_nr, c->s->jobs, ev_matrix_row, c, e)) return -1;
+    progress_start(&c->mat_prog, "distance matrix", c->mat_nr, c->s->quiet);
+    int rc = pool_run(c->mat_nr, c->s->jobs, ev_matrix_row, c, e);
+    progress_end(&c->mat_prog);
     c->sum.matrix_s = progress_now() - t0;
-    return 0;
+    return rc;
 }
 
-static int ev_write_matrix(const struct ev_ctx *c, const char *path, struct err *e)
+/* matrix.csv: the matrix when it fits MATRIX_CSV_MAX, else an evenly spaced
+ * sample of its rows and columns, with matrix.bin holding all of it. */
+static int ev_write_matrix(const struct ev_ctx *c, const char *dir, struct err *e)
 {
-    return matrix_csv_write(path, c->mat_ri, c->mat_nr, c->mat_ci, c->mat_nc, c->mat, e);
+    char path[4200];
+    if (results_path(path, sizeof path, dir, RESULTS_MATRIX, e)) return -1;
+    if (c->mat_nr <= MATRIX_CSV_MAX && c->mat_nc <= MATRIX_CSV_MAX)
+        return matrix_csv_write(path, c->mat_ri, c->mat_nr, c->mat_ci, c->mat_nc, c->mat, e);
+    size_t pr[MATRIX_CSV_MAX], pc[MATRIX_CSV_MAX], ri[MATRIX_CSV_MAX], ci[MATRIX_CSV_MAX];
+    size_t nr = ev_spread(c->mat_nr, MATRIX_CSV_MAX, pr), nc = ev_spread(c->mat_nc, MATRIX_CSV_MAX, pc);
+    double *d = malloc(nr * nc * sizeof *d);
+    if (!d) return err_set(e, "out of memory for the sample of the distance matrix");
+    for (size_t r = 0; r < nr; r++) {
+        ri[r] = c->mat_ri[pr[r]];
+        for (size_t k = 0; k < nc; k++) d[r * nc + k] = c->mat[pr[r] * c->mat_nc + pc[k]];
+    }
+    for (size_t k = 0; k < nc; k++) ci[k] = c->mat_ci[pc[k]];
+    int rc = matrix_csv_write(path, ri, nr, ci, nc, d, e);
+    free(d);
+    if (rc || results_path(path, sizeof path, dir, RESULTS_MATRIX_BIN, e)) return -1;
+    return matrix_csv_bin_write(path, c->mat_ri, c->mat_nr, c->mat_ci, c->mat_nc, c->mat, e);
 }
 
 static void ev_str(cJSON *o, const char *key, const char *v)
@@ -633,7 +673,7 @@ static cJSON *ev_result_json(const struct ev_ctx *c, struct err *e)
     return o;
 }
 
-/* queries.csv, poses.csv, matrix.csv, then result.json last: a folder with a
+/* queries.csv, poses.csv, matrix.csv (and matrix.bin), then result.json last: a folder with a
  * result.json is complete. */
 static int ev_write(const struct ev_ctx *c, const struct pr_lists *l, struct err *e)
 {
@@ -642,7 +682,7 @@ static int ev_write(const struct ev_ctx *c, const struct pr_lists *l, struct err
     if (fileio_mkdirs(dir, e)) return -1;
     if (results_path(path, sizeof path, dir, RESULTS_QUERIES, e) || queries_csv_write(path, l, e)) return -1;
     if (results_path(path, sizeof path, dir, RESULTS_POSES, e) || ev_write_poses(c, path, e)) return -1;
-    if (results_path(path, sizeof path, dir, RESULTS_MATRIX, e) || ev_write_matrix(c, path, e)) return -1;
+    if (ev_write_matrix(c, dir, e)) return -1;
     if (results_path(path, sizeof path, dir, RESULTS_RESULT, e)) return -1;
     cJSON *result = ev_result_json(c, e);
     return result ? json_file_write(path, result, e) : -1;

@@ -13,6 +13,7 @@
 #define RV_EVAL_H
 
 #define EVAL_MEM_LIMIT_MB ((size_t)4096)  /* default --mem-limit */
+#define EVAL_MATRIX_SCANS 4000L           /* default --matrix-scans */
 
 #include <stdint.h>
 #include "harness/base/err.h"
@@ -55,6 +56,8 @@ struct eval_spec {
     const char *tuned_on;      /* results folder (queries.csv, poses.csv) choosing the threshold, or NULL */
     struct oppoint_choice op;  /* the rule (zero: F1max) */
     struct kind_rule kinds;    /* revisit kinds by heading difference (zero: 45 and 135 degrees) */
+    long matrix_scans;         /* the distance matrix holds every scan when map and queries have at most
+                                  this many each (0 = EVAL_MATRIX_SCANS; negative: never, a sample only) */
 };
 
 struct eval_summary {
@@ -68,7 +71,7 @@ struct eval_summary {
     size_t cache_rejected;     /* cache files found corrupt or not matching, rebuilt */
     size_t cache_stale;        /* cache files of another recording content or method build, rebuilt */
     size_t scans_hashed;       /* scan files read to update the recordings' digests */
-    double matrix_s;           /* the distances of matrix.csv */
+    double matrix_s;           /* the distances of matrix.csv (and matrix.bin) */
     /* operating point (spec.tuned_on) */
     int has_op;
     double op_tau, op_precision, op_recall, op_fp;

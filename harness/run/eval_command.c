@@ -55,6 +55,7 @@ size_t eval_spec_command(const struct eval_spec *s, const char *out_dir, char *o
     protocol_words(&b, &s->protocol);
     textbuf_put(&b, " --bootstrap %d --bootstrap-seed %llu", s->bootstrap, (unsigned long long)s->bootstrap_seed);
     if (s->top_c > 0) textbuf_put(&b, " --prefilter %d", s->top_c);
+    if (s->matrix_scans) textbuf_put(&b, " --matrix-scans %ld", s->matrix_scans > 0 ? s->matrix_scans : 0L);
     opt(&b, "--condition", s->condition);
     if (s->isolate) textbuf_put(&b, " --isolate");
     if (s->time_limit_s > 0) textbuf_put(&b, " --time-limit %.17g", s->time_limit_s);
