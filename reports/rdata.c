@@ -117,8 +117,30 @@ static int cell_curve(const cJSON *cv, const char *path, struct rdata_cell *cell
     return 0;
 }
 
+/* A string of its own size ("" when o[key] is not one); NULL when out of memory. */
+static char *json_dup(const cJSON *o, const char *key)
+{
+    const cJSON *v = cJSON_GetObjectItemCaseSensitive(o, key);
+    return strdup(cJSON_IsString(v) && v->valuestring ? v->valuestring : "");
+}
+
+/* "operating_point": where the threshold was chosen, its rule and value.  0 or -1. */
+static int cell_oppoint(const cJSON *op, const char *path, struct rdata_cell *c, struct err *e)
+{
+    c->has_op = cJSON_IsObject(op);
+    c->op_target = json_num(op, "target", NAN);
+    c->op_tau = json_num(op, "threshold", NAN);
+    c->op_tuned_on = json_dup(op, "tuned_on");
+    c->op_rule = json_dup(op, "rule");
+    if (!c->op_tuned_on || !c->op_rule) return err_at(e, path, 0, "out of memory");
+    return 0;
+}
+
 void rdata_cell_free(struct rdata_cell *c)
 {
+    free(c->op_tuned_on);
+    free(c->op_rule);
+    c->op_tuned_on = c->op_rule = NULL;
     free(c->curve_t);
     free(c->curve_p);
     free(c->curve_r);
@@ -171,6 +193,7 @@ int rdata_cell_parse(const char *text, const char *path, struct rdata_cell *c, s
     cell_metrics(root, c);
     cell_kinds(cJSON_GetObjectItemCaseSensitive(root, "kinds"), c);
     int rc = cell_curve(cJSON_GetObjectItemCaseSensitive(root, "curve"), path, c, e);
+    if (!rc) rc = cell_oppoint(cJSON_GetObjectItemCaseSensitive(root, "operating_point"), path, c, e);
     int ok = rc ? 0 : result_json_status(root, path, e);
     cJSON_Delete(root);
     if (ok < 0) rc = -1;

@@ -54,6 +54,9 @@ struct rdata_cell {
     struct rdata_metric m[RDATA_NMETRIC];
     size_t curve_n;            /* PR curve points (0 when absent) */
     double *curve_t, *curve_p, *curve_r;
+    int has_op;                /* "operating_point": the threshold carried from the cell op_tuned_on */
+    char *op_tuned_on, *op_rule;   /* sized to their text ("" when absent) */
+    double op_target, op_tau;  /* NaN when absent */
     int has_kinds;             /* "kinds" present: per kind of revisit (same, reverse, crossing) */
     double kind_revisits[3], kind_recall1[3], kind_r100p[3];
 };

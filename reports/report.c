@@ -137,46 +137,76 @@ static int verdict_on(const struct report_doc *d, const struct rdata_verdict *v,
            cl->has_axis == v->has_axis && (!v->has_axis || cl->axis_value == v->axis_value);
 }
 
-/* The operating points on condition c's curves: each carried threshold of
- * a verdict on c or tuned on c, at the curve's point of the largest
- * threshold not above it (what a deployed system accepts).  label holds
- * max texts (a text too long is cut, ending in "..."); returns the count. */
-static size_t pr_oppoints(struct report_doc *d, size_t c, const struct plot_series *sr, const size_t *sm, size_t ns,
-                          struct plot_oppoint *ops, char (*label)[REPORT_OP_LABEL], size_t max)
+/* Where the operating points of condition c go. */
+struct pr_ops {
+    struct report_doc *d;
+    size_t c, ns, n, max;
+    const struct plot_series *sr;
+    const size_t *sm;
+    struct plot_oppoint *ops;
+    char (*label)[REPORT_OP_LABEL];
+};
+
+/* The threshold tau of a rule chosen on condition `tuned` on series j's
+ * curve, at the point of the largest curve threshold not above it (what a
+ * deployed system accepts), labelled; a point already there is kept once. */
+static void pr_op_add(struct pr_ops *o, size_t j, double tau, const char *tuned, const char *rule, double target)
 {
-    const struct rstat_table *t = d->table;
-    size_t n = 0;
-    for (size_t k = 0; k < d->set->n_verdicts && n < max; k++) {
-        const struct rdata_verdict *v = &d->set->verdicts[k];
-        if (!v->has_op || !isfinite(v->op_tau) || !(verdict_on(d, v, c, 0) || verdict_on(d, v, c, 1))) continue;
-        size_t j = 0;
-        while (j < ns && strcmp(t->labels[sm[j]], v->method) && strcmp(t->methods[sm[j]], v->method)) j++;
-        if (j == ns) continue;
-        const struct rdata_cell *cl = &d->set->cells[report_ok_cell(d->set, t, sm[j], c)];  /* sr[j]'s cell */
-        size_t at = 0;
-        for (size_t i = 0; i < cl->curve_n; i++)  /* the curve's thresholds ascend (metrics/pr.h) */
-            if (cl->curve_t[i] <= v->op_tau) at = i + 1;
-        if (!at) {
-            report_note(d, "operating point of %s on %s: no query accepted at the threshold %.4g",
-                        t->methods[sm[j]], report_cond_name(t, c), v->op_tau);
-            continue;
-        }
-        if (err_cut(snprintf(label[n], sizeof label[n], "%s at %.4g (tuned on %s, %s %g)", t->methods[sm[j]],
-                             v->op_tau, v->tuned_on, v->rule, v->op_target), sizeof label[n]))
-            memcpy(label[n] + sizeof label[n] - 4, "...", 4);
-        int dup = 0;
-        for (size_t q = 0; q < n && !dup; q++) dup = !strcmp(label[q], label[n]);
-        if (dup) continue;
-        ops[n] = (struct plot_oppoint){j, sr[j].x[at - 1], sr[j].y[at - 1], label[n]};
-        n++;
+    const struct rstat_table *t = o->d->table;
+    const struct rdata_cell *cl = &o->d->set->cells[report_ok_cell(o->d->set, t, o->sm[j], o->c)];  /* sr[j]'s */
+    size_t at = 0;
+    if (o->n == o->max || !isfinite(tau)) return;
+    for (size_t i = 0; i < cl->curve_n; i++)  /* the curve's thresholds ascend (metrics/pr.h) */
+        if (cl->curve_t[i] <= tau) at = i + 1;
+    char *l = o->label[o->n];
+    char tg[40] = "";
+    if (isfinite(target)) snprintf(tg, sizeof tg, " %g", target);
+    if (err_cut(snprintf(l, REPORT_OP_LABEL, "%s at %.4g (tuned on %s, %s%s)", t->methods[o->sm[j]], tau, tuned, rule,
+                         tg), REPORT_OP_LABEL))
+        memcpy(l + REPORT_OP_LABEL - 4, "...", 4);
+    for (size_t q = 0; q < o->n; q++)
+        if (!strcmp(o->label[q], l)) return;
+    if (!at) {
+        report_note(o->d, "operating point %s on %s: no query is accepted there", l, report_cond_name(t, o->c));
+        return;
     }
-    return n;
+    o->ops[o->n] = (struct plot_oppoint){j, o->sr[j].x[at - 1], o->sr[j].y[at - 1], l};
+    o->n++;
+}
+
+/* The condition name of the cell with this id (a result's tuned_on), else the id. */
+static const char *cell_cond(const struct rdata_set *s, const char *id)
+{
+    for (size_t i = 0; i < s->n; i++)
+        if (!strcmp(s->cells[i].id, id)) return s->cells[i].cond[0] ? s->cells[i].cond : "none";
+    return id;
+}
+
+/* The operating points on condition c's curves: each cell's own (result.json
+ * "operating_point") and each carried threshold of a verdict on c or tuned
+ * on c.  Returns the count. */
+static size_t pr_oppoints(struct pr_ops *o)
+{
+    const struct rstat_table *t = o->d->table;
+    o->n = 0;
+    for (size_t j = 0; j < o->ns; j++) {
+        const struct rdata_cell *cl = &o->d->set->cells[report_ok_cell(o->d->set, t, o->sm[j], o->c)];
+        if (cl->has_op) pr_op_add(o, j, cl->op_tau, cell_cond(o->d->set, cl->op_tuned_on), cl->op_rule, cl->op_target);
+    }
+    for (size_t k = 0; k < o->d->set->n_verdicts; k++) {
+        const struct rdata_verdict *v = &o->d->set->verdicts[k];
+        if (!v->has_op || !(verdict_on(o->d, v, o->c, 0) || verdict_on(o->d, v, o->c, 1))) continue;
+        size_t j = 0;
+        while (j < o->ns && strcmp(t->labels[o->sm[j]], v->method) && strcmp(t->methods[o->sm[j]], v->method)) j++;
+        if (j < o->ns) pr_op_add(o, j, v->op_tau, v->tuned_on, v->rule, v->op_target);
+    }
+    return o->n;
 }
 
 static int plots_pr(struct report_doc *d, struct plot_set *ps, struct progress *pg, struct err *e)
 {
     const struct rstat_table *t = d->table;
-    size_t max_ops = d->set->n_verdicts + 1;
+    size_t max_ops = d->set->n_verdicts + t->n_methods + 1;
     struct plot_series *sr = malloc((2 * t->n_methods + 1) * sizeof *sr), *bh = sr + t->n_methods;
     char (*refname)[320] = malloc((t->n_methods + 1) * sizeof *refname);
     size_t *sm = malloc((t->n_methods + 1) * sizeof *sm);
@@ -196,7 +226,8 @@ static int plots_pr(struct report_doc *d, struct plot_set *ps, struct progress *
             sr[ns++] = cur;
         }
         if (!ns) { report_note(d, "PR curves for condition %s: no cell holds a curve", report_cond_name(t, c)); continue; }
-        size_t n_ops = pr_oppoints(d, c, sr, sm, ns, ops, oplabel, max_ops);
+        struct pr_ops po = {d, c, ns, 0, max_ops, sr, sm, ops, oplabel};
+        size_t n_ops = pr_oppoints(&po);
         char name[64], title[600];
         report_plot_name(name, sizeof name, "pr", c, report_cond_name(t, c));
         snprintf(title, sizeof title, "PR curves, condition %s (first seed; dotted: the reference condition%s)",

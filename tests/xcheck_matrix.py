@@ -8,7 +8,9 @@ of harness/run/desc_cache.h) with numpy.frombuffer:
   every query against every map scan on and below the diagonal (NaN above:
   no later scan is a candidate), each equal to cdist rounded to float32;
   matrix.csv holds an evenly spaced 400 x 400 sample of it;
-- --matrix-scans 0 keeps the sample only (no matrix.bin);
+- --matrix-scans 0 keeps the sample only (no matrix.bin); a custom distance
+  (Scan Context) keeps a 60 x 60 sample unless --matrix-scans asks, and its
+  whole matrix then agrees with the top candidates of queries.csv;
 - a sweep: the unperturbed cell gets every scan, a perturbed one the sample;
 - the report draws the whole matrix: its image data (NAME.bin) equals
   matrix.bin, one pixel per distance.
@@ -106,6 +108,22 @@ def main():
     cmd = json.load(open(os.path.join(out0, "result.json")))["command"]
     check("--matrix-scans 0" in cmd, "the recorded command says --matrix-scans 0")
 
+    # A custom distance (Scan Context, slow per pair): a 60 x 60 sample unless asked for.
+    osc = os.path.join(tmp, "sc")
+    subprocess.run([BIN, "eval", "--map", rec, "--method", "scan-context", "--bootstrap", "0", "--out", osc,
+                    "--quiet"], check=True, stdout=subprocess.DEVNULL)
+    r, c, _ = read_csv(os.path.join(osc, "matrix.csv"))
+    check(not os.path.exists(os.path.join(osc, "matrix.bin")) and len(r) == 60 and len(c) == 60,
+          "a custom distance keeps a 60 x 60 sample by default (%d x %d)" % (len(r), len(c)))
+    subprocess.run([BIN, "eval", "--map", rec, "--method", "scan-context", "--bootstrap", "0", "--out", osc,
+                    "--quiet", "--replace", "--matrix-scans", str(N)], check=True, stdout=subprocess.DEVNULL)
+    ri2, ci2, d2 = read_bin(os.path.join(osc, "matrix.bin"))
+    q = {int(ln.split(",")[0]): (int(ln.split(",")[1]), float(ln.split(",")[2]))
+         for ln in open(os.path.join(osc, "queries.csv")) if ln[:1].isdigit() and ln.count(",") >= 2 and ln.split(",")[1]}
+    same = [abs(d2[i, j] - np.float32(dist)) <= 1e-6 * max(1, dist) for i, (j, dist) in q.items()]
+    check(len(ri2) == N and same and all(same), "--matrix-scans %d: Scan Context's whole matrix, each query's top "
+          "candidate at the distance queries.csv gives it (%d queries)" % (N, len(same)))
+
     # The report draws every distance: its image data equals matrix.bin.
     subprocess.run([BIN, "report", out, "--quiet", "--format", "md"], check=True)
     img = glob.glob(os.path.join(out, "report", "plots", "distance-matrix-*.bin"))
@@ -142,6 +160,8 @@ def sweep(tmp, rec):
         check(not os.path.exists(os.path.join(drop[0], "matrix.bin")), "sweep: the perturbed cell holds the sample only")
         cmd = json.load(open(os.path.join(drop[0], "result.json")))["command"]
         check("--matrix-scans 0" in cmd, "sweep: the perturbed cell's command says --matrix-scans 0")
+        cmd = json.load(open(os.path.join(clean[0], "result.json")))["command"]
+        check("--matrix-scans 4000" in cmd, "sweep: the unperturbed cell's command says --matrix-scans 4000")
 
 
 if __name__ == "__main__":

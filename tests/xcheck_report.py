@@ -159,6 +159,14 @@ def op_marks(tmp):
     with its label."""
     sweep = os.path.join(tmp, "ops")
     subprocess.run([sys.executable, os.path.join(ROOT, "reports/fixture.py"), sweep, "--verdicts"], check=True)
+    # A cell's own operating point (result.json "operating_point", as a sweep
+    # with a scenario operating point writes it): plain-hist's F1max
+    # threshold on none, carried to its dropout cell.
+    tau1 = json.load(open(os.path.join(sweep, "cells", "m1-c0-s1", "result.json")))["metrics"]["f1max"]["threshold"]
+    p1 = os.path.join(sweep, "cells", "m1-c4-s1", "result.json")
+    r1 = json.load(open(p1))
+    r1["operating_point"] = {"tuned_on": "m1-c0-s1", "rule": "f1max", "threshold": tau1}
+    json.dump(r1, open(p1, "w"))
     subprocess.run([BIN, "report", sweep, "--quiet", "--format", "md"], check=True)
     plots = os.path.join(sweep, "report", "plots")
     v = [c for c in json.load(open(os.path.join(sweep, "verdicts.json")))["criteria"] if "operating_point" in c][0]
@@ -167,11 +175,18 @@ def op_marks(tmp):
         cv = json.load(open(os.path.join(sweep, "cells", cell, "result.json")))["curve"]
         k = int(np.searchsorted(cv["threshold"], tau, side="right")) - 1
         path = os.path.join(plots, plot + "-oppoints.dat")
-        got = load_block(path) if os.path.exists(path) else []
+        got = [r for r in load_block(path) if r[2] == 0] if os.path.exists(path) else []
         check(len(got) == 1 and k >= 0 and np.allclose(got[0][:3], [cv["recall"][k], cv["precision"][k], 0]),
               "%s: the operating point lies on ring-key's curve at the carried threshold %.4g" % (plot, tau))
         gp = open(os.path.join(plots, plot + ".gp")).read()
         check(("\"ring-key at %.4g (tuned on none, precision 0.99)\"" % tau) in gp, "%s: the point is labelled" % plot)
+    cv = r1["curve"]
+    k = int(np.searchsorted(cv["threshold"], tau1, side="right")) - 1
+    got = [r for r in load_block(os.path.join(plots, "pr-1-dropout-0-5-oppoints.dat")) if r[2] == 1]
+    check(len(got) == 1 and np.allclose(got[0][:2], [cv["recall"][k], cv["precision"][k]]),
+          "a cell's own operating point lies on its curve at its threshold")
+    gp = open(os.path.join(plots, "pr-1-dropout-0-5.gp")).read()
+    check(("\"plain-hist at %.4g (tuned on none, f1max)\"" % tau1) in gp, "a cell's own operating point is labelled")
     check(not os.path.exists(os.path.join(plots, "pr-2-sector-width-30-oppoints.dat")),
           "no operating point on a condition no verdict names")
 

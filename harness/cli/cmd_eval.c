@@ -22,7 +22,8 @@ static const char about[] =
     "bootstrap interval, the curve, settings, chain, seed, timings),\n"
     "DIR/queries.csv (what 'revisit metrics' reads), DIR/poses.csv and\n"
     "DIR/matrix.csv (every query against every map scan up to --matrix-scans;\n"
-    "past 400 x 400 the whole matrix is DIR/matrix.bin and matrix.csv a sample).\n"
+    "past 400 x 400 the whole matrix is DIR/matrix.bin and matrix.csv a sample;\n"
+    "a custom distance, being slow, gives a 60 x 60 sample unless asked).\n"
     "Loop mode by default; --query makes it reloc.  METHOD is a\n"
     "plugin name ('revisit methods' lists them), a path to a .so, or a path to a\n"
     "program speaking the external protocol.  --cache DIR keeps descriptors so a\n"
@@ -170,7 +171,8 @@ int cmd_eval(int argc, char **argv)
         {"--same-within", OPT_DOUBLE, &o.same_deg, "DEG", "revisits turned at most DEG count as same direction (default 45)"},
         {"--reverse-from", OPT_DOUBLE, &o.reverse_deg, "DEG", "revisits turned at least DEG count as reverse (default 135)"},
         {"--matrix-scans", OPT_INT, &o.matrix_scans, "N",
-         "distance matrix of every scan when map and queries have at most N each (default 4000; 0: a sample only)"},
+         "distance matrix of every scan when map and queries have at most N each (default 4000 for a dense "
+         "distance; a custom one: a sample unless given; 0: a sample only)"},
         {"--cache", OPT_STR, &o.cache, "DIR", "descriptor cache folder, shared between runs"},
         {"--condition", OPT_STR, &o.condition, "NAME", "condition name recorded in result.json"},
         {"--out", OPT_STR, &o.out, "DIR", "results folder (created; an existing one must be empty)"},

@@ -483,19 +483,21 @@ static int ev_matrix_row(void *arg, size_t r, int w, struct err *e)
 }
 
 /* The distance matrix, timed as matrix_s.  Every query against every map
- * scan when both sets have at most matrix_scans scans (EVAL_MATRIX_SCANS
- * unless the spec says; a negative value: never); otherwise an evenly
- * spaced sample of MATRIX_CSV_MAX rows and columns (60 for a custom
- * distance, being slower).  In loop mode only the pairs on and below the
+ * scan when both sets have at most matrix_scans scans (unless the spec
+ * says: EVAL_MATRIX_SCANS for a dense distance, none for a custom one,
+ * whose pairs cost microseconds each: 1,594 scans of Scan Context take
+ * about 12 s; a negative value: never); otherwise an evenly spaced sample
+ * of MATRIX_CSV_MAX rows and columns (60 for a custom distance).  In loop mode only the pairs on and below the
  * diagonal (the map scan no later than the query) are computed, the rest
  * are NaN: no later scan is ever a candidate.  Rows run on the pool (the
  * distance is called from several threads in retrieval already). */
 static int ev_matrix(struct ev_ctx *c, struct err *e)
 {
     double t0 = progress_now();
-    long most = c->s->matrix_scans ? c->s->matrix_scans : EVAL_MATRIX_SCANS;
+    int custom = c->plug.distance == RV_DIST_CUSTOM;
+    long most = c->s->matrix_scans ? c->s->matrix_scans : custom ? -1 : EVAL_MATRIX_SCANS;
     int full = most > 0 && c->qset.n <= (size_t)most && c->mset.n <= (size_t)most;
-    size_t sample = c->plug.distance == RV_DIST_CUSTOM ? 60 : MATRIX_CSV_MAX;
+    size_t sample = custom ? 60 : MATRIX_CSV_MAX;
     c->mat_ri = malloc((c->qset.n + 1) * sizeof *c->mat_ri);
     c->mat_ci = malloc((c->mset.n + 1) * sizeof *c->mat_ci);
     if (!c->mat_ri || !c->mat_ci) return err_set(e, "out of memory for the distance matrix's indices");

@@ -57,7 +57,8 @@ struct eval_spec {
     struct oppoint_choice op;  /* the rule (zero: F1max) */
     struct kind_rule kinds;    /* revisit kinds by heading difference (zero: 45 and 135 degrees) */
     long matrix_scans;         /* the distance matrix holds every scan when map and queries have at most
-                                  this many each (0 = EVAL_MATRIX_SCANS; negative: never, a sample only) */
+                                  this many each (0: EVAL_MATRIX_SCANS for a dense distance, a sample only
+                                  for a custom one; negative: never, a sample only) */
 };
 
 struct eval_summary {

@@ -95,11 +95,11 @@ void sweep_cell_spec(const struct plan *p, size_t k, const struct sweep_opts *o,
     s->axis_value = c->axis_value;
     /* The report draws each method's matrix from its reference cells, the
      * unperturbed ones (the first condition when none is): every scan
-     * there, the cheaper sample everywhere else. */
+     * there, a custom distance too, the cheaper sample everywhere else. */
     int any_clean = 0;
     for (size_t j = 0; j < p->n_cells && !any_clean; j++) any_clean = !p->cells[j].chain || !*p->cells[j].chain;
     int reference = any_clean ? !c->chain || !*c->chain : c->cond == 0;
-    s->matrix_scans = reference ? 0 : -1;
+    s->matrix_scans = reference ? EVAL_MATRIX_SCANS : -1;
 }
 
 /* The condition object shared by cell.json and a failed result.json. */
