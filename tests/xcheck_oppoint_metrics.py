@@ -15,6 +15,7 @@ the ground truth is recomputed with numpy from each cell's poses.csv
 import csv
 import json
 import os
+import shutil
 import subprocess
 import sys
 import tempfile
@@ -104,6 +105,17 @@ def check_sweep(T, rec):
           "op_false_positives_per_km of dropout: value %r (scikit-learn %r), judged at its upper bound %r" %
           (v[2]["value"], want["drop"][4], hi))
     check(close(v[3]["value"], v[0]["value"]), "a tuned_on criterion and the op_ row agree (%r, %r)" % (v[3]["value"], v[0]["value"]))
+    # a cell whose threshold has nowhere to come from is named by check
+    shutil.copytree(sw, sw + "2")
+    shutil.rmtree(os.path.join(sw + "2", "cells", "scan-context__clean__s1"))
+    p = subprocess.run([BIN, "check", sj, sw + "2"], capture_output=True, text=True)
+    check(p.returncode == 2 and "incomplete sweep: cell scan-context__clean__s1 has no result" in p.stderr,
+          "check names the missing tuned_on cell an op_ criterion needs: " + p.stderr[-300:])
+    p = subprocess.run([BIN, "merge", "--out", sw + "2", sw + "2"], capture_output=True, text=True)
+    rows2 = {r["condition"]: r for r in csv.DictReader(open(os.path.join(sw + "2", "summary.csv")))}
+    r2 = json.load(open(os.path.join(sw + "2", "cells", "scan-context__mount__s1", "result.json")))
+    check(p.returncode == 0 and rows2["mount"]["op_precision"] == "" and r2["metrics"]["op_precision"]["value"] is None
+          and "operating_point" not in r2, "rows whose tuned_on cell is gone are cleared, not kept stale: " + p.stderr[-200:])
     out = subprocess.run([BIN, "merge", "--out", sw, sw], capture_output=True, text=True)
     check(out.returncode == 0 and close(json.load(open(os.path.join(cell("mount"), "result.json")))["metrics"]["op_precision"]["value"],
                                         want["mount"][0]), "a merge rewrites the same rows: " + out.stderr[-200:])

@@ -296,7 +296,7 @@ static int sm_write_op_cells(const struct summary *s, struct err *e)
 {
     for (size_t k = 0; k < s->p->n_cells; k++) {
         char path[4200];
-        if (!s->cells[k].has_op) continue;
+        if (!s->cells[k].has_op && !s->cells[k].op_cleared) continue;
         if (results_cell_path(path, sizeof path, s->dir, s->p->cells[k].id, RESULTS_RESULT, e) ||
             json_file_write(path, cJSON_Duplicate(s->cells[k].result, 1), e))
             return -1;

@@ -44,6 +44,7 @@ struct summary_cell {
     int ok;                /* its status is "ok" */
     struct cJSON *result;  /* parsed result.json, NULL when not done */
     int has_op;            /* scored at the scenario's operating point (summary_op_fill) */
+    int op_cleared;        /* its result held operating-point rows no cell can back now: cleared */
     double op_tau;         /* that threshold (NaN when its rule found none) */
     struct oppoint_drive drive;   /* km and hours of the cell's scored recording */
 };
@@ -83,9 +84,15 @@ int summary_metric(const struct summary *s, size_t k, const char *metric,
  * tuned_on) is ok: the threshold chosen there, the PR_OP_* metrics of the
  * cell at it with intervals, put into the cell's parsed result ("metrics"
  * rows and an "operating_point" object, as eval --tuned-on writes them).
- * Other cells keep those rows null.  0, or -1 when a cell's queries.csv or
+ * Other cells have those rows null (rows left
+ * from an earlier run whose tuned_on cell is gone are cleared).  0, or -1 when a cell's queries.csv or
  * poses.csv cannot be read. */
 int summary_op_fill(struct summary *s, struct err *e);
+
+/* The cell choosing cell k's threshold: same method, the operating point's
+ * tuned_on condition (at its axis value), the same seed or tuned_on's only
+ * seed; -1 when there is none (or the plan has no operating point). */
+long summary_op_partner(const struct plan *p, size_t k);
 
 /* summary.csv, summary_seeds.csv and summary.json in s->dir; and the
  * result.json of every cell summary_op_fill scored, rewritten with its

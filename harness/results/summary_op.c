@@ -12,13 +12,12 @@
 #include "harness/results/result_metrics.h"
 #include "metrics/oppoint.h"
 
-/* The cell choosing cell k's threshold: same method, the tuned_on condition
- * (at its axis value), the same seed or tuned_on's only seed; -1 if none. */
-static long so_partner(const struct plan *p, size_t k)
+long summary_op_partner(const struct plan *p, size_t k)
 {
     const struct plan_cell *c = &p->cells[k];
     long only = -1;
     size_t n = 0;
+    if (!p->op.on) return -1;
     for (size_t j = 0; j < p->n_cells; j++) {
         const struct plan_cell *d = &p->cells[j];
         if (d->method != c->method || d->cond != p->op.tuned_on || (p->op.has_value && d->axis_value != p->op.value))
@@ -69,13 +68,25 @@ static int so_cell(struct summary *s, size_t k, size_t b, struct err *e)
     return rc;
 }
 
+/* Rows of an earlier run whose tuned_on cell is gone (failed, removed to
+ * run again): null again, so nothing stale is judged or tabled. */
+static int so_clear(struct summary_cell *c, struct err *e)
+{
+    if (!cJSON_GetObjectItemCaseSensitive(c->result, "operating_point")) return 0;
+    struct pr_scalars none;
+    double nan[PR_N_METRICS];
+    for (int m = 0; m < PR_N_METRICS; m++) none.v[m] = nan[m] = NAN;
+    cJSON_DeleteItemFromObjectCaseSensitive(c->result, "operating_point");
+    c->op_cleared = 1;
+    return result_metrics_replace_op(c->result, &none, nan, nan, e);
+}
+
 int summary_op_fill(struct summary *s, struct err *e)
 {
-    if (!s->p->op.on) return 0;
     for (size_t k = 0; k < s->p->n_cells; k++) {
-        long b = so_partner(s->p, k);
-        if (!s->cells[k].ok || b < 0 || !s->cells[b].ok) continue;
-        if (so_cell(s, k, (size_t)b, e)) return -1;
+        long b = summary_op_partner(s->p, k);
+        if (!s->cells[k].ok) continue;
+        if (b < 0 || !s->cells[b].ok ? so_clear(&s->cells[k], e) : so_cell(s, k, (size_t)b, e)) return -1;
     }
     return 0;
 }

@@ -69,6 +69,25 @@ static int sv_ready(const struct summary *s, const size_t *g, size_t n, struct e
     return 0;
 }
 
+/* A score at the scenario's operating point also needs, for each cell, the
+ * cell its threshold is chosen on, done and ok. */
+static int sv_ready_op(const struct summary *s, const struct plan_criterion *r, const size_t *g, size_t n,
+                       struct err *e)
+{
+    int m = pr_metric_find(r->metric);
+    if (r->tuned_on >= 0 || m < 0 || !pr_metric_def((enum pr_metric)m)->at_op) return 0;
+    for (size_t j = 0; j < n; j++) {
+        long b = summary_op_partner(s->p, g[j]);
+        if (b < 0)
+            return err_at(e, s->p->path, 0, "cell %s has no cell of condition '%s' with its method and seed to "
+                          "choose the operating threshold on, expected one (or a tuned_on condition with one seed)",
+                          s->p->cells[g[j]].id, s->p->conds[s->p->op.tuned_on].name);
+        size_t bb = (size_t)b;
+        if (sv_ready(s, &bb, 1, e)) return -1;
+    }
+    return 0;
+}
+
 /* Mean over seeds and the cautious interval of a plain metric. */
 static int sv_plain(const struct summary *s, const struct plan_criterion *r, const size_t *g, size_t n,
                     struct summary_verdict *v, struct err *e)
@@ -211,7 +230,8 @@ static int sv_judge_one(const struct summary *s, size_t ri, size_t m, struct sum
                       tuned ? r->tuned_value : r->base_value, &base);
         if (nb == (size_t)-1) rc = err_set(e, "out of memory");
     }
-    if (!rc) rc = sv_ready(s, g, n, e) || sv_ready(s, base, nb, e) ? -1 : 0;
+    if (!rc) rc = sv_ready(s, g, n, e) || sv_ready(s, base, nb, e) || sv_ready_op(s, r, g, n, e) ||
+                    sv_ready_op(s, r, base, nb, e) ? -1 : 0;
     memset(v, 0, sizeof *v);
     v->criterion = ri;
     v->method = m;
