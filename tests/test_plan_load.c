@@ -214,6 +214,10 @@ static void check_bad(void)
               "conditions[0].axis.key: missing, expected a string", "an axis needs its key");
     CHECK_MSG(bad(HEAD M1 "\"conditions\": [{\"name\": \"c\", \"axis\": {\"stage\": \"s\", \"key\": \"w\", \"values\": [1, 1]}}]}"),
               "conditions[0].axis.values[1]: value 1 given twice", "a repeated axis value is refused");
+    CHECK_MSG(bad(HEAD M1 "\"conditions\": [{\"name\": \"c\", \"axis\": {\"stage\": \"s\", \"key\": \"w\", \"values\": [-0, 5, 0]}}]}"),
+              "conditions[0].axis.values[2]: value 0 given twice", "-0 and 0 are one axis value");
+    CHECK_MSG(bad(HEAD M1 C1 ", \"seeds\": [4, 1, 2, 3, 2, 4]}"), "seeds[4]: seed 2 given twice",
+              "the first repeat in file order is named");
     CHECK_MSG(bad(HEAD M1 "\"conditions\": [{\"name\": \"c\", \"chain\": \"\"}]}"),
               "conditions[0].chain: expected a non-empty string", "an empty chain is refused");
     CHECK_MSG(bad(HEAD M1 C1 ", \"bootstrap\": {\"resamples\": -5}}"), "bootstrap.resamples: -5 is out of range",

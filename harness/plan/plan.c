@@ -10,6 +10,7 @@
 
 #include "harness/base/fileio.h"
 #include "harness/base/json_path.h"
+#include "harness/base/keyset.h"
 #include "harness/base/numfmt.h"
 #include "metrics/pr.h"
 #include "perturb/chain.h"
@@ -17,12 +18,15 @@
 #define PLAN_FILE_MAX ((size_t)4 << 20)
 #define JP 256   /* room for one JSON path */
 
-/* Loader context: the file name and its text for messages, and the error record. */
+/* Loader context: the file name and its text for messages, the error
+ * record, and the names taken so far (method labels, method names,
+ * condition names). */
 struct pl {
     const char *file;
     struct err *e;
     const char *text;
     size_t len;
+    struct keyset *methods, *method_names, *conds;
 };
 
 static int pl_fail(const struct pl *c, const char *jp, const char *fmt, ...)
@@ -282,16 +286,19 @@ static int pl_seeds(const struct pl *c, const cJSON *v, const char *jp, uint64_t
         return pl_fail(c, jp, "expected a count or a non-empty list of seeds");
     *n = (size_t)cJSON_GetArraySize(v);
     if (!(*out = malloc(*n * sizeof **out))) return pl_fail(c, jp, "out of memory");
+    struct keyset seen = {0};
     size_t k = 0;
-    for (const cJSON *it = v->child; it; it = it->next, k++) {
+    int rc = 0;
+    for (const cJSON *it = v->child; it && !rc; it = it->next, k++) {
         char sub[JP];
         pl_index(sub, jp, k);
-        if (pl_whole(c, it, sub, 0, 9007199254740992.0, &x)) return -1;
+        if (pl_whole(c, it, sub, 0, 9007199254740992.0, &x)) { rc = -1; break; }
         (*out)[k] = (uint64_t)x;
-        for (size_t j = 0; j < k; j++)
-            if ((*out)[j] == (*out)[k]) return pl_fail(c, sub, "seed %.0f given twice", x);
+        int r = keyset_add(&seen, &(*out)[k], sizeof **out, k, NULL);
+        if (r) rc = r < 0 ? pl_fail(c, sub, "out of memory") : pl_fail(c, sub, "seed %.0f given twice", x);
     }
-    return 0;
+    keyset_free(&seen);
+    return rc;
 }
 
 /* ---- methods ------------------------------------------------------------ */
@@ -320,13 +327,13 @@ static int pl_add_method(const struct pl *c, struct plan *p, const char *label, 
     if (alias && !pl_plain(alias))
         return pl_fail(c, ajp, "'%s' is not a plain word, expected letters, digits, '.', '_', '-'", alias);
     const char *mine = alias ? alias : label;
-    for (size_t k = 0; k < p->n_methods; k++) {
-        const struct plan_method *o = &p->methods[k];
-        if (!strcmp(o->label, label)) return pl_fail(c, jp, "method '%s' given twice", label);
-        if (!strcmp(o->name, mine) || !strcmp(o->label, mine) || !strcmp(o->name, label))
-            return pl_fail(c, alias ? ajp : jp, "two methods are called '%s', expected a name of its own for each",
-                           !strcmp(o->name, label) ? label : mine);
-    }
+    /* c->methods holds the labels so far, c->method_names their names */
+    if (keyset_find(c->methods, label, strlen(label), NULL)) return pl_fail(c, jp, "method '%s' given twice", label);
+    int label_named = keyset_find(c->method_names, label, strlen(label), NULL);
+    if (label_named || keyset_find(c->method_names, mine, strlen(mine), NULL) ||
+        keyset_find(c->methods, mine, strlen(mine), NULL))
+        return pl_fail(c, alias ? ajp : jp, "two methods are called '%s', expected a name of its own for each",
+                       label_named ? label : mine);
     struct plan_method *m = realloc(p->methods, (p->n_methods + 1) * sizeof *m);
     if (!m) return pl_fail(c, jp, "out of memory");
     p->methods = m;
@@ -336,7 +343,9 @@ static int pl_add_method(const struct pl *c, struct plan *p, const char *label, 
     m->label = pl_dup(label);
     m->name = pl_dup(alias ? alias : label);
     m->has_alias = alias != NULL;
-    if (!m->label || !m->name) return pl_fail(c, jp, "out of memory");
+    if (!m->label || !m->name || keyset_add(c->methods, m->label, strlen(m->label), p->n_methods - 1, NULL) ||
+        keyset_add(c->method_names, m->name, strlen(m->name), p->n_methods - 1, NULL))
+        return pl_fail(c, jp, "out of memory");
     return 0;
 }
 
@@ -426,15 +435,19 @@ static int pl_axis(const struct pl *c, const cJSON *o, const char *jp, struct pl
     d->axis_stage = pl_dup(stage);
     d->axis_key = pl_dup(key);
     if (!d->values || !d->axis_stage || !d->axis_key) return pl_fail(c, jp, "out of memory");
+    static const double zero = 0.0;   /* the key of -0 and 0, which are one value */
+    struct keyset seen = {0};
     size_t k = 0;
-    for (const cJSON *v = vs->child; v; v = v->next, k++) {
+    int rc = 0;
+    for (const cJSON *v = vs->child; v && !rc; v = v->next, k++) {
         pl_index(el, sub, k);
-        if (!cJSON_IsNumber(v) || !isfinite(v->valuedouble)) return pl_fail(c, el, "expected a number");
+        if (!cJSON_IsNumber(v) || !isfinite(v->valuedouble)) { rc = pl_fail(c, el, "expected a number"); break; }
         d->values[k] = v->valuedouble;
-        for (size_t j = 0; j < k; j++)
-            if (d->values[j] == d->values[k]) return pl_fail(c, el, "value %g given twice", v->valuedouble);
+        int r = keyset_add(&seen, d->values[k] == 0 ? &zero : &d->values[k], sizeof zero, k, NULL);
+        if (r) rc = r < 0 ? pl_fail(c, el, "out of memory") : pl_fail(c, el, "value %g given twice", v->valuedouble);
     }
-    return 0;
+    keyset_free(&seen);
+    return rc;
 }
 
 static int pl_cond(const struct pl *c, const cJSON *o, const char *jp, struct plan *p, struct plan_cond *d,
@@ -449,14 +462,15 @@ static int pl_cond(const struct pl *c, const cJSON *o, const char *jp, struct pl
         return -1;
     pl_join(sub, jp, "name");
     if (!pl_plain(name)) return pl_fail(c, sub, "'%s' expected a plain name (letters, digits, '.', '_', '-')", name);
-    for (size_t j = 0; j < p->n_conds; j++)
-        if (!strcmp(p->conds[j].name, name)) return pl_fail(c, sub, "condition '%s' given twice", name);
+    if (keyset_find(c->conds, name, strlen(name), NULL)) return pl_fail(c, sub, "condition '%s' given twice", name);
     pl_join(sub, jp, "on");
     if (on && pl_pick(c, sub, on, chain_on_names, &k)) return -1;
     d->name = pl_dup(name);
     d->chain = pl_dup(chain);
     d->on = pl_dup(on);
-    if (!d->name || (chain && !d->chain) || (on && !d->on)) return pl_fail(c, jp, "out of memory");
+    if (!d->name || (chain && !d->chain) || (on && !d->on) ||
+        keyset_add(c->conds, d->name, strlen(d->name), (size_t)(d - p->conds), NULL))
+        return pl_fail(c, jp, "out of memory");
     pl_join(sub, jp, "chain");
     struct err ce;
     if (chain && chain_parse(chain, &d->parsed, &ce)) return pl_fail(c, sub, "%s", ce.msg);
@@ -511,9 +525,9 @@ static int pl_stages_alone(const struct pl *c, struct plan *p, size_t k)
         x->part_of = k;
         struct err ce;
         if (chain_parse(x->chain, &x->parsed, &ce)) return pl_fail(c, "conditions", "%s: %s", name, ce.msg);
-        for (size_t i = 0; i + 1 < p->n_conds; i++)
-            if (!strcmp(p->conds[i].name, name))
-                return pl_fail(c, "conditions", "condition '%s' is also the name of a stage run alone", name);
+        int r = keyset_add(c->conds, x->name, strlen(x->name), p->n_conds - 1, NULL);
+        if (r < 0) return pl_fail(c, "conditions", "out of memory");
+        if (r) return pl_fail(c, "conditions", "condition '%s' is also the name of a stage run alone", name);
         at += len + (at[len] == '+');
     }
     return 0;
@@ -570,9 +584,8 @@ static int pl_select_cond(const struct pl *c, const cJSON *o, const char *jp, co
     char sub[JP];
     if (pl_str(c, o, jp, ckey, 1, &name)) return -1;
     pl_join(sub, jp, ckey);
-    size_t k = 0;
-    while (k < p->n_conds && strcmp(p->conds[k].name, name)) k++;
-    if (k == p->n_conds) return pl_fail(c, sub, "no condition named '%s'", name);
+    size_t k;
+    if (!keyset_find(c->conds, name, strlen(name), &k)) return pl_fail(c, sub, "no condition named '%s'", name);
     *cond = k;
     const struct plan_cond *d = &p->conds[k];
     const cJSON *v = pl_get(o, vkey);
@@ -836,10 +849,12 @@ static int pl_expand(const struct pl *c, struct plan *p)
                     if (pl_cell(c, p, m, ci, d->n_values ? (long)v : -1, d->seeds[s], &p->cells[p->n_cells++]))
                         return -1;
         }
-    for (size_t k = 0; k < p->n_cells; k++)
-        if (plan_find_cell(p, p->cells[k].id) != (long)k)
-            return pl_fail(c, "methods", "two cells share the id '%s', expected distinct method labels",
-                           p->cells[k].id);
+    for (size_t k = 0; k < p->n_cells; k++) {
+        int r = keyset_add(&p->ids, p->cells[k].id, strlen(p->cells[k].id), k, NULL);
+        if (r < 0) return pl_fail(c, "", "out of memory");
+        if (r) return pl_fail(c, "methods", "two cells share the id '%s', expected distinct method labels",
+                              p->cells[k].id);
+    }
     return 0;
 }
 
@@ -863,7 +878,8 @@ static int pl_root(const struct pl *c, const cJSON *root, struct plan *p)
 int plan_parse(struct plan *p, const char *text, size_t len, const char *path, struct err *e)
 {
     memset(p, 0, sizeof *p);
-    struct pl c = {path, e, text, len};
+    struct keyset methods = {0}, names = {0}, conds = {0};
+    struct pl c = {path, e, text, len, &methods, &names, &conds};
     if (err_json_bom(text, len, path, e)) return -1;
     const char *end = NULL;
     cJSON *root = cJSON_ParseWithLengthOpts(text, len, &end, 0);
@@ -875,6 +891,9 @@ int plan_parse(struct plan *p, const char *text, size_t len, const char *path, s
     plan_hash_hex(text, len, p->hash);
     int rc = (p->path = pl_dup(path)) ? pl_root(&c, root, p) : err_set(e, "out of memory");
     cJSON_Delete(root);
+    keyset_free(&methods);
+    keyset_free(&names);
+    keyset_free(&conds);
     if (rc) {
         struct err keep;
         if (e) keep = *e;
@@ -915,14 +934,14 @@ void plan_free(struct plan *p)
     }
     free(p->methods); free(p->conds); free(p->cells); free(p->criteria);
     free(p->path); free(p->name); free(p->map_rec); free(p->query_rec);
+    keyset_free(&p->ids);
     memset(p, 0, sizeof *p);
 }
 
 long plan_find_cell(const struct plan *p, const char *id)
 {
-    for (size_t k = 0; k < p->n_cells; k++)
-        if (!strcmp(p->cells[k].id, id)) return (long)k;
-    return -1;
+    size_t k;
+    return keyset_find(&p->ids, id, strlen(id), &k) ? (long)k : -1;
 }
 
 int plan_parse_shard(const char *s, int *i, int *n, struct err *e)

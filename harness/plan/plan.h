@@ -27,6 +27,7 @@
 #include <stddef.h>
 #include <stdint.h>
 #include "harness/base/err.h"
+#include "harness/base/keyset.h"
 #include "metrics/oppoint.h"
 #include "metrics/protocol.h"
 #include "perturb/chain.h"
@@ -115,6 +116,7 @@ struct plan {
     struct plan_cond *conds;
     struct plan_cell *cells;
     struct plan_criterion *criteria;
+    struct keyset ids;    /* cell id -> index into cells (plan_find_cell) */
 };
 
 /* Read, check and expand a scenario file. 0 or -1 (e: "FILE:LINE:COL: JSON.PATH: ..."). */
@@ -125,7 +127,7 @@ int plan_parse(struct plan *p, const char *text, size_t len, const char *path, s
 /* Free everything; accepts a zeroed or failed plan. */
 void plan_free(struct plan *p);
 
-/* Look up a cell by id; returns its index or -1. */
+/* Look up a cell by id; returns its index or -1 (expected constant time). */
 long plan_find_cell(const struct plan *p, const char *id);
 /* "i/n" with 0 <= i < n into *i, *n. 0 or -1. */
 int plan_parse_shard(const char *s, int *i, int *n, struct err *e);
