@@ -140,8 +140,8 @@ void recording_free(struct recording *rec);
 
 /* The content digest of rec: the manifest's bytes, the poses as read and
  * every scan file's content hash (recording_digest.c). Scan hashes are kept
- * in MANIFEST.digest beside the manifest; a scan whose size and mtime match
- * its stored line is not read again. *hashed (may be NULL) gets the number
+ * in MANIFEST.digest beside the manifest; a scan whose size, mtime, inode
+ * and ctime match its stored line is not read again. *hashed (may be NULL) gets the number
  * of scans read and hashed now. 0, or -1 with e naming the file. */
 int recording_digest(const struct recording *rec, uint64_t *digest, size_t *hashed, struct err *e);
 

@@ -5,13 +5,18 @@
  * the content hash of every scan file. Scan hashes are kept beside the
  * manifest in MANIFEST.digest, one line per scan:
  *
- *     revisit-digest-1
- *     SIZE MTIME_NS HASH16 PATH
+ *     revisit-digest-2
+ *     SIZE MTIME_NS INODE CTIME_NS HASH16 PATH
  *
- * A scan whose size and modification time match its line keeps its hash
- * (a stat, no read); any other is read and hashed again and the file is
- * rewritten. When the folder is read-only the hashes are simply computed
- * on every run.
+ * A scan whose size, modification time, inode number and status-change
+ * time all match its line keeps its hash (a stat, no read); any other is
+ * read and hashed again and the file is rewritten.  The mtime alone is not
+ * enough: a user can set it back (touch -d) after rewriting a file at the
+ * same size.  The ctime cannot be set by a user, and every write or
+ * replacement of the file moves it (or, for a new file renamed into
+ * place, the inode changes).  A digest file of another version is read as
+ * empty, so every scan is hashed once again.  When the folder is read-only
+ * the hashes are simply computed on every run.
  */
 #include "harness/io/recording.h"
 
@@ -23,9 +28,9 @@
 
 #include "harness/base/fileio.h"
 
-#define RD_MAGIC "revisit-digest-1"
+#define RD_MAGIC "revisit-digest-2"
 
-struct rd_entry { unsigned long long size, mtime, hash; };
+struct rd_entry { unsigned long long size, mtime, ino, ctime, hash; };
 
 /* Stored entries for the scans of rec (by index, only where the path
  * matches); absent ones stay zero. */
@@ -39,7 +44,9 @@ static void rd_load(const struct recording *rec, const char *path, struct rd_ent
     for (size_t k = 0; k < rec->n && (line = strtok_r(NULL, "\n", &save)); k++) {
         struct rd_entry x;
         int off = 0;
-        if (sscanf(line, "%llu %llu %llx %n", &x.size, &x.mtime, &x.hash, &off) != 3 || !off) break;
+        if (sscanf(line, "%llu %llu %llu %llu %llx %n", &x.size, &x.mtime, &x.ino, &x.ctime, &x.hash, &off) != 5 ||
+            !off)
+            break;
         if (!strcmp(line + off, rec->scan_paths[k])) v[k] = x;
     }
     free(buf);
@@ -51,20 +58,30 @@ static int rd_store(const struct recording *rec, const char *path, const struct 
     if (afile_open(&a, path, e)) return -1;
     fprintf(a.f, "%s\n", RD_MAGIC);
     for (size_t k = 0; k < rec->n; k++)
-        fprintf(a.f, "%llu %llu %016llx %s\n", v[k].size, v[k].mtime, v[k].hash, rec->scan_paths[k]);
+        fprintf(a.f, "%llu %llu %llu %llu %016llx %s\n", v[k].size, v[k].mtime, v[k].ino, v[k].ctime, v[k].hash,
+                rec->scan_paths[k]);
     return afile_commit(&a, e);
 }
 
-/* Hash scan k unless its stored entry still matches its size and mtime. */
+static unsigned long long rd_ns(struct timespec t)
+{
+    return (unsigned long long)t.tv_sec * 1000000000ull + (unsigned long long)t.tv_nsec;
+}
+
+/* Hash scan k unless its stored entry still matches its size, mtime,
+ * inode and ctime. */
 static int rd_scan(const struct recording *rec, size_t k, struct rd_entry *x, size_t *hashed, struct err *e)
 {
     struct stat st;
     if (stat(rec->scan_paths[k], &st)) return err_at(e, rec->scan_paths[k], 0, "cannot stat: %s", strerror(errno));
-    unsigned long long mt = (unsigned long long)st.st_mtim.tv_sec * 1000000000ull + (unsigned long long)st.st_mtim.tv_nsec;
-    if (x->hash && x->size == (unsigned long long)st.st_size && x->mtime == mt) return 0;
+    struct rd_entry now = {(unsigned long long)st.st_size, rd_ns(st.st_mtim), (unsigned long long)st.st_ino,
+                           rd_ns(st.st_ctim), 0};
+    if (x->hash && x->size == now.size && x->mtime == now.mtime && x->ino == now.ino && x->ctime == now.ctime)
+        return 0;
     uint64_t h;
     if (fileio_hash_file(rec->scan_paths[k], &h, e)) return err_wrap(e, "scan %zu", k);
-    *x = (struct rd_entry){(unsigned long long)st.st_size, mt, h ? h : 1};
+    now.hash = h ? h : 1;
+    *x = now;
     (*hashed)++;
     return 0;
 }
