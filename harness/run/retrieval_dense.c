@@ -4,12 +4,15 @@
  * One pool task owns RETR_TQ queries for the whole map: it multiplies them
  * by RETR_BM map rows at a time into its worker's block, and feeds each
  * query's row of scores into that query's collector (struct retr_top).
- * When the task has seen every map row, its queries are re-ranked exactly
- * (retr_rank) and written out, so per-query state lives only in the task:
+ * When the task has seen every map row, each query's candidates are cut
+ * to those that can still reach its top K (retr_top_cut), re-ranked
+ * exactly (retr_exact) and written out, so per-query state lives only in
+ * the task:
  *
  *     worker w:  blk   | RETR_TQ x RETR_BM float scores |
  *                keys  | RETR_TQ collectors of room (= 4 cap) keys |
- *                js, pair  re-rank scratch of room indices, 2 room doubles
+ *                js    | this query's rows to re-rank | the next query's |
+ *                pair  | 2 room doubles | the query in dim doubles |
  */
 #include "harness/run/retrieval.h"
 
@@ -33,6 +36,7 @@
 #define RETR_BM 1024   /* map rows per sgemm */
 #define RETR_CHUNK 64  /* scores screened at once (one bit each in a mask) */
 #define RETR_SEED 64   /* samples for a collector's first bar */
+#define RETR_NORM_ROWS 1024   /* rows per pool task of norms */
 
 /* The best cap candidates of one query so far, in an unsorted buffer of
  * room (= 4 cap) keys.  A key packs (score, index) into one integer whose
@@ -84,7 +88,7 @@ struct retr_dense {
     float *qn, *mn;           /* squared norms (L2) or inverse norms (cosine) */
     float *blk;               /* per worker: scores */
     uint64_t *keys;           /* per worker: RETR_TQ collectors of room keys */
-    int32_t *js;              /* per worker: room indices, for the re-rank */
+    int32_t *js;              /* per worker: 2 room indices, this query's re-rank and the next's */
     double *pair;             /* per worker: re-rank scratch (2 room, then dim) */
 };
 
@@ -98,14 +102,47 @@ static void retr_dense_free(struct retr_dense *d)
     free(d->pair);
 }
 
-static void retr_norms(const struct retrieval_mat *m, enum rv_distance kind, float *out)
+static float retr_norm_value(enum rv_distance kind, double s)
 {
-    for (size_t i = 0; i < m->n; i++) {
+    return kind == RV_DIST_COSINE ? (s > 0 ? (float)(1 / sqrt(s)) : 0.0f) : (float)s;
+}
+
+/* Norms of rows [i0, i1) of m, four rows side by side: each row's sum
+ * still runs over its entries in order, as it would alone. */
+static void retr_norm_rows(const struct retrieval_mat *m, enum rv_distance kind, size_t i0, size_t i1, float *out)
+{
+    size_t i = i0;
+    for (; i + 4 <= i1; i += 4) {
+        const float *v0 = m->v + i * m->dim, *v1 = v0 + m->dim, *v2 = v1 + m->dim, *v3 = v2 + m->dim;
+        double s0 = 0, s1 = 0, s2 = 0, s3 = 0;
+        for (uint32_t k = 0; k < m->dim; k++) {
+            s0 += (double)v0[k] * v0[k];
+            s1 += (double)v1[k] * v1[k];
+            s2 += (double)v2[k] * v2[k];
+            s3 += (double)v3[k] * v3[k];
+        }
+        out[i] = retr_norm_value(kind, s0), out[i + 1] = retr_norm_value(kind, s1);
+        out[i + 2] = retr_norm_value(kind, s2), out[i + 3] = retr_norm_value(kind, s3);
+    }
+    for (; i < i1; i++) {
         double s = 0;
         const float *v = m->v + i * m->dim;
         for (uint32_t k = 0; k < m->dim; k++) s += (double)v[k] * v[k];
-        out[i] = kind == RV_DIST_COSINE ? (s > 0 ? (float)(1 / sqrt(s)) : 0.0f) : (float)s;
+        out[i] = retr_norm_value(kind, s);
     }
+}
+
+/* One pool task of norms: RETR_NORM_ROWS query rows, then map rows. */
+static int retr_norm_task(void *arg, size_t task, int w, struct err *e)
+{
+    (void)w, (void)e;
+    const struct retr_dense *d = arg;
+    size_t tq = (d->q->n + RETR_NORM_ROWS - 1) / RETR_NORM_ROWS;
+    const struct retrieval_mat *m = task < tq ? d->q : d->map;
+    size_t i0 = (task < tq ? task : task - tq) * RETR_NORM_ROWS;
+    size_t i1 = m->n - i0 < RETR_NORM_ROWS ? m->n : i0 + RETR_NORM_ROWS;
+    retr_norm_rows(m, d->kind, i0, i1, task < tq ? d->qn : d->mn);
+    return 0;
 }
 
 /* Keep the k (< n) smallest keys, in any order: quickselect with a
@@ -299,12 +336,12 @@ static void retr_feed(const struct retr_dense *d, struct retr_top *t, size_t i, 
     retr_feed_rows(d, t, i, row, m0, n);
 }
 
-/* Ask the cache for a query's kept rows before they are re-ranked. */
-static void retr_prefetch(const struct retrieval_mat *map, const struct retr_top *t)
+/* Ask the cache for the rows a query will re-rank. */
+static void retr_prefetch(const struct retrieval_mat *map, const int32_t *js, int n)
 {
     size_t bytes = (size_t)map->dim * sizeof *map->v;
-    for (int c = 0; c < t->n; c++) {
-        const char *row = (const char *)(map->v + (size_t)(uint32_t)t->key[c] * map->dim);
+    for (int c = 0; c < n; c++) {
+        const char *row = (const char *)(map->v + (size_t)js[c] * map->dim);
         for (size_t o = 0; o < bytes; o += 64) __builtin_prefetch(row + o);
     }
 }
@@ -362,11 +399,14 @@ static int retr_top_cut(const struct retr_dense *d, struct retr_top *t, size_t i
 static void retr_task_rank(const struct retr_dense *d, struct retr_top *tops, size_t q0, size_t nq, int w)
 {
     double *pair = d->pair + (size_t)w * (2 * d->room + d->q->dim);
-    int32_t *js = d->js + (size_t)w * d->room;
+    int32_t *js = d->js + (size_t)w * 2 * d->room, *next = js + d->room;
+    int n = nq ? retr_top_cut(d, &tops[0], q0, js) : 0;
     for (size_t a = 0; a < nq; a++) {
-        if (a + 1 < nq) retr_prefetch(d->map, &tops[a + 1]);
-        int n = retr_top_cut(d, &tops[a], q0 + a, js);
+        int n_next = a + 1 < nq ? retr_top_cut(d, &tops[a + 1], q0 + a + 1, next) : 0;
+        retr_prefetch(d->map, next, n_next);
         retr_exact(d->map, d->q, d->kind, d->fast, js, n, q0 + a, pair + 2 * d->room, pair, d->out);
+        int32_t *t = js;
+        js = next, next = t, n = n_next;
     }
 }
 
@@ -416,7 +456,7 @@ static int retr_dense_alloc(struct retr_dense *d, int k, int jobs, struct err *e
     d->mn = malloc((d->map->n ? d->map->n : 1) * sizeof *d->mn);
     d->blk = malloc(w * RETR_TQ * RETR_BM * sizeof *d->blk);
     d->keys = malloc(slots * sizeof *d->keys);
-    d->js = malloc(w * (size_t)d->room * sizeof *d->js);
+    d->js = malloc(w * 2 * (size_t)d->room * sizeof *d->js);
     d->pair = malloc(w * (2 * (size_t)d->room + d->q->dim) * sizeof *d->pair);
     d->fast = retr_exact_fast();
     d->screen = retr_screen_pick();
@@ -437,8 +477,12 @@ int retrieval_dense(const struct retrieval_mat *map, const struct retrieval_mat 
         retrieval_out_free(out);
         return -1;
     }
-    retr_norms(q, kind, d.qn);
-    retr_norms(map, kind, d.mn);
+    size_t norm_tasks = (q->n + RETR_NORM_ROWS - 1) / RETR_NORM_ROWS + (map->n + RETR_NORM_ROWS - 1) / RETR_NORM_ROWS;
+    if (pool_run(norm_tasks, d.workers, retr_norm_task, &d, e)) {
+        retr_dense_free(&d);
+        retrieval_out_free(out);
+        return -1;
+    }
     /* The pool's workers each run a single-threaded sgemm: OpenBLAS's own
      * threads would only compete with them (a sweep running cells in
      * parallel has set one thread already: nothing changes then). */
