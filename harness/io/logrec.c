@@ -4,14 +4,11 @@
 #include "harness/io/logrec.h"
 
 #include <cjson/cJSON.h>
-#include <errno.h>
-#include <dirent.h>
 #include <limits.h>
 #include <math.h>
 #include <stdlib.h>
 #include <string.h>
 #include <sys/stat.h>
-#include <unistd.h>
 
 #include "harness/base/fileio.h"
 #include "harness/base/progress.h"
@@ -224,8 +221,8 @@ static char *logrec_log_json(const struct logrec_ctx *x, const struct logrec_res
     return s;
 }
 
-/* Both walks and the writer into dir (the partial folder). */
-static int logrec_build(struct logrec_ctx *x, const char *dir, struct logrec_result *r, struct err *e)
+/* Both walks, and the recording writer staging the folder for o->out. */
+static int logrec_build(struct logrec_ctx *x, struct logrec_result *r, struct err *e)
 {
     const struct logrec_opts *o = x->o;
     if (logf_open(&x->log, o->log, e) || logf_each(&x->log, logrec_gather, x, e)) return -1;
@@ -241,7 +238,7 @@ static int logrec_build(struct logrec_ctx *x, const char *dir, struct logrec_res
     recording_sensor_init(&sensor);
     sensor.channels = o->channels > 0 ? o->channels : 1;
     /* dropped.csv goes into the writer's staged folder with the rest */
-    if (recording_writer_begin(&x->w, dir, &sensor, o->layout, e) || logrec_assign(x, x->w.dir, r, e)) return -1;
+    if (recording_writer_begin(&x->w, o->out, &sensor, o->layout, e) || logrec_assign(x, x->w.dir, r, e)) return -1;
     qsort(x->scans, x->n_scans, sizeof *x->scans, logrec_cmp_msg);
     progress_start(&x->prog, "log scans", x->n_scans, o->quiet);
     int rc = logf_each(&x->log, logrec_write_scan, x, e);
@@ -264,46 +261,18 @@ static int logrec_build(struct logrec_ctx *x, const char *dir, struct logrec_res
     return rc ? -1 : recording_writer_finish(&x->w, e);
 }
 
-/* Remove the partial folder: the files this module writes, then the folders. */
-static void logrec_rm(const char *dir)
-{
-    char path[RECORDING_PATH_MAX + 300];
-    static const char *const files[] = {"poses.csv", "dropped.csv", "recording.json", NULL};
-    for (const char *const *f = files; *f; f++) {
-        fileio_join(path, sizeof path, dir, *f);
-        unlink(path);
-    }
-    fileio_join(path, sizeof path, dir, "scans");
-    DIR *d = opendir(path);
-    for (struct dirent *de; d && (de = readdir(d));) {
-        if (de->d_name[0] == '.') continue;
-        char f[RECORDING_PATH_MAX + 600];
-        fileio_join(f, sizeof f, path, de->d_name);
-        unlink(f);
-    }
-    if (d) closedir(d);
-    rmdir(path);
-    rmdir(dir);
-}
-
 int logrec_make(const struct logrec_opts *o, struct logrec_result *r, struct err *e)
 {
     memset(r, 0, sizeof *r);
     struct stat st;
     if (!lstat(o->out, &st))
         return err_at(e, o->out, 0, "already exists, expected a new folder for the recording");
-    char dir[RECORDING_PATH_MAX];
-    if (snprintf(dir, sizeof dir, "%s.partial", o->out) >= (int)sizeof dir) return err_at(e, o->out, 0, "path too long");
-    if (!lstat(dir, &st))
-        return err_at(e, dir, 0, "a partial recording is in the way (an earlier run stopped?), expected it removed");
     struct logrec_ctx x = {.o = o};
     track_init(&x.track);
     track_tree_init(&x.tree);
     cloud_init(&x.c);
-    int rc = logrec_build(&x, dir, r, e);
-    if (!rc && rename(dir, o->out)) rc = err_at(e, o->out, 0, "cannot rename %s into place: %s", dir, strerror(errno));
-    if (rc) logrec_rm(dir);
-    recording_writer_free(&x.w);
+    int rc = logrec_build(&x, r, e);
+    recording_writer_free(&x.w);   /* removes the staged folder unless finish put it in place */
     cloud_free(&x.c);
     track_free(&x.track);
     track_tree_free(&x.tree);

@@ -10,8 +10,9 @@
  * had no pose near enough, and recording.json with a "log" object (the log
  * file, its size and SHA-256, topics, frames, counts) and the extrinsic.
  *
- * The folder is built under OUT.partial and renamed to OUT only when
- * complete; on any error the partial folder is removed, and OUT must not
+ * The folder is written as a whole by the recording writer (recording.h:
+ * staged in a hidden folder beside OUT, renamed into place only when
+ * complete); on any error the staged folder is removed, and OUT must not
  * exist beforehand.
  *
  *     struct logrec_opts o = {.log = "drive.bag", .out = "rec", .scans_topic = "/points",
