@@ -8,7 +8,11 @@ compression by lz4js 0.2.0 (LZ4 frames) and @bokuweb/zstd-wasm 0.0.27, all
 driven by tests/node/write_mcap.js and installed into tests/node/ by
 `make deps-test`; and the other way round, the MCAP files revisit writes
 (synth --log) read by @mcap/core's McapStreamReader and decoded by
-@foxglove/rosmsg2-serialization's MessageReader (tests/node/read_mcap.js).  The drive and the expected poses (scipy Slerp,
+@foxglove/rosmsg2-serialization's MessageReader (tests/node/read_mcap.js),
+and through their index by @mcap/core's McapIndexedReader
+(tests/node/read_mcap_indexed.js: summary, statistics, chunk and message
+indexes, time windows), compared with what `revisit log` reads from the
+same file; the data section's CRC-32 against Python's zlib.crc32.  The drive and the expected poses (scipy Slerp,
 numpy.interp, scipy Rotation composition) are those of tests/logdrive.py,
 so the recording must hold exactly the points and poses written.  Without
 node, or before `make deps-test` has installed the packages, the checks are
@@ -22,6 +26,7 @@ import struct
 import subprocess
 import sys
 import tempfile
+import zlib
 
 import numpy as np
 
@@ -31,7 +36,7 @@ from logdrive import (B_L, M_O, ODOM, SCAN_T, T0, check_recording, cloud32, clou
 
 HERE = os.path.dirname(os.path.abspath(__file__))
 NODE_DIR = os.path.join(HERE, "node")
-N_CHECKS = 37
+N_CHECKS = 44
 rng = np.random.default_rng(9)
 
 node = shutil.which("node")
@@ -71,6 +76,60 @@ def spec(compression):
             msgs.append([topic, "cloud", m])
             clouds[t if topic == "/points" else ("64", t)] = tuple(vals) if topic == "/points" else vals[0]
     return dict(compression=compression, chunk_size=8192, topics=topics, messages=msgs), clouds
+
+
+def listing(path):
+    """`revisit log FILE`: {topic: (type, count)} from its table."""
+    rc, out, _ = run("log", path)
+    rows = [l.split() for l in out.splitlines()[1:]] if rc == 0 else []
+    return {r[0]: [r[1], int(r[2])] for r in rows if len(r) == 3}
+
+
+def check_indexed(d):
+    syn, log = os.path.join(d, "synx"), os.path.join(d, "synx.mcap")
+    rc, _, err = run("synth", "--scenario", "port", "--duration", "0.9", "--out", syn, "--log", log, "--quiet")
+    rd = subprocess.run([node, os.path.join(NODE_DIR, "read_mcap_indexed.js"), log, "300000000", "600000000"],
+                        capture_output=True, text=True, env=dict(os.environ, NODE_PATH=os.path.join(NODE_DIR, "node_modules")))
+    got = json.loads(rd.stdout) if rc == 0 and rd.returncode == 0 and rd.stdout.strip() else {}
+    check(got.get("chunks", 0) >= 2, "McapIndexedReader opens revisit's MCAP through its summary, CRCs checked, "
+          "several chunk indexes (%s%s)" % (err.strip(), rd.stderr.strip()[-300:]))
+    raw = open(log, "rb").read() if rc == 0 else b""
+    # zlib.crc32 is the CRC-32 the MCAP format states for the data section (every byte before the data end record).
+    check(got.get("data_crc") and got.get("data_crc") == zlib.crc32(raw[:got.get("data_end", 0)]),
+          "the data end record's CRC-32 is zlib.crc32 of the data section (%s)" % got.get("data_crc"))
+    ours = listing(log)
+    theirs = got.get("topics", {})
+    check(ours and theirs == ours and
+          ours.get("/points", [0, 0])[1] == 10, "McapIndexedReader and revisit log list the same topics, types "
+          "and counts (%s vs %s)" % (theirs, ours))
+    st = got.get("stats") or {}
+    check(st.get("messages") == 20 and st.get("channels") == {"/points": 10, "/odom": 10},
+          "the statistics record counts the messages per channel (%s)" % st)
+    back = os.path.join(d, "backx")
+    rc, _, err = run("log", log, "--scans", "/points", "--poses", "/odom", "--out", back, "--quiet")
+    poses = read_poses(os.path.join(back, "poses.csv")) if rc == 0 else []
+    clouds, odoms = got.get("clouds", []), got.get("poses", [])
+    ok = rc == 0 and len(poses) == len(clouds) == len(odoms) == 10
+    for c, o, (t, p, q) in zip(clouds, odoms, poses):
+        ok = ok and abs(c[0] + c[1] * 1e-9 - t) < 1e-9 and int(c[2]) == c[0] * 10**9 + c[1] and o[:3] == c[:3]
+        ok = ok and o[3:6] == list(p) and np.allclose(o[6:], q.as_quat(), atol=1e-15)
+    check(ok, "the indexed reader's stamps, log times and poses are those of the recording revisit log makes (%s)" %
+          err.strip())
+    # numpy decodes each cloud's bytes by its PointField list (datatypes 4 = uint16, 7 = float32: the
+    # sensor_msgs/PointField constants); the scans revisit log wrote must hold the same values.
+    kinds = {4: "<u2", 7: "<f4"}
+    ok = len(clouds) == 10
+    for k, c in enumerate(clouds):
+        dt = np.dtype({"names": [f[0] for f in c[3]], "formats": [kinds[f[2]] for f in c[3]],
+                       "offsets": [f[1] for f in c[3]], "itemsize": c[4]})
+        pts = np.frombuffer(bytes.fromhex(c[5]), dtype=dt)
+        a = dump(os.path.join(back, "scans", "%06d.pcd" % k)) if rc == 0 else np.zeros((0, 6))
+        cols = np.stack([pts[n].astype(np.float64) for n in dt.names], axis=1)
+        ok = ok and cols.shape == a.shape and bool((cols.astype(np.float32) == a.astype(np.float32)).all())
+    check(ok, "the clouds' bytes, decoded by numpy from their fields, are the points revisit log read")
+    want = [str(int(round(t * 1e9))) for t, _, _ in poses[3:7]]
+    check(got.get("window") == want, "readMessages between 0.3 s and 0.6 s finds scans 3 to 6 by the message "
+          "indexes (%s)" % got.get("window"))
 
 
 def write_mcap(d, compression):
@@ -167,5 +226,10 @@ with tempfile.TemporaryDirectory() as d:
         ok = ok and abs(g[0] + g[1] * 1e-9 - t) < 1e-9 and list(g[2:5]) == list(p) and \
             np.allclose(g[5:], q.as_quat(), atol=1e-15)
     check(ok, "MessageReader decodes revisit's Odometry messages: the recording's poses")
+
+    # The same file through its index: @mcap/core's McapIndexedReader (footer,
+    # summary offsets, statistics, chunk and message indexes, every CRC)
+    # against what revisit's own reader makes of it (`revisit log`).
+    check_indexed(d)
 
 sys.exit(done())

@@ -10,8 +10,11 @@
  * records, then the connection and chunk info records the bag header
  * points at, and the full ROS 1 message definitions (logwrite_bag.c;
  * tests/xcheck_bag_written.py opens it with python3-rosbag);
- * LOGF_MCAP writes an MCAP file with ros2msg schemas, CDR messages and no
- * summary section (tests/xcheck_mcap.py opens it with @mcap/core).  Reading it back
+ * LOGF_MCAP writes an MCAP file with ros2msg schemas and CDR messages in
+ * uncompressed chunks, each followed by its message indexes, then the
+ * summary (schemas, channels, statistics, chunk indexes), its offsets and
+ * every CRC-32 (logwrite_mcap.c; tests/xcheck_mcap.py opens it with
+ * @mcap/core's stream and indexed readers).  Reading it back
  * with `revisit log FILE --scans /points --poses /odom` gives the same
  * points and poses (non-finite points are dropped on load, as in any
  * recording).

@@ -62,6 +62,7 @@ struct logw_out {
     uint64_t in_file[LOGW_TOPICS];         /* messages per topic in the file */
     uint64_t chunk_t0, chunk_t1, file_t0, file_t1;  /* stamps, ns */
     uint32_t n_chunks, seq;
+    uint32_t crc;                          /* MCAP: CRC-32 of the bytes written */
     int announced[LOGW_TOPICS];            /* its connection (channel) is in the file */
 };
 

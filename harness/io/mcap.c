@@ -134,15 +134,17 @@ static int mcap_message(struct mcap_ctx *x, struct mcap_cur *c, size_t chunk, si
 static int mcap_records(struct mcap_ctx *x, const unsigned char *p, size_t len, size_t from, size_t chunk,
                         struct err *e);
 
-/* CRC-32 as MCAP states it (the ISO-HDLC / zlib polynomial 0xEDB88320,
- * reflected, initial and final XOR 0xFFFFFFFF), bitwise. */
-static uint32_t mcap_crc32(const unsigned char *p, size_t n)
+uint32_t mcap_crc32(uint32_t crc, const void *data, size_t n)
 {
-    uint32_t c = 0xffffffffu;
-    for (size_t k = 0; k < n; k++) {
-        c ^= p[k];
+    uint32_t table[256];
+    for (uint32_t k = 0; k < 256; k++) {
+        uint32_t c = k;
         for (int b = 0; b < 8; b++) c = c >> 1 ^ (0xedb88320u & (0u - (c & 1u)));
+        table[k] = c;
     }
+    const unsigned char *p = data;
+    uint32_t c = crc ^ 0xffffffffu;
+    for (size_t k = 0; k < n; k++) c = table[(c ^ p[k]) & 0xffu] ^ c >> 8;
     return c ^ 0xffffffffu;
 }
 
@@ -172,10 +174,10 @@ static int mcap_chunk(struct mcap_ctx *x, struct mcap_cur *c, size_t off, struct
         char m[ERR_MSG_MAX];
         snprintf(m, sizeof m, "%s", e ? e->msg : "");
         mcap_fail(x, 0, off, m, e);
-    } else if (crc && mcap_crc32(u, (size_t)size) != crc) {
+    } else if (crc && mcap_crc32(0, u, (size_t)size) != crc) {
         char m[160];
         snprintf(m, sizeof m, "the unpacked chunk's CRC-32 is 0x%08x, but the chunk states 0x%08llx",
-                 mcap_crc32(u, (size_t)size), (unsigned long long)crc);
+                 mcap_crc32(0, u, (size_t)size), (unsigned long long)crc);
         rc = mcap_fail(x, 0, off, m, e);
     } else {
         rc = mcap_records(x, u, (size_t)size, 0, off, e);

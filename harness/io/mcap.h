@@ -30,4 +30,11 @@
 /* Walk every message of an open MCAP file (l->kind == LOGF_MCAP). */
 int mcap_walk(struct logf *l, logf_fn fn, void *ctx, struct err *e);
 
+/* CRC-32 as MCAP states it (the ISO-HDLC / zlib polynomial 0xEDB88320,
+ * reflected, initial and final XOR 0xFFFFFFFF) of n bytes, continuing from
+ * crc (0 to start), so a stream may be summed in pieces:
+ * mcap_crc32(mcap_crc32(0, a, na), b, nb) == mcap_crc32(0, ab, na + nb).
+ * Cannot fail. */
+uint32_t mcap_crc32(uint32_t crc, const void *data, size_t n);
+
 #endif
