@@ -5,6 +5,8 @@
 #include <stdlib.h>
 #include <string.h>
 
+#include "harness/base/grow.h"
+
 void cloud_init(struct cloud *c)
 {
     memset(c, 0, sizeof *c);
@@ -23,8 +25,9 @@ int cloud_reserve(struct cloud *c, size_t cap)
 {
     if (cap <= c->cap) return 0;
     if (cap > CLOUD_MAX_POINTS) return -1;
-    size_t nc = c->cap ? c->cap : 1024;
-    while (nc < cap) nc *= 2;
+    /* three arrays grow side by side: the arithmetic of grow.h, then each realloc */
+    size_t nc = grow_cap(c->cap, cap < 1024 ? 1024 : cap, 4 * sizeof *c->pts);
+    if (!nc) return -1;
     if (nc > CLOUD_MAX_POINTS) nc = CLOUD_MAX_POINTS;
     float *p = realloc(c->pts, nc * 4 * sizeof *p);
     if (!p) return -1;

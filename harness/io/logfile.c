@@ -12,6 +12,7 @@
 #include <unistd.h>
 #include <zstd.h>
 
+#include "harness/base/grow.h"
 #include "harness/io/bag.h"
 #include "harness/io/mcap.h"
 
@@ -95,13 +96,7 @@ int logf_topic_add(struct logf *l, uint32_t id, const char *name, const char *ty
         return err_at(e, l->path, 0, "record at byte %zu: connection %u is '%s' (%s), but earlier '%s' (%s), "
                       "expected one topic per connection", offset, id, name, type, t->name, t->type);
     }
-    if (l->n_topics == l->cap_topics) {
-        size_t nc = l->cap_topics ? 2 * l->cap_topics : 16;
-        struct logf_topic *nt = realloc(l->topics, nc * sizeof *nt);
-        if (!nt) return err_set(e, "out of memory");
-        l->topics = nt;
-        l->cap_topics = nc;
-    }
+    if (grow_reserve(&l->topics, &l->cap_topics, l->n_topics + 1, sizeof *l->topics)) return err_set(e, "out of memory");
     t = &l->topics[l->n_topics];
     *t = (struct logf_topic){.id = id, .name = strdup(name), .type = strdup(type), .wire = wire};
     if (!t->name || !t->type) {

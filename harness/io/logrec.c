@@ -11,6 +11,7 @@
 #include <sys/stat.h>
 
 #include "harness/base/fileio.h"
+#include "harness/base/grow.h"
 #include "harness/base/progress.h"
 #include "harness/io/logfile.h"
 #include "harness/io/recording.h"
@@ -103,13 +104,7 @@ static int logrec_gather(void *ctx, const struct logf_msg *m, struct err *e)
     if (logrec_type(x, m, rosmsg_type_of(m->topic->type) == ROSMSG_CLOUD, "sensor_msgs/PointCloud2", e)) return -1;
     struct rosmsg_header h;
     if (rosmsg_header_read(&w, &h, e)) return logrec_wrap(x, m, e);
-    if (x->n_scans == x->cap_scans) {
-        size_t nc = x->cap_scans ? 2 * x->cap_scans : 256;
-        struct logrec_scan *ns = realloc(x->scans, nc * sizeof *ns);
-        if (!ns) return err_set(e, "out of memory");
-        x->scans = ns;
-        x->cap_scans = nc;
-    }
+    if (grow_reserve(&x->scans, &x->cap_scans, x->n_scans + 1, sizeof *x->scans)) return err_set(e, "out of memory");
     snprintf(x->scan_frame, sizeof x->scan_frame, "%s", h.frame);
     x->scans[x->n_scans++] = (struct logrec_scan){.t = h.t, .msg = m->index, .rank = -1};
     return 0;

@@ -12,6 +12,7 @@
 #include <strings.h>
 
 #include "harness/base/fileio.h"
+#include "harness/base/grow.h"
 #include "harness/io/logwrite_out.h"
 #include "harness/io/recording.h"
 #include "harness/io/scan_body.h"
@@ -19,13 +20,9 @@
 void logw_raw(struct logw_buf *b, const void *v, size_t n)
 {
     if (b->oom) return;
-    if (b->len + n > b->cap) {
-        size_t nc = b->cap ? b->cap : 256;
-        while (nc < b->len + n) nc *= 2;
-        unsigned char *np = realloc(b->p, nc);
-        if (!np) { b->oom = 1; return; }
-        b->p = np;
-        b->cap = nc;
+    if (b->len + n < n || grow_reserve(&b->p, &b->cap, b->len + n, 1)) {
+        b->oom = 1;
+        return;
     }
     memcpy(b->p + b->len, v, n);
     b->len += n;

@@ -5,6 +5,8 @@
 #include <stdlib.h>
 #include <string.h>
 
+#include "harness/base/grow.h"
+
 #define MCAP_MAGIC_LEN 8
 #define MCAP_NAME_MAX 512
 
@@ -81,13 +83,8 @@ static int mcap_schema(struct mcap_ctx *x, struct mcap_cur *c, size_t chunk, siz
         return mcap_fail(x, chunk, off, "schema fields run past the record, expected id, name, encoding, data", e);
     for (size_t k = 0; k < x->n_schemas; k++)
         if (x->schemas[k].id == id) return 0;
-    if (x->n_schemas == x->cap_schemas) {
-        size_t nc = x->cap_schemas ? 2 * x->cap_schemas : 16;
-        struct mcap_schema *ns = realloc(x->schemas, nc * sizeof *ns);
-        if (!ns) return err_set(e, "out of memory");
-        x->schemas = ns;
-        x->cap_schemas = nc;
-    }
+    if (grow_reserve(&x->schemas, &x->cap_schemas, x->n_schemas + 1, sizeof *x->schemas))
+        return err_set(e, "out of memory");
     x->schemas[x->n_schemas].id = (uint16_t)id;
     snprintf(x->schemas[x->n_schemas++].name, MCAP_NAME_MAX, "%s", name);
     return 0;

@@ -8,6 +8,7 @@
 #include <string.h>
 
 #include "harness/base/fileio.h"
+#include "harness/base/grow.h"
 #include "harness/base/numfmt.h"
 
 #define POSES_FILE_MAX ((size_t)4 << 30)
@@ -98,13 +99,7 @@ static int poses_push(struct poses *ps, size_t *cap, const struct pose *p, const
     if (ps->n && !(p->t > ps->v[ps->n - 1].t))
         return err_at(e, path, line, "time %.17g is not after the previous pose's %.17g, expected "
                       "strictly increasing times", p->t, ps->v[ps->n - 1].t);
-    if (ps->n == *cap) {
-        size_t nc = *cap ? 2 * *cap : 256;
-        struct pose *nv = realloc(ps->v, nc * sizeof *nv);
-        if (!nv) return err_at(e, path, line, "out of memory");
-        ps->v = nv;
-        *cap = nc;
-    }
+    if (grow_reserve(&ps->v, cap, ps->n + 1, sizeof *ps->v)) return err_at(e, path, line, "out of memory");
     ps->v[ps->n++] = *p;
     return 0;
 }
@@ -190,12 +185,7 @@ int poses_read_times(const char *path, double **t, size_t *n, struct err *e)
             goto fail;
         }
         if (*n >= POSES_MAX) { err_at(e, path, L.line, "more than %zu times", POSES_MAX); goto fail; }
-        if (*n == cap) {
-            cap = cap ? 2 * cap : 256;
-            double *nv = realloc(v, cap * sizeof *nv);
-            if (!nv) { err_at(e, path, L.line, "out of memory"); goto fail; }
-            v = nv;
-        }
+        if (grow_reserve(&v, &cap, *n + 1, sizeof *v)) { err_at(e, path, L.line, "out of memory"); goto fail; }
         v[(*n)++] = x;
     }
     free(buf);

@@ -13,6 +13,7 @@
 #include <sys/stat.h>
 
 #include "harness/base/fileio.h"
+#include "harness/base/grow.h"
 #include "harness/io/poses_io.h"
 
 #define REC_MANIFEST_MAX ((size_t)512 << 20)
@@ -272,11 +273,9 @@ static int rec_list_dir(const struct rec_ctx *x, const char *dir, const char *pa
         }
         if (!x->allow_outside && (rc = rec_path(x, dir, de->d_name, "$.scans.pattern", path, sizeof path, e)))
             break;
-        if (n == cap) {
-            cap = cap ? 2 * cap : 1024;
-            struct rec_name *nv = realloc(v, cap * sizeof *nv);
-            if (!nv) { rc = err_set(e, "%s: out of memory listing scans", x->file); break; }
-            v = nv;
+        if (grow_reserve(&v, &cap, n + 1, sizeof *v)) {
+            rc = err_set(e, "%s: out of memory listing scans", x->file);
+            break;
         }
         if (!(v[n].path = strdup(path))) { rc = err_set(e, "%s: out of memory listing scans", x->file); break; }
         v[n].num = rec_stem_number(path);

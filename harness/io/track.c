@@ -5,6 +5,8 @@
 #include <stdlib.h>
 #include <string.h>
 
+#include "harness/base/grow.h"
+
 void track_init(struct track *t) { memset(t, 0, sizeof *t); }
 
 void track_free(struct track *t)
@@ -16,13 +18,7 @@ void track_free(struct track *t)
 
 int track_push(struct track *t, const struct pose *p, struct err *e)
 {
-    if (t->n == t->cap) {
-        size_t nc = t->cap ? 2 * t->cap : 64;
-        struct pose *nv = realloc(t->v, nc * sizeof *nv);
-        if (!nv) return err_set(e, "out of memory for %zu poses", nc);
-        t->v = nv;
-        t->cap = nc;
-    }
+    if (grow_reserve(&t->v, &t->cap, t->n + 1, sizeof *t->v)) return err_set(e, "out of memory for %zu poses", t->n + 1);
     t->v[t->n++] = *p;
     return 0;
 }
@@ -103,13 +99,7 @@ int track_tree_add(struct track_tree *tr, const char *parent, const char *child,
     for (size_t k = 0; k < tr->n && !x; k++)
         if (!strcmp(tr->e[k].parent, parent) && !strcmp(tr->e[k].child, child)) x = &tr->e[k];
     if (!x) {
-        if (tr->n == tr->cap) {
-            size_t nc = tr->cap ? 2 * tr->cap : 16;
-            struct track_edge *ne = realloc(tr->e, nc * sizeof *ne);
-            if (!ne) return err_set(e, "out of memory");
-            tr->e = ne;
-            tr->cap = nc;
-        }
+        if (grow_reserve(&tr->e, &tr->cap, tr->n + 1, sizeof *tr->e)) return err_set(e, "out of memory");
         x = &tr->e[tr->n];
         memset(x, 0, sizeof *x);
         x->parent = strdup(parent);

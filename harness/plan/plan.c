@@ -9,6 +9,7 @@
 #include <string.h>
 
 #include "harness/base/fileio.h"
+#include "harness/base/grow.h"
 #include "harness/base/json_path.h"
 #include "harness/base/keyset.h"
 #include "harness/base/numfmt.h"
@@ -334,10 +335,9 @@ static int pl_add_method(const struct pl *c, struct plan *p, const char *label, 
         keyset_find(c->methods, mine, strlen(mine), NULL))
         return pl_fail(c, alias ? ajp : jp, "two methods are called '%s', expected a name of its own for each",
                        label_named ? label : mine);
-    struct plan_method *m = realloc(p->methods, (p->n_methods + 1) * sizeof *m);
-    if (!m) return pl_fail(c, jp, "out of memory");
-    p->methods = m;
-    m += p->n_methods;
+    if (grow_reserve(&p->methods, &p->cap_methods, p->n_methods + 1, sizeof *p->methods))
+        return pl_fail(c, jp, "out of memory");
+    struct plan_method *m = p->methods + p->n_methods;
     memset(m, 0, sizeof *m);
     p->n_methods++;
     m->label = pl_dup(label);
@@ -500,9 +500,8 @@ static int pl_stages_alone(const struct pl *c, struct plan *p, size_t k)
 {
     size_t n = 1;
     for (const char *q = p->conds[k].chain; *q; q++) n += *q == '+';
-    struct plan_cond *a = realloc(p->conds, (p->n_conds + n) * sizeof *a);
-    if (!a) return pl_fail(c, "conditions", "out of memory");
-    p->conds = a;
+    if (grow_reserve(&p->conds, &p->cap_conds, p->n_conds + n, sizeof *p->conds))
+        return pl_fail(c, "conditions", "out of memory");
     const char *at = p->conds[k].chain;
     for (size_t j = 0; j < n; j++) {
         const struct plan_cond *d = &p->conds[k];
@@ -548,6 +547,7 @@ static int pl_conditions(const struct pl *c, const cJSON *root, struct plan *p)
         rc = pl_fail(c, "conditions", "expected a non-empty list of conditions");
     size_t n = rc ? 0 : (size_t)cJSON_GetArraySize(a);
     if (!rc && !(p->conds = calloc(n, sizeof *p->conds))) rc = pl_fail(c, "conditions", "out of memory");
+    if (!rc) p->cap_conds = n;
     const cJSON *o = rc ? NULL : a->child;
     for (size_t k = 0; o && !rc; o = o->next, k++) {
         char jp[JP];

@@ -112,6 +112,7 @@ struct plan {
     uint64_t bootstrap_seed;
     struct plan_op op;
     size_t n_methods, n_conds, n_cells, n_criteria;
+    size_t cap_methods, cap_conds;  /* room in methods and conds (harness/base/grow.h) */
     struct plan_method *methods;
     struct plan_cond *conds;
     struct plan_cell *cells;
