@@ -13,22 +13,17 @@
 
 /* ---- where a chain applies ---------------------------------------------- */
 
-const char *const chain_on_names[] = {"query", "map", "both", NULL};
-
 int chain_on_parse(const char *text, enum chain_on *out, struct err *e)
 {
-    for (int k = 0; chain_on_names[k]; k++)
-        if (text && !strcmp(text, chain_on_names[k])) {
-            *out = (enum chain_on)k;
-            return 0;
-        }
-    return err_set(e, "unknown chain target '%s', expected query, map or both",
-                   text ? text : "");
+    int k = side_lookup(text);
+    if (k < 0) return err_set(e, "unknown chain target '%s', expected " SIDE_CHOICES, text ? text : "");
+    *out = (enum chain_on)k;
+    return 0;
 }
 
 const char *chain_on_name(enum chain_on on)
 {
-    return (unsigned)on < 3 ? chain_on_names[on] : "?";
+    return (unsigned)on <= SIDE_BOTH ? side_names[on] : "?";
 }
 
 int chain_on_map(enum chain_on on) { return on == CHAIN_ON_MAP || on == CHAIN_ON_BOTH; }

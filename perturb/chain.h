@@ -47,17 +47,16 @@
 
 #include "harness/base/cloud.h"
 #include "harness/base/err.h"
+#include "harness/base/side.h"
 
 #define CHAIN_MAX_STAGES 32
 #define CHAIN_MAX_PARAMS 8
 
 /* ---- where a chain applies ---------------------------------------------- */
 
-enum chain_on { CHAIN_ON_QUERY, CHAIN_ON_MAP, CHAIN_ON_BOTH };
+/* The sides and their words are those of harness/base/side.h. */
+enum chain_on { CHAIN_ON_QUERY = SIDE_QUERY, CHAIN_ON_MAP = SIDE_MAP, CHAIN_ON_BOTH = SIDE_BOTH };
 
-/* The one table of side names, in enum order, NULL-terminated (for parsers
- * that offer them as choices, such as the scenario loader). */
-extern const char *const chain_on_names[];
 /* "query" | "map" | "both" -> *out. 0 or -1 (message lists the choices). */
 int chain_on_parse(const char *text, enum chain_on *out, struct err *e);
 /* The word for an enum value ("query", "map", "both"). */

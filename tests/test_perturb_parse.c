@@ -3,6 +3,7 @@
 #include <stdlib.h>
 #include <string.h>
 
+#include "harness/base/side.h"
 #include "perturb/chain.h"
 #include "tests/check.h"
 
@@ -168,6 +169,15 @@ static void targets(void)
     CHECK(!strcmp(chain_on_name(CHAIN_ON_QUERY), "query"), "target names");
     CHECK(chain_on_parse("maps", &on, &e) == -1, "an unknown target fails");
     CHECK_MSG(e.msg, "unknown chain target 'maps', expected query, map or both", "target message");
+    /* one word list (harness/base/side.h) behind the chains, the scenario loader and the manifest */
+    int same = 1;
+    for (int k = 0; side_names[k]; k++) {
+        same = same && side_lookup(side_names[k]) == k && chain_on_parse(side_names[k], &on, &e) == 0 &&
+               (int)on == k && !strcmp(chain_on_name(on), side_names[k]);
+    }
+    CHECK(same && side_names[3] == NULL, "each side word parses to its own value and prints back the same");
+    CHECK(side_lookup("Map") == -1 && side_lookup("") == -1 && side_lookup(NULL) == -1,
+          "the side words are exact: another case, empty or none is no side");
 }
 
 /* The full text names every parameter of every stage (defaults included,

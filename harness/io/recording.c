@@ -14,6 +14,7 @@
 
 #include "harness/base/fileio.h"
 #include "harness/base/grow.h"
+#include "harness/base/side.h"
 #include "harness/io/poses_io.h"
 
 #define REC_MANIFEST_MAX ((size_t)512 << 20)
@@ -412,8 +413,8 @@ static int rec_perturbation(const struct rec_ctx *x, const cJSON *root, struct r
         if (end == seed->valuestring || *end || errno || seed->valuestring[0] == '-')
             return rec_bad(x, "$.perturbation.seed", "not a decimal whole number", "a seed", e);
     }
-    if (on && strcmp(on->valuestring, "query") && strcmp(on->valuestring, "map") && strcmp(on->valuestring, "both"))
-        return rec_bad(x, "$.perturbation.on", "not query, map or both", "query, map or both", e);
+    if (on && side_lookup(on->valuestring) < 0)
+        return rec_bad(x, "$.perturbation.on", "not " SIDE_CHOICES, SIDE_CHOICES, e);
     snprintf(p->on, sizeof p->on, "%s", on ? on->valuestring : "");
     p->chain = strdup(chain->valuestring);
     p->source = src ? strdup(src->valuestring) : NULL;

@@ -12,6 +12,7 @@
 
 #include "harness/base/fileio.h"
 #include "harness/base/numfmt.h"
+#include "harness/base/side.h"
 #include "harness/io/poses_io.h"
 
 static cJSON *rec_w_numbers(const double *v, int n)
@@ -139,8 +140,7 @@ int recording_writer_perturbation(struct recording_writer *w, const char *chain,
     free(p->chain);
     free(p->source);
     memset(p, 0, sizeof *p);
-    if (on && strcmp(on, "query") && strcmp(on, "map") && strcmp(on, "both"))
-        return err_set(e, "perturbation applied on '%s', expected query, map or both", on);
+    if (on && side_lookup(on) < 0) return err_set(e, "perturbation applied on '%s', expected " SIDE_CHOICES, on);
     p->chain = strdup(chain ? chain : "");
     p->source = src_manifest ? strdup(src_manifest) : NULL;
     if (!p->chain || (src_manifest && !p->source)) return err_set(e, "out of memory");

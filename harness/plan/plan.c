@@ -13,6 +13,7 @@
 #include "harness/base/json_path.h"
 #include "harness/base/keyset.h"
 #include "harness/base/numfmt.h"
+#include "harness/base/side.h"
 #include "metrics/pr.h"
 #include "perturb/chain.h"
 
@@ -464,7 +465,7 @@ static int pl_cond(const struct pl *c, const cJSON *o, const char *jp, struct pl
     if (!pl_plain(name)) return pl_fail(c, sub, "'%s' expected a plain name (letters, digits, '.', '_', '-')", name);
     if (keyset_find(c->conds, name, strlen(name), NULL)) return pl_fail(c, sub, "condition '%s' given twice", name);
     pl_join(sub, jp, "on");
-    if (on && pl_pick(c, sub, on, chain_on_names, &k)) return -1;
+    if (on && pl_pick(c, sub, on, side_names, &k)) return -1;
     d->name = pl_dup(name);
     d->chain = pl_dup(chain);
     d->on = pl_dup(on);
