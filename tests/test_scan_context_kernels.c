@@ -1,10 +1,12 @@
 /* test_scan_context_kernels.c: the Scan Context plugin's fast kernels
  * against the plain ones they replaced (tests/sc_reference.h).
  *
- *   distance  Gram-matrix kernel vs. the scalar loop: within 1e-12 and the
+ *   distance  correlation kernel vs. the scalar loop: within 1e-12 and the
  *             same best shift, on random images and on every pair of real
- *             scans; the AVX2 and the base kernel bit for bit equal; a copy
- *             turned by whole sectors at distance exactly 0
+ *             scans; the AVX2 and the base kernel bit for bit equal, one
+ *             pair at a time or one query against many; a copy turned by
+ *             whole sectors at distance exactly 0; the float pass within
+ *             the bound that picks the shifts the double pass computes
  *   image     boundary comparisons vs. atan2 binning: identical images and
  *             keys on synthetic scans; points on and beside boundaries land
  *             where sc_image.c's rule says
@@ -96,6 +98,55 @@ static int agree(int R, int S, const float *a, const float *b, double *worst, in
     return fabs(d0 - d1) <= TOL && shift_ok && d1 == d2 && k1 == k2;
 }
 
+/* The float pass (kernel `which`: 0 base, 1 AVX2) against the double pass
+ * at every shift of one pair: the largest difference, in units of the
+ * bound SC_ERR / 2 that sc_distance.c states (must stay below 1). */
+static double float_pass_err(int which, int R, int S, const float *a, const float *b)
+{
+    struct sc_prep p;
+    struct sc_cand c;
+    float *buf = malloc(sc_floats(R, S) * sizeof *buf);
+    double worst = 0;
+    if (!buf) return INFINITY;
+    if (which) {
+        sc_prepare_avx2(&p, R, S, a, buf);
+        sc_cells(&p, &c);
+        sc_gather_avx2(&p, &c, b);
+        sc_pass_avx2(&p, &c);
+    } else {
+        sc_prepare_base(&p, R, S, a, buf);
+        sc_cells(&p, &c);
+        sc_gather_base(&p, &c, b);
+        sc_pass_base(&p, &c);
+    }
+    for (int k = 0; k < S; k++) {
+        double df = c.cnt[k] > 0 ? 1 - c.sum[k] / c.cnt[k] : 1;
+        double d = which ? sc_shift_avx2(&p, b, c.nb, c.ib, k) : sc_shift_base(&p, b, c.nb, c.ib, k);
+        worst = fmax(worst, fabs(df - d) / (SC_ERR(R) / 2));
+    }
+    free(buf);
+    return worst;
+}
+
+/* One query against many candidates: the same numbers and shifts as one
+ * pair at a time, for both kernels. */
+static int many_agrees(int R, int S, const float *a, const float *const *b, int n)
+{
+    double out[64], out2[64];
+    int32_t k[64], k2[64];
+    int ok = n <= 64, avx = __builtin_cpu_supports("avx2") && __builtin_cpu_supports("fma") &&
+                            __builtin_cpu_supports("bmi2");
+    if (!ok) return 0;
+    sc_many_base(R, S, a, b, (size_t)n, out, k);
+    if (avx) sc_many_avx2(R, S, a, b, (size_t)n, out2, k2);
+    for (int t = 0; t < n; t++) {
+        int32_t kp = -1;
+        ok &= sc_pair_base(R, S, a, b[t], &kp) == out[t] && kp == k[t];
+        if (avx) ok &= out2[t] == out[t] && k2[t] == k[t];
+    }
+    return ok;
+}
+
 /* Turn an image by m sectors: column j moves to j + m. */
 static void turn_image(const float *in, float *out, int R, int S, int m)
 {
@@ -109,8 +160,8 @@ static void random_pairs(void)
     static const int shapes[][2] = {{20, 60}, {1, 4}, {7, 13}, {200, 9}, {3, 720}, {20, 61}};
     static float a[200 * 720], b[200 * 720];
     for (size_t s = 0; s < sizeof shapes / sizeof *shapes; s++) {
-        int R = shapes[s][0], S = shapes[s][1], bad = 0, ties = 0, turned_bad = 0;
-        double worst = 0;
+        int R = shapes[s][0], S = shapes[s][1], bad = 0, ties = 0, turned_bad = 0, many_bad = 0;
+        double worst = 0, pass_err = 0;
         for (int pair = 0; pair < 40; pair++) {
             for (int c = 0; c < R * S; c++) {
                 a[c] = rnd() < 0.3 ? 0 : (float)(6 * rnd() - 1);
@@ -119,6 +170,11 @@ static void random_pairs(void)
             for (int j = 0; j < S; j += 5)
                 for (int r = 0; r < R; r++) a[j * R + r] = 0, b[((j * 3) % S) * R + r] = 0;
             bad += !agree(R, S, a, b, &worst, &ties);
+            pass_err = fmax(pass_err, float_pass_err(0, R, S, a, b));
+            if (__builtin_cpu_supports("avx2") && __builtin_cpu_supports("fma"))
+                pass_err = fmax(pass_err, float_pass_err(1, R, S, a, b));
+            const float *both[3] = {b, a, b};
+            many_bad += !many_agrees(R, S, a, both, 3);
             int m = (int)(rnd() * S) % S;
             int32_t k1 = -1, k2 = -1;
             turn_image(a, b, R, S, m);
@@ -135,6 +191,11 @@ static void random_pairs(void)
         snprintf(msg, sizeof msg, "%d x %d random images: within %g of the scalar loop (worst %.2g), same shift "
                  "(%d exact ties), AVX2 = base", R, S, TOL, worst, ties);
         CHECK(bad == 0, msg);
+        snprintf(msg, sizeof msg, "%d x %d random images: the float pass within its stated bound at every shift "
+                 "(worst %.3g of it)", R, S, pass_err);
+        CHECK(pass_err < 1, msg);
+        snprintf(msg, sizeof msg, "%d x %d random images: one query against many = one pair at a time", R, S);
+        CHECK(many_bad == 0, msg);
     }
     for (int c = 0; c < 20 * 60; c++) a[c] = 0;
     b[5] = 1;
@@ -235,6 +296,22 @@ static void real_scans(void)
     snprintf(msg, sizeof msg, "every pair of real scans: within %g of the scalar loop (worst %.2g), same shift",
              TOL, worst);
     CHECK(bad == 0 && ties == 0, msg);
+    double pass_err = 0;
+    int many_ok = 1;
+    const float *cands[SCANS];
+    for (int j = 0; j < SCANS; j++) cands[j] = img[j];
+    for (int i = 0; i < SCANS; i++) {
+        for (int j = 0; j < SCANS; j++) {
+            pass_err = fmax(pass_err, float_pass_err(0, 20, 60, img[i], img[j]));
+            if (__builtin_cpu_supports("avx2") && __builtin_cpu_supports("fma"))
+                pass_err = fmax(pass_err, float_pass_err(1, 20, 60, img[i], img[j]));
+        }
+        many_ok &= many_agrees(20, 60, img[i], cands, SCANS);
+    }
+    snprintf(msg, sizeof msg, "every pair of real scans: the float pass within its stated bound (worst %.3g of it)",
+             pass_err);
+    CHECK(pass_err < 1, msg);
+    CHECK(many_ok, "real scans: each against all 24 at once = one pair at a time, both kernels");
     for (int i = 0; i < SCANS; i++) {
         int m = (7 * i + 1) % 60;
         int32_t k1 = -1, k2 = -1;

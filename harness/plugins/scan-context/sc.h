@@ -5,7 +5,8 @@
  *   scan_context.c  settings, the plugin table, create, describe
  *   sc_image.c      the image and ring key of one scan (sector by boundary
  *                   comparisons, no arctangent)
- *   sc_distance.c   the shift-searched column cosine distance
+ *   sc_distance.c   the shift-searched column cosine distance (with
+ *                   sc_kernel.h, its float pass per vector width)
  *
  * Image layout: sectors x rings floats, sector-major, so one column (one
  * sector, every ring) is contiguous:
@@ -26,6 +27,8 @@
 #define SC_FINE_TEST 0x8000u
 
 typedef double (*sc_pair_fn)(int rings, int sectors, const float *a, const float *b, int32_t *aux);
+typedef void (*sc_many_fn)(int rings, int sectors, const float *a, const float *const *b, size_t n,
+                           double *out, int32_t *aux);
 
 struct sc {
     int rings, sectors;
@@ -38,6 +41,7 @@ struct sc {
     double fine_scale;  /* fine bins per pseudo-angle unit */
     double ring_scale;  /* rings / max_range_m */
     sc_pair_fn pair;    /* the distance kernel this CPU runs */
+    sc_many_fn many;    /* the same, one query against many */
 };
 
 /* Fill the sector finder's tables of s (rings, sectors set).  Cannot fail. */
@@ -48,11 +52,18 @@ int sc_sector_of(const struct sc *s, float x, float y);
  * points xyzi.  Cannot fail. */
 void sc_image(const struct sc *s, const float *xyzi, size_t n, float *desc, float *key);
 
-/* The distance kernels: identical results, the second needs AVX2 and FMA.
- * Both cannot fail; aux (may be NULL) receives the best shift. */
+/* The distance kernels: identical results, the avx2 ones need AVX2 and
+ * FMA.  None can fail; aux (may be NULL) receives the best shift.  The
+ * _many forms give out[t] (and aux[t]) for a against b[t], t < n, each what
+ * the _pair form gives, with the query prepared once. */
 double sc_pair_base(int rings, int sectors, const float *a, const float *b, int32_t *aux);
 double sc_pair_avx2(int rings, int sectors, const float *a, const float *b, int32_t *aux);
-/* The kernel to use on this CPU. */
+void sc_many_base(int rings, int sectors, const float *a, const float *const *b, size_t n, double *out,
+                  int32_t *aux);
+void sc_many_avx2(int rings, int sectors, const float *a, const float *const *b, size_t n, double *out,
+                  int32_t *aux);
+/* The kernels to use on this CPU. */
 sc_pair_fn sc_pair_pick(void);
+sc_many_fn sc_many_pick(void);
 
 #endif

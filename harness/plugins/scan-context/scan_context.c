@@ -41,6 +41,7 @@ static int sc_create(const double *v, void **inst, uint32_t *dim, uint32_t *key_
     s->max_range_m = v[2];
     s->lift_m = v[3];
     s->pair = sc_pair_pick();
+    s->many = sc_many_pick();
     sc_sector_init(s);
     *inst = s;
     *dim = (uint32_t)(s->rings * s->sectors);
@@ -66,7 +67,7 @@ static double sc_distance(const void *inst, const float *a, const float *b, int3
 static void sc_destroy(void *inst) { free(inst); }
 
 static const struct rv_method sc_method = {
-    RV_ABI_VERSION, sizeof sc_method, "scan-context", "1.1",
+    RV_ABI_VERSION, sizeof sc_method, "scan-context", "1.2",
     "ring x sector maximum-height image, ring-key prefilter, shift-searched column cosine "
     "(Kim and Kim, IROS 2018)",
     sc_settings, sizeof sc_settings / sizeof *sc_settings, RV_DIST_CUSTOM, RV_FLAG_THREAD_SAFE,
