@@ -9,7 +9,9 @@
  *             the bound that picks the shifts the double pass computes
  *   image     boundary comparisons vs. atan2 binning: identical images and
  *             keys on synthetic scans; points on and beside boundaries land
- *             where sc_image.c's rule says
+ *             where sc_image.c's rule says; the AVX2 and the base image
+ *             kernel equal to an image built point by point from the walk
+ *             over every boundary, on scans, boundaries, ring edges, axes
  * Real scans come from `revisit synth` (REVISIT_BIN) in the working folder. */
 #include <stdio.h>
 #include <stdlib.h>
@@ -257,6 +259,39 @@ static long off_boundary(const struct sc *s, const struct cloud *c, float *out, 
     return wrong ? -1 : near;
 }
 
+/* The image of n points built one point at a time from the walk over
+ * every boundary (sc_sector_walk; the origin: sector S / 2) and the ring
+ * rule of sc_image.c. */
+static void walk_image(const struct sc *s, const float *pts, size_t n, float *img, float *key)
+{
+    sc_open(s, img);
+    for (size_t k = 0; k < n; k++) {
+        const float *p = pts + 4 * k;
+        double r = sqrt((double)p[0] * p[0] + (double)p[1] * p[1]);
+        if (!(r < s->max_range_m)) continue;
+        int sec = p[0] == 0 && p[1] == 0 ? s->sectors / 2 : sc_sector_walk(s, p[0], p[1]);
+        sc_raise(s, img, sec, sc_ring(s, r), p);
+    }
+    sc_close(s, img, key);
+}
+
+/* Both image kernels against walk_image on pts; 1 when all three agree. */
+static int images_agree(const struct sc *s, const float *pts, size_t n)
+{
+    size_t cells = (size_t)s->rings * s->sectors;
+    float *w = malloc(3 * cells * sizeof *w), kw[SC_MAX_RINGS], kb[SC_MAX_RINGS], ka[SC_MAX_RINGS];
+    if (!w) return 0;
+    walk_image(s, pts, n, w, kw);
+    sc_image_base(s, pts, n, w + cells, kb);
+    int ok = !memcmp(w, w + cells, cells * sizeof *w) && !memcmp(kw, kb, (size_t)s->rings * sizeof *kw);
+    if (__builtin_cpu_supports("avx2")) {
+        sc_image_avx2(s, pts, n, w + 2 * cells, ka);
+        ok &= !memcmp(w, w + 2 * cells, cells * sizeof *w) && !memcmp(kw, ka, (size_t)s->rings * sizeof *kw);
+    }
+    free(w);
+    return ok;
+}
+
 static void real_scans(void)
 {
     static struct cloud c[SCANS];
@@ -264,12 +299,13 @@ static void real_scans(void)
     struct recording rec;
     CHECK(load_scans(&rec, c) == 0, "revisit synth gives 24 port scans");
     struct sc *s = make(20, 60);
-    int same = 1, bad = 0, exact = 1;
+    int same = 1, bad = 0, exact = 1, kern = 1;
     size_t pts = 0;
     long near = 0;
     for (int i = 0; i < SCANS; i++) {
         float key[20], rkey[20];
         sc_image(s, c[i].pts, c[i].n, img[i], key);
+        kern &= images_agree(s, c[i].pts, c[i].n);
         float *kept = malloc(16 * (c[i].n + 1));
         size_t nk;
         long nb = kept ? off_boundary(s, &c[i], kept, &nk) : -1;
@@ -289,6 +325,7 @@ static void real_scans(void)
     snprintf(msg, sizeof msg, "%d synthetic scans without those points: images and keys equal the atan2 binning",
              SCANS);
     CHECK(same, msg);
+    CHECK(kern, "24 synthetic scans, every point: both image kernels equal the walk over every boundary");
     double worst = 0;
     int ties = 0;
     for (int i = 0; i < SCANS; i++)
@@ -387,11 +424,72 @@ static void boundaries(void)
     }
 }
 
+/* Points at, and one and two float units beside, every boundary and ring
+ * edge, on both axes and at the origin, with random ones between, for
+ * several shapes: both kernels equal the walk. */
+static void image_kernels(void)
+{
+    static const int shapes[][2] = {{20, 60}, {20, 61}, {7, 4}, {200, 720}, {3, 7}};
+    static const double ranges[] = {80, 75, 123.4, 10, 70};
+    enum { MAXN = 400000 };
+    float *pts = malloc(4 * sizeof *pts * MAXN);
+    if (!pts) {
+        CHECK(0, "memory for the image test points");
+        return;
+    }
+    for (size_t t = 0; t < sizeof shapes / sizeof *shapes; t++) {
+        struct sc *s = make_at(shapes[t][0], shapes[t][1], ranges[t]);
+        size_t n = 0;
+        for (int k = 0; k < s->sectors && n + 200 < MAXN; k++)
+            for (double r = 0.37; r < 1.2 * s->max_range_m; r *= 1.9) {
+                float x0 = (float)(r * s->bx[k]), y0 = (float)(r * s->by[k]);
+                for (int d = -2; d <= 2; d++) {
+                    float x = x0, y = y0;
+                    for (int m = 0; m < (d < 0 ? -d : d); m++) x = nextafterf(x, d < 0 ? -INFINITY : INFINITY);
+                    float q[3][2] = {{x, y0}, {x0, x}, {x, y}};
+                    for (int v = 0; v < 3; v++) {
+                        pts[4 * n] = q[v][0], pts[4 * n + 1] = v == 2 ? y : q[v][1];
+                        pts[4 * n + 2] = (float)(rnd() * 6 - 1), pts[4 * n + 3] = 0;
+                        n++;
+                    }
+                }
+            }
+        for (int k = 0; k <= s->rings && n + 64 < MAXN; k++)  /* ring edges, in six directions */
+            for (int j = 0; j < 6; j++)
+                for (int d = -1; d <= 1; d++) {
+                    double az = 2 * M_PI * (j + 0.3) / 6, r = s->max_range_m * k / s->rings;
+                    float x = (float)(r * cos(az)), y = (float)(r * sin(az));
+                    pts[4 * n] = d ? nextafterf(x, d * INFINITY) : x, pts[4 * n + 1] = y;
+                    pts[4 * n + 2] = (float)k, pts[4 * n + 3] = 0;
+                    n++;
+                }
+        static const float axes[][2] = {{0, 0}, {-0.0f, 0}, {0, -0.0f}, {5, 0}, {-5, 0}, {-5, -0.0f}, {0, 5}, {0, -5}};
+        for (size_t a = 0; a < sizeof axes / sizeof *axes; a++) {
+            pts[4 * n] = axes[a][0], pts[4 * n + 1] = axes[a][1], pts[4 * n + 2] = (float)a, pts[4 * n + 3] = 0;
+            n++;
+        }
+        while (n < 60000) {
+            pts[4 * n] = (float)(250 * rnd() - 125), pts[4 * n + 1] = (float)(250 * rnd() - 125);
+            pts[4 * n + 2] = (float)(rnd() * 8 - 2), pts[4 * n + 3] = 0;
+            n++;
+        }
+        char msg[160];
+        snprintf(msg, sizeof msg, "%d x %d, %g m: %zu points at and beside boundaries, ring edges, axes, origin: "
+                 "both image kernels equal the walk", s->rings, s->sectors, s->max_range_m, n);
+        int tails = 1;
+        for (size_t m = 1; m < 8; m++) tails &= images_agree(s, pts + 4 * m, n - m);  /* other tails mod 4 */
+        CHECK(images_agree(s, pts, n) && tails, msg);
+        free(s);
+    }
+    free(pts);
+}
+
 int main(void)
 {
     random_pairs();
     ring_edges();
     real_scans();
     boundaries();
+    image_kernels();
     return check_done();
 }

@@ -26,6 +26,8 @@
 #define SC_FINE_PER_SECTOR 64
 #define SC_FINE_TEST 0x8000u
 
+struct sc;
+typedef void (*sc_image_fn)(const struct sc *s, const float *xyzi, size_t n, float *desc, float *key);
 typedef double (*sc_pair_fn)(int rings, int sectors, const float *a, const float *b, int32_t *aux);
 typedef void (*sc_many_fn)(int rings, int sectors, const float *a, const float *const *b, size_t n,
                            double *out, int32_t *aux);
@@ -42,6 +44,7 @@ struct sc {
     double ring_scale;  /* rings / max_range_m */
     sc_pair_fn pair;    /* the distance kernel this CPU runs */
     sc_many_fn many;    /* the same, one query against many */
+    sc_image_fn image;  /* the image kernel this CPU runs */
 };
 
 /* Fill the sector finder's tables of s (rings, sectors set).  Cannot fail. */
@@ -49,8 +52,12 @@ void sc_sector_init(struct sc *s);
 /* Sector (0..S-1) of the point (x, y); see sc_image.c for the rule. */
 int sc_sector_of(const struct sc *s, float x, float y);
 /* The image (rings x sectors floats) and the ring key (rings floats) of n
- * points xyzi.  Cannot fail. */
+ * points xyzi, with s->image.  Cannot fail.  The two kernels give identical
+ * images; the second needs AVX2. */
 void sc_image(const struct sc *s, const float *xyzi, size_t n, float *desc, float *key);
+void sc_image_base(const struct sc *s, const float *xyzi, size_t n, float *desc, float *key);
+void sc_image_avx2(const struct sc *s, const float *xyzi, size_t n, float *desc, float *key);
+sc_image_fn sc_image_pick(void);
 
 /* The distance kernels: identical results, the avx2 ones need AVX2 and
  * FMA.  None can fail; aux (may be NULL) receives the best shift.  The

@@ -107,22 +107,37 @@ static inline int sc_sector(const struct sc *s, float x, float y)
 
 int sc_sector_of(const struct sc *s, float x, float y) { return sc_sector(s, x, y); }
 
-void sc_image(const struct sc *s, const float *xyzi, size_t n, float *desc, float *key)
+/* The ring of planar range r (< max_range). */
+static inline int sc_ring(const struct sc *s, double r)
 {
-    size_t cells = (size_t)s->rings * (size_t)s->sectors;
-    for (size_t c = 0; c < cells; c++) desc[c] = -INFINITY;
-    for (size_t k = 0; k < n; k++) {
+    double y = r * s->ring_scale;
+    int ring = (int)y;
+    if (y - ring < 1e-9 || y - ring > 1 - 1e-9) ring = (int)(r / s->max_range_m * s->rings);
+    return ring < s->rings ? ring : s->rings - 1;
+}
+
+/* Raise cell (sector, ring) to height h of point p. */
+static inline void sc_raise(const struct sc *s, float *desc, int sector, int ring, const float *p)
+{
+    float h = (float)(p[2] + s->lift_m);
+    float *cell = &desc[(size_t)sector * s->rings + ring];
+    *cell = h > *cell ? h : *cell;  /* no branch: whether a point raises its cell is hard to predict */
+}
+
+/* Points k0..n-1, one at a time. */
+static void sc_points(const struct sc *s, const float *xyzi, size_t k0, size_t n, float *desc)
+{
+    for (size_t k = k0; k < n; k++) {
         const float *p = xyzi + 4 * k;
         double r = sqrt((double)p[0] * p[0] + (double)p[1] * p[1]);
-        if (!(r < s->max_range_m)) continue;
-        double y = r * s->ring_scale;
-        int ring = (int)y;
-        if (y - ring < 1e-9 || y - ring > 1 - 1e-9) ring = (int)(r / s->max_range_m * s->rings);
-        if (ring >= s->rings) ring = s->rings - 1;
-        float h = (float)(p[2] + s->lift_m);
-        float *cell = &desc[(size_t)sc_sector(s, p[0], p[1]) * s->rings + ring];
-        if (h > *cell) *cell = h;
+        if (r < s->max_range_m) sc_raise(s, desc, sc_sector(s, p[0], p[1]), sc_ring(s, r), p);
     }
+}
+
+/* Empty cells to 0, then the key. */
+static void sc_close(const struct sc *s, float *desc, float *key)
+{
+    size_t cells = (size_t)s->rings * (size_t)s->sectors;
     for (size_t c = 0; c < cells; c++)
         if (desc[c] == -INFINITY) desc[c] = 0;
     for (int r = 0; r < s->rings; r++) {
@@ -130,4 +145,117 @@ void sc_image(const struct sc *s, const float *xyzi, size_t n, float *desc, floa
         for (int c = 0; c < s->sectors; c++) sum += desc[(size_t)c * s->rings + r];
         key[r] = (float)(sum / s->sectors);
     }
+}
+
+static void sc_open(const struct sc *s, float *desc)
+{
+    size_t cells = (size_t)s->rings * (size_t)s->sectors;
+    for (size_t c = 0; c < cells; c++) desc[c] = -INFINITY;
+}
+
+void sc_image_base(const struct sc *s, const float *xyzi, size_t n, float *desc, float *key)
+{
+    sc_open(s, desc);
+    sc_points(s, xyzi, 0, n, desc);
+    sc_close(s, desc, key);
+}
+
+#if defined(__x86_64__) || defined(__i386__)
+#include <immintrin.h>
+
+#define SC_AVX2 __attribute__((target("avx2")))
+
+#define SC_CHUNK 1024  /* points whose cells are found before they are raised */
+
+/* Raise cells cell[0..m-1] to heights h[..] in four interleaved runs, so
+ * that consecutive points of one cell do not wait on each other. */
+static inline void sc_scatter(float *desc, const int32_t *cell, const float *h, int m)
+{
+    int q = m / 4;
+    for (int i = 0; i < q; i++)
+        for (int l = 0; l < 4; l++) {
+            float *c = desc + cell[i + l * q], v = h[i + l * q];
+            *c = v > *c ? v : *c;
+        }
+    for (int i = 4 * q; i < m; i++) desc[cell[i]] = h[i] > desc[cell[i]] ? h[i] : desc[cell[i]];
+}
+
+/* Four points at a time: range, ring, pseudo-angle, fine bin and height in
+ * double, the same operations as sc_points (products of floats are exact in
+ * double, so no step rounds differently), then each point's table entry
+ * and cell; points near a ring edge or in a fine bin that needs the
+ * boundary tests take the scalar steps.  The cells of a chunk of points
+ * are raised together (sc_scatter). */
+SC_AVX2 static void sc_points_avx2(const struct sc *s, const float *xyzi, size_t n, float *desc)
+{
+    const __m256d maxr = _mm256_set1_pd(s->max_range_m), rs = _mm256_set1_pd(s->ring_scale),
+                  fs = _mm256_set1_pd(s->fine_scale), zero = _mm256_setzero_pd(), four = _mm256_set1_pd(4),
+                  two = _mm256_set1_pd(2), lo = _mm256_set1_pd(1e-9), hi = _mm256_set1_pd(1 - 1e-9),
+                  sign = _mm256_set1_pd(-0.0), lift = _mm256_set1_pd(s->lift_m);
+    const int F = SC_FINE_PER_SECTOR * s->sectors, R = s->rings;
+    int32_t cell[SC_CHUNK + 4];
+    float h[SC_CHUNK + 4];
+    size_t k = 0;
+    while (k + 4 <= n) {
+        int m = 0;
+        for (; k + 4 <= n && m + 4 <= SC_CHUNK; k += 4) {
+            const float *p = xyzi + 4 * k;
+            __m128 a0 = _mm_loadu_ps(p), a1 = _mm_loadu_ps(p + 4), a2 = _mm_loadu_ps(p + 8), a3 = _mm_loadu_ps(p + 12);
+            _MM_TRANSPOSE4_PS(a0, a1, a2, a3);
+            __m256d x = _mm256_cvtps_pd(a0), y = _mm256_cvtps_pd(a1);
+            __m256d r = _mm256_sqrt_pd(_mm256_add_pd(_mm256_mul_pd(x, x), _mm256_mul_pd(y, y)));
+            int in = _mm256_movemask_pd(_mm256_cmp_pd(r, maxr, _CMP_LT_OQ));
+            if (!in) continue;
+            __m256d yr = _mm256_mul_pd(r, rs), fr = _mm256_sub_pd(yr, _mm256_round_pd(yr, _MM_FROUND_TO_ZERO));
+            int edge = _mm256_movemask_pd(_mm256_or_pd(_mm256_cmp_pd(fr, lo, _CMP_LT_OQ), _mm256_cmp_pd(fr, hi, _CMP_GT_OQ)));
+            __m256d u = _mm256_xor_pd(x, sign), v = _mm256_xor_pd(y, sign);
+            __m256d t = _mm256_div_pd(v, _mm256_add_pd(_mm256_andnot_pd(sign, u), _mm256_andnot_pd(sign, v)));
+            __m256d ge = _mm256_cmp_pd(u, zero, _CMP_GE_OQ), tpos = _mm256_cmp_pd(t, zero, _CMP_GE_OQ);
+            __m256d pa = _mm256_blendv_pd(_mm256_sub_pd(two, t), _mm256_blendv_pd(_mm256_add_pd(four, t), t, tpos), ge);
+            int ring[4], fine[4];
+            double rr[4];
+            _mm_storeu_si128((__m128i *)ring, _mm256_cvttpd_epi32(yr));
+            _mm_storeu_si128((__m128i *)fine, _mm256_cvttpd_epi32(_mm256_mul_pd(pa, fs)));
+            _mm256_storeu_pd(rr, r);
+            float hv[4];
+            _mm_storeu_ps(hv, _mm256_cvtpd_ps(_mm256_add_pd(_mm256_cvtps_pd(a2), lift)));
+            for (int l = 0; l < 4; l++) {
+                const float *q = p + 4 * l;
+                int rg = edge >> l & 1 ? sc_ring(s, rr[l]) : ring[l] < R ? ring[l] : R - 1;
+                int sec = s->fine[fine[l] >= 0 && fine[l] < F ? fine[l] : F - 1];
+                if (sec & SC_FINE_TEST || (q[0] == 0 && q[1] == 0)) sec = sc_sector(s, q[0], q[1]);
+                h[m] = hv[l];  /* written always, kept when the point is in range */
+                cell[m] = sec * R + rg;
+                m += in >> l & 1;
+            }
+        }
+        sc_scatter(desc, cell, h, m);
+    }
+    sc_points(s, xyzi, k, n, desc);
+}
+
+SC_AVX2 void sc_image_avx2(const struct sc *s, const float *xyzi, size_t n, float *desc, float *key)
+{
+    sc_open(s, desc);
+    sc_points_avx2(s, xyzi, n, desc);
+    sc_close(s, desc, key);
+}
+
+sc_image_fn sc_image_pick(void)
+{
+    __builtin_cpu_init();
+    return __builtin_cpu_supports("avx2") ? sc_image_avx2 : sc_image_base;
+}
+#else
+void sc_image_avx2(const struct sc *s, const float *xyzi, size_t n, float *desc, float *key)
+{
+    sc_image_base(s, xyzi, n, desc, key);
+}
+
+sc_image_fn sc_image_pick(void) { return sc_image_base; }
+#endif
+
+void sc_image(const struct sc *s, const float *xyzi, size_t n, float *desc, float *key)
+{
+    s->image(s, xyzi, n, desc, key);
 }
