@@ -15,7 +15,8 @@
  *   create(values)     once per setting variant; returns an opaque instance
  *   describe(inst, s)  once per scan; writes dim floats (and key_dim key floats)
  *   reset(inst)        (sequential methods) before the first scan of each sequence
- *   distance(...)      (custom distance only) any number of times, any thread
+ *   distance(...)      (custom distance only) any number of times, any thread;
+ *                      distance_batch, when given, for one query against many
  *   destroy(inst)      once
  *
  * OWNERSHIP
@@ -37,7 +38,8 @@
  * VERSIONING
  * abi_version must equal RV_ABI_VERSION; struct_size is sizeof(struct
  * rv_method) as the plugin was built.  Members are only ever appended; the
- * host reads nothing beyond struct_size.
+ * host reads nothing beyond struct_size, so a plugin built before a member
+ * was appended keeps working without it (distance_batch came after reset).
  *
  * EXAMPLE (a whole plugin)
  *     #include "revisit_plugin.h"
@@ -136,12 +138,24 @@ struct rv_method {
     void (*destroy)(void *inst);
 
     /* Optional (NULL when absent). */
-    /* RV_DIST_CUSTOM: distance of two descriptors, >= 0, smaller is closer.
+    /* RV_DIST_CUSTOM: distance of two descriptors, >= 0 (+inf: never a
+     * match), smaller is closer; a negative or NaN value stops the run with
+     * an error naming the method, the query and the candidate.
      * aux, when not NULL, receives a method-specific integer (Scan Context:
      * the best column shift). Keys are compared by L2 for the prefilter. */
     double (*distance_fn)(const void *inst, const float *a, const float *b, int32_t *aux);
     /* RV_FLAG_SEQUENTIAL: forget the state carried from previous scans. */
     void (*reset)(void *inst);
+
+    /* Appended later in ABI 1: the host reads it only when struct_size
+     * covers it; NULL when absent (the host then calls distance_fn per pair).
+     * RV_DIST_CUSTOM: the distances of a to each of the n descriptors
+     * b[0..n-1] into out[0..n-1] (aux, when not NULL, n integers as
+     * distance_fn's), each exactly what distance_fn gives for that pair; a
+     * method uses it to prepare a once for all its candidates.  RV_OK, or
+     * another rv_status with a reason in msg.  Safe to call concurrently. */
+    int (*distance_batch)(const void *inst, const float *a, const float *const *b, size_t n,
+                          double *out, int32_t *aux, char *msg, size_t msg_len);
 };
 
 typedef const struct rv_method *(*rv_entry_fn)(void);

@@ -70,7 +70,8 @@ static int synth_times(const struct synconf *c, const struct synth_run *r, const
     }
     if (r->scans > 0) {
         if ((size_t)r->scans > natural)
-            return err_set(e, "--scans %ld is more than the %zu scans the %.1f s drive holds at %g Hz",
+            return err_set(e, "--scans %ld is more than the %zu scans the %.1f s drive holds at %g Hz "
+                           "(a longer drive: a scenario file whose route has more legs)",
                            r->scans, natural, drive, c->rate_hz);
         n = (size_t)r->scans;
         dt = n > 1 ? drive / (double)(n - 1) : 0;

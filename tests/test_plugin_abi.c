@@ -8,11 +8,13 @@
 #include <unistd.h>
 
 #include "harness/run/plugin_host.h"
+#include "harness/run/retrieval.h"
 #include "tests/check.h"
 
 /* One plugin source; -D flags make the broken variants. */
 static const char plugin_src[] =
-    "#include <math.h>\n#include <stdio.h>\n#include <stdlib.h>\n#include <unistd.h>\n#include \"revisit_plugin.h\"\n"
+    "#include <math.h>\n#include <stddef.h>\n#include <stdio.h>\n#include <stdlib.h>\n#include <unistd.h>\n"
+    "#include \"revisit_plugin.h\"\n"
     "static const struct rv_setting set[] = {\n"
     "#ifdef BADSCHEMA\n  {\"bins\", RV_SET_INT, 99, 1, 64, NULL, \"bins\"},\n#else\n"
     "  {\"bins\", RV_SET_INT, 4, 1, 64, NULL, \"bins\"},\n#endif\n"
@@ -37,12 +39,25 @@ static const char plugin_src[] =
     "#ifdef FAILDESC\n  snprintf(m, l, \"cannot use scan %u\", sc->index); return RV_ERR_INPUT;\n#endif\n"
     "  return RV_OK; }\n"
     "static void rm(void *inst) { free(inst); }\n"
+    "static double dist(const void *inst, const float *a, const float *b, int32_t *aux) {\n"
+    "  (void)aux; const struct st *s = inst; double t = 0;\n"
+    "  for (int i = 0; i < s->bins; i++) t += fabs((double)a[i] - b[i]);\n"
+    "#ifdef NEGDIST\n  if (t > 0) return -0.5;\n#endif\n"
+    "  return t; }\n"
+    "#ifdef BATCH\n"
+    "static int many(const void *inst, const float *a, const float *const *b, size_t n, double *out, int32_t *aux,\n"
+    "                char *m, size_t l) {\n"
+    "  (void)aux; (void)m; (void)l;  /* marked: 1000 more than dist, so a test sees which ran */\n"
+    "  for (size_t t = 0; t < n; t++) out[t] = dist(inst, a, b[t], NULL) + 1000;\n"
+    "  return RV_OK; }\n"
+    "#else\n#define many NULL\n#endif\n"
     "static const struct rv_method m = {\n"
     "#ifdef BADABI\n  99,\n#else\n  RV_ABI_VERSION,\n#endif\n"
-    "#ifdef SMALL\n  8,\n#else\n  sizeof m,\n#endif\n"
+    "#ifdef SMALL\n  8,\n#elif defined(OLDSIZE)\n  offsetof(struct rv_method, distance_batch),\n#else\n  sizeof m,\n#endif\n"
     "  \"outside\", \"1.0\", \"test plugin\", set, 4,\n"
-    "#ifdef NOCUSTOMFN\n  RV_DIST_CUSTOM,\n#else\n  RV_DIST_L2,\n#endif\n"
-    "  RV_FLAG_THREAD_SAFE, mk, run, rm, NULL, NULL};\n"
+    "#if defined(NOCUSTOMFN) || defined(CUSTOM)\n  RV_DIST_CUSTOM,\n#else\n  RV_DIST_L2,\n#endif\n"
+    "#ifdef CUSTOM\n  RV_FLAG_THREAD_SAFE, mk, run, rm, dist, NULL, many};\n"
+    "#else\n  RV_FLAG_THREAD_SAFE, mk, run, rm, NULL, NULL};\n#endif\n"
     "#ifdef NOENTRY\nRV_EXPORT const struct rv_method *other_name(void) { return &m; }\n"
     "#else\nRV_EXPORT const struct rv_method *rv_method_entry(void) { return &m; }\n#endif\n";
 
@@ -76,7 +91,9 @@ static void setup(void)
     CHECK(build("exit0", "-DEXIT0") == 0, "the exiting variant compiles");
     CHECK(build("abort", "-DABORT") == 0, "the aborting variant compiles");
     static const char *const more[][2] = {{"badschema", "-DBADSCHEMA"}, {"zerodim", "-DZERODIM"},
-        {"faildesc", "-DFAILDESC"}, {"small", "-DSMALL"}, {"nocustomfn", "-DNOCUSTOMFN"}};
+        {"faildesc", "-DFAILDESC"}, {"small", "-DSMALL"}, {"nocustomfn", "-DNOCUSTOMFN"},
+        {"custom", "-DCUSTOM"}, {"batch", "-DCUSTOM -DBATCH"}, {"oldbatch", "-DCUSTOM -DBATCH -DOLDSIZE"},
+        {"negdist", "-DCUSTOM -DNEGDIST"}};
     for (size_t k = 0; k < sizeof more / sizeof *more; k++)
         CHECK(build(more[k][0], more[k][1]) == 0, "a broken variant compiles");
 }
@@ -223,11 +240,64 @@ static void test_crash(void)
     CHECK(WIFEXITED(st) && WEXITSTATUS(st) == 0 && !buf[0], "a closed plugin leaves a normal exit alone");
 }
 
+/* retrieval's custom-distance callback, as eval passes it. */
+static int host_fn(const void *ctx, const float *a, const float *const *b, size_t n, double *out, struct err *e)
+{
+    return plugin_distances(ctx, a, b, n, out, e);
+}
+
+/* Descriptors of three scans of 2, 5 and 9 points from plugin spec, then
+ * the custom distances of scan 0 to all three with plugin_distances. */
+static int three(const char *spec, struct plugin *p, float *d, double *out, struct err *e)
+{
+    if (plugin_open(p, spec, NULL, e)) return -1;
+    static const size_t npts[3] = {2, 5, 9};
+    float pts[36] = {0};
+    for (int s = 0; s < 3; s++) {
+        struct rv_scan sc = {npts[s], pts, NULL, NULL, s, (uint32_t)s, 0};
+        if (plugin_describe(p, &sc, d + 4 * s, NULL, e)) return -1;
+    }
+    const float *b[3] = {d, d + 4, d + 8};
+    return plugin_distances(p, d, b, 3, out, e);
+}
+
+/* distance_batch: used when the table has it, skipped when the plugin was
+ * built before it (struct_size short of it) or leaves it NULL; a negative
+ * custom distance stops retrieval with a message naming method, query,
+ * map scan and value. */
+static void test_batch(void)
+{
+    struct plugin p;
+    struct err e = {{0}};
+    float d[12];
+    double out[3];
+    /* dist: |2 - 5| + |4 - 10| + |6 - 15| + |8 - 20| = 30 for scans 0 and 1 */
+    CHECK(three("./custom.so", &p, d, out, &e) == 0 && out[0] == 0 && out[1] == 30 && out[2] == 70,
+          "a custom distance without distance_batch: one call of distance_fn per pair");
+    plugin_close(&p);
+    CHECK(three("./batch.so", &p, d, out, &e) == 0 && out[0] == 1000 && out[1] == 1030 && out[2] == 1070,
+          "distance_batch, when the table has it, answers the whole batch");
+    plugin_close(&p);
+    CHECK(three("./oldbatch.so", &p, d, out, &e) == 0 && out[0] == 0 && out[1] == 30 && out[2] == 70,
+          "a table whose struct_size ends before distance_batch: the host reads nothing beyond it");
+    plugin_close(&p);
+    CHECK(three("./negdist.so", &p, d, out, &e) == 0, "the negative-distance plugin loads and describes");
+    struct retrieval_mat m = {d, 3, 4};
+    struct retrieval_rule rule = {0, NULL, 0, -1, NULL};
+    struct retrieval_out r;
+    CHECK(retrieval_custom(&m, &m, NULL, NULL, host_fn, &p, p.name, &rule, 2, 2, 1, &r, &e) == -1,
+          "a negative custom distance stops retrieval");
+    CHECK_MSG(e.msg, "method 'outside': distance of query 0 to map scan 1 is -0.5, expected a number >= 0",
+              "the message names method, query, map scan and value");
+    plugin_close(&p);
+}
+
 int main(void)
 {
     setup();
     test_good();
     test_broken();
     test_crash();
+    test_batch();
     return check_done();
 }

@@ -14,12 +14,16 @@
 #include "harness/base/fileio.h"
 #include "harness/run/retrieval.h"
 
-static double tool_l1(const void *ctx, const float *a, const float *b)
+static int tool_l1(const void *ctx, const float *a, const float *const *b, size_t n, double *out, struct err *e)
 {
+    (void)e;
     uint32_t dim = *(const uint32_t *)ctx;
-    double s = 0;
-    for (uint32_t k = 0; k < dim; k++) s += fabs((double)a[k] - b[k]);
-    return s;
+    for (size_t t = 0; t < n; t++) {
+        double s = 0;
+        for (uint32_t k = 0; k < dim; k++) s += fabs((double)a[k] - b[t][k]);
+        out[t] = s;
+    }
+    return 0;
 }
 
 static float *tool_keys(const struct retrieval_mat *m)
@@ -60,8 +64,8 @@ int main(int argc, char **argv)
         float *mk = tool_keys(&map), *qk = tool_keys(&q);
         struct retrieval_mat mkm = {mk, map.n, 4}, qkm = {qk, q.n, 4};
         int key = !strcmp(argv[2], "l1key");
-        rc = retrieval_custom(&map, &q, key ? &mkm : NULL, key ? &qkm : NULL, tool_l1, &dim, &rule, k, topc, 2,
-                              &r, &e);
+        rc = retrieval_custom(&map, &q, key ? &mkm : NULL, key ? &qkm : NULL, tool_l1, &dim, "l1", &rule, k, topc,
+                              2, &r, &e);
         free(mk);
         free(qk);
     }

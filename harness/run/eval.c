@@ -302,9 +302,9 @@ static int ev_setup(struct ev_ctx *c, struct err *e)
     return 0;
 }
 
-static double ev_custom(const void *ctx, const float *a, const float *b)
+static int ev_custom(const void *ctx, const float *a, const float *const *b, size_t n, double *out, struct err *e)
 {
-    return plugin_distance(ctx, a, b, NULL);
+    return plugin_distances(ctx, a, b, n, out, e);
 }
 
 static int ev_retrieve(struct ev_ctx *c, struct err *e)
@@ -321,7 +321,7 @@ static int ev_retrieve(struct ev_ctx *c, struct err *e)
                              qk = {c->qset.key, c->qset.n, c->plug.key_dim};
         int top_c = c->s->top_c > 0 ? c->s->top_c : 50;
         rc = retrieval_custom(&m, &q, c->plug.key_dim ? &mk : NULL, c->plug.key_dim ? &qk : NULL, ev_custom,
-                              &c->plug, &rule, p->top_k, top_c, c->s->jobs, &c->r, e);
+                              &c->plug, c->plug.name, &rule, p->top_k, top_c, c->s->jobs, &c->r, e);
     } else {
         rc = retrieval_dense(&m, &q, c->plug.distance, &rule, p->top_k, c->s->jobs, &c->r, e);
     }
@@ -464,20 +464,31 @@ static double ev_pair(const struct ev_ctx *c, size_t i, size_t j)
                                               : retrieval_pair(a, b, c->plug.dim, c->plug.distance);
 }
 
-/* One row of the distance matrix (a pool task). */
+/* One row of the distance matrix (a pool task); a custom distance for the
+ * whole row at once. */
 static int ev_matrix_row(void *arg, size_t r, int w, struct err *e)
 {
     (void)w;
-    (void)e;
     struct ev_ctx *c = arg;
     /* Loop mode: a query's candidates are earlier scans, so the row stops at
      * the diagonal (the columns are in scan order: a prefix). */
     size_t nk = c->mat_nc;
+    double *row = c->mat + r * c->mat_nc;
     if (!c->reloc)
         for (nk = 0; nk < c->mat_nc && c->mat_ci[nk] <= c->mat_ri[r];) nk++;
-    for (size_t k = 0; k < nk; k++)
-        c->mat[r * c->mat_nc + k] = ev_pair(c, c->mat_ri[r], c->mat_ci[k]);
-    for (size_t k = nk; k < c->mat_nc; k++) c->mat[r * c->mat_nc + k] = NAN;
+    if (c->plug.distance != RV_DIST_CUSTOM) {
+        for (size_t k = 0; k < nk; k++) row[k] = ev_pair(c, c->mat_ri[r], c->mat_ci[k]);
+    } else if (nk) {
+        const float **b = malloc(nk * sizeof *b);
+        if (!b) return err_set(e, "out of memory for a row of the distance matrix");
+        for (size_t k = 0; k < nk; k++) b[k] = c->mset.desc + c->mat_ci[k] * c->plug.dim;
+        int rc = plugin_distances(&c->plug, c->qset.desc + c->mat_ri[r] * c->plug.dim, b, nk, row, e);
+        free(b);
+        if (rc) return -1;
+        for (size_t k = 0; k < nk; k++)
+            if (retrieval_distance_ok(c->plug.name, row[k], c->mat_ri[r], c->mat_ci[k], e)) return -1;
+    }
+    for (size_t k = nk; k < c->mat_nc; k++) row[k] = NAN;
     progress_add(&c->mat_prog, 1);
     return 0;
 }

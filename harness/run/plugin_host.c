@@ -552,6 +552,24 @@ double plugin_distance(const struct plugin *p, const float *a, const float *b, i
     return isfinite(d) && d >= 0 ? d : INFINITY;
 }
 
+int plugin_distances(const struct plugin *p, const float *a, const float *const *b, size_t n, double *out,
+                     struct err *e)
+{
+    const struct rv_method *m = p->m;
+    if (m->struct_size < offsetof(struct rv_method, distance_batch) + sizeof m->distance_batch ||
+        !m->distance_batch) {
+        for (size_t t = 0; t < n; t++) out[t] = m->distance_fn(p->inst, a, b[t], NULL);
+        return 0;
+    }
+    char msg[256] = "";
+    int rc = m->distance_batch(p->inst, a, b, n, out, NULL, msg, sizeof msg);
+    msg[sizeof msg - 1] = 0;
+    if (rc != RV_OK)
+        return err_set(e, "method '%s': distance_batch failed (status %d): %s", p->name, rc,
+                       msg[0] ? msg : "no reason given");
+    return 0;
+}
+
 void plugin_reset(struct plugin *p)
 {
     if (p->m && (p->flags & RV_FLAG_SEQUENTIAL) && p->m->struct_size >= sizeof *p->m && p->m->reset)

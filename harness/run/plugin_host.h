@@ -84,6 +84,13 @@ int plugin_describe(struct plugin *p, const struct rv_scan *s, float *desc, floa
  * negative value from the plugin is returned as +inf. */
 double plugin_distance(const struct plugin *p, const float *a, const float *b, int32_t *aux);
 
+/* Custom distances (RV_DIST_CUSTOM only) of a to b[0..n-1] into out, as
+ * the plugin returns them (unchecked): its distance_batch when the table
+ * has one, else distance_fn once per pair.  0, or -1 when distance_batch
+ * fails: e reads "method 'NAME': distance_batch failed (status 3): ...". */
+int plugin_distances(const struct plugin *p, const float *a, const float *const *b, size_t n, double *out,
+                     struct err *e);
+
 /* Sequential methods: forget carried state.  No-op for others. */
 void plugin_reset(struct plugin *p);
 

@@ -182,51 +182,78 @@ int retr_check(const struct retrieval_mat *map, const struct retrieval_mat *q,
     return 0;
 }
 
+int retrieval_distance_ok(const char *name, double d, size_t query, size_t map, struct err *e)
+{
+    if (d >= 0) return 0;
+    return err_set(e, "method '%s': distance of query %zu to map scan %zu is %g, expected a number >= 0", name,
+                   query, map, d);
+}
+
 /* Custom path: one pool task per query. */
 struct retr_custom {
     const struct retrieval_mat *map, *q;
     const struct retrieval_out *pre;   /* key prefilter or NULL */
     retrieval_fn fn;
     const void *ctx;
+    const char *name;
     const struct retrieval_rule *rule;
     struct retrieval_out *out;
 };
+
+/* The candidates of query i (map indices into js, rows into rows); how many. */
+static size_t retr_candidates(const struct retr_custom *c, size_t i, int32_t *js, const float **rows)
+{
+    size_t n = c->pre ? (size_t)c->pre->count[i] : c->map->n, m = 0;
+    for (size_t t = 0; t < n; t++) {
+        size_t j = c->pre ? (size_t)c->pre->idx[i * c->pre->k + t] : t;
+        if (!c->pre && !retrieval_is_candidate(c->rule, i, j)) continue;
+        js[m] = (int32_t)j;
+        rows[m++] = c->map->v + j * c->map->dim;
+    }
+    return m;
+}
 
 static int retr_custom_task(void *arg, size_t i, int worker, struct err *e)
 {
     (void)worker;
     struct retr_custom *c = arg;
-    int k = c->out->k;
-    double *s = malloc((size_t)k * sizeof *s);
-    int32_t *js = malloc((size_t)k * sizeof *js);
-    double *tmp = malloc(2 * (size_t)k * sizeof *tmp);
-    if (!s || !js || !tmp) {
-        free(s);
-        free(js);
-        free(tmp);
-        return err_set(e, "retrieval: out of memory");
+    int k = c->out->k, rc = -1;
+    size_t most = c->pre ? (size_t)c->pre->k : c->map->n;
+    double *s = malloc((size_t)k * sizeof *s), *tmp = malloc(2 * (size_t)k * sizeof *tmp);
+    double *d = malloc((most ? most : 1) * sizeof *d);
+    int32_t *hs = malloc((size_t)k * sizeof *hs), *js = malloc((most ? most : 1) * sizeof *js);
+    const float **rows = malloc((most ? most : 1) * sizeof *rows);
+    if (!s || !tmp || !d || !hs || !js || !rows) {
+        err_set(e, "retrieval: out of memory");
+        goto done;
     }
-    struct retr_heap h = {s, js, 0, k};
-    const float *qv = c->q->v + i * c->q->dim;
-    size_t n = c->pre ? (size_t)c->pre->count[i] : c->map->n;
+    struct retr_heap h = {s, hs, 0, k};
+    size_t n = retr_candidates(c, i, js, rows);
+    if (n && c->fn(c->ctx, c->q->v + i * c->q->dim, rows, n, d, e)) {
+        err_wrap(e, "query %zu", i);
+        goto done;
+    }
     for (size_t t = 0; t < n; t++) {
-        size_t j = c->pre ? (size_t)c->pre->idx[i * c->pre->k + t] : t;
-        if (!c->pre && !retrieval_is_candidate(c->rule, i, j)) continue;
-        double d = c->fn(c->ctx, qv, c->map->v + j * c->map->dim);
-        retr_push(&h, isfinite(d) && d >= 0 ? d : INFINITY, (int32_t)j);
+        if (retrieval_distance_ok(c->name, d[t], i, (size_t)js[t], e)) goto done;
+        retr_push(&h, d[t], js[t]);
     }
     retr_rank(c->map, c->q, RV_DIST_CUSTOM, h.s, h.j, h.n, i, tmp, c->out);
     if (c->rule->prog) progress_add(c->rule->prog, 1);
-    free(tmp);
+    rc = 0;
+done:
+    free(rows);
     free(js);
+    free(hs);
+    free(d);
+    free(tmp);
     free(s);
-    return 0;
+    return rc;
 }
 
 int retrieval_custom(const struct retrieval_mat *map, const struct retrieval_mat *q,
                      const struct retrieval_mat *map_key, const struct retrieval_mat *query_key,
-                     retrieval_fn fn, const void *ctx, const struct retrieval_rule *rule, int k,
-                     int top_c, int jobs, struct retrieval_out *out, struct err *e)
+                     retrieval_fn fn, const void *ctx, const char *name, const struct retrieval_rule *rule,
+                     int k, int top_c, int jobs, struct retrieval_out *out, struct err *e)
 {
     if (retr_check(map, q, rule, k, e)) return -1;
     struct retrieval_out pre = {0};
@@ -239,7 +266,7 @@ int retrieval_custom(const struct retrieval_mat *map, const struct retrieval_mat
         retrieval_out_free(&pre);
         return -1;
     }
-    struct retr_custom c = {map, q, use_keys ? &pre : NULL, fn, ctx, rule, out};
+    struct retr_custom c = {map, q, use_keys ? &pre : NULL, fn, ctx, name, rule, out};
     int rc = pool_run(q->n, jobs, retr_custom_task, &c, e);
     retrieval_out_free(&pre);
     if (rc) retrieval_out_free(out);

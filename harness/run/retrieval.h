@@ -73,14 +73,23 @@ int retrieval_dense(const struct retrieval_mat *map, const struct retrieval_mat 
                     enum rv_distance kind, const struct retrieval_rule *rule, int k, int jobs,
                     struct retrieval_out *out, struct err *e);
 
-/* Custom distance: fn(ctx, a, b) >= 0 compares two descriptors; keys may be
- * NULL (no prefilter).  top_c >= k candidates survive the key prefilter.
- * jobs threads (<= 0: all cores) share the queries.  0 or -1. */
-typedef double (*retrieval_fn)(const void *ctx, const float *a, const float *b);
+/* Custom distance: fn(ctx, a, b, n, out, e) gives out[t] = d(a, b[t]) >= 0
+ * for the n candidates of one query at once (0, or -1 with e set); keys may
+ * be NULL (no prefilter).  top_c >= k candidates survive the key prefilter.
+ * jobs threads (<= 0: all cores) share the queries.  0 or -1; a distance
+ * that is negative or NaN is an error naming the method `name`, the query
+ * and the map scan (retrieval_distance_ok); +inf ranks last. */
+typedef int (*retrieval_fn)(const void *ctx, const float *a, const float *const *b, size_t n, double *out,
+                            struct err *e);
 int retrieval_custom(const struct retrieval_mat *map, const struct retrieval_mat *query,
                      const struct retrieval_mat *map_key, const struct retrieval_mat *query_key,
-                     retrieval_fn fn, const void *ctx, const struct retrieval_rule *rule, int k,
-                     int top_c, int jobs, struct retrieval_out *out, struct err *e);
+                     retrieval_fn fn, const void *ctx, const char *name, const struct retrieval_rule *rule,
+                     int k, int top_c, int jobs, struct retrieval_out *out, struct err *e);
+
+/* 0 when d is a distance a custom method may return (>= 0, +inf allowed);
+ * else -1 with e reading "method 'NAME': distance of query 12 to map scan 7
+ * is -0.5, expected a number >= 0". */
+int retrieval_distance_ok(const char *name, double d, size_t query, size_t map, struct err *e);
 
 /* Free the arrays; accepts an emptied struct. */
 void retrieval_out_free(struct retrieval_out *o);

@@ -13,7 +13,8 @@
  * under a turn and serves the prefilter.  The distance is the minimum over
  * column shifts k of 1 - mean cosine similarity of column j of a and column
  * j + k of b, over the columns non-empty in both; aux receives the best k
- * (sc_distance.c).  Defaults (20 rings, 60 sectors, 80 m) are the published
+ * (sc_distance.c); distance_batch prepares a query once for all its
+ * candidates.  Defaults (20 rings, 60 sectors, 80 m) are the published
  * ones, from memory; the lift of 2 m is the sensor height the published
  * code adds, from memory.
  */
@@ -42,6 +43,7 @@ static int sc_create(const double *v, void **inst, uint32_t *dim, uint32_t *key_
     s->lift_m = v[3];
     s->pair = sc_pair_pick();
     s->many = sc_many_pick();
+    s->image = sc_image_pick();
     sc_sector_init(s);
     *inst = s;
     *dim = (uint32_t)(s->rings * s->sectors);
@@ -64,6 +66,16 @@ static double sc_distance(const void *inst, const float *a, const float *b, int3
     return s->pair(s->rings, s->sectors, a, b, aux);
 }
 
+static int sc_distance_batch(const void *inst, const float *a, const float *const *b, size_t n, double *out,
+                             int32_t *aux, char *msg, size_t len)
+{
+    (void)msg;
+    (void)len;
+    const struct sc *s = inst;
+    s->many(s->rings, s->sectors, a, b, n, out, aux);
+    return RV_OK;
+}
+
 static void sc_destroy(void *inst) { free(inst); }
 
 static const struct rv_method sc_method = {
@@ -71,6 +83,6 @@ static const struct rv_method sc_method = {
     "ring x sector maximum-height image, ring-key prefilter, shift-searched column cosine "
     "(Kim and Kim, IROS 2018)",
     sc_settings, sizeof sc_settings / sizeof *sc_settings, RV_DIST_CUSTOM, RV_FLAG_THREAD_SAFE,
-    sc_create, sc_describe, sc_destroy, sc_distance, NULL};
+    sc_create, sc_describe, sc_destroy, sc_distance, NULL, sc_distance_batch};
 
 RV_EXPORT const struct rv_method *rv_method_entry(void) { return &sc_method; }
