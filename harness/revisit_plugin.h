@@ -40,6 +40,8 @@
  * rv_method) as the plugin was built.  Members are only ever appended; the
  * host reads nothing beyond struct_size, so a plugin built before a member
  * was appended keeps working without it (distance_batch came after reset).
+ * A table may also stop before trailing optional members (they are then
+ * NULL); with -Wextra, -Wno-missing-field-initializers quiets the warning.
  *
  * EXAMPLE (a whole plugin)
  *     #include "revisit_plugin.h"
