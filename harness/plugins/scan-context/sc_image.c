@@ -29,7 +29,9 @@
  * bin spans at most 1 / (8 S) rad, a sector 2 pi / S), settled by the two
  * boundary tests.  The ring, floor(r / max_range * rings), comes from one
  * multiplication unless that lands within 1e-9 of a whole number; then
- * from the division, as written.
+ * from the division, as written.  sc_image_avx2 runs the same steps on four
+ * points at a time and gives the same image (tests/test_scan_context_kernels.c
+ * holds both to a walk over every boundary).
  */
 #include <math.h>
 
@@ -163,7 +165,7 @@ void sc_image_base(const struct sc *s, const float *xyzi, size_t n, float *desc,
 #if defined(__x86_64__) || defined(__i386__)
 #include <immintrin.h>
 
-#define SC_AVX2 __attribute__((target("avx2")))
+#define SC_AVX2 __attribute__((target("avx2,bmi2")))
 
 #define SC_CHUNK 1024  /* points whose cells are found before they are raised */
 
@@ -182,10 +184,11 @@ static inline void sc_scatter(float *desc, const int32_t *cell, const float *h, 
 
 /* Four points at a time: range, ring, pseudo-angle, fine bin and height in
  * double, the same operations as sc_points (products of floats are exact in
- * double, so no step rounds differently), then each point's table entry
- * and cell; points near a ring edge or in a fine bin that needs the
- * boundary tests take the scalar steps.  The cells of a chunk of points
- * are raised together (sc_scatter). */
+ * double, so no step rounds differently), the fine bin's table entry and the
+ * cell as four integers; only points at a ring edge, in a fine bin that needs
+ * the boundary tests, or at the origin take the scalar steps.  The cells of
+ * the points in range are packed (pdep / pext pick the permutation) and a
+ * chunk of them is raised together (sc_scatter). */
 SC_AVX2 static void sc_points_avx2(const struct sc *s, const float *xyzi, size_t n, float *desc)
 {
     const __m256d maxr = _mm256_set1_pd(s->max_range_m), rs = _mm256_set1_pd(s->ring_scale),
@@ -193,6 +196,8 @@ SC_AVX2 static void sc_points_avx2(const struct sc *s, const float *xyzi, size_t
                   two = _mm256_set1_pd(2), lo = _mm256_set1_pd(1e-9), hi = _mm256_set1_pd(1 - 1e-9),
                   sign = _mm256_set1_pd(-0.0), lift = _mm256_set1_pd(s->lift_m);
     const int F = SC_FINE_PER_SECTOR * s->sectors, R = s->rings;
+    const __m128i fmax = _mm_set1_epi32(F - 1), rmax = _mm_set1_epi32(R - 1), rings = _mm_set1_epi32(R),
+                  low16 = _mm_set1_epi32(0xffff), lowtest = _mm_set1_epi32(SC_FINE_TEST - 1);
     int32_t cell[SC_CHUNK + 4];
     float h[SC_CHUNK + 4];
     size_t k = 0;
@@ -212,22 +217,33 @@ SC_AVX2 static void sc_points_avx2(const struct sc *s, const float *xyzi, size_t
             __m256d t = _mm256_div_pd(v, _mm256_add_pd(_mm256_andnot_pd(sign, u), _mm256_andnot_pd(sign, v)));
             __m256d ge = _mm256_cmp_pd(u, zero, _CMP_GE_OQ), tpos = _mm256_cmp_pd(t, zero, _CMP_GE_OQ);
             __m256d pa = _mm256_blendv_pd(_mm256_sub_pd(two, t), _mm256_blendv_pd(_mm256_add_pd(four, t), t, tpos), ge);
-            int ring[4], fine[4];
-            double rr[4];
-            _mm_storeu_si128((__m128i *)ring, _mm256_cvttpd_epi32(yr));
-            _mm_storeu_si128((__m128i *)fine, _mm256_cvttpd_epi32(_mm256_mul_pd(pa, fs)));
-            _mm256_storeu_pd(rr, r);
-            float hv[4];
-            _mm_storeu_ps(hv, _mm256_cvtpd_ps(_mm256_add_pd(_mm256_cvtps_pd(a2), lift)));
-            for (int l = 0; l < 4; l++) {
-                const float *q = p + 4 * l;
-                int rg = edge >> l & 1 ? sc_ring(s, rr[l]) : ring[l] < R ? ring[l] : R - 1;
-                int sec = s->fine[fine[l] >= 0 && fine[l] < F ? fine[l] : F - 1];
-                if (sec & SC_FINE_TEST || (q[0] == 0 && q[1] == 0)) sec = sc_sector(s, q[0], q[1]);
-                h[m] = hv[l];  /* written always, kept when the point is in range */
-                cell[m] = sec * R + rg;
-                m += in >> l & 1;
+            __m128i fine = _mm256_cvttpd_epi32(_mm256_mul_pd(pa, fs));
+            fine = _mm_min_epi32(_mm_max_epi32(fine, _mm_setzero_si128()), fmax);
+            /* the table's uint16 entries, read as the low half of 32-bit words
+             * (the word of the last entry ends inside struct sc) */
+            __m128i sec = _mm_and_si128(_mm_i32gather_epi32((const int *)(const void *)s->fine, fine, 2), low16);
+            __m128i rg = _mm_min_epi32(_mm256_cvttpd_epi32(yr), rmax);
+            __m128i cl = _mm_add_epi32(_mm_mullo_epi32(sec, rings), rg);
+            __m256d origin = _mm256_and_pd(_mm256_cmp_pd(x, zero, _CMP_EQ_OQ), _mm256_cmp_pd(y, zero, _CMP_EQ_OQ));
+            int test = _mm_movemask_ps(_mm_castsi128_ps(_mm_cmpgt_epi32(sec, lowtest)));  /* SC_FINE_TEST set */
+            int slow = (edge | test | _mm256_movemask_pd(origin)) & in;
+            __m128 hv = _mm256_cvtpd_ps(_mm256_add_pd(_mm256_cvtps_pd(a2), lift));
+            if (slow) {  /* a point at a ring edge, near a sector boundary or at the origin */
+                int32_t c4[4];
+                double rr[4];
+                _mm_storeu_si128((__m128i *)c4, cl);
+                _mm256_storeu_pd(rr, r);
+                for (int l = 0; l < 4; l++)
+                    if (slow >> l & 1) c4[l] = sc_sector(s, p[4 * l], p[4 * l + 1]) * R + sc_ring(s, rr[l]);
+                cl = _mm_loadu_si128((const __m128i *)c4);
             }
+            uint64_t bytes = _pdep_u64((unsigned)in, 0x0101010101010101ull) * 0xff;  /* pack the lanes in range */
+            __m128i perm = _mm_cvtepu8_epi32(_mm_cvtsi64_si128((long long)_pext_u64(0x0706050403020100ull, bytes)));
+            _mm_storeu_si128((__m128i *)(cell + m), _mm256_castsi256_si128(
+                _mm256_permutevar8x32_epi32(_mm256_castsi128_si256(cl), _mm256_castsi128_si256(perm))));
+            _mm_storeu_ps(h + m, _mm256_castps256_ps128(
+                _mm256_permutevar8x32_ps(_mm256_castps128_ps256(hv), _mm256_castsi128_si256(perm))));
+            m += __builtin_popcount((unsigned)in);
         }
         sc_scatter(desc, cell, h, m);
     }
@@ -244,7 +260,7 @@ SC_AVX2 void sc_image_avx2(const struct sc *s, const float *xyzi, size_t n, floa
 sc_image_fn sc_image_pick(void)
 {
     __builtin_cpu_init();
-    return __builtin_cpu_supports("avx2") ? sc_image_avx2 : sc_image_base;
+    return __builtin_cpu_supports("avx2") && __builtin_cpu_supports("bmi2") ? sc_image_avx2 : sc_image_base;
 }
 #else
 void sc_image_avx2(const struct sc *s, const float *xyzi, size_t n, float *desc, float *key)
