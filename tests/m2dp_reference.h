@@ -9,7 +9,7 @@
 
 /* A (p*q x l*t, row-major) from n points; q: scratch as m2dp_matrix's.
  * Returns the number of points used, 0 when the cloud has no extent. */
-static size_t m2dpref_matrix(const struct m2dp *m, const float *xyzi, size_t n, double *a, double *q)
+static inline size_t m2dpref_matrix(const struct m2dp *m, const float *xyzi, size_t n, double *a, double *q)
 {
     size_t stride = m2dp_stride(m, n), cnt = 0;
     int rows = m->p * m->q, cols = m->l * m->t;
@@ -40,6 +40,28 @@ static size_t m2dpref_matrix(const struct m2dp *m, const float *xyzi, size_t n, 
         }
     }
     return used;
+}
+
+/* The leading singular pair as the plugin first took it: the full
+ * LAPACKE dgesvd of A (destroyed), signs as m2dp_svd's.  -1 on failure. */
+static inline int m2dpref_svd(double *a, int rows, int cols, double *sig)
+{
+    int kmin = rows < cols ? rows : cols, rc = -1;
+    double *s = malloc(sizeof *s * (size_t)kmin), *u = malloc(sizeof *u * (size_t)rows * (size_t)kmin);
+    double *vt = malloc(sizeof *vt * (size_t)kmin * (size_t)cols), *sup = malloc(sizeof *sup * (size_t)kmin);
+    if (s && u && vt && sup && LAPACKE_dgesvd(LAPACK_ROW_MAJOR, 'S', 'S', rows, cols, a, cols, s, u, kmin, vt, cols, sup) == 0) {
+        double sum = 0;
+        for (int j = 0; j < cols; j++) sum += vt[j];
+        double sign = sum < 0 ? -1.0 : 1.0;
+        for (int i = 0; i < rows; i++) sig[i] = sign * u[(size_t)i * kmin];
+        for (int j = 0; j < cols; j++) sig[rows + j] = sign * vt[j];
+        rc = 0;
+    }
+    free(s);
+    free(u);
+    free(vt);
+    free(sup);
+    return rc;
 }
 
 #endif

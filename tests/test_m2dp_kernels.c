@@ -1,7 +1,8 @@
 /* test_m2dp_kernels.c: the M2DP plugin's vector binning kernels (float
  * lanes, exact double fallback) against the plain double loop they
  * replaced (tests/m2dp_reference.h): the count matrix, and so the
- * signature, must be identical, for the AVX2 and the base kernel, on
+ * signature, must be identical, for the base, the AVX2 and (where the
+ * setting fits it) the folded AVX2 + FMA kernel, on
  * random clouds, on a lattice (many projections exactly on ring and sector
  * edges), and on synthetic scans from `revisit synth` (REVISIT_BIN, in the
  * working folder).  The ring edges found by bisection are checked against
@@ -16,6 +17,7 @@
 #define SCANS 12
 
 static unsigned rnd_state = 2016;
+static int folded;  /* comparisons that ran the folded kernel */
 static double rnd(void)
 {
     rnd_state = rnd_state * 1103515245u + 12345u;
@@ -35,13 +37,14 @@ static int compare(const double *set, const float *xyzi, size_t n)
     double *ref = malloc(sizeof *ref * cells), *got = malloc(sizeof *got * cells), *q = malloc(sizeof *q * cap);
     float *qf = malloc(sizeof *qf * cap);
     uint32_t *hist = malloc(sizeof *hist * M2DP_COPIES * (size_t)(m->l * m->t));
-    m2dp_bins_fn kernels[2] = {m2dp_bins_base, m2dp_bins_base};
+    m2dp_bins_fn kernels[3] = {m2dp_bins_base, m2dp_bins_base, m2dp_bins_base};
 #if defined(__x86_64__) || defined(__i386__)
     if (__builtin_cpu_supports("avx2")) kernels[1] = m2dp_bins_avx2;
+    if (m2dp_bins_pick(m->l, m->t) == m2dp_fold_avx2) kernels[2] = m2dp_fold_avx2, folded++;
 #endif
     int bad = 0;
     size_t used = m2dpref_matrix(m, xyzi, n, ref, q);
-    for (int k = 0; k < 2; k++) {
+    for (int k = 0; k < 3; k++) {
         m->bins = kernels[k];
         bad += m2dp_matrix(m, xyzi, n, got, q, qf, hist) != used || memcmp(ref, got, sizeof *ref * cells) != 0;
     }
@@ -56,6 +59,7 @@ static int compare(const double *set, const float *xyzi, size_t n)
 
 static const double settings[][SET_COUNT] = {
     {4, 16, 8, 16, 16384}, {4, 16, 8, 16, 0}, {3, 5, 4, 6, 0}, {2, 3, 5, 7, 0}, {4, 16, 64, 256, 0}, {1, 1, 1, 2, 0},
+    {3, 4, 1, 8, 0}, {2, 5, 6, 24, 0}, {4, 3, 8, 32, 0}, {2, 2, 3, 40, 0}, {2, 2, 9, 16, 0},
 };
 #define N_SET (sizeof settings / sizeof *settings)
 
@@ -138,5 +142,9 @@ int main(void)
     clouds();
     scans();
     edges();
+#if defined(__x86_64__) || defined(__i386__)
+    if (__builtin_cpu_supports("avx2") && __builtin_cpu_supports("fma"))
+        CHECK(folded > 0, "the folded kernel ran (a CPU with AVX2 and FMA, settings of 8 to 32 sectors)");
+#endif
     return check_done();
 }

@@ -14,7 +14,7 @@
  *      to the centroid; sector s holds angles in [2πs/t, 2π(s+1)/t);
  *   5. the counts of plane (i, j) form row i·q + j of A (pq × lt), column
  *      ring·t + sector; the signature is [u1; v1], A's first left and right
- *      singular vectors (LAPACKE dgesvd), pq + lt values (192 by default).
+ *      singular vectors, pq + lt values (192 by default).
  *
  * Sign ambiguity.  Both steps produce vectors defined up to sign:
  *   - principal axis a (x' or y') is flipped so that the third moment of the
@@ -37,7 +37,12 @@
  * (m2dp_bins.h) works in float on vectors of 4 or, with AVX2 (picked at
  * create), 8 points, and hands every point whose float bin could differ
  * from the double one to the plain double computation, so the counts are
- * those of the scalar double loop.
+ * those of the scalar double loop.  With AVX2 and FMA, and the usual
+ * settings (up to 8 rings, 8 to 32 sectors in steps of 8), the folded
+ * kernel of m2dp_fold.h does the same without square roots or divisions.
+ * The singular pair comes from the one leading eigenpair of the smaller
+ * Gram matrix (A A^T, 64 x 64 by default), a quarter of the time of a
+ * full SVD of A, equal to it within 1e-12.
  */
 #include <lapacke.h>
 #include <math.h>
@@ -50,6 +55,10 @@
 #define M2DP_MAX_RINGS 64
 #define M2DP_COPIES 8  /* histogram copies: at least the widest kernel's lanes */
 #define M2DP_BAND 1e-6  /* ring tolerance of the float kernel, in r_max^2 (m2dp_bins.h) */
+#define M2DP_ETA 4e-7   /* largest float error of u and v, in r_max (m2dp_fold.h) */
+#define M2DP_FOLD_R2 4e-6  /* ring tolerance of the folded kernel, in r_max^2 (m2dp_fold.h) */
+#define M2DP_MAX_SECTORS 256
+#define M2DP_FOLD_MAX 32  /* the folded kernel takes multiples of 8 sectors up to this */
 #define M2_INLINE static inline __attribute__((always_inline))
 
 enum { SET_AZ, SET_EL, SET_RINGS, SET_SECTORS, SET_MAXPTS, SET_COUNT };
@@ -58,7 +67,7 @@ static const struct rv_setting m2dp_settings[SET_COUNT] = {
     {"azimuths", RV_SET_INT, 4, 1, 64, NULL, "projection planes per elevation: azimuths i*pi/p"},
     {"elevations", RV_SET_INT, 16, 1, 64, NULL, "plane elevations j*pi/(2q)"},
     {"rings", RV_SET_INT, 8, 1, M2DP_MAX_RINGS, NULL, "concentric rings per plane, radii grow as k^2"},
-    {"sectors", RV_SET_INT, 16, 2, 256, NULL, "angular sectors per plane"},
+    {"sectors", RV_SET_INT, 16, 2, M2DP_MAX_SECTORS, NULL, "angular sectors per plane"},
     {"max_points", RV_SET_INT, 16384, 0, 10000000, NULL,
      "thin scans with more points by a fixed stride (0 keeps all)"},
 };
@@ -91,7 +100,7 @@ struct m2dp {
     m2dp_bins_fn bins;          /* the binning kernel this CPU runs */
 };
 
-static m2dp_bins_fn m2dp_bins_pick(void);
+static m2dp_bins_fn m2dp_bins_pick(int rings, int sectors);
 
 static void m2dp_cross(const double a[3], const double b[3], double out[3])
 {
@@ -140,7 +149,7 @@ static int m2dp_new(const double *v, void **inst, uint32_t *dim, uint32_t *key_d
     m->l = (int)v[SET_RINGS];
     m->t = (int)v[SET_SECTORS];
     m->max_points = (size_t)v[SET_MAXPTS];
-    m->bins = m2dp_bins_pick();
+    m->bins = m2dp_bins_pick(m->l, m->t);
     m->planes = calloc((size_t)(m->p * m->q), sizeof *m->planes);
     m->bx = calloc((size_t)m->t + 1, sizeof *m->bx);
     m->by = calloc((size_t)m->t + 1, sizeof *m->by);
@@ -288,14 +297,24 @@ static inline m2dp_v4 m2dp_sqrt4(m2dp_v4 x)
 #define M2_TARGET static __attribute__((target("avx2")))
 #define M2_KERNEL m2dp_bins_avx2
 #include "harness/plugins/m2dp/m2dp_bins.h"
+#include "harness/plugins/m2dp/m2dp_fold.h"
 
-static m2dp_bins_fn m2dp_bins_pick(void)
+/* The kernel for this CPU and setting: the folded one when the CPU has AVX2
+ * and FMA and the setting fits it (m2dp_fold.h), else the vector kernel of
+ * m2dp_bins.h at the CPU's width. */
+static m2dp_bins_fn m2dp_bins_pick(int rings, int sectors)
 {
     __builtin_cpu_init();
-    return __builtin_cpu_supports("avx2") ? m2dp_bins_avx2 : m2dp_bins_base;
+    int avx2 = __builtin_cpu_supports("avx2"), fma = __builtin_cpu_supports("fma");
+    if (avx2 && fma && rings <= 8 && sectors % 8 == 0 && sectors <= M2DP_FOLD_MAX) return m2dp_fold_avx2;
+    return avx2 ? m2dp_bins_avx2 : m2dp_bins_base;
 }
 #else
-static m2dp_bins_fn m2dp_bins_pick(void) { return m2dp_bins_base; }
+static m2dp_bins_fn m2dp_bins_pick(int rings, int sectors)
+{
+    (void)rings, (void)sectors;
+    return m2dp_bins_base;
+}
 #endif
 
 /* edge[j], j = 1..l-1: the smallest double r2 >= 0 with
@@ -361,35 +380,67 @@ static size_t m2dp_matrix(const struct m2dp *m, const float *xyzi, size_t n, dou
     return used;
 }
 
-/* Leading singular pair of A (rows x cols, destroyed) into sig = [u1; v1],
- * signs fixed so that sum(v1) >= 0.  Returns -1 when LAPACKE fails. */
-static int m2dp_svd(double *a, int rows, int cols, double *sig)
+/* G = B B^T for B = A (rows x cols) when by_rows, else B = A^T: n x n,
+ * upper triangle filled.  The counts are whole numbers below 2^26, so
+ * every product and sum is exact and G does not depend on the order. */
+static void m2dp_gram(const double *a, int rows, int cols, int by_rows, double *g)
 {
-    int kmin = rows < cols ? rows : cols;
-    double *s = malloc(sizeof *s * (size_t)kmin);
-    double *u = malloc(sizeof *u * (size_t)rows * (size_t)kmin);
-    double *vt = malloc(sizeof *vt * (size_t)kmin * (size_t)cols);
-    double *sup = malloc(sizeof *sup * (size_t)kmin);
+    int n = by_rows ? rows : cols, len = by_rows ? cols : rows;
+    size_t si = by_rows ? (size_t)cols : 1, sk = by_rows ? 1 : (size_t)cols;
+    for (int i = 0; i < n; i++)
+        for (int j = i; j < n; j++) {
+            double sum = 0;
+            for (int k = 0; k < len; k++)
+                sum += a[i * si + k * sk] * a[j * si + k * sk];
+            g[(size_t)i * n + j] = sum;
+        }
+}
+
+/* Leading singular pair of A (rows x cols) into sig = [u1; v1], signs
+ * fixed so that sum(v1) >= 0.  The pair comes from the leading eigenvector
+ * x of the smaller Gram matrix (A A^T or A^T A, LAPACKE dsyevr for that one
+ * eigenpair), the other side as A^T x or A x normalised; it agrees with the
+ * leading pair of a full SVD to within rounding (tests/test_m2dp_svd.c).
+ * Returns -1 when LAPACKE fails or A is zero. */
+static int m2dp_svd(const double *a, int rows, int cols, double *sig)
+{
+    int by_rows = rows <= cols, n = by_rows ? rows : cols, other = by_rows ? cols : rows, found = 0;
+    double *g = malloc(sizeof *g * (size_t)n * (size_t)n), w[1], *x = sig + (by_rows ? 0 : rows);
+    double *y = sig + (by_rows ? rows : 0), *z = malloc(sizeof *z * (size_t)n);
+    lapack_int *support = malloc(sizeof *support * 2 * (size_t)n);
     int rc = -1;
-    if (!s || !u || !vt || !sup)
+    if (!g || !z || !support)
         goto out;
-    if (LAPACKE_dgesvd(LAPACK_ROW_MAJOR, 'S', 'S', rows, cols, a, cols, s, u, kmin,
-                       vt, cols, sup) != 0)
+    m2dp_gram(a, rows, cols, by_rows, g);
+    if (LAPACKE_dsyevr(LAPACK_ROW_MAJOR, 'V', 'I', 'U', n, g, n, 0, 0, n, n, 0, &found, w, z, 1, support) != 0
+        || found != 1)
         goto out;
-    double sum = 0;
+    double norm = 0;
+    for (int j = 0; j < other; j++) {
+        double sum = 0;
+        for (int i = 0; i < n; i++)
+            sum += z[i] * (by_rows ? a[(size_t)i * cols + j] : a[(size_t)j * cols + i]);
+        y[j] = sum;
+        norm += sum * sum;
+    }
+    if (!(norm > 0))
+        goto out;
+    norm = sqrt(norm);
+    double vsum = 0;
+    for (int j = 0; j < other; j++)
+        y[j] /= norm;
+    for (int i = 0; i < n; i++)
+        x[i] = z[i];
     for (int j = 0; j < cols; j++)
-        sum += vt[j];
-    double sign = sum < 0 ? -1.0 : 1.0;
-    for (int i = 0; i < rows; i++)
-        sig[i] = sign * u[(size_t)i * kmin];
-    for (int j = 0; j < cols; j++)
-        sig[rows + j] = sign * vt[j];
+        vsum += sig[rows + j];
+    if (vsum < 0)
+        for (int k = 0; k < rows + cols; k++)
+            sig[k] = -sig[k];
     rc = 0;
 out:
-    free(s);
-    free(u);
-    free(vt);
-    free(sup);
+    free(g);
+    free(z);
+    free(support);
     return rc;
 }
 
