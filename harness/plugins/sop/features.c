@@ -121,12 +121,17 @@ static void feat_hull(const float *xyzi, const uint32_t *idx, uint32_t cnt, cons
                     dir[nd][1] = i * axis[1] + j * axis[0];
                     dir[nd][2] = k, bd[nd++] = -INFINITY;
                 }
+    /* direction SOP_HULL_DIRS - 1 - d is exactly -dir[d] (rounding is
+     * symmetric), so its dot product is exactly -v: one product serves both */
     for (uint32_t m = 0; m < cnt; m++) {
         const float *q = xyzi + 4 * (size_t)idx[m];
-        for (int d = 0; d < SOP_HULL_DIRS; d++) {
+        for (int d = 0; d < SOP_HULL_DIRS / 2; d++) {
             double v = dir[d][0] * (double)q[0] + dir[d][1] * (double)q[1] + dir[d][2] * (double)q[2];
+            int o = SOP_HULL_DIRS - 1 - d;
             if (v > bd[d])
                 bd[d] = v, best[d] = idx[m];
+            if (-v > bd[o])
+                bd[o] = -v, best[o] = idx[m];
         }
     }
     s->nv = 0;

@@ -13,6 +13,16 @@
  * coordinates; components come from union-find over the 62 forward
  * neighbours of each voxel.  Segment order is the order in which their
  * first point appears in the scan.
+ *
+ * The neighbours are found without probing the table 62 times per voxel:
+ * the voxels are sorted by a dense key (x, y, z shifted to start at 2,
+ * packed so that key order is x, then y, then z order, with two spare cells
+ * on every side so that a neighbour's key is the voxel's key plus a fixed
+ * offset), and the neighbours in each of the 13 forward columns (x + dx,
+ * y + dy) form one key range, which a cursor per column walks once over the
+ * whole sorted list.  The joins are those of the probing loop; union-find
+ * with the smaller id as the root gives the same components whatever the
+ * order of the joins.
  */
 #include <math.h>
 #include <stdlib.h>
@@ -27,6 +37,7 @@ struct seg_grid {
     size_t mask;
     uint32_t *parent; /* union-find over voxel ids */
     uint64_t *vkey;   /* voxel id -> key */
+    double *cen;      /* voxel id -> centroid x, y, z and point count */
     uint32_t nvox;
 };
 
@@ -34,6 +45,14 @@ static uint64_t seg_key(int x, int y, int z)
 {
     return ((uint64_t)(x + SEG_BIAS) << 42) | ((uint64_t)(y + SEG_BIAS) << 21)
            | (uint64_t)(z + SEG_BIAS);
+}
+
+/* Grid coordinates x, y, z of a key. */
+static void seg_unkey(uint64_t key, int c[3])
+{
+    c[0] = (int)(key >> 42) - SEG_BIAS;
+    c[1] = (int)((key >> 21) & 0x1fffff) - SEG_BIAS;
+    c[2] = (int)(key & 0x1fffff) - SEG_BIAS;
 }
 
 /* Voxel id of key, inserting it when add is set; UINT32_MAX when absent. */
@@ -68,15 +87,129 @@ static void seg_union(uint32_t *parent, uint32_t a, uint32_t b)
         parent[a > b ? a : b] = a > b ? b : a;
 }
 
+/* Sort key[0..n) ascending, id[] along (LSD radix, 11 bits a pass over
+ * the low `bits` bits); tk, ti scratch of n.  Stable, so equal keys keep
+ * their order (keys here are distinct). */
+static void seg_radix(uint64_t *key, uint32_t *id, uint64_t *tk, uint32_t *ti, size_t n, int bits)
+{
+    enum { D = 11, B = 1 << D };
+    for (int shift = 0; shift < bits; shift += D) {
+        size_t cnt[B];
+        memset(cnt, 0, sizeof cnt);
+        for (size_t k = 0; k < n; k++)
+            cnt[(key[k] >> shift) & (B - 1)]++;
+        for (size_t b = 0, sum = 0; b < B; b++) {
+            size_t c = cnt[b];
+            cnt[b] = sum, sum += c;
+        }
+        for (size_t k = 0; k < n; k++) {
+            size_t at = cnt[(key[k] >> shift) & (B - 1)]++;
+            tk[at] = key[k], ti[at] = id[k];
+        }
+        memcpy(key, tk, sizeof *key * n);
+        memcpy(id, ti, sizeof *id * n);
+    }
+}
+
+/* Bits of a dense key field for coordinates spanning lo..hi, with two
+ * spare cells on either side. */
+static int seg_field_bits(int lo, int hi)
+{
+    int b = 1;
+    while ((1ll << b) < (long long)hi - lo + 5)
+        b++;
+    return b;
+}
+
+/* Join voxels v and w when their centroids lie within sqrt(tol2). */
+static void seg_join_pair(struct seg_grid *g, const double *cen, double tol2, uint32_t v, uint32_t w)
+{
+    double ex = cen[4 * v] - cen[4 * w], ey = cen[4 * v + 1] - cen[4 * w + 1];
+    double ez = cen[4 * v + 2] - cen[4 * w + 2];
+    if (ex * ex + ey * ey + ez * ez <= tol2)
+        seg_union(g->parent, v, w);
+}
+
+/* seg_join by probing the table for each of the 62 forward neighbours (for
+ * grids too wide for the dense key). */
+static void seg_join_probe(struct seg_grid *g, const double *cen, double tol2)
+{
+    for (uint32_t v = 0; v < g->nvox; v++) {
+        int c[3];
+        seg_unkey(g->vkey[v], c);
+        for (int dx = 0; dx <= 2; dx++)  /* the forward half of the 5x5x5 block */
+            for (int dy = dx ? -2 : 0; dy <= 2; dy++)
+                for (int dz = dx || dy ? -2 : 1; dz <= 2; dz++) {
+                    uint32_t w = seg_lookup(g, seg_key(c[0] + dx, c[1] + dy, c[2] + dz), 0);
+                    if (w != UINT32_MAX)
+                        seg_join_pair(g, cen, tol2, v, w);
+                }
+    }
+}
+
+/* Join every voxel with the voxels of its forward 5x5x5 half block whose
+ * centroids (cen: x, y, z, count per voxel) lie within sqrt(tol2).
+ * 0, or -1 when out of memory. */
+static int seg_join(struct seg_grid *g, const double *cen, double tol2)
+{
+    size_t n = g->nvox;
+    int lo[3] = {SEG_BIAS, SEG_BIAS, SEG_BIAS}, hi[3] = {-SEG_BIAS, -SEG_BIAS, -SEG_BIAS}, c[3];
+    for (size_t v = 0; v < n; v++) {
+        seg_unkey(g->vkey[v], c);
+        for (int a = 0; a < 3; a++)
+            lo[a] = c[a] < lo[a] ? c[a] : lo[a], hi[a] = c[a] > hi[a] ? c[a] : hi[a];
+    }
+    int bz = seg_field_bits(lo[2], hi[2]), by = seg_field_bits(lo[1], hi[1]), bx = seg_field_bits(lo[0], hi[0]);
+    if (bx + by + bz > 62) {
+        seg_join_probe(g, cen, tol2);
+        return 0;
+    }
+    uint64_t *key = malloc(sizeof *key * (2 * n + 1));
+    uint32_t *id = malloc(sizeof *id * (2 * n + 1));
+    if (!key || !id)
+        return free(key), free(id), -1;
+    for (size_t v = 0; v < n; v++) {
+        seg_unkey(g->vkey[v], c);
+        key[v] = ((uint64_t)(c[0] - lo[0] + 2) << (by + bz)) | ((uint64_t)(c[1] - lo[1] + 2) << bz)
+                 | (uint64_t)(c[2] - lo[2] + 2);
+        id[v] = (uint32_t)v;
+    }
+    seg_radix(key, id, key + n, id + n, n, bx + by + bz);
+    /* the 13 forward columns: (0, 0) with dz 1..2, (0, 1..2) and (1..2, -2..2) with dz -2..2 */
+    int64_t first[13], last[13];
+    size_t cur[13];
+    for (int o = 0, dx = 0; dx <= 2; dx++)
+        for (int dy = dx ? -2 : 0; dy <= 2; dy++, o++) {
+            int64_t off = ((int64_t)dx << (by + bz)) + ((int64_t)dy << bz);
+            first[o] = off + (dx || dy ? -2 : 1), last[o] = off + 2, cur[o] = 0;
+        }
+    for (size_t i = 0; i < n; i++) {
+        uint32_t v = id[i];
+        for (int o = 0; o < 13; o++) {
+            uint64_t from = key[i] + (uint64_t)first[o], to = key[i] + (uint64_t)last[o];
+            while (cur[o] < n && key[cur[o]] < from)
+                cur[o]++;
+            for (size_t t = cur[o]; t < n && key[t] <= to; t++)
+                seg_join_pair(g, cen, tol2, v, id[t]);
+        }
+    }
+    free(key);
+    free(id);
+    return 0;
+}
+
 static void seg_grid_release(struct seg_grid *g)
 {
     free(g->keys);
     free(g->slot_id);
     free(g->parent);
     free(g->vkey);
+    free(g->cen);
 }
 
-/* Voxelise the kept points into g; vox[k] = voxel id of point k or UINT32_MAX. */
+/* Voxelise the kept points into g and join the voxels; vox[k] = voxel id
+ * of point k or UINT32_MAX.  0, or -1 when out of memory (g may be partly
+ * filled: release it either way). */
 static int seg_grid_build(const struct sop_params *p, const float *xyzi, size_t n,
                           const uint8_t *ground, struct seg_grid *g, uint32_t *vox)
 {
@@ -88,9 +221,9 @@ static int seg_grid_build(const struct sop_params *p, const float *xyzi, size_t 
     g->slot_id = malloc(sizeof *g->slot_id * cap);
     g->parent = malloc(sizeof *g->parent * (n + 1));
     g->vkey = malloc(sizeof *g->vkey * (n + 1));
-    double *cen = calloc(4 * (n + 1), sizeof *cen);  /* per voxel: sum x, y, z, count */
+    double *cen = g->cen = calloc(4 * (n + 1), sizeof *cen);  /* per voxel: sum x, y, z, count */
     if (!g->keys || !g->slot_id || !g->parent || !g->vkey || !cen)
-        return free(cen), -1;
+        return -1;
     memset(g->keys, 0xff, sizeof *g->keys * cap);
     g->mask = cap - 1;
     double inv = 2.0 / p->voxel_m, lim = SEG_BIAS - 4, tol2 = p->voxel_m * p->voxel_m;
@@ -106,24 +239,7 @@ static int seg_grid_build(const struct sop_params *p, const float *xyzi, size_t 
     for (uint32_t v = 0; v < g->nvox; v++)
         for (int a = 0; a < 3; a++)
             cen[4 * v + a] /= cen[4 * v + 3];
-    for (uint32_t v = 0; v < g->nvox; v++) {
-        uint64_t key = g->vkey[v];
-        int x = (int)(key >> 42) - SEG_BIAS, y = (int)((key >> 21) & 0x1fffff) - SEG_BIAS;
-        int z = (int)(key & 0x1fffff) - SEG_BIAS;
-        for (int dx = 0; dx <= 2; dx++)  /* the forward half of the 5x5x5 block */
-            for (int dy = dx ? -2 : 0; dy <= 2; dy++)
-                for (int dz = dx || dy ? -2 : 1; dz <= 2; dz++) {
-                    uint32_t w = seg_lookup(g, seg_key(x + dx, y + dy, z + dz), 0);
-                    if (w == UINT32_MAX)
-                        continue;
-                    double ex = cen[4 * v] - cen[4 * w], ey = cen[4 * v + 1] - cen[4 * w + 1];
-                    double ez = cen[4 * v + 2] - cen[4 * w + 2];
-                    if (ex * ex + ey * ey + ez * ez <= tol2)
-                        seg_union(g->parent, v, w);
-                }
-    }
-    free(cen);
-    return 0;
+    return seg_join(g, cen, tol2);
 }
 
 /* Segment id per voxel root: in first-point order, size limits applied.
