@@ -180,7 +180,7 @@ static int seg_join(struct seg_grid *g, const double *cen, double tol2)
     size_t cur[13];
     for (int o = 0, dx = 0; dx <= 2; dx++)
         for (int dy = dx ? -2 : 0; dy <= 2; dy++, o++) {
-            int64_t off = ((int64_t)dx << (by + bz)) + ((int64_t)dy << bz);
+            int64_t off = dx * ((int64_t)1 << (by + bz)) + dy * ((int64_t)1 << bz);
             first[o] = off + (dx || dy ? -2 : 1), last[o] = off + 2, cur[o] = 0;
         }
     for (size_t i = 0; i < n; i++) {
