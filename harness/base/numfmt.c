@@ -2,10 +2,94 @@
 #include "harness/base/numfmt.h"
 
 #include <float.h>
+#include <stdint.h>
 #include <math.h>
 #include <stdio.h>
 #include <stdlib.h>
 #include <string.h>
+
+/* The old way, one digit count after another: the first of %.Ng from
+ * `from` to 17 digits that strtod reads back as v. */
+static const char *numfmt_search(char buf[NUMFMT_LEN], double v, int from)
+{
+    for (int digits = from; digits <= 17; digits++) {
+        int w = snprintf(buf, NUMFMT_LEN, "%.*g", digits, v);
+        if (w > 0 && w < NUMFMT_LEN && (digits == 17 || strtod(buf, NULL) == v)) return buf;
+    }
+    return buf;   /* not reached: %.17g of a finite double fits in NUMFMT_LEN */
+}
+
+/* A decimal: digit[0..n) (digit[0] != 0) times 10^(exp - n + 1), and a sign. */
+struct numfmt_dec {
+    char digit[24];
+    int n, exp, neg;
+};
+
+/* d rounded to p < d->n digits into out, half away from zero on the digit
+ * string.  d is a correctly rounded text of the exact value, so this is
+ * the correct rounding of the value unless the dropped digits are exactly
+ * 5 followed by zeros (then the value may lie on either side): returns 0
+ * there, 1 otherwise. */
+static int numfmt_round(const struct numfmt_dec *d, int p, struct numfmt_dec *out)
+{
+    int tie = d->digit[p] == '5', up = d->digit[p] > '5';
+    for (int k = p + 1; k < d->n && tie; k++) tie = d->digit[k] == '0';
+    if (tie) return 0;
+    up |= d->digit[p] == '5';
+    *out = *d;
+    out->n = p;
+    for (int k = p - 1; up && k >= 0; k--) {
+        up = out->digit[k] == '9';
+        out->digit[k] = up ? '0' : (char)(out->digit[k] + 1);
+    }
+    if (up) {   /* 99..9 became 100..0 */
+        out->digit[0] = '1';
+        out->exp++;
+    }
+    return 1;
+}
+
+/* 1 when d reads back as v: exactly by one correctly rounded operation on
+ * exact operands when the digits and the power of ten fit a double (the
+ * decimal-to-binary fast path), else by strtod of text. */
+static int numfmt_reads_back(const struct numfmt_dec *d, const char *text, double v)
+{
+    static const double pow10[23] = {1e0,  1e1,  1e2,  1e3,  1e4,  1e5,  1e6,  1e7,  1e8,  1e9,  1e10, 1e11,
+                                     1e12, 1e13, 1e14, 1e15, 1e16, 1e17, 1e18, 1e19, 1e20, 1e21, 1e22};
+    uint64_t m = 0;
+    for (int k = 0; k < d->n; k++) m = 10 * m + (uint64_t)(d->digit[k] - '0');
+    int k10 = d->exp - d->n + 1;
+    if (m > ((uint64_t)1 << 53) || k10 < -22 || k10 > 22) return strtod(text, NULL) == v;
+    double r = k10 >= 0 ? (double)m * pow10[k10] : (double)m / pow10[-k10];
+    return (d->neg ? -r : r) == v;
+}
+
+/* d as %.{p}g writes it (p = d->n significant digits, trailing zeros
+ * dropped): fixed when -4 <= exp < p, else with an exponent of at least
+ * two digits. */
+static void numfmt_text(const struct numfmt_dec *d, char buf[NUMFMT_LEN])
+{
+    int n = d->n, at = 0;
+    while (n > 1 && d->digit[n - 1] == '0') n--;
+    if (d->neg) buf[at++] = '-';
+    if (d->exp < -4 || d->exp >= d->n) {
+        buf[at++] = d->digit[0];
+        if (n > 1) buf[at++] = '.';
+        for (int k = 1; k < n; k++) buf[at++] = d->digit[k];
+        snprintf(buf + at, (size_t)(NUMFMT_LEN - at), "e%c%02d", d->exp < 0 ? '-' : '+', abs(d->exp));
+        return;
+    }
+    if (d->exp < 0) {
+        buf[at++] = '0', buf[at++] = '.';
+        for (int k = 0; k < -d->exp - 1; k++) buf[at++] = '0';
+        for (int k = 0; k < n; k++) buf[at++] = d->digit[k];
+    } else {
+        for (int k = 0; k <= d->exp; k++) buf[at++] = k < n ? d->digit[k] : '0';
+        if (n > d->exp + 1) buf[at++] = '.';
+        for (int k = d->exp + 1; k < n; k++) buf[at++] = d->digit[k];
+    }
+    buf[at] = 0;
+}
 
 const char *numfmt(char buf[NUMFMT_LEN], double v)
 {
@@ -20,11 +104,26 @@ const char *numfmt(char buf[NUMFMT_LEN], double v)
     /* A normal double has 15.95 decimal digits of precision, so when some
      * shorter text reads back, %.15g gives it too (trailing zeros dropped);
      * a subnormal one has fewer, so its search starts at one digit. */
-    for (int digits = fabs(v) < DBL_MIN ? 1 : 15; digits <= 17; digits++) {
-        int w = snprintf(buf, NUMFMT_LEN, "%.*g", digits, v);
-        if (w > 0 && w < NUMFMT_LEN && (digits == 17 || strtod(buf, NULL) == v)) return buf;
+    if (fabs(v) < DBL_MIN) return numfmt_search(buf, v, 1);
+    /* One correctly rounded text of 21 digits; the texts of 15, 16 and 17
+     * digits are rounded from it, as %.15g, %.16g and %.17g would write
+     * them, and only the rare ties go back to the search. */
+    char wide[40];
+    struct numfmt_dec d, r;
+    int w = snprintf(wide, sizeof wide, "%.20e", v);
+    const char *e = strchr(wide, 'e');
+    if (w <= 0 || w >= (int)sizeof wide || !e) return numfmt_search(buf, v, 15);
+    d.neg = wide[0] == '-';
+    d.n = 0;
+    for (const char *c = wide + d.neg; c < e; c++)
+        if (*c != '.') d.digit[d.n++] = *c;
+    d.exp = atoi(e + 1);
+    for (int p = 15; p <= 17; p++) {
+        if (!numfmt_round(&d, p, &r)) return numfmt_search(buf, v, p);
+        numfmt_text(&r, buf);
+        if (p == 17 || numfmt_reads_back(&r, buf, v)) return buf;
     }
-    return buf;   /* not reached: %.17g of a finite double fits in NUMFMT_LEN */
+    return buf;   /* not reached */
 }
 
 const char *numfmt_noun(size_t n, const char *one, const char *many)
