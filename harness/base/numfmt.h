@@ -8,6 +8,9 @@
  *     0.25        -> "0.25"
  *     1500        -> "1500"      (whole numbers below 1e15 never take an exponent)
  * Non-finite values come out as %g writes them ("nan", "inf", "-inf").
+ * (The three texts are rounded from one 21-digit snprintf text and read back
+ * by the exact decimal fast path where it applies; ties and the rest take
+ * snprintf and strtod themselves: tests/test_numfmt_digits.c.)
  *
  *     char b[NUMFMT_LEN];
  *     fprintf(f, "%s,%s\n", numfmt(b, x), numfmt(b2, y));
