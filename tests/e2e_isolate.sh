@@ -16,6 +16,7 @@ cat > bad.c <<'SRC'
 #include <string.h>
 #include <signal.h>
 #include <unistd.h>
+#include <sys/syscall.h>
 #include "revisit_plugin.h"
 static int mk(const double *v, void **inst, uint32_t *dim, uint32_t *kd, char *m, size_t l)
 { (void)v; (void)m; (void)l; *inst = NULL; *dim = 4; *kd = 0; return RV_OK; }
@@ -33,6 +34,10 @@ static int run(void *inst, const struct rv_scan *s, float *d, float *k, char *m,
         for (;;) { char *q = malloc(1 << 26); if (!q) return RV_ERR_NOMEM; memset(q, 1, 1 << 26); }
 #elif defined(EXIT0)
         exit(0);
+#elif defined(UEXIT0)
+        _exit(0);
+#elif defined(SYSEXIT0)
+        syscall(SYS_exit_group, 0);
 #elif defined(FORK)
         pid_t c = fork();
         if (c == 0) {  /* let go of the test's pipes, so only the group kill can end it early */
@@ -52,7 +57,7 @@ static const struct rv_method m = {RV_ABI_VERSION, sizeof m, NAME, "1.0", "misbe
     NULL, 0, RV_DIST_L2, 0, mk, run, rm, NULL, NULL};
 RV_EXPORT const struct rv_method *rv_method_entry(void) { return &m; }
 SRC
-for v in GOOD SEGV ABRT LOOP ALLOC EXIT0 FORK; do
+for v in GOOD SEGV ABRT LOOP ALLOC EXIT0 UEXIT0 SYSEXIT0 FORK; do
   n=$(echo "$v" | tr A-Z a-z)
   cc -std=c11 -O1 -D_DEFAULT_SOURCE -shared -fPIC -Iinc -D$v -DNAME="\"$n\"" -o "$n.so" bad.c
   expect "[ -f $n.so ]" "the $n plugin builds from the public header"
@@ -105,6 +110,31 @@ out=$("$R" sweep x.json --out sw_exit0 --quiet 2>&1); rc=$?
 expect "[ $rc -eq 2 ]" "a sweep whose in-process plugin calls exit(0) exits 2 (got $rc)"
 expect_in "$out" "method 'exit0' (./exit0.so) ended the process (exit)" "the sweep's exit names the method"
 expect "[ -z \"\$(ls sw_exit0/cells 2>/dev/null | grep -v '^\\.part-')\" ]" "no cell counts as done"
+# Past every handler: _exit(0) and the exit_group system call.  The process
+# the caller started only waits for a worker and exits 0 only when the
+# worker said it finished.
+for v in uexit0 sysexit0; do
+  out=$(inproc $v); rc=$?
+  expect "[ $rc -eq 2 ] && [ ! -e in_$v/result.json ]" "an in-process plugin ending the process by $v ends eval with exit 2, not 0 (got $rc)"
+  expect_in "$out" "revisit: eval ended with status 0 before it had finished: method code loaded into the process ended it" \
+    "the $v exit is named as such"
+  sed "s|exit0.so|$v.so|" x.json > x_$v.json
+  out=$("$R" sweep x_$v.json --out sw_$v --quiet 2>&1); rc=$?
+  expect "[ $rc -eq 2 ]" "a sweep whose in-process plugin ends the process by $v exits 2, not 0 (got $rc)"
+  expect_in "$out" "revisit: sweep ended with status 0 before it had finished" "the sweep's $v exit is named"
+  expect "[ -z \"\$(ls sw_$v/cells 2>/dev/null | grep -v '^\\.part-')\" ]" "no cell counts as done after $v"
+done
+out=$("$R" methods ./uexit0.so 2>&1); rc=$?
+expect "[ $rc -eq 0 ]" "methods still lists a plugin that would end the process when describing (exit $rc)"
+# Signals and kill -9 reach the worker: an in-process endless loop stopped
+# by SIGTERM or SIGKILL leaves no process behind.
+for sig in TERM KILL; do
+  "$R" eval --map rec --method ./loop.so --out "in_loop_$sig" --bootstrap 0 --quiet > /dev/null 2>&1 & pid=$!
+  for _ in $(seq 1 100); do pgrep -f "in_loop_$sig" | grep -vq "^$pid\$" && break; sleep 0.05; done
+  kill -$sig $pid; wait $pid; rc=$?
+  gone=0; for _ in $(seq 1 100); do pgrep -f "in_loop_$sig" > /dev/null || { gone=1; break; }; sleep 0.05; done
+  expect "[ $rc -ne 0 ] && [ $gone -eq 1 ]" "SIG$sig to eval ends its worker too (exit $rc, worker gone: $gone)"
+done
 # External programs run under --time-limit and --mem-limit too, in eval and
 # in sweep, and what they start ends with them.  The program answers every
 # scan; on scan 3 it first sleeps 3 s (SLOW), or touches 1 GiB (HOG), or

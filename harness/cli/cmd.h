@@ -4,8 +4,9 @@
  *   1. write harness/cli/cmd_NAME.c with `int cmd_NAME(int argc, char **argv)`,
  *      a static description text `about` and an option table handed to
  *      cmd_parse(), which prints `--help` (usage line, about, options);
- *   2. declare it below and add a row (name, handler, usage line, summary)
- *      to the table in harness/cli/cmd_table.c;
+ *   2. declare it below and add a row (name, handler, usage line, summary,
+ *      and 1 if it runs method code in its process) to the table in
+ *      harness/cli/cmd_table.c;
  *   3. nothing to add to the Makefile (every .c file in harness/cli/ is picked up);
  *   4. add tests (tests/e2e_help.sh runs --help on every row already);
  *   5. document it in the README of the folder that owns it (linked from
@@ -35,6 +36,7 @@ struct cmd_row {
     int (*fn)(int argc, char **argv);
     const char *usage;      /* after "usage: revisit ", e.g. "check SCENARIO DIR [--junit FILE]" */
     const char *summary;    /* the line `revisit --help` shows */
+    int supervised;         /* runs method code in this process: run as a worker (supervise.h) */
 };
 
 /* Row i of the table, NULL past the last; the row of a name, NULL if none. */

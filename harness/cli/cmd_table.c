@@ -6,53 +6,55 @@
 #include <string.h>
 
 /* name, handler, usage (after "usage: revisit "; continuation lines keep
- * their indent), summary (one line for `revisit --help`). */
+ * their indent), summary (one line for `revisit --help`), and 1 for a
+ * command that runs method code in its process (run as a worker,
+ * supervise.h). */
 static const struct cmd_row cmd_rows[] = {
     {"index", cmd_index,
          "index DIR --poses FILE [--times FILE] [--out DIR/recording.json]",
-     "write recording.json for a folder of scans and a pose file"},
+     "write recording.json for a folder of scans and a pose file", 0},
     {"log", cmd_log,
          "log FILE\n"
          "       revisit log FILE --scans TOPIC --poses TOPIC|tf [--frames WORLD,SENSOR] --out DIR",
-     "list a robot log's topics, or make a recording from a cloud topic and a pose source"},
+     "list a robot log's topics, or make a recording from a cloud topic and a pose source", 0},
     {"inspect", cmd_inspect,
          "inspect REC [--json]",
-     "scan count, duration, points, path length, revisits and suspicious scans of a recording"},
+     "scan count, duration, points, path length, revisits and suspicious scans of a recording", 0},
     {"eval", cmd_eval,
          "eval --map REC [--query REC] --method NAME[:key=value,...] --out DIR\n"
          "                    [--chain CHAIN --on query|map|both --seed S] [protocol options]",
-     "one evaluation: describe, retrieve, score against poses, write a results folder"},
+     "one evaluation: describe, retrieve, score against poses, write a results folder", 1},
     {"metrics", cmd_metrics,
          "metrics --results FILE [--poses FILE | --rec REC]\n"
          "                       [--query-poses FILE | --query-rec REC] [protocol options]\n"
          "                       [--only FILE | --listed] [--against FILE] [--bootstrap N] [--seed S]\n"
          "                       [--json OUT]",
-     "score a per-query results CSV from any program against poses"},
+     "score a per-query results CSV from any program against poses", 0},
     {"methods", cmd_methods,
          "methods [NAME|PATH.so] [--plugin-path DIRS]",
-     "list the descriptor methods found and their settings"},
+     "list the descriptor methods found and their settings", 1},
     {"sweep", cmd_sweep,
          "sweep SCENARIO --out DIR [options]",
-     "run a scenario file's grid of cells, resumably, in shards if asked"},
+     "run a scenario file's grid of cells, resumably, in shards if asked", 1},
     {"merge", cmd_merge,
          "merge --out DIR SHARD_DIR...",
-     "join the folders of a sharded sweep"},
+     "join the folders of a sharded sweep", 0},
     {"check", cmd_check,
          "check SCENARIO DIR [--junit FILE]",
-     "judge a sweep against the scenario's acceptance criteria (JUnit XML too)"},
+     "judge a sweep against the scenario's acceptance criteria (JUnit XML too)", 0},
     {"synth", cmd_synth,
          "synth --scenario NAME|FILE --out DIR [--seed S] [--scans N | --duration S]\n"
          "                     [--sensor NAME|FILE] [--log FILE.bag|FILE.mcap] [--jobs N] [--quiet]",
-     "make a synthetic recording of an invented district with every kind of revisit"},
+     "make a synthetic recording of an invented district with every kind of revisit", 0},
     {"perturb", cmd_perturb,
          "perturb --in REC --out DIR --chain CHAIN [--seed S] [--jobs N]\n"
          "                       [--on query|map|both] [--layout raw|pcd|ply|pcd-compressed] [--stats] [--quiet]\n"
          "       revisit perturb --list",
-     "write a perturbed copy of a recording (seeded chain of stages); --list the stages"},
+     "write a perturbed copy of a recording (seeded chain of stages); --list the stages", 0},
     {"report", cmd_report_main,
          "report DIR [--out DIR] [--format md,html] [--title TEXT] [--quiet]",
-     "Markdown and HTML report of a results folder: tables, plots, verdicts"},
-    {NULL, NULL, NULL, NULL},
+     "Markdown and HTML report of a results folder: tables, plots, verdicts", 0},
+    {NULL, NULL, NULL, NULL, 0},
 };
 
 const struct cmd_row *cmd_at(size_t i)

@@ -5,6 +5,7 @@
 
 #include "harness/base/blas.h"
 #include "harness/cli/cmd.h"
+#include "harness/cli/supervise.h"
 
 static const char caution[] =
     "Caution: results on recorded or synthetic data do not show that a vehicle is\n"
@@ -71,7 +72,16 @@ int main(int argc, char **argv)
         return main_finish(CMD_OK);
     }
     const struct cmd_row *c = cmd_find(argv[1]);
-    if (c) return main_finish(c->fn(argc - 1, argv + 1));
+    if (c) {
+        /* Method code can end a process past every handler: such commands
+         * run as a worker, and this process exits 0 only when the worker
+         * reported that it finished. */
+        int fd = -1, rc;
+        if (c->supervised && supervise_start(argv, &fd, &rc)) return rc;
+        rc = main_finish(c->fn(argc - 1, argv + 1));
+        supervise_done(fd, rc);
+        return rc;
+    }
     fprintf(stderr, "revisit: unknown command '%s' (see 'revisit --help')\n", argv[1]);
     return main_finish(CMD_ERROR);
 }
