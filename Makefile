@@ -45,6 +45,10 @@ SRC_base    := $(wildcard harness/base/*.c)
 CLI_SRC     := $(filter-out harness/cli/main.c,$(wildcard harness/cli/*.c))
 PLUGINS     := $(notdir $(patsubst %/,%,$(wildcard harness/plugins/*/)))
 PLUGIN_SO   := $(PLUGINS:%=$(B)/plugins/%.so)
+# Plugin files an earlier build left that this tree no longer builds (a
+# folder since removed or renamed): `revisit methods` would list them as
+# broken methods, so every build deletes them.
+STALE_SO    := $(filter-out $(PLUGIN_SO),$(wildcard $(B)/plugins/*.so))
 TEST_SRC    := $(wildcard tests/test_*.c)
 TOOL_SRC    := $(wildcard tests/tool_*.c)
 BENCH_SRC   := $(wildcard tests/bench_*.c)
@@ -64,8 +68,12 @@ all: deps
 
 build: $(B)/revisit $(PLUGIN_SO) $(TEST_SRC:tests/%.c=$(B)/tests/%) \
        $(TOOL_SRC:tests/%.c=$(B)/tests/%) $(BENCH_SRC:tests/%.c=$(B)/tests/%) \
-       $(FUZZ_SRC:tests/%.c=$(B)/replay/%)
+       $(FUZZ_SRC:tests/%.c=$(B)/replay/%) prune-plugins-$(B)
 .PHONY: build
+
+prune-plugins-$(B):
+	$(if $(STALE_SO),rm -f $(STALE_SO),@:)
+.PHONY: prune-plugins-$(B)
 
 deps:
 	@bash harness/deps.sh build
@@ -126,7 +134,7 @@ fuzz: deps
 	@bash tests/fuzz.sh $(FB) $(FUZZ_SECONDS)
 
 # plugins-DIR builds just the plugins of build folder DIR (used by tests/e2e_asan.sh).
-plugins-$(B): $(PLUGIN_SO)
+plugins-$(B): $(PLUGIN_SO) prune-plugins-$(B)
 .PHONY: plugins-$(B)
 
 export REVISIT_SANITIZED := $(if $(SAN),1,)

@@ -53,4 +53,17 @@ expect "[ $rc -eq 2 ] && [ ! -e sw/cells ]" "under --isolate too, no cell ran (e
 sed -i 's/{"name": "rnage-height"}/{"name": "scan-context", "variants": [{"sectors": 30}]}/' s.json
 out=$("$R" sweep s.json --dry-run 2>&1); rc=$?
 expect "[ $rc -eq 0 ]" "once every method loads the dry run succeeds (exit $rc)"
+
+# A plugin file an earlier build left behind (its folder since removed or
+# renamed) is deleted by the next build, and only that one.
+mkdir -p b/plugins
+cp "$REVISIT_BUILD"/plugins/*.so b/plugins/
+touch b/plugins/README.md.so b/plugins/gone.so
+out=$("$R" methods --plugin-path "$T/b/plugins" 2>&1)
+expect_in "$out" "README.md        (cannot load" "a stale plugin file is listed as a broken method"
+plan=$(make -n -C "$REVISIT_ROOT" B="$T/b" build 2>&1)
+expect_in "$plan" "rm -f $T/b/plugins/README.md.so $T/b/plugins/gone.so" "make build deletes the plugin files it no longer builds"
+make -s -C "$REVISIT_ROOT" B="$T/b" prune-plugins-"$T/b" > /dev/null 2>&1
+expect "[ ! -e b/plugins/README.md.so ] && [ ! -e b/plugins/gone.so ] && [ -f b/plugins/scan-context.so ] && [ -f b/plugins/sop.so ]" \
+  "the stale files are gone, the built ones stay"
 done_tests
