@@ -1,9 +1,12 @@
 /* test_report_data.c: reading result.json / poses / queries / matrix files,
- * seed aggregation, per-query outcomes, revisit kinds and histograms. */
+ * seed aggregation, per-query outcomes, revisit kinds and histograms.  The
+ * files it writes go into a temporary folder of its own, removed at the
+ * end, never into the folder it was started from. */
 #include <math.h>
 #include <stdio.h>
 #include <stdlib.h>
 #include <string.h>
+#include <unistd.h>
 
 #include "check.h"
 #include "harness/base/fileio.h"
@@ -194,9 +197,16 @@ static void folder_checks(void)
 
 int main(void)
 {
+    char home[4096], scratch[] = "/tmp/test_report_data.XXXXXX";
+    struct err e;
+    if (!getcwd(home, sizeof home) || !mkdtemp(scratch) || chdir(scratch)) {
+        perror("test_report_data: a temporary folder to work in");
+        return 1;
+    }
     parse_checks();
     file_checks();
     message_checks();
     folder_checks();
+    CHECK(chdir(home) == 0 && fileio_remove_tree(scratch, &e) == 0, "the temporary folder is removed");
     return check_done();
 }
