@@ -1,18 +1,21 @@
-/* test_opt_units.c: length and time options take the units chains take. */
+/* test_opt_units.c: length, time, speed and angle options take the units
+ * chains take (the commands' options: tests/e2e_option_units.sh). */
 #include "harness/base/opt.h"
 #include "tests/check.h"
 
 static int parse1(const char *flag, const char *val, double *out, struct err *e)
 {
-    double r = -1, t = -1;
+    double r = -1, t = -1, s = -1, d = -1;
     const struct opt table[] = {
         {"--radius", OPT_METRES, &r, "M", "a length"},
         {"--exclude-s", OPT_SECONDS, &t, "S", "a time"},
+        {"--max-speed", OPT_SPEED, &s, "M/S", "a speed"},
+        {"--same-within", OPT_DEGREES, &d, "DEG", "an angle"},
         {0}};
     char *argv[] = {"test", (char *)flag, (char *)val};
     struct opt_args a;
     int rc = opt_parse("test", 3, argv, table, &a, e);
-    *out = flag[2] == 'r' ? r : t;
+    *out = flag[2] == 'r' ? r : flag[2] == 'e' ? t : flag[2] == 'm' ? s : d;
     return rc;
 }
 
@@ -35,6 +38,14 @@ int main(void)
           "no infinite or not-a-number length");
     CHECK(parse1("--radius", "1e999m", &v, &e) == -1, "an overflowing number is refused");
     CHECK(parse1("--radius", "3m ", &v, &e) == -1, "nothing may follow the unit");
+    CHECK(!parse1("--max-speed", "70m/s", &v, &e) && v == 70, "--max-speed 70m/s is 70 metres per second");
+    CHECK(!parse1("--max-speed", "12.5", &v, &e) && v == 12.5, "a bare speed is in metres per second");
+    CHECK(parse1("--max-speed", "70m", &v, &e) == -1, "a length unit on a speed is refused");
+    CHECK_MSG(e.msg, "option '--max-speed' expects a speed in metres per second such as 70 or 70m/s, got '70m'",
+              "the speed refusal names the unit");
+    CHECK(parse1("--max-speed", "70km/h", &v, &e) == -1, "a speed in another unit is refused, not converted");
+    CHECK(!parse1("--same-within", "45deg", &v, &e) && v == 45, "--same-within 45deg is 45 degrees");
+    CHECK(parse1("--same-within", "1rad", &v, &e) == -1, "an angle in radians is refused");
 
     size_t n, u;
     CHECK(!opt_scan_number("40m", &v, &n, &u) && v == 40 && n == 2 && u == 1, "40m: two bytes of number, one of unit");

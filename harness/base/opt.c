@@ -40,6 +40,18 @@ int opt_scan_number(const char *s, double *v, size_t *num_len, size_t *unit_len)
     return 0;
 }
 
+/* The options that take a quantity: the one unit each accepts (a bare
+ * number is in that unit), and how a refusal names it. */
+static const struct {
+    enum opt_kind kind;
+    const char *unit, *what, *example;
+} opt_units[] = {
+    {OPT_METRES, "m", "a length in metres", "3 or 3m"},
+    {OPT_SECONDS, "s", "a time in seconds", "30 or 30s"},
+    {OPT_SPEED, "m/s", "a speed in metres per second", "70 or 70m/s"},
+    {OPT_DEGREES, "deg", "an angle in degrees", "45 or 45deg"},
+};
+
 /* A whole string as a number with no unit or exactly `unit`. */
 static int opt_to_unit(const char *s, const char *unit, double *out)
 {
@@ -83,11 +95,14 @@ static int opt_store(const char *cmd, const struct opt *o, const char *val, stru
             return err_set(e, "revisit %s: option '%s' expects a number, got '%s'", cmd, o->name, val);
         return 0;
     case OPT_METRES:
-    case OPT_SECONDS: {
-        int m = o->kind == OPT_METRES;
-        if (opt_to_unit(val, m ? "m" : "s", (double *)o->dest))
-            return err_set(e, "revisit %s: option '%s' expects a %s such as %s, got '%s'", cmd, o->name,
-                           m ? "length in metres" : "time in seconds", m ? "3 or 3m" : "30 or 30s", val);
+    case OPT_SECONDS:
+    case OPT_SPEED:
+    case OPT_DEGREES: {
+        size_t k = 0;
+        while (opt_units[k].kind != o->kind) k++;
+        if (opt_to_unit(val, opt_units[k].unit, (double *)o->dest))
+            return err_set(e, "revisit %s: option '%s' expects %s such as %s, got '%s'", cmd, o->name,
+                           opt_units[k].what, opt_units[k].example, val);
         return 0;
     }
     case OPT_U64:

@@ -25,6 +25,8 @@ enum opt_kind {
     OPT_U64,     /* unsigned long long (seeds) */
     OPT_METRES,  /* double: a length, "3" or "3m" (units as in chains) */
     OPT_SECONDS, /* double: a time, "30" or "30s" */
+    OPT_SPEED,   /* double: a speed, "70" or "70m/s" */
+    OPT_DEGREES, /* double: an angle, "45" or "45deg" */
     OPT_LIST     /* struct opt_list: repeatable string option */
 };
 

@@ -5,8 +5,8 @@
  *      a static description text `about` and an option table handed to
  *      cmd_parse(), which prints `--help` (usage line, about, options);
  *   2. declare it below and add a row (name, handler, usage line, summary,
- *      and 1 if it runs method code in its process) to the table in
- *      harness/cli/cmd_table.c;
+ *      1 if it runs method code in its process, its exit statuses or NULL)
+ *      to the table in harness/cli/cmd_table.c;
  *   3. nothing to add to the Makefile (every .c file in harness/cli/ is picked up);
  *   4. add tests (tests/e2e_help.sh runs --help on every row already);
  *   5. document it in the README of the folder that owns it (linked from
@@ -37,7 +37,12 @@ struct cmd_row {
     const char *usage;      /* after "usage: revisit ", e.g. "check SCENARIO DIR [--junit FILE]" */
     const char *summary;    /* the line `revisit --help` shows */
     int supervised;         /* runs method code in this process: run as a worker (supervise.h) */
+    const char *exits;      /* its exit statuses for --help; NULL: CMD_EXIT_PLAIN */
 };
+
+/* The exit statuses of a command that checks nothing and cannot be
+ * interrupted half way: 1 is only ever "a check or criterion failed". */
+#define CMD_EXIT_PLAIN "0 done, 2 an error (usage, input, a method, a write)"
 
 /* Row i of the table, NULL past the last; the row of a name, NULL if none. */
 const struct cmd_row *cmd_at(size_t i);

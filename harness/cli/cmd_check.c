@@ -17,8 +17,7 @@
 static const char about[] =
     "Judge the scenario's acceptance criteria on the finished sweep in DIR: one\n"
     "line per criterion and method with the measured value, its interval and\n"
-    "PASS or FAIL; DIR/verdicts.json holds the same.  Exit 0 when every\n"
-    "criterion passes, 1 when one fails, 2 on an error or an incomplete sweep.\n"
+    "PASS or FAIL; DIR/verdicts.json holds the same.\n"
     "A verdict is evidence for a safety process, never a substitute for it.\n\n";
 
 static void check_fmt(char *out, size_t n, double v)

@@ -168,8 +168,8 @@ int cmd_eval(int argc, char **argv)
         {"--bootstrap-seed", OPT_U64, &o.boot_seed, "S", "bootstrap seed (default 1)"},
         {"--tuned-on", OPT_STR, &o.tuned_on, "DIR", "results folder whose threshold is carried over (see --operating-point)"},
         {"--operating-point", OPT_STR, &o.op_rule, "RULE", "f1max (default), precision:P, recall:R or fixed:D, chosen on --tuned-on"},
-        {"--same-within", OPT_DOUBLE, &o.same_deg, "DEG", "revisits turned at most DEG count as same direction (default 45)"},
-        {"--reverse-from", OPT_DOUBLE, &o.reverse_deg, "DEG", "revisits turned at least DEG count as reverse (default 135)"},
+        {"--same-within", OPT_DEGREES, &o.same_deg, "DEG", "revisits turned at most DEG count as same direction (default 45)"},
+        {"--reverse-from", OPT_DEGREES, &o.reverse_deg, "DEG", "revisits turned at least DEG count as reverse (default 135)"},
         {"--matrix-scans", OPT_INT, &o.matrix_scans, "N",
          "distance matrix of every scan when map and queries have at most N each (default 4000 for a dense "
          "distance; a custom one: a sample unless given; 0: a sample only)"},

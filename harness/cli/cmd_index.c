@@ -322,7 +322,7 @@ int cmd_index(int argc, char **argv)
         {"--notes", OPT_STR, &o.notes, "TEXT", "free text stored in the sensor description"},
         {"--extrinsic", OPT_STR, &o.extrinsic, "X,Y,Z,QX,QY,QZ,QW|12 NUMBERS|FILE",
          "the sensor in the poses' frame (applied to every pose on load)"},
-        {"--pose-gap", OPT_DOUBLE, &o.gap, "S", "poses at another rate: interpolate to the scan times (the scan "
+        {"--pose-gap", OPT_SECONDS, &o.gap, "S", "poses at another rate: interpolate to the scan times (the scan "
          "names) between poses at most S apart; other scans are dropped"},
         {"--allow-outside", OPT_FLAG, &o.allow_outside, NULL, "allow scans or poses outside the manifest's folder"},
         {"--quiet", OPT_FLAG, &o.quiet, NULL, "no summary line on stdout"},

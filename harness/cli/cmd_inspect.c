@@ -34,9 +34,9 @@ static const char about[] =
     "non-finite, or under a tenth of the median point count.  The poses are\n"
     "checked too, since both faults corrupt the ground truth: jumps (two\n"
     "consecutive poses further apart than --max-speed allows in their interval)\n"
-    "and time gaps (an interval longer than --max-gap).  Exit 0 when every scan\n"
-    "reads and the poses pass, 1 when some scan is unreadable or a pose jumps or\n"
-    "a gap is found, 2 when the manifest is bad.\n\n";
+    "and time gaps (an interval longer than --max-gap).  The findings that fail\n"
+    "the check (exit 1) are an unreadable scan, a pose jump and a time gap; the\n"
+    "other suspicious scans are listed only.\n\n";
 
 struct inspect_scan {
     size_t points, dropped;
@@ -379,7 +379,7 @@ int cmd_inspect(int argc, char **argv)
         {"--radius", OPT_METRES, &o.radius, "M", "revisit radius, metres: 3 or 3m (default 3)"},
         {"--exclude-s", OPT_SECONDS, &o.exclude_s, "S", "skip candidates from the last S seconds: 30 or 30s (default 30)"},
         {"--planar", OPT_FLAG, &o.planar, NULL, "measure pose distances in the world's x, y only"},
-        {"--max-speed", OPT_DOUBLE, &o.speed_max, "M/S", "flag consecutive poses faster apart than this (default 70)"},
+        {"--max-speed", OPT_SPEED, &o.speed_max, "M/S", "flag consecutive poses faster apart than this: 70 or 70m/s (default 70)"},
         {"--max-gap", OPT_SECONDS, &o.gap_s, "S", "flag intervals longer than this (default 10 x the median)"},
         {"--jobs", OPT_INT, &o.jobs, "N", "threads reading scans (default: online cores)"},
         {"--allow-outside", OPT_FLAG, &o.allow_outside, NULL, "allow manifest paths outside its folder"},

@@ -88,7 +88,7 @@ int cmd_log(int argc, char **argv)
         {"--poses", OPT_STR, &lo.poses, "TOPIC|tf", "the pose topic, or tf for /tf and /tf_static"},
         {"--frames", OPT_STR, &lo.frames, "WORLD,SENSOR", "with --poses tf: the frames to chain between"},
         {"--out", OPT_STR, &lo.out, "DIR", "recording folder to create (must not exist)"},
-        {"--pose-gap", OPT_DOUBLE, &lo.gap, "S", "largest time between the two poses around a scan (default 0.2)"},
+        {"--pose-gap", OPT_SECONDS, &lo.gap, "S", "largest time between the two poses around a scan (default 0.2)"},
         {"--scan-layout", OPT_STR, &lo.layout, "FORMAT", "format of the scan files, one recordings are written in (default pcd)"},
         {"--extrinsic", OPT_STR, &lo.extrinsic, "X,Y,Z,QX,QY,QZ,QW|12 NUMBERS|FILE",
          "the sensor in the pose frame: position + quaternion, a 3x4 row, or a file holding either"},

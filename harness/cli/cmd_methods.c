@@ -12,11 +12,10 @@ static const char about[] =
     "List every descriptor method on the plugin search path with its settings and\n"
     "defaults, then the folders searched, in order: --plugin-path, then\n"
     "REVISIT_PLUGIN_PATH, then plugins/ beside the revisit program, then\n"
-    "lib/revisit/plugins beside its bin/ folder, then the install folder.  Exit 2\n"
-    "when no method is found.  With NAME, describe that one: distance, flags,\n"
-    "each setting's type, default, range and meaning.  Use a setting as\n"
-    "NAME:key=value.  External programs are given by path to 'revisit eval\n"
-    "--method'.\n\n";
+    "lib/revisit/plugins beside its bin/ folder, then the install folder.  With\n"
+    "NAME, describe that one: distance, flags, each setting's type, default,\n"
+    "range and meaning.  Use a setting as NAME:key=value.  External programs\n"
+    "are given by path to 'revisit eval --method'.\n\n";
 
 static const char *const methods_types[] = {"whole number", "real number", "true/false", "one of"};
 static const char *const methods_dists[] = {"L2", "cosine (1 - cos)", "custom (the method's own)"};

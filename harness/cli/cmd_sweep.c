@@ -23,7 +23,7 @@ static const char about[] =
     "DIR/cells/ID/.  A rerun skips finished cells, so an interrupted sweep loses\n"
     "only the cells in flight.  Ctrl-C lets running cells finish and exits 130\n"
     "(a second Ctrl-C drops them).  At the end DIR/summary.csv, summary_seeds.csv\n"
-    "and summary.json cover every finished cell.  Exit 2 when a cell failed.\n"
+    "and summary.json cover every finished cell.\n"
     "Before any cell runs (--dry-run too), every chain must parse and every\n"
     "method must load; otherwise nothing runs and the message names it.\n\n";
 
@@ -149,7 +149,7 @@ int cmd_sweep(int argc, char **argv)
         {"--cell-jobs", OPT_INT, &cell_jobs, "N", "threads inside each cell (default 1)"},
         {"--plugin-path", OPT_STR, &o.plugin_path, "DIRS", "extra plugin folders, ':'-separated"},
         {"--isolate", OPT_FLAG, &o.isolate, NULL, "run each method in a child process"},
-        {"--time-limit", OPT_DOUBLE, &o.time_limit_s, "S",
+        {"--time-limit", OPT_SECONDS, &o.time_limit_s, "S",
          "most seconds per scan (default 60; external programs 10); isolated and external methods are stopped"},
         {"--mem-limit", OPT_INT, &mem_mb, "MiB", "memory an isolated method or external program may take (default 4096)"},
         {"--retry-failed", OPT_FLAG, &o.retry_failed, NULL, "run again the cells that failed before"},
