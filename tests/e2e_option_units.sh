@@ -31,4 +31,28 @@ expect_in "$out" "option '--max-speed' expects a speed in metres per second such
 out=$("$R" eval --map rec --method range-height --same-within 1rad --out ev2 2>&1); rc=$?
 expect "[ $rc -eq 2 ]" "eval --same-within 1rad is refused (exit $rc)"
 expect_in "$out" "expects an angle in degrees such as 45 or 45deg" "the angle refusal says degrees"
+
+# A value that stands for "not given" inside (0 threads, -1 resamples, 0 s)
+# is refused when given, never read silently as the default.
+refused() {  # option, command...
+  local o=$1; shift
+  out=$("$@" 2>&1); rc=$?
+  expect "[ $rc -eq 2 ]" "$* is refused (exit $rc)"
+  expect_in "$out" "$o" "the refusal of $* names $o"
+}
+EV="$R eval --map rec --method range-height --out never --quiet"
+refused --bootstrap $EV --bootstrap -1
+refused --jobs $EV --jobs 0
+refused --jobs $EV --jobs -3
+refused --time-limit $EV --time-limit 0
+refused --mem-limit $EV --mem-limit 0
+refused --prefilter $EV --prefilter -1
+refused --jobs "$R" sweep s.json --out sw2 --dry-run --jobs 0
+refused --time-limit "$R" sweep s.json --out sw2 --dry-run --time-limit 0
+refused --mem-limit "$R" sweep s.json --out sw2 --dry-run --mem-limit 0
+refused --scans "$R" synth --scenario port --out syn --scans -1 --quiet
+refused --duration "$R" synth --scenario port --out syn --duration -1 --quiet
+refused --jobs "$R" inspect rec --jobs -1 --quiet
+refused --jobs "$R" perturb --in rec --out pt --chain yaw --jobs 0 --quiet
+expect "[ ! -e never ] && [ ! -e syn ] && [ ! -e pt ]" "nothing is written by a refused command"
 done_tests

@@ -47,6 +47,15 @@ int main(void)
     CHECK(!parse1("--same-within", "45deg", &v, &e) && v == 45, "--same-within 45deg is 45 degrees");
     CHECK(parse1("--same-within", "1rad", &v, &e) == -1, "an angle in radians is refused");
 
+    long c = 0;
+    const struct opt count[] = {{"--jobs", OPT_COUNT, &c, "N", "threads"}, {0}};
+    char *one[] = {"test", "--jobs", "3"}, *zero[] = {"test", "--jobs", "0"}, *neg[] = {"test", "--jobs=-2"};
+    struct opt_args a;
+    CHECK(!opt_parse("test", 3, one, count, &a, &e) && c == 3, "a count of 3 is read");
+    CHECK(opt_parse("test", 3, zero, count, &a, &e) == -1 && c == 3, "a count of 0 is refused, the value left");
+    CHECK_MSG(e.msg, "option '--jobs' expects a whole number 1 or more, got '0'", "the count refusal names the option");
+    CHECK(opt_parse("test", 2, neg, count, &a, &e) == -1, "a negative count is refused");
+
     size_t n, u;
     CHECK(!opt_scan_number("40m", &v, &n, &u) && v == 40 && n == 2 && u == 1, "40m: two bytes of number, one of unit");
     CHECK(!opt_scan_number("2m/s,", &v, &n, &u) && v == 2 && n == 1 && u == 3, "2m/s stops before the comma");

@@ -90,6 +90,13 @@ static int opt_store(const char *cmd, const struct opt *o, const char *val, stru
         if (opt_to_long(val, (long *)o->dest))
             return err_set(e, "revisit %s: option '%s' expects a whole number, got '%s'", cmd, o->name, val);
         return 0;
+    case OPT_COUNT: {
+        long v;
+        if (opt_to_long(val, &v) || v < 1)
+            return err_set(e, "revisit %s: option '%s' expects a whole number 1 or more, got '%s'", cmd, o->name, val);
+        *(long *)o->dest = v;
+        return 0;
+    }
     case OPT_DOUBLE:
         if (opt_to_double(val, (double *)o->dest))
             return err_set(e, "revisit %s: option '%s' expects a number, got '%s'", cmd, o->name, val);

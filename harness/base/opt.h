@@ -21,6 +21,7 @@ enum opt_kind {
     OPT_FLAG,    /* int: set to 1 */
     OPT_STR,     /* const char *: the argument */
     OPT_INT,     /* long */
+    OPT_COUNT,   /* long: a whole number 1 or more (threads, memory, counts); so 0 can mean "not given" */
     OPT_DOUBLE,  /* double */
     OPT_U64,     /* unsigned long long (seeds) */
     OPT_METRES,  /* double: a length, "3" or "3m" (units as in chains) */

@@ -57,9 +57,9 @@ static int eval_finish_spec(struct eval_opts *o, struct eval_spec *s, struct err
     if (o->query && !o->op.mode) o->op.mode = protocol_mode_name(PROTOCOL_RELOC);
     eval_spec_defaults(s);
     if (opt_protocol_finish(&o->op, "eval", &s->protocol, e)) return -1;
-    if (o->boot < -1 || o->boot > 100000)
+    if (o->boot != LONG_MIN && (o->boot < 0 || o->boot > 100000))
         return err_set(e, "revisit eval: --bootstrap expects 0 to 100000 resamples, got %ld", o->boot);
-    if (o->top_c < -1 || o->top_c == 0 || o->top_c > 1000000)
+    if (o->top_c > 1000000)
         return err_set(e, "revisit eval: --prefilter expects a whole number from 1 to 1000000, got %ld", o->top_c);
     s->map_rec = o->map;
     s->query_rec = o->query;
@@ -71,16 +71,16 @@ static int eval_finish_spec(struct eval_opts *o, struct eval_spec *s, struct err
     s->out_dir = o->out;
     s->cache_dir = o->cache;
     s->condition = o->condition;
-    if (o->boot >= 0) s->bootstrap = (int)o->boot;
+    if (o->boot != LONG_MIN) s->bootstrap = (int)o->boot;
     s->bootstrap_seed = o->boot_seed;
     s->jobs = (int)o->jobs;
     s->top_c = o->top_c > 0 ? (int)o->top_c : 0;
     s->quiet = o->quiet;
     s->crash_notice = !o->isolate;
     s->isolate = o->isolate;
-    if (o->time_s < 0 || o->time_s > 1e6)
-        return err_set(e, "revisit eval: --time-limit expects seconds from 0 to 1000000, got %g", o->time_s);
-    if (o->mem_mb < 0 || o->mem_mb > (1L << 24))
+    if (!isnan(o->time_s) && !(o->time_s > 0 && o->time_s <= 1e6))
+        return err_set(e, "revisit eval: --time-limit expects seconds above 0, up to 1000000, got %g", o->time_s);
+    if (o->mem_mb > (1L << 24))
         return err_set(e, "revisit eval: --mem-limit expects MiB from 1 to 16777216, got %ld", o->mem_mb);
     s->kinds = (struct kind_rule){o->same_deg, o->reverse_deg};
     if (kind_rule_check(&s->kinds))
@@ -97,7 +97,7 @@ static int eval_finish_spec(struct eval_opts *o, struct eval_spec *s, struct err
             return err_set(e, "revisit eval: --tuned-on %s: cannot read %s, expected a results folder of "
                            "'revisit eval' or a sweep cell", o->tuned_on, path);
     }
-    s->time_limit_s = o->time_s;
+    s->time_limit_s = isnan(o->time_s) ? 0 : o->time_s;
     s->mem_limit_mb = (size_t)o->mem_mb;
     if (o->matrix_scans != LONG_MIN && (o->matrix_scans < 0 || o->matrix_scans > MATRIX_BIN_MAX))
         return err_set(e, "revisit eval: --matrix-scans expects 0 to %d scans, got %ld", MATRIX_BIN_MAX, o->matrix_scans);
@@ -148,8 +148,8 @@ int cmd_eval(int argc, char **argv)
     memset(&o, 0, sizeof o);
     o.seed = 1;
     o.boot_seed = 1;
-    o.boot = -1;
-    o.top_c = -1;
+    o.boot = LONG_MIN;   /* not given */
+    o.time_s = NAN;
     o.matrix_scans = LONG_MIN;   /* not given */
     o.same_deg = 45;
     o.reverse_deg = 135;
@@ -163,7 +163,7 @@ int cmd_eval(int argc, char **argv)
         {"--on", OPT_STR, &o.on, "query|map|both", "where the chain applies (default: query in reloc, both in loop)"},
         {"--seed", OPT_U64, &o.seed, "S", "perturbation seed (default 1)"},
         OPT_PROTOCOL_ROWS(o.op),
-        {"--prefilter", OPT_INT, &o.top_c, "C", "custom distances: candidates kept by the key prefilter (default 50)"},
+        {"--prefilter", OPT_COUNT, &o.top_c, "C", "custom distances: candidates kept by the key prefilter (default 50)"},
         {"--bootstrap", OPT_INT, &o.boot, "N", "bootstrap resamples for intervals (default 1000; 0: none)"},
         {"--bootstrap-seed", OPT_U64, &o.boot_seed, "S", "bootstrap seed (default 1)"},
         {"--tuned-on", OPT_STR, &o.tuned_on, "DIR", "results folder whose threshold is carried over (see --operating-point)"},
@@ -177,11 +177,11 @@ int cmd_eval(int argc, char **argv)
         {"--condition", OPT_STR, &o.condition, "NAME", "condition name recorded in result.json"},
         {"--out", OPT_STR, &o.out, "DIR", "results folder (created; an existing one must be empty)"},
         {"--replace", OPT_FLAG, &o.replace, NULL, "write into an --out folder that already holds files"},
-        {"--jobs", OPT_INT, &o.jobs, "N", "threads (default: all cores)"},
+        {"--jobs", OPT_COUNT, &o.jobs, "N", "threads (default: all cores)"},
         {"--isolate", OPT_FLAG, &o.isolate, NULL, "describe in a child process (crash, hang and memory safe)"},
         {"--time-limit", OPT_SECONDS, &o.time_s, "S",
          "most seconds per scan: 60 or 60s (default 60; external programs 10); isolated and external methods are stopped"},
-        {"--mem-limit", OPT_INT, &o.mem_mb, "MiB", "memory an isolated method or external program may take (default 4096)"},
+        {"--mem-limit", OPT_COUNT, &o.mem_mb, "MiB", "memory an isolated method or external program may take (default 4096)"},
         {"--quiet", OPT_FLAG, &o.quiet, NULL, "no progress bar"},
         {0}};
     struct opt_args args;

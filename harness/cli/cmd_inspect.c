@@ -381,7 +381,7 @@ int cmd_inspect(int argc, char **argv)
         {"--planar", OPT_FLAG, &o.planar, NULL, "measure pose distances in the world's x, y only"},
         {"--max-speed", OPT_SPEED, &o.speed_max, "M/S", "flag consecutive poses faster apart than this: 70 or 70m/s (default 70)"},
         {"--max-gap", OPT_SECONDS, &o.gap_s, "S", "flag intervals longer than this (default 10 x the median)"},
-        {"--jobs", OPT_INT, &o.jobs, "N", "threads reading scans (default: online cores)"},
+        {"--jobs", OPT_COUNT, &o.jobs, "N", "threads reading scans (default: online cores)"},
         {"--allow-outside", OPT_FLAG, &o.allow_outside, NULL, "allow manifest paths outside its folder"},
         {"--quiet", OPT_FLAG, &o.quiet, NULL, "no progress bar"},
         {0}};

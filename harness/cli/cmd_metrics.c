@@ -495,7 +495,7 @@ int cmd_metrics(int argc, char **argv)
         {"--operating-point", OPT_STR, &r.o.op_rule, "RULE", "f1max (default), precision:P, recall:R or fixed:D, chosen on --tuned-on"},
         {"--bootstrap", OPT_INT, &r.o.bootstrap, "N", "bootstrap resamples for the intervals (default 1000; 0 = none)"},
         {"--seed", OPT_U64, &r.o.seed, "S", "bootstrap seed (default 1)"},
-        {"--jobs", OPT_INT, &r.o.jobs, "N", "threads for the bootstrap (default: online cores)"},
+        {"--jobs", OPT_COUNT, &r.o.jobs, "N", "threads for the bootstrap (default: online cores)"},
         {"--json", OPT_STR, &r.o.json, "OUT", "write counts, every scalar with its interval, and the curve"},
         {"--quiet", OPT_FLAG, &r.o.quiet, NULL, "no progress bar"},
         {0}};

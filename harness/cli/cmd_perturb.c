@@ -234,7 +234,7 @@ int cmd_perturb(int argc, char **argv)
         {"--replace", OPT_FLAG, &o.replace, NULL, "write into an --out folder that already holds files"},
         {"--chain", OPT_STR, &o.chain, "CHAIN", "stages joined by '+' (see --list)"},
         {"--seed", OPT_U64, &o.seed, "S", "run seed of every draw (default 1)"},
-        {"--jobs", OPT_INT, &o.jobs, "N", "threads (default: online cores)"},
+        {"--jobs", OPT_COUNT, &o.jobs, "N", "threads (default: online cores)"},
         {"--on", OPT_STR, &o.on, "SIDE", "query, map or both: recorded in the manifest"},
         {"--layout", OPT_STR, &o.layout, "L", lhelp},
         {"--stats", OPT_FLAG, &o.stats, NULL, "print points in and out of every stage"},

@@ -1,6 +1,7 @@
 /* cmd_sweep.c: `revisit sweep SCENARIO --out DIR`: run a scenario's grid. */
 #include <signal.h>
 #include <cjson/cJSON.h>
+#include <math.h>
 #include <stdio.h>
 #include <stdlib.h>
 #include <string.h>
@@ -141,17 +142,18 @@ int cmd_sweep(int argc, char **argv)
     sweep_opts_defaults(&o);
     const char *shard = NULL;
     long jobs = 0, cell_jobs = 1, mem_mb = 0;
+    double time_s = NAN;   /* not given */
     int dry = 0;
     const struct opt opts[] = {
         {"--out", OPT_STR, &o.out_dir, "DIR", "sweep folder (cells, summary); required"},
         {"--shard", OPT_STR, &shard, "I/N", "run only cells k with k mod N = I (0 <= I < N)"},
-        {"--jobs", OPT_INT, &jobs, "N", "cells run at once (default: online cores)"},
-        {"--cell-jobs", OPT_INT, &cell_jobs, "N", "threads inside each cell (default 1)"},
+        {"--jobs", OPT_COUNT, &jobs, "N", "cells run at once (default: online cores)"},
+        {"--cell-jobs", OPT_COUNT, &cell_jobs, "N", "threads inside each cell (default 1)"},
         {"--plugin-path", OPT_STR, &o.plugin_path, "DIRS", "extra plugin folders, ':'-separated"},
         {"--isolate", OPT_FLAG, &o.isolate, NULL, "run each method in a child process"},
-        {"--time-limit", OPT_SECONDS, &o.time_limit_s, "S",
+        {"--time-limit", OPT_SECONDS, &time_s, "S",
          "most seconds per scan (default 60; external programs 10); isolated and external methods are stopped"},
-        {"--mem-limit", OPT_INT, &mem_mb, "MiB", "memory an isolated method or external program may take (default 4096)"},
+        {"--mem-limit", OPT_COUNT, &mem_mb, "MiB", "memory an isolated method or external program may take (default 4096)"},
         {"--retry-failed", OPT_FLAG, &o.retry_failed, NULL, "run again the cells that failed before"},
         {"--dry-run", OPT_FLAG, &dry, NULL, "print the cells and the estimated work, run nothing"},
         {"--quiet", OPT_FLAG, &o.quiet, NULL, "no progress bar or totals"},
@@ -163,16 +165,17 @@ int cmd_sweep(int argc, char **argv)
     if (a.n != 1) err_set(&e, "revisit sweep: expected one scenario file, got %d arguments", a.n);
     else if (!o.out_dir && !dry) err_set(&e, "revisit sweep: option '--out' is required");
     else if (shard && plan_parse_shard(shard, &o.shard_i, &o.shard_n, &e)) err_wrap(&e, "revisit sweep: --shard");
-    else if (jobs < 0 || jobs > 256 || cell_jobs < 1 || cell_jobs > 256)
-        err_set(&e, "revisit sweep: --jobs expects 0 (online cores) to 256 and --cell-jobs 1 to 256");
-    else if (o.time_limit_s < 0 || o.time_limit_s > 1e6)
-        err_set(&e, "revisit sweep: --time-limit expects seconds from 0 to 1000000, got %g", o.time_limit_s);
-    else if (mem_mb < 0 || mem_mb > (1L << 24))
+    else if (jobs > 256 || cell_jobs > 256)
+        err_set(&e, "revisit sweep: --jobs and --cell-jobs expect 1 to 256");
+    else if (!isnan(time_s) && !(time_s > 0 && time_s <= 1e6))
+        err_set(&e, "revisit sweep: --time-limit expects seconds above 0, up to 1000000, got %g", time_s);
+    else if (mem_mb > (1L << 24))
         err_set(&e, "revisit sweep: --mem-limit expects MiB from 1 to 16777216, got %ld", mem_mb);
     else e.msg[0] = 0;
     if (e.msg[0]) return cmd_report(&e);
     o.jobs = (int)jobs;
     o.cell_jobs = (int)cell_jobs;
+    if (!isnan(time_s)) o.time_limit_s = time_s;
     o.mem_limit_mb = (size_t)mem_mb;
     o.run = eval_run;
     o.stop = &sweep_stop;
