@@ -25,8 +25,9 @@ static const char about[] =
     "only the cells in flight.  Ctrl-C lets running cells finish and exits 130\n"
     "(a second Ctrl-C drops them).  At the end DIR/summary.csv, summary_seeds.csv\n"
     "and summary.json cover every finished cell.\n"
-    "Before any cell runs (--dry-run too), every chain must parse and every\n"
-    "method must load; otherwise nothing runs and the message names it.\n\n";
+    "Before any cell runs (--dry-run too), every chain must parse, every method\n"
+    "must load and the recordings must read; otherwise nothing runs and the\n"
+    "message names it (a dry run prints its plan first, then fails).\n\n";
 
 /* The one piece of state a signal handler may touch. */
 static volatile sig_atomic_t sweep_stop;
@@ -189,8 +190,10 @@ int cmd_sweep(int argc, char **argv)
         if (sp) sweep_speeds(&p, &o, sp);
         sweep_print_plan(stdout, &p, &o, sweep_scans(p.map_rec), sweep_scans(p.query_rec), sp);
         free(sp);
+        /* a plan that could not run is no good plan: the dry run fails where the run would */
+        int rc = sweep_check_recordings(&p, &e) ? cmd_report(&e) : CMD_OK;
         plan_free(&p);
-        return CMD_OK;
+        return rc;
     }
     if (sweep_check_recordings(&p, &e)) {
         plan_free(&p);
