@@ -225,6 +225,8 @@ static void check_bad(void)
     CHECK_MSG(bad(HEAD M1 C1 ", \"seeds\": 2, \"seeds\": 3}"), "seeds: key given twice", "a repeated key is refused");
     CHECK_MSG(bad(HEAD "\"methods\": [{\"name\": \"/p/m.so\"}, {\"name\": \"/q/m.so\"}], " C1 "}"),
               "two cells share the id 'm.so__c__s1'", "methods whose cell ids collide are refused");
+    CHECK_MSG(bad(HEAD "\"methods\": [{\"name\": \"./.part-m.so\"}], " C1 "}"),
+              "method './.part-m.so' gives cell ids that start with '.'", "a cell id naming a hidden folder is refused");
     CHECK_MSG(bad(HEAD "\"methods\": [{\"name\": \"m\", \"variants\": [{\"a b\": 1}]}], " C1 "}"),
               "methods[0].variants[0].a b: expected a plain setting name", "a setting name with a space is refused");
     CHECK_MSG(bad(HEAD "\"methods\": [{\"name\": \"m\", \"variants\": [{\"k\": \"x,y\"}]}], " C1 "}"),

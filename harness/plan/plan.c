@@ -813,6 +813,10 @@ static int pl_cell(const struct pl *c, struct plan *p, size_t m, size_t ci, long
     const struct plan_cond *d = &p->conds[ci];
     char mid[96], val[64] = "";
     pl_id_part(mid, sizeof mid, p->methods[m].name);
+    /* cells/.NAME is where a cell is made (.part-ID) and what listings skip */
+    if (mid[0] == '.')
+        return pl_fail(c, "methods", "method '%s' gives cell ids that start with '.', which name hidden folders, "
+                       "expected a name that does not start with '.'", p->methods[m].name);
     cell->method = m;
     cell->cond = ci;
     cell->seed = seed;
