@@ -46,6 +46,9 @@ static const struct edit edits[] = {
     {"\"seed\": 3", "\"seed\": \"-4\"", "$.perturbation.seed: not a decimal whole number"},
     {"\"on\": \"query\"", "\"on\": \"all\"", "$.perturbation.on: not query, map or both"},
     {"\"source\"", "\"origin\"", "$.perturbation.origin: unknown key, expected chain, seed, on, source"},
+    {"\"channels\": 4,", "\"channels\": 4, \"channels\": 8,", "$.sensor.channels: key given twice, expected each key once"},
+    {"\"scan_layout\": \"raw\",", "\"scan_layout\": \"raw\", \"scan_layout\": \"pcd\",",
+     "$.scan_layout: key given twice, expected each key once"},
 };
 
 static void make_folder(void)

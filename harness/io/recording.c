@@ -82,13 +82,20 @@ static int rec_bad(const struct rec_ctx *x, const char *jpath, const char *what,
     return err_set(e, "%s: %s: %s, expected %s", x->file, jpath, what, expected);
 }
 
-/* Refuse keys of obj not in allowed (NULL-terminated). */
+/* Refuse keys of obj not in allowed (NULL-terminated), and a key given
+ * twice (a reader would take the first and drop the other unseen). */
 static int rec_keys(const struct rec_ctx *x, const cJSON *obj, const char *jpath, const char *const *allowed,
                     struct err *e)
 {
     for (const cJSON *it = obj->child; it; it = it->next) {
         int ok = 0;
         for (const char *const *a = allowed; *a && !ok; a++) ok = !strcmp(it->string, *a);
+        for (const cJSON *o = obj->child; ok && o != it; o = o->next)
+            if (!strcmp(o->string, it->string)) {
+                char p[512];
+                snprintf(p, sizeof p, "%s.%s", jpath, it->string);
+                return rec_bad(x, p, "key given twice", "each key once", e);
+            }
         if (ok) continue;
         char list[512] = "", p[512];
         for (const char *const *a = allowed; *a; a++)
