@@ -148,7 +148,7 @@ expect "[ $rc -eq 2 ]" "a sweep without a scenario exits 2"
 expect_in "$(cat err)" "expected one scenario file, got 0 arguments" "and says what it expected"
 "$REVISIT_BIN" sweep s.json --out x --jobs 999 2>err; rc=$?
 expect "[ $rc -eq 2 ]" "--jobs out of range exits 2"
-expect_in "$(cat err)" "--jobs expects 0 (online cores) to 256" "and gives the range"
+expect_in "$(cat err)" "--jobs and --cell-jobs expect 1 to 256" "and gives the range"
 "$REVISIT_BIN" merge par/0 2>err; rc=$?
 expect "[ $rc -eq 2 ]" "merge without --out exits 2"
 expect_in "$(cat err)" "revisit: merge: option '--out' is required" "and names the option"
