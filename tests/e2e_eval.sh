@@ -40,7 +40,7 @@ expect_in "$out" "--map, --method and --out are required" "the missing options a
 out=$("$R" eval --map "$T/rec" --method range-height --out "$T/o3" --bootstrap -5 2>&1)
 expect_in "$out" "--bootstrap expects 0 to 100000 resamples, got -5" "a bad resample count is named"
 out=$("$R" eval --map "$T/rec" --method range-height --out "$T/o3" --prefilter 0 2>&1)
-expect_in "$out" "--prefilter expects a whole number from 1 to 1000000, got 0" "a bad prefilter is named"
+expect_in "$out" "option '--prefilter' expects a whole number 1 or more, got '0'" "a bad prefilter is named"
 out=$("$R" eval --map "$T/rec" --method range-height --out "$T/o3" --exclude-scans -1 2>&1); rc=$?
 expect "[ $rc -eq 2 ]" "a negative --exclude-scans is refused"
 expect_in "$out" "--exclude-scans expects a whole number 0 or more, got -1" "the bad count is named"

@@ -31,7 +31,7 @@ msg=$("$R" synth --scenario atlantis --out "$T/x" 2>&1); rc=$?
 expect '[ $rc -eq 2 ]' "unknown scenario exits 2"
 expect_in "$msg" "unknown scenario 'atlantis'" "unknown scenario message"
 msg=$("$R" synth --scenario port --out "$T/x" --scans 0 2>&1)
-expect_in "$msg" "option '--scans' expects at least 1" "zero scans refused"
+expect_in "$msg" "option '--scans' expects a whole number 1 or more, got '0'" "zero scans refused"
 msg=$("$R" synth --scenario port --out "$T/x" --scans 5 --duration 3 2>&1)
 expect_in "$msg" "give --scans or --duration, not both" "scans and duration together refused"
 msg=$("$R" synth --scenario port --out "$T/x" --scans 99999 2>&1)
