@@ -106,14 +106,16 @@ static int pr_ops_data(struct plot_set *ps, const char *name, const struct plot_
     return plot_commit(&a, e);
 }
 
-/* Each operating point's label, beside it, inward from the nearer edge. */
+/* Each operating point's label, beside it, inward from the nearer edge, on
+ * a white ground so the curves under it do not cross the text. */
 static void pr_ops_labels(FILE *f, const struct plot_oppoint *ops, size_t n_ops)
 {
+    if (n_ops) fputs("set style textbox opaque noborder\n", f);
     for (size_t k = 0; k < n_ops; k++) {
         int right = ops[k].recall > 0.55;
         fprintf(f, "set label %zu ", 10 + k);
         esc_gp(f, ops[k].label);
-        fprintf(f, " at %.9g, %.9g %s offset %s,-1.1 front\n", ops[k].recall, ops[k].precision,
+        fprintf(f, " at %.9g, %.9g %s offset %s,-1.1 front boxed\n", ops[k].recall, ops[k].precision,
                 right ? "right" : "left", right ? "-1" : "1");
     }
 }

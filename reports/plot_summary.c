@@ -8,7 +8,7 @@
 #include "reports/esc.h"
 #include "reports/plot_int.h"
 
-#define SUMMARY_ROW_PX 34
+#define SUMMARY_ROW_PX 24
 #define SUMMARY_TOP_PX 70   /* the chart's title and the panels' titles */
 
 static int summary_data(struct plot_set *ps, const char *name, size_t n_rows, const struct plot_dots *d,

@@ -143,7 +143,7 @@ void rdoc_table(struct rdoc *d, size_t cols, const char *align)
     struct rdoc_block *b = cols && cols <= RDOC_COLS_MAX ? block(d, RDOC_TABLE) : NULL;
     if (!b) { d->oom = 1; return; }
     b->cols = cols;
-    for (size_t k = 0; k < cols; k++) b->align[k] = align && align[k] == 'r' ? 'r' : 'l';
+    for (size_t k = 0; k < cols; k++) b->align[k] = align && (align[k] == 'r' || align[k] == 'n') ? align[k] : 'l';
 }
 
 void rdoc_figure(struct rdoc *d, const char *png, const char *rel)

@@ -61,7 +61,7 @@ struct rdoc_block {
     char id[80];                 /* heading: anchor, unique in the document */
     unsigned style;              /* paragraph */
     size_t cols;                 /* table: cells are runs, row-major, row 0 the header */
-    char align[RDOC_COLS_MAX + 1];  /* table: 'l' or 'r' per column */
+    char align[RDOC_COLS_MAX + 1];  /* table: 'l', 'r' or 'n' per column */
     char *fig_png;               /* figure: image file to inline in HTML (NULL: not drawn) */
     char *fig_rel;               /* figure: path stem relative to the report ("plots/pr-0") */
     size_t n, cap;
@@ -86,7 +86,8 @@ void rdoc_para(struct rdoc *d, unsigned style);
 void rdoc_list(struct rdoc *d);
 void rdoc_item(struct rdoc *d);
 /* cols columns (at most RDOC_COLS_MAX); align: one 'l' or 'r' per column,
- * NULL for all left. */
+ * or 'n' for left-aligned words kept on one line (short names), NULL for
+ * all left. */
 void rdoc_table(struct rdoc *d, size_t cols, const char *align);
 void rdoc_cell(struct rdoc *d, unsigned style);
 /* png: the drawn image (NULL when not drawn); rel: stem of its files

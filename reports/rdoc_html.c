@@ -16,11 +16,12 @@
  * colour-vision distance); every verdict carries its word and mark too, so
  * nothing depends on colour. */
 static const char css[] =
-    "body{font-family:sans-serif;max-width:1100px;margin:2em auto;padding:0 1em;color:#1a1a1a;line-height:1.45}"
+    "body{font-family:sans-serif;max-width:1300px;margin:2em auto;padding:0 1em;color:#1a1a1a;line-height:1.45}"
     "h1,h2,h3{color:#1b1f4b}h2{border-bottom:2px solid #1b1f4b;padding-bottom:.2em;margin-top:2em}"
     ".caution{border:2px solid #a34a0c;padding:.6em 1em;background:#fff7ef}"
-    "table{border-collapse:collapse;margin:.5em 0 1.5em}td,th{border:1px solid #999;padding:.25em .6em;"
-    "text-align:left;font-variant-numeric:tabular-nums}th{background:#eef1f6}td.num,th.num{text-align:right}"
+    "table{border-collapse:collapse;margin:.5em 0 1.5em;display:block;overflow-x:auto}td,th{border:1px solid #999;padding:.15em .5em;"
+    "text-align:left;font-variant-numeric:tabular-nums}th{background:#eef1f6}"
+    "td.num,th.num{text-align:right;white-space:nowrap}td.name,th.name{white-space:nowrap}"
     ".pass,.fail{font-weight:bold;color:#fff;white-space:nowrap}.pass{background:#2a7ab0}.fail{background:#a34a0c}"
     "code,td{overflow-wrap:anywhere}.toc{margin:1em 0;line-height:1.8}"
     "figure{margin:1em 0 2em}figure img{max-width:100%;border:1px solid #ccc}"
@@ -65,7 +66,8 @@ static void html_table(FILE *f, const struct rdoc_block *b)
         const char *cell = i < b->cols ? "th" : "td";
         if (!col) fputs("<tr>", f);
         fprintf(f, "<%s", cell);
-        const char *cls[3] = {b->align[col] == 'r' ? "num" : NULL, r->style & RDOC_PASS ? "pass" : NULL,
+        const char *cls[3] = {b->align[col] == 'r' ? "num" : b->align[col] == 'n' ? "name" : NULL,
+                              r->style & RDOC_PASS ? "pass" : NULL,
                               r->style & RDOC_FAIL ? "fail" : NULL};
         for (int k = 0, first = 1; k < 3; k++)
             if (cls[k]) { fprintf(f, "%s%s", first ? " class=\"" : " ", cls[k]); first = 0; }

@@ -174,7 +174,7 @@ static void sec_verdicts(struct rdoc *r, const struct report_doc *d)
     size_t pass = 0;
     for (size_t k = 0; k < s->n_verdicts; k++) pass += (size_t)s->verdicts[k].pass;
     rdoc_textf(r, "%zu of %zu criteria passed.", pass, s->n_verdicts);
-    rdoc_table(r, 7, "lllrrrl");
+    rdoc_table(r, 7, "lnnrrrl");
     for (size_t k = 0; k < 7; k++) { rdoc_cell(r, 0); rdoc_text(r, head[k]); }
     for (size_t k = 0; k < s->n_verdicts; k++) verdict_row(r, d->table, &s->verdicts[k]);
 }
