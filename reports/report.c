@@ -167,7 +167,8 @@ static void pr_op_add(struct pr_ops *o, size_t j, double tau, const char *tuned,
     for (size_t q = 0; q < o->n; q++)
         if (!strcmp(o->label[q], l)) return;
     if (!at) {
-        report_note(o->d, "operating point %s on %s: no query is accepted there", l, report_cond_name(t, o->c));
+        report_note(o->d, "PR curves of %s: the operating point %s is not marked, no query is accepted at it",
+                    report_cond_name(t, o->c), l);
         return;
     }
     o->ops[o->n] = (struct plot_oppoint){j, o->sr[j].x[at - 1], o->sr[j].y[at - 1], l};
