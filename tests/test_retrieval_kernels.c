@@ -5,7 +5,11 @@
  * and qsort): indices, distances and counts identical, on random rows of
  * every dimension from 1 to 70 and some long ones, with duplicated rows,
  * zero rows and NaN entries planted (with a NaN distance, the fast path
- * hands the rows to retr_rank in index order, whatever order it got).  A CPU without AVX2 reports the
+ * hands the rows to retr_rank in index order, whatever order it got);
+ * and the whole dense path against every pair by retrieval_pair on random
+ * rows scaled from 1e-21 to 1e18 (products that underflow, large scales),
+ * where the cut before the re-rank may drop only rows that cannot reach
+ * the top K.  A CPU without AVX2 reports the
  * vector checks as skipped. */
 #include "harness/run/retrieval_dense.c"
 #include "tests/check.h"
@@ -100,8 +104,61 @@ static void test_rank(void)
     CHECK(runs > 1000 && nan_runs == 144, "AVX2 re-rank: every size and dimension compared");
 }
 
+static int pair_cmp(const void *x, const void *y)
+{
+    const double *a = x, *b = y;
+    if (a[0] != b[0]) return a[0] < b[0] ? -1 : 1;
+    return (a[1] > b[1]) - (a[1] < b[1]);
+}
+
+/* retrieval_dense against every pair by retrieval_pair, sorted by
+ * (distance, index): the cut may drop only rows that cannot reach the top
+ * K, also where float scores underflow or carry a large scale. */
+static void test_cut(void)
+{
+    enum { N = 700, DIM = 8, K = 10 };
+    /* below about 1e-20 squares underflow float: every score is 0 and the
+     * float collector keeps the lowest indices (retrieval.h says so) */
+    static const float scales[] = {1, 1e-21f, 1e-19f, 1e15f, 1e18f};
+    int bad = 0, runs = 0;
+    float *v = malloc((size_t)N * DIM * sizeof *v);
+    double *all = malloc(2 * (size_t)N * sizeof *all);
+    for (size_t sc = 0; sc < sizeof scales / sizeof *scales; sc++)
+        for (int kind = 0; kind < 2; kind++) {
+            enum rv_distance kd = kind ? RV_DIST_COSINE : RV_DIST_L2;
+            for (size_t c = 0; c < (size_t)N * DIM; c++) v[c] = rnd() * scales[sc];
+            struct retrieval_mat m = {v, N, DIM};
+            struct retrieval_rule rule = {1, NULL, 0, 3, NULL};
+            struct retrieval_out o;
+            struct err e;
+            if (retrieval_dense(&m, &m, kd, &rule, K, 2, &o, &e)) {
+                bad++;
+                continue;
+            }
+            for (size_t i = 0; i < N; i++) {
+                int n = 0;
+                for (size_t j = 0; j + 3 <= i; j++, n++) {
+                    all[2 * n] = retrieval_pair(v + i * DIM, v + j * DIM, DIM, kd);
+                    all[2 * n + 1] = (double)j;
+                }
+                qsort(all, (size_t)n, 2 * sizeof *all, pair_cmp);
+                int want = n < K ? n : K, same = o.count[i] == want;
+                for (int c = 0; same && c < want; c++)
+                    same = o.idx[i * K + c] == (int32_t)all[2 * c + 1] && o.dist[i * K + c] == all[2 * c];
+                bad += !same;
+            }
+            runs++;
+            retrieval_out_free(&o);
+        }
+    free(v);
+    free(all);
+    CHECK(bad == 0, "dense top K equals all pairs by retrieval_pair at every scale, tiny and large");
+    CHECK(runs == 10, "dense top K: every scale and distance compared");
+}
+
 int main(void)
 {
+    test_cut();
     if (!retr_exact_fast()) {
         CHECK_SKIP("AVX2 screen (this CPU has no AVX2)");
         CHECK_SKIP("AVX2 re-rank (this CPU has no AVX2)");

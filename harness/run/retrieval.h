@@ -7,12 +7,16 @@
  * Dense retrieval (L2 or cosine) splits the queries into blocks of 256, one
  * pool task each; a task multiplies its block by 1,024 map rows at a time
  * with a single-threaded OpenBLAS sgemm (the pool's threads replace
- * OpenBLAS's own) and feeds each score, while the block is in cache, into a
- * bounded max-heap per query, so memory is O(threads x block + n_query x K),
- * never n_query x n_map: a map of 100,000 scans needs no N x N matrix.  The heap
- * keeps K + K/4 + 8 candidates by the float score; their distances are then
- * recomputed in double and the best K kept, so reported distances carry no
- * cancellation error from |q|^2 + |m|^2 - 2 q.m.
+ * OpenBLAS's own) and screens each score, while the block is in cache,
+ * against a bounded collector per query, so memory is O(threads x block +
+ * n_query x K), never n_query x n_map: a map of 100,000 scans needs no
+ * N x N matrix.  The collector keeps the K + K/4 + 8 best by the float
+ * score; of those, the ones that can still reach the best K (a rounding
+ * bound on the float scores) are recomputed in double and the best K
+ * kept, so reported distances carry no cancellation error from
+ * |q|^2 + |m|^2 - 2 q.m and equal retrieval_pair's bit for bit.  Entries
+ * so small that their squares underflow float (below about 1e-20) give
+ * equal scores, which the collector breaks by the lower index.
  *
  * Custom distances: with keys, the top-C candidates by key L2 (the dense
  * path) are re-ranked by the distance function; without keys, every

@@ -17,6 +17,7 @@
 #include "harness/run/retrieval.h"
 
 #include <cblas.h>
+#include <float.h>
 #include <math.h>
 #include <stdlib.h>
 #include <string.h>
@@ -348,13 +349,17 @@ static void retr_prefetch(const struct retrieval_mat *map, const int32_t *js, in
 
 /* A bound on |score - exact distance| for one pair, doubled: L2 scores
  * carry at most (dim + 5) u (|q|^2 + |m|^2) (u = 2^-24: the sgemm's
- * dot product in any order, the float norms, two float operations),
- * cosine scores (dim + 7) u; twice that is (dim + 8) 2^-23 times the
- * same scale.  NaN or infinity when the scores cannot be trusted. */
+ * dot product in any order, the float norms, two float operations) plus
+ * less than 2^-126 from products that underflow; cosine scores (dim + 7) u
+ * while both inverse norms lie in [FLT_MIN, 2^60] (a zero vector, inverse
+ * norm 0, scores exactly 1).  Twice that: (dim + 8) 2^-23 times the same
+ * scale, plus 2^-125.  Infinity (nothing is dropped) when no bound holds. */
 static float retr_slack(const struct retr_dense *d, float qn, float mn)
 {
     float rho = (float)(d->q->dim + 8) * 0x1p-23f;
-    return d->kind == RV_DIST_COSINE ? rho : rho * (qn + mn);
+    if (d->kind != RV_DIST_COSINE) return rho * (qn + mn) + 0x1p-125f;
+    int q_ok = qn == 0 || (qn >= FLT_MIN && qn <= 0x1p60f), m_ok = mn == 0 || (mn >= FLT_MIN && mn <= 0x1p60f);
+    return q_ok && m_ok ? rho : INFINITY;
 }
 
 /* Cut a query's kept candidates to the k best and those that may still
@@ -380,13 +385,14 @@ static int retr_top_cut(const struct retr_dense *d, struct retr_top *t, size_t i
     for (int c = 0; c < k; c++) {
         int32_t j = (int32_t)(uint32_t)t->key[c];
         float s = retr_key_score(t->key[c]), r = s + retr_slack(d, qn, d->mn[j]);
-        reach = r > reach ? r : reach;
+        reach = r > reach || r != r ? r : reach;
         js[n++] = j;
     }
+    if (!(reach < INFINITY && reach > -INFINITY)) reach = INFINITY;   /* NaN, overflow: drop nothing */
     for (int c = k; c < all; c++) {
         int32_t j = (int32_t)(uint32_t)t->key[c];
         float s = retr_key_score(t->key[c]);
-        if (s - retr_slack(d, qn, d->mn[j]) > reach) continue;   /* false for NaN: kept */
+        if (s - retr_slack(d, qn, d->mn[j]) > reach) continue;   /* false for NaN or infinity: kept */
         int smaller = 0;
         for (int o = 0; o < all; o++) smaller += t->key[o] < t->key[c];
         if (smaller < d->cap) js[n++] = j;
