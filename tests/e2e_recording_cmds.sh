@@ -233,4 +233,21 @@ refuse "--pose-layout: unknown pose layout 'zz'" "an unknown pose layout" \
   "$REVISIT_BIN" index "$R/scans" --poses "$R/poses.csv" --out "$R/x.json" --pose-layout zz
 refuse "expected one recording, got 2 arguments" "inspect of two recordings" "$REVISIT_BIN" inspect "$R" "$R"
 refuse "revisit radius must be a positive number" "a negative radius" "$REVISIT_BIN" inspect "$R" --radius -1
+# The pose and times files inside the scan folder are not counted as scans:
+# two .csv text scans beside poses.txt and times.txt pick *.csv (counting the
+# two .txt files would tie and pick *.txt, the first extension of the table).
+mkdir -p "$T/inside/s"
+$PY - "$T/inside/s" <<'EOF2'
+import sys
+import numpy as np
+d = sys.argv[1]
+for k in range(2):
+    np.savetxt("%s/%06d.csv" % (d, k), np.random.default_rng(k).normal(size=(50, 4)), fmt="%.6f")
+open(d + "/poses.txt", "w").write("".join("1 0 0 %d 0 1 0 0 0 0 1 0\n" % k for k in range(2)))
+open(d + "/times.txt", "w").write("0\n1\n")
+EOF2
+"$REVISIT_BIN" index "$T/inside/s" --poses "$T/inside/s/poses.txt" --times "$T/inside/s/times.txt" \
+  --channels 16 --out "$T/inside/rec.json" --quiet
+expect "[ $? -eq 0 ] && grep -q '\"pattern\":.*\"\*\.csv\"' '$T/inside/rec.json'" \
+  "index leaves the pose and times files in the scan folder out of the pattern count"
 done_tests

@@ -144,6 +144,11 @@ static void test_bad_manifests(void)
     symlink("../r2b/scans", "r2/linked");
     m = load_msg("r2", edit("\"dir\": \"scans\"", "\"dir\": \"linked\""), 0);
     CHECK_MSG(m, "$.scans.dir: 'linked' leads outside", "a symbolic link out of the folder is refused");
+    symlink("../../r2b/scans/000000.bin", "r2/scans/000005.bin");
+    m = load_msg("r2", manifest_ok, 0);
+    CHECK_MSG(m, "$.scans.pattern: '000005.bin' leads outside",
+              "a scan that is a symbolic link out of the folder is refused");
+    unlink("r2/scans/000005.bin");
     m = load_msg("r2", edit("\"layout\": \"text\"", "\"layout\": \"zigzag\""), 0);
     CHECK_MSG(m, "$.poses.layout: unknown pose layout 'zigzag'", "an unknown pose layout is refused");
     m = load_msg("r2", edit("\"pattern\": \"*.bin\"", "\"pattern\": \"*.pcd\""), 0);

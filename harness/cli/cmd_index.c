@@ -60,18 +60,24 @@ static int index_pick_pattern(const struct index_opts *o, char *pat, size_t n, s
     const struct scan_format *f;
     for (size_t i = 0; (f = scan_format_at(i)); i++)
         for (int x = 0; x < SCAN_FORMAT_EXTS && f->exts[x] && n_ext < 32; x++) exts[n_ext++] = f->exts[x];
-    char rp[PATH_MAX] = "", rt[PATH_MAX] = "";
-    if (!realpath(o->poses, rp)) rp[0] = 0;
-    if (o->times && !realpath(o->times, rt)) rt[0] = 0;
+    /* The pose and times files are told apart by device and inode (one
+     * stat each), not by resolving every entry's path. */
+    struct stat sp, stt;
+    int have_p = !stat(o->poses, &sp), have_t = o->times && !stat(o->times, &stt);
     DIR *d = opendir(o->dir);
     if (!d) return err_at(e, o->dir, 0, "cannot open folder: %s", strerror(errno));
     for (struct dirent *de; (de = readdir(d)); ) {
         const char *dot = strrchr(de->d_name, '.');
         if (de->d_name[0] == '.' || !dot) continue;
-        char path[PATH_MAX], real[PATH_MAX];
-        fileio_join(path, sizeof path, o->dir, de->d_name);
-        if (realpath(path, real) && (!strcmp(real, rp) || !strcmp(real, rt))) continue;
-        for (size_t k = 0; k < n_ext; k++) count[k] += !strcmp(dot, exts[k]);
+        size_t k = 0;
+        while (k < n_ext && strcmp(dot, exts[k])) k++;
+        if (k == n_ext) continue;
+        struct stat st;
+        if ((have_p || have_t) && !fstatat(dirfd(d), de->d_name, &st, 0) &&
+            ((have_p && st.st_dev == sp.st_dev && st.st_ino == sp.st_ino) ||
+             (have_t && st.st_dev == stt.st_dev && st.st_ino == stt.st_ino)))
+            continue;
+        count[k]++;
     }
     closedir(d);
     size_t best = 0;

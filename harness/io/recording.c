@@ -279,7 +279,10 @@ static int rec_list_dir(const struct rec_ctx *x, const char *dir, const char *pa
                          x->file, RECORDING_MAX_SCANS, pattern);
             break;
         }
-        if (!x->allow_outside && (rc = rec_path(x, dir, de->d_name, "$.scans.pattern", path, sizeof path, e)))
+        /* A regular entry (not a link) of the folder, checked inside already,
+         * is inside too; links and unknown entry types are resolved. */
+        if (!x->allow_outside && de->d_type != DT_REG &&
+            (rc = rec_path(x, dir, de->d_name, "$.scans.pattern", path, sizeof path, e)))
             break;
         if (grow_reserve(&v, &cap, n + 1, sizeof *v)) {
             rc = err_set(e, "%s: out of memory listing scans", x->file);
