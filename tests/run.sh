@@ -6,6 +6,9 @@
 # Each prints "N passed, N failed" as its last line; a runner that crashes or
 # prints no such line counts as one failure.  The last line of this script is
 # the total: "N passed, N failed".
+# The two longest runners (the sanitizer build and run, and valgrind) run
+# beside the others in a second stream, so both cores are used; their lines
+# are printed when they finish, and their counts are added to the total.
 set -u
 B=${1:-build}
 root=$(cd "$(dirname "$0")/.." && pwd)
@@ -17,7 +20,7 @@ trap 'rm -rf "$tmp"' EXIT
 pass=0; fail=0; skip=0
 run_one() {  # name, command...
   local name=$1; shift
-  local log="$tmp/log"
+  local log="$tmp/log.$BASHPID"
   local start=$SECONDS
   "$@" > "$log" 2>&1
   local rc=$?
@@ -36,9 +39,17 @@ run_one() {  # name, command...
   printf '%-28s %s (%ds)\n' "$name" "$line" $((SECONDS - start))
 }
 cd "$root"
+side="e2e_asan.sh e2e_valgrind.sh"
+(
+  for n in $side; do
+    [ -f "tests/$n" ] && run_one "$n" bash "tests/$n"
+  done
+  echo "$pass $fail $skip" > "$tmp/side.counts"
+) > "$tmp/side.out" 2>&1 &
+side_pid=$!
 for t in "$B"/tests/test_*; do
   [ -x "$t" ] || continue
-  ( cd "$tmp" && mkdir -p "w_$(basename "$t")" ) 
+  ( cd "$tmp" && mkdir -p "w_$(basename "$t")" )
   run_one "$(basename "$t")" env -C "$tmp/w_$(basename "$t")" "$root/$t"
 done
 for t in tests/xcheck_*.py; do
@@ -47,7 +58,16 @@ for t in tests/xcheck_*.py; do
 done
 for t in tests/e2e_*.sh; do
   [ -f "$t" ] || continue
+  case " $side " in *" $(basename "$t") "*) continue ;; esac
   run_one "$(basename "$t")" bash "$t"
 done
+wait "$side_pid"
+cat "$tmp/side.out"
+if [ -f "$tmp/side.counts" ]; then
+  read -r sp sf ss < "$tmp/side.counts"
+  pass=$((pass + sp)); fail=$((fail + sf)); skip=$((skip + ss))
+else
+  echo "CRASH the second stream ($side) left no counts"; fail=$((fail + 1))
+fi
 if [ "$skip" -gt 0 ]; then echo "$pass passed, $fail failed, $skip skipped"; else echo "$pass passed, $fail failed"; fi
 [ "$fail" -eq 0 ]
