@@ -129,6 +129,21 @@ static int sv_pair(const struct summary *s, size_t a, size_t b, int m, double *d
     return rc;
 }
 
+/* The cell of base[0..nb) with cell g's seed (base[0] when there is only
+ * one); role and cond name the reference in the error ("baseline",
+ * "tuned_on"). */
+static int sv_same_seed(const struct summary *s, size_t g, const size_t *base, size_t nb, const char *role,
+                        size_t cond, size_t *out, struct err *e)
+{
+    size_t b = 0;
+    while (nb > 1 && b < nb && s->p->cells[base[b]].seed != s->p->cells[g].seed) b++;
+    if (b == nb)
+        return err_at(e, s->p->path, 0, "%s '%s' has no seed %llu to pair with cell %s", role,
+                      s->p->conds[cond].name, (unsigned long long)s->p->cells[g].seed, s->p->cells[g].id);
+    *out = base[b];
+    return 0;
+}
+
 static int sv_paired(const struct summary *s, const struct plan_criterion *r, const size_t *g, size_t n,
                      const size_t *base, size_t nb, struct summary_verdict *v, struct err *e)
 {
@@ -136,14 +151,10 @@ static int sv_paired(const struct summary *s, const struct plan_criterion *r, co
     if (m < 0) return err_at(e, s->p->path, 0, "metric '%s' has no paired bootstrap, expected one of the result keys", r->metric);
     double sum = 0, lo = INFINITY, hi = -INFINITY;
     for (size_t j = 0; j < n; j++) {
-        size_t b = 0;
-        while (nb > 1 && b < nb && s->p->cells[base[b]].seed != s->p->cells[g[j]].seed) b++;
-        if (b == nb)
-            return err_at(e, s->p->path, 0, "baseline '%s' has no seed %llu to pair with cell %s",
-                          s->p->conds[r->baseline].name, (unsigned long long)s->p->cells[g[j]].seed,
-                          s->p->cells[g[j]].id);
+        size_t b;
+        if (sv_same_seed(s, g[j], base, nb, "baseline", r->baseline, &b, e)) return -1;
         double d, l, h;
-        if (sv_pair(s, g[j], base[b], m, &d, &l, &h, e)) return -1;
+        if (sv_pair(s, g[j], b, m, &d, &l, &h, e)) return -1;
         sum += d;
         lo = fmin(lo, l);
         hi = fmax(hi, h);
@@ -193,14 +204,10 @@ static int sv_oppoint(const struct summary *s, const struct plan_criterion *r, c
 {
     double sum = 0, lo = INFINITY, hi = -INFINITY, tsum = 0, tlo = INFINITY, thi = -INFINITY;
     for (size_t j = 0; j < n; j++) {
-        size_t b = 0;
-        while (nb > 1 && b < nb && s->p->cells[base[b]].seed != s->p->cells[g[j]].seed) b++;
-        if (b == nb)
-            return err_at(e, s->p->path, 0, "tuned_on '%s' has no seed %llu to pair with cell %s",
-                          s->p->conds[r->tuned_on].name, (unsigned long long)s->p->cells[g[j]].seed,
-                          s->p->cells[g[j]].id);
+        size_t b;
+        if (sv_same_seed(s, g[j], base, nb, "tuned_on", r->tuned_on, &b, e)) return -1;
         double x[6];
-        if (sv_op_pair(s, r, g[j], base[b], x, e)) return -1;
+        if (sv_op_pair(s, r, g[j], b, x, e)) return -1;
         sum += x[0];
         lo = fmin(lo, x[1]);
         hi = fmax(hi, x[2]);
