@@ -4,7 +4,7 @@
 # print the exact command and stop.
 #   build  compiler-side libraries: what plain `make` needs
 #   demo   build + gnuplot (the report's plots)
-#   test   demo + what the tests use: cross-check libraries, valgrind,
+#   test   demo + what the tests use: cross-check libraries, valgrind, strace,
 #          GNU Parallel (shard test), Chromium (report browser test), the
 #          ROS 1 bag writer and message packages; then, when npm is there,
 #          the npm writers of tests/node (pinned in its package-lock.json)
@@ -15,7 +15,7 @@ case "$goal" in
   build) ;;
   demo) need+=(gnuplot-nox) ;;
   test) need+=(gnuplot-nox python3-numpy python3-scipy python3-sklearn python3-open3d python3-pil
-               parallel valgrind chromium pcl-tools python3-rosbag python3-sensor-msgs python3-nav-msgs
+               parallel valgrind strace chromium pcl-tools python3-rosbag python3-sensor-msgs python3-nav-msgs
                python3-geometry-msgs python3-tf2-msgs) ;;
   *) echo "revisit: deps.sh: unknown goal '$goal' (expected build, demo or test)" >&2; exit 2 ;;
 esac

@@ -31,11 +31,28 @@ else
   expect_in "$v" "kernel $lib (the library's choice)" "a good library pick is kept"
 fi
 
+# Threads (blas_one_thread, harness/base/blas.h): one OpenBLAS thread and
+# no idle workers unless the user set a count.  Before, the workers the
+# library starts at load spun in sched_yield through the first ~0.1 s of
+# every command (1,000+ calls for an index of 40 scans); strace -c counts
+# them (strace(1)).
+expect_in "$("$R" --version)" ", 1 thread" "--version: one OpenBLAS thread when the user set none"
+expect_in "$(OPENBLAS_NUM_THREADS=2 "$R" --version)" ", 2 threads" "--version: a thread count the user set is kept"
+"$R" synth --scenario port --scans 40 --out "$T/rec" --quiet >/dev/null 2>&1
+yields() {
+  env "$@" strace -f -qq -c -e trace=sched_yield -o "$T/strace.txt" "$R" index "$T/rec/scans" --poses "$T/rec/poses.csv" \
+    --channels 32 --out "$T/idx.json" >/dev/null 2>&1 || { echo fail; return; }
+  awk '$NF == "sched_yield" { n = $4 } END { print n + 0 }' "$T/strace.txt"
+}
+n=$(yields)
+expect "[ '$n' = 0 ]" "no OpenBLAS worker spins in sched_yield during index (got $n calls)"
+n=$(yields OPENBLAS_NUM_THREADS=2)
+expect "[ '$n' != fail ] && [ '$n' -gt 0 ]" "with OPENBLAS_NUM_THREADS=2 set by the user the workers stay (their $n sched_yield calls seen)"
+
 # Results on either kernel.  Dense scores only rank candidates and final
 # distances are recomputed in double, so queries.csv is byte-identical; sop
 # calls LAPACK in describe, so its distances may move in the last bits
 # (stated tolerance 1e-8, candidates identical).
-"$R" synth --scenario port --scans 40 --out "$T/rec" --quiet >/dev/null 2>&1
 for m in scan-context range-height m2dp sop; do
   OPENBLAS_CORETYPE=Prescott "$R" eval --map "$T/rec" --method $m --out "$T/old_$m" --bootstrap 200 --quiet >/dev/null 2>&1
   "$R" eval --map "$T/rec" --method $m --out "$T/new_$m" --bootstrap 200 --quiet >/dev/null 2>&1

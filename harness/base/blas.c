@@ -72,7 +72,28 @@ void blas_describe(char *buf, size_t size)
     if (fb && core) snprintf(how, sizeof how, "chosen by revisit; the library picked %.40s", fb);
     else if (core) snprintf(how, sizeof how, "set by " BLAS_ENV_CORE);
     else snprintf(how, sizeof how, "the library's choice");
-    snprintf(buf, size, "%s, kernel %s (%s), %d threads", lib, blas_kernel(), how, blas_threads());
+    int n = blas_threads();
+    snprintf(buf, size, "%s, kernel %s (%s), %d thread%s", lib, blas_kernel(), how, n, n == 1 ? "" : "s");
+}
+
+/* OpenBLAS's own shutdown of its worker threads (exported by the library,
+ * which calls it itself before a fork); weak, so a library without it
+ * leaves the workers running. */
+extern int blas_thread_shutdown_(void) __attribute__((weak));
+
+static int blas_env_set(const char *name)
+{
+    const char *v = getenv(name);
+    return v && *v;
+}
+
+int blas_one_thread(void)
+{
+    if (blas_env_set("OPENBLAS_NUM_THREADS") || blas_env_set("GOTO_NUM_THREADS") || blas_env_set("OMP_NUM_THREADS"))
+        return 0;
+    openblas_set_num_threads(1);
+    if (blas_thread_shutdown_) blas_thread_shutdown_();
+    return 1;
 }
 
 int blas_threads(void)

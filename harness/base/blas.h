@@ -43,6 +43,17 @@ const char *blas_kernel(void);
  * "OpenBLAS 0.3.21, kernel Haswell (chosen by revisit; the library picked Prescott)". */
 void blas_describe(char *buf, size_t size);
 
+/* One OpenBLAS thread for the whole run, and its idle workers stopped,
+ * unless the user set OPENBLAS_NUM_THREADS, GOTO_NUM_THREADS or
+ * OMP_NUM_THREADS (then nothing changes).  revisit runs its BLAS calls on
+ * threads of its own pool (single-threaded sgemm per block, small LAPACK
+ * calls per scan), so OpenBLAS's workers only compete: the library starts
+ * them when it loads and each spins in sched_yield for about 2^28 cycles
+ * before it sleeps, a whole core for the first ~0.1 s of every command
+ * (a 300-scan eval ran 105 ms with them, 83 ms without).  Returns 1 when
+ * it changed the count, 0 when the user's setting was kept. */
+int blas_one_thread(void);
+
 /* OpenBLAS threads now, and a new count (>= 1); see the thread note above. */
 int blas_threads(void);
 void blas_set_threads(int n);

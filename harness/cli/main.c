@@ -53,6 +53,7 @@ int main(int argc, char **argv)
     /* Before anything else: this may re-execute the program once with a
      * wider OpenBLAS kernel (see harness/base/blas.h). */
     blas_choose_kernel(argv);
+    blas_one_thread();
     /* A file-size limit (ulimit -f) must surface as a write error (EFBIG)
      * that the atomic writer reports, not as a silent kill mid-file. */
     signal(SIGXFSZ, SIG_IGN);
