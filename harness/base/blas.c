@@ -36,6 +36,13 @@ static int blas_cpu_wide(void)
 #endif
 }
 
+/* Set and not empty: an empty value counts as not set. */
+static int blas_env_set(const char *name)
+{
+    const char *v = getenv(name);
+    return v && *v;
+}
+
 const char *blas_kernel(void)
 {
     const char *k = openblas_get_corename();
@@ -44,8 +51,7 @@ const char *blas_kernel(void)
 
 void blas_choose_kernel(char **argv)
 {
-    const char *user = getenv(BLAS_ENV_CORE);   /* set but empty counts as not set */
-    if ((user && *user) || getenv(BLAS_ENV_FALLBACK)) return;
+    if (blas_env_set(BLAS_ENV_CORE) || getenv(BLAS_ENV_FALLBACK)) return;
     const char *k = blas_kernel();
     if (!blas_is_old(k) || !blas_cpu_wide()) return;
     if (setenv(BLAS_ENV_FALLBACK, k, 1) || setenv(BLAS_ENV_CORE, BLAS_WIDE, 1)) goto restore;
@@ -81,19 +87,12 @@ void blas_describe(char *buf, size_t size)
  * leaves the workers running. */
 extern int blas_thread_shutdown_(void) __attribute__((weak));
 
-static int blas_env_set(const char *name)
-{
-    const char *v = getenv(name);
-    return v && *v;
-}
-
-int blas_one_thread(void)
+void blas_one_thread(void)
 {
     if (blas_env_set("OPENBLAS_NUM_THREADS") || blas_env_set("GOTO_NUM_THREADS") || blas_env_set("OMP_NUM_THREADS"))
-        return 0;
+        return;
     openblas_set_num_threads(1);
     if (blas_thread_shutdown_) blas_thread_shutdown_();
-    return 1;
 }
 
 int blas_threads(void)

@@ -50,9 +50,8 @@ void blas_describe(char *buf, size_t size);
  * calls per scan), so OpenBLAS's workers only compete: the library starts
  * them when it loads and each spins in sched_yield for about 2^28 cycles
  * before it sleeps, a whole core for the first ~0.1 s of every command
- * (a 300-scan eval ran 105 ms with them, 83 ms without).  Returns 1 when
- * it changed the count, 0 when the user's setting was kept. */
-int blas_one_thread(void);
+ * (a 300-scan eval ran 105 ms with them, 83 ms without). */
+void blas_one_thread(void);
 
 /* OpenBLAS threads now, and a new count (>= 1); see the thread note above. */
 int blas_threads(void);
