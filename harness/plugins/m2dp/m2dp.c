@@ -177,36 +177,38 @@ static int m2dp_new(const double *v, void **inst, uint32_t *dim, uint32_t *key_d
  * Returns -1 when LAPACKE fails. */
 static int m2dp_frame(const float *xyzi, size_t n, size_t stride, double c[3], double r[3][3])
 {
-    double cov[9] = {0}, w[3];
+    double cov[9], w[3], sx = 0, sy = 0, sz = 0, cxx = 0, cxy = 0, cxz = 0, cyy = 0, cyz = 0, czz = 0;
     size_t cnt = 0;
-    c[0] = c[1] = c[2] = 0;
-    for (size_t k = 0; k < n; k += stride, cnt++)
-        for (int a = 0; a < 3; a++)
-            c[a] += xyzi[4 * k + a];
-    for (int a = 0; a < 3; a++)
-        c[a] /= (double)cnt;
-    for (size_t k = 0; k < n; k += stride) {
-        double d[3] = {xyzi[4 * k] - c[0], xyzi[4 * k + 1] - c[1], xyzi[4 * k + 2] - c[2]};
-        for (int a = 0; a < 3; a++)
-            for (int b = 0; b < 3; b++)
-                cov[a * 3 + b] += d[a] * d[b];
+    for (size_t k = 0; k < n; k += stride, cnt++) {
+        sx += xyzi[4 * k];
+        sy += xyzi[4 * k + 1];
+        sz += xyzi[4 * k + 2];
     }
+    c[0] = sx / (double)cnt, c[1] = sy / (double)cnt, c[2] = sz / (double)cnt;
+    for (size_t k = 0; k < n; k += stride) {  /* sums in locals: the array kept them in memory */
+        double d0 = xyzi[4 * k] - c[0], d1 = xyzi[4 * k + 1] - c[1], d2 = xyzi[4 * k + 2] - c[2];
+        cxx += d0 * d0, cxy += d0 * d1, cxz += d0 * d2;
+        cyy += d1 * d1, cyz += d1 * d2, czz += d2 * d2;
+    }
+    cov[0] = cxx, cov[1] = cxy, cov[2] = cxz, cov[3] = cxy, cov[4] = cyy, cov[5] = cyz;
+    cov[6] = cxz, cov[7] = cyz, cov[8] = czz;
     if (LAPACKE_dsyev(LAPACK_ROW_MAJOR, 'V', 'U', 3, cov, 3, w) != 0)
         return -1;
     /* eigenvalues ascending: column 2 is the first principal direction */
-    for (int a = 0; a < 2; a++) {
-        double *row = r[a], m3 = 0;
+    double m3[2] = {0, 0};
+    for (int a = 0; a < 2; a++)
         for (int b = 0; b < 3; b++)
-            row[b] = cov[b * 3 + (2 - a)];
-        for (size_t k = 0; k < n; k += stride) {
-            double s = (xyzi[4 * k] - c[0]) * row[0] + (xyzi[4 * k + 1] - c[1]) * row[1]
-                       + (xyzi[4 * k + 2] - c[2]) * row[2];
-            m3 += s * s * s;
-        }
-        if (m3 < 0)
-            for (int b = 0; b < 3; b++)
-                row[b] = -row[b];
+            r[a][b] = cov[b * 3 + (2 - a)];
+    for (size_t k = 0; k < n; k += stride) {  /* both third moments in one pass */
+        double d0 = xyzi[4 * k] - c[0], d1 = xyzi[4 * k + 1] - c[1], d2 = xyzi[4 * k + 2] - c[2];
+        double s0 = d0 * r[0][0] + d1 * r[0][1] + d2 * r[0][2], s1 = d0 * r[1][0] + d1 * r[1][1] + d2 * r[1][2];
+        m3[0] += s0 * s0 * s0;
+        m3[1] += s1 * s1 * s1;
     }
+    for (int a = 0; a < 2; a++)
+        if (m3[a] < 0)
+            for (int b = 0; b < 3; b++)
+                r[a][b] = -r[a][b];
     m2dp_cross(r[0], r[1], r[2]);
     return 0;
 }
@@ -380,20 +382,42 @@ static size_t m2dp_matrix(const struct m2dp *m, const float *xyzi, size_t n, dou
     return used;
 }
 
+/* x . y over len values, in four running sums of two lanes each.  With
+ * whole numbers as here every order gives the same sum. */
+typedef double m2dp_v2d __attribute__((vector_size(16)));
+static double m2dp_dot(const double *x, const double *y, int len)
+{
+    m2dp_v2d s0 = {0, 0}, s1 = s0, s2 = s0, s3 = s0, a[4], b[4];
+    double sum = 0;
+    int k = 0;
+    for (; k + 8 <= len; k += 8) {
+        memcpy(a, x + k, sizeof a);
+        memcpy(b, y + k, sizeof b);
+        s0 += a[0] * b[0], s1 += a[1] * b[1], s2 += a[2] * b[2], s3 += a[3] * b[3];
+    }
+    for (; k < len; k++)
+        sum += x[k] * y[k];
+    s0 += s1 + s2 + s3;
+    return sum + s0[0] + s0[1];
+}
+
 /* G = B B^T for B = A (rows x cols) when by_rows, else B = A^T: n x n,
- * upper triangle filled.  The counts are whole numbers below 2^26, so
- * every product and sum is exact and G does not depend on the order. */
-static void m2dp_gram(const double *a, int rows, int cols, int by_rows, double *g)
+ * upper triangle filled; bt is scratch for A^T (rows * cols doubles, used
+ * when !by_rows).  The counts are whole numbers below 2^26, so every
+ * product and sum is exact and G does not depend on the order. */
+static void m2dp_gram(const double *a, int rows, int cols, int by_rows, double *bt, double *g)
 {
     int n = by_rows ? rows : cols, len = by_rows ? cols : rows;
-    size_t si = by_rows ? (size_t)cols : 1, sk = by_rows ? 1 : (size_t)cols;
+    const double *b = a;
+    if (!by_rows) {
+        for (int i = 0; i < rows; i++)
+            for (int j = 0; j < cols; j++)
+                bt[(size_t)j * rows + i] = a[(size_t)i * cols + j];
+        b = bt;
+    }
     for (int i = 0; i < n; i++)
-        for (int j = i; j < n; j++) {
-            double sum = 0;
-            for (int k = 0; k < len; k++)
-                sum += a[i * si + k * sk] * a[j * si + k * sk];
-            g[(size_t)i * n + j] = sum;
-        }
+        for (int j = i; j < n; j++)
+            g[(size_t)i * n + j] = m2dp_dot(b + (size_t)i * len, b + (size_t)j * len, len);
 }
 
 /* Leading singular pair of A (rows x cols) into sig = [u1; v1], signs
@@ -408,10 +432,11 @@ static int m2dp_svd(const double *a, int rows, int cols, double *sig)
     double *g = malloc(sizeof *g * (size_t)n * (size_t)n), w[1], *x = sig + (by_rows ? 0 : rows);
     double *y = sig + (by_rows ? rows : 0), *z = malloc(sizeof *z * (size_t)n);
     lapack_int *support = malloc(sizeof *support * 2 * (size_t)n);
+    double *bt = by_rows ? NULL : malloc(sizeof *bt * (size_t)rows * (size_t)cols);
     int rc = -1;
-    if (!g || !z || !support)
+    if (!g || !z || !support || (!by_rows && !bt))
         goto out;
-    m2dp_gram(a, rows, cols, by_rows, g);
+    m2dp_gram(a, rows, cols, by_rows, bt, g);
     if (LAPACKE_dsyevr(LAPACK_ROW_MAJOR, 'V', 'I', 'U', n, g, n, 0, 0, n, n, 0, &found, w, z, 1, support) != 0
         || found != 1)
         goto out;
@@ -441,6 +466,7 @@ out:
     free(g);
     free(z);
     free(support);
+    free(bt);
     return rc;
 }
 
