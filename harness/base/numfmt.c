@@ -91,6 +91,64 @@ static void numfmt_text(const struct numfmt_dec *d, char buf[NUMFMT_LEN])
     buf[at] = 0;
 }
 
+#ifdef __SIZEOF_INT128__
+typedef unsigned __int128 numfmt_u128;
+
+/* 10^k as a 128-bit integer, 0 <= k <= 38. */
+static numfmt_u128 numfmt_p10(int k)
+{
+    static const uint64_t small[20] = {1u, 10u, 100u, 1000u, 10000u, 100000u, 1000000u, 10000000u, 100000000u,
+                                       1000000000u, 10000000000u, 100000000000u, 1000000000000u,
+                                       10000000000000u, 100000000000000u, 1000000000000000u,
+                                       10000000000000000u, 100000000000000000u, 1000000000000000000u,
+                                       10000000000000000000u};
+    return k < 20 ? (numfmt_u128)small[k] : (numfmt_u128)small[19] * small[k - 19];
+}
+
+/* The texts of 15, 16 and 17 digits by exact integer arithmetic, for
+ * 1e-6 <= |v| < 1e14 (v = m 2^-s with 2^52 <= m < 2^53, 6 <= s <= 72,
+ * and m 10^k < 2^127 for the k <= 22 this range needs).  The digits at p
+ * are q = floor(m 10^k / 2^s), k = p - 1 - E for the decimal exponent E,
+ * rounded up when the remainder passes half and sent to the search when
+ * it is exactly half (glibc rounds those ties by its own rule).  The text
+ * reads back as v when it lies nearer to v than half the gap to the
+ * neighbouring doubles.  Two cases need no test in this range: a text of
+ * at most 17 digits never lies exactly half way between two doubles (the
+ * midpoint (2m + 1) 2^-(s+1) needs at least 21), and v = 2^j, whose gap
+ * below is half as wide, has an exact text of at most 15 digits here.
+ * Returns buf, or NULL when v is out of range. */
+static const char *numfmt_exact(char buf[NUMFMT_LEN], double v)
+{
+    double a = fabs(v);
+    if (!(a >= 1e-6 && a < 1e14)) return NULL;
+    int ex;
+    uint64_t m = (uint64_t)ldexp(frexp(a, &ex), 53);
+    int s = 53 - ex, e10 = (int)floor(log10(a));
+    const numfmt_u128 mask = ((numfmt_u128)1 << s) - 1, half = (numfmt_u128)1 << (s - 1);
+    for (int fix = 0; fix < 2; fix++) {   /* log10 may be off by one at a power of ten */
+        numfmt_u128 q = ((numfmt_u128)m * numfmt_p10(14 - e10)) >> s;
+        if (q < numfmt_p10(14)) e10--;
+        else if (q >= numfmt_p10(15)) e10++;
+        else break;
+    }
+    for (int p = 15; p <= 17; p++) {
+        int k = p - 1 - e10;
+        numfmt_u128 x = (numfmt_u128)m * numfmt_p10(k), rem = x & mask, q = x >> s;
+        if (rem == half) return numfmt_search(buf, v, p);
+        q += rem > half;
+        /* twice the distance to v against the gap, both in units of 10^-k 2^-s */
+        numfmt_u128 qs = q << (s + 1), x2 = x << 1;
+        if (p < 17 && (qs > x2 ? qs - x2 : x2 - qs) >= numfmt_p10(k)) continue;
+        struct numfmt_dec d = {.n = p, .exp = e10, .neg = v < 0};
+        uint64_t digits = (uint64_t)(q == numfmt_p10(p) ? (d.exp++, numfmt_p10(p - 1)) : q);   /* < 10^17 */
+        for (int j = p - 1; j >= 0; j--, digits /= 10) d.digit[j] = (char)('0' + (int)(digits % 10));
+        numfmt_text(&d, buf);
+        return buf;
+    }
+    return buf;   /* not reached */
+}
+#endif
+
 const char *numfmt(char buf[NUMFMT_LEN], double v)
 {
     if (!isfinite(v)) {
@@ -105,6 +163,10 @@ const char *numfmt(char buf[NUMFMT_LEN], double v)
      * shorter text reads back, %.15g gives it too (trailing zeros dropped);
      * a subnormal one has fewer, so its search starts at one digit. */
     if (fabs(v) < DBL_MIN) return numfmt_search(buf, v, 1);
+#ifdef __SIZEOF_INT128__
+    const char *exact = numfmt_exact(buf, v);
+    if (exact) return exact;
+#endif
     /* One correctly rounded text of 21 digits; the texts of 15, 16 and 17
      * digits are rounded from it, as %.15g, %.16g and %.17g would write
      * them, and only the rare ties go back to the search. */
