@@ -62,10 +62,16 @@ void plot_set_init(struct plot_set *ps, const char *dir)
     memset(ps, 0, sizeof *ps);
     snprintf(ps->dir, sizeof ps->dir, "%s", dir);
     plot_find_gnuplot(NULL, ps->gnuplot, sizeof ps->gnuplot);
+    long cores = sysconf(_SC_NPROCESSORS_ONLN);
+    ps->jobs = cores < 1 ? 1 : cores > PLOT_MAX_JOBS ? PLOT_MAX_JOBS : (size_t)cores;
 }
+
+static int plot_reap_oldest(struct plot_set *ps, struct err *e);
 
 void plot_set_free(struct plot_set *ps)
 {
+    struct err ignored;
+    while (ps->n_run) plot_reap_oldest(ps, &ignored);   /* an error path left some running */
     free(ps->items);
     ps->items = NULL;
     ps->n = ps->cap = 0;
@@ -178,14 +184,16 @@ int plot_png_ok(const char *path, unsigned *w, unsigned *h)
     return *w > 0 && *h > 0;
 }
 
-static int gnuplot_exec(const struct plot_set *ps, const char *name, struct err *e)
+/* Start gnuplot on NAME.gp in the plot folder, its output into NAME.log. */
+static int gnuplot_start(const struct plot_set *ps, const char *name, pid_t *pid, struct err *e)
 {
     char script[80], log[4300];
-    snprintf(script, sizeof script, "%s.gp", name);
-    snprintf(log, sizeof log, "%s/%s.log", ps->dir, name);
-    pid_t pid = fork();
-    if (pid < 0) return err_set(e, "cannot start gnuplot: %s", strerror(errno));
-    if (pid == 0) {
+    if (err_cut(snprintf(script, sizeof script, "%s.gp", name), sizeof script)
+        || err_cut(snprintf(log, sizeof log, "%s/%s.log", ps->dir, name), sizeof log))
+        return err_set(e, "%s/%s.gp: path too long for gnuplot", ps->dir, name);
+    *pid = fork();
+    if (*pid < 0) return err_set(e, "cannot start gnuplot: %s", strerror(errno));
+    if (*pid == 0) {
         int in = open("/dev/null", O_RDONLY);
         int out = open(log, O_WRONLY | O_CREAT | O_TRUNC, 0644);
         if (in < 0 || out < 0 || chdir(ps->dir)) _exit(127);
@@ -195,13 +203,47 @@ static int gnuplot_exec(const struct plot_set *ps, const char *name, struct err 
         execl(ps->gnuplot, "gnuplot", script, (char *)NULL);
         _exit(127);
     }
+    return 0;
+}
+
+/* Wait for gnuplot pid of plot it, then check its two images. */
+static int gnuplot_finish(const struct plot_set *ps, pid_t pid, struct plot_item *it, struct err *e)
+{
     int st;
     while (waitpid(pid, &st, 0) < 0)
         if (errno != EINTR) return err_set(e, "waiting for gnuplot: %s", strerror(errno));
     if (!WIFEXITED(st) || WEXITSTATUS(st))
-        return err_set(e, "%s/%s.gp: gnuplot failed (status %d), expected a drawn plot; see %s",
-                       ps->dir, name, WIFEXITED(st) ? WEXITSTATUS(st) : -1, log);
+        return err_set(e, "%s/%s.gp: gnuplot failed (status %d), expected a drawn plot; see %s/%s.log",
+                       ps->dir, it->name, WIFEXITED(st) ? WEXITSTATUS(st) : -1, ps->dir, it->name);
+    char png[4300], svg[4300];
+    snprintf(png, sizeof png, "%s/%s.png", ps->dir, it->name);
+    snprintf(svg, sizeof svg, "%s/%s.svg", ps->dir, it->name);
+    unsigned w, h;
+    struct stat sb;
+    if (!plot_png_ok(png, &w, &h))
+        return err_at(e, png, 0, "not a valid PNG after gnuplot, expected a drawn image");
+    if (stat(svg, &sb) || sb.st_size == 0)
+        return err_at(e, svg, 0, "missing or empty after gnuplot, expected an SVG image");
+    it->drawn = 1;
     return 0;
+}
+
+/* Wait for the longest-running gnuplot and take it off the list. */
+static int plot_reap_oldest(struct plot_set *ps, struct err *e)
+{
+    pid_t pid = ps->run[0].pid;
+    size_t item = ps->run[0].item;
+    memmove(ps->run, ps->run + 1, --ps->n_run * sizeof *ps->run);
+    return gnuplot_finish(ps, pid, &ps->items[item], e);
+}
+
+int plot_set_wait(struct plot_set *ps, struct err *e)
+{
+    int rc = 0;
+    struct err later;
+    while (ps->n_run)
+        if (plot_reap_oldest(ps, rc ? &later : e)) rc = -1;   /* the first failure is the one told */
+    return rc;
 }
 
 /* Record the plot and draw it when gnuplot is present. */
@@ -221,16 +263,10 @@ int plot_finish(struct plot_set *ps, const char *name, const char *title, enum p
     snprintf(it->caption, sizeof it->caption, "%s", title);
     it->kind = kind;
     if (!ps->gnuplot[0]) return 0;
-    if (gnuplot_exec(ps, name, e)) return -1;
-    char png[4300], svg[4300];
-    snprintf(png, sizeof png, "%s/%s.png", ps->dir, name);
-    snprintf(svg, sizeof svg, "%s/%s.svg", ps->dir, name);
-    unsigned w, h;
-    struct stat st;
-    if (!plot_png_ok(png, &w, &h))
-        return err_at(e, png, 0, "not a valid PNG after gnuplot, expected a drawn image");
-    if (stat(svg, &st) || st.st_size == 0)
-        return err_at(e, svg, 0, "missing or empty after gnuplot, expected an SVG image");
-    it->drawn = 1;
+    if (ps->n_run == ps->jobs && plot_reap_oldest(ps, e)) return -1;
+    pid_t pid;
+    if (gnuplot_start(ps, name, &pid, e)) return -1;
+    ps->run[ps->n_run].pid = pid;
+    ps->run[ps->n_run++].item = ps->n - 1;
     return 0;
 }

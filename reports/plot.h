@@ -10,17 +10,27 @@
  *
  *     struct plot_set ps; plot_set_init(&ps, "out/plots");
  *     plot_pr(&ps, "pr-c0", title, curves, n, NULL, e);  // writes .dat + .gp, draws
+ *     if (plot_set_wait(&ps, e)) ...           // every gnuplot finished, images checked
  *     ... ps.items[k].drawn ...
  *     plot_set_free(&ps);
  *
+ * gnuplot runs in the background, as many at a time as the machine has
+ * cores (at most PLOT_MAX_JOBS): a plot function starts it and returns;
+ * plot_set_wait waits for all of them and sets `drawn`.
+ *
  * Failure contract: a plot function returns -1 when a file cannot be
- * written or gnuplot fails on our script (e names NAME.gp and NAME.log);
- * without gnuplot it returns 0 and marks the item not drawn.
+ * written or gnuplot cannot be started, or when an earlier plot's gnuplot
+ * failed on our script and was waited for to make room (e names NAME.gp
+ * and NAME.log); plot_set_wait returns -1 for the first plot whose
+ * gnuplot failed or left no valid image, after waiting for all.  Without
+ * gnuplot both return 0 and the items stay not drawn.  plot_set_free
+ * waits for any gnuplot still running.
  */
 #ifndef RV_PLOT_H
 #define RV_PLOT_H
 
 #include <stdio.h>
+#include <sys/types.h>
 #include "harness/base/err.h"
 #include "reports/rstat.h"
 
@@ -34,11 +44,15 @@ struct plot_item {
     int drawn;                   /* NAME.png and NAME.svg exist and are valid */
 };
 
+#define PLOT_MAX_JOBS 8
+
 struct plot_set {
     char dir[4096];
     char gnuplot[4096];          /* path of the gnuplot program, "" when absent */
     size_t n, cap;
     struct plot_item *items;
+    size_t jobs, n_run;          /* gnuplots allowed at once, running now */
+    struct { pid_t pid; size_t item; } run[PLOT_MAX_JOBS];  /* in the order started */
 };
 
 /* The palette: PLOT_NCOLOURS line colours, dark to light (see plot.c). */
@@ -50,6 +64,7 @@ const char *plot_colour(size_t k);
 void plot_find_gnuplot(const char *path_env, char *out, size_t n);
 
 void plot_set_init(struct plot_set *ps, const char *dir);
+int plot_set_wait(struct plot_set *ps, struct err *e);
 void plot_set_free(struct plot_set *ps);
 
 /* Kind names for the skipped-plots list ("degradation curve", ...). */

@@ -311,6 +311,8 @@ static int draw_all(struct report_doc *d, struct plot_set *ps, int quiet, struct
     if (!rc) rc = plots_pr(d, ps, &pg, e);
     if (!rc) rc = report_cell_plots(d, ps, &pg, e);
     if (!rc) rc = report_sens_plot(d, ps, e);
+    struct err later;   /* a failure before the wait is the one told */
+    if (plot_set_wait(ps, rc ? &later : e)) rc = -1;
     progress_end(&pg);
     return rc;
 }

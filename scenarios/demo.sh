@@ -29,8 +29,9 @@ if [ -f "$out/sweep/scenario.json" ] && ! cmp -s "$out/sweep/scenario.json" scen
   echo "demo: scenarios/demo.json changed since the last run; starting the sweep afresh"
   rm -rf "$out/sweep" "$out/report"
 fi
+methods=$("$bin" methods 2>/dev/null)   # once: each call loads every plugin
 for m in scan-context range-height m2dp sop; do
-  "$bin" methods 2>/dev/null | grep -q "^$m\b" || echo "demo: method '$m' not found; its cells will fail" >&2
+  grep -q "^$m\b" <<<"$methods" || echo "demo: method '$m' not found; its cells will fail" >&2
 done
 "$bin" sweep scenarios/demo.json --out "$out/sweep"
 rc=$?

@@ -227,6 +227,29 @@ env PATH="$T/gpjunk" "$REVISIT_BIN" report "$T/one" --out "$T/o2" --quiet 2>"$T/
 expect "[ $rc -eq 2 ]" "a gnuplot that writes no PNG exits 2"
 expect_in "$(cat "$T/err")" "not a valid PNG after gnuplot, expected a drawn image" "the invalid image is named"
 
+# --- gnuplot runs as many at a time as there are cores (up to 8) ------------------
+# The fake gnuplot counts the runs alive beside it, takes half a second and
+# writes the smallest file that passes as a PNG (signature, IHDR, 1 x 1).
+mkdir -p "$T/gppar" "$T/gprun"
+cat > "$T/gppar/gnuplot" <<GP
+#!/bin/sh
+touch "$T/gprun/\$\$"
+ls "$T/gprun" | wc -l >> "$T/gprun.seen"
+sleep 0.5
+n=\${1%.gp}
+printf '\\211PNG\\r\\n\\032\\n\\0\\0\\0\\rIHDR\\0\\0\\0\\1\\0\\0\\0\\1' > "\$n.png"
+echo "<svg/>" > "\$n.svg"
+rm "$T/gprun/\$\$"
+GP
+chmod +x "$T/gppar/gnuplot"
+env PATH="$T/gppar:/usr/bin:/bin" "$REVISIT_BIN" report "$T/sweep" --out "$T/par" --quiet 2>"$T/err"; rc=$?
+cores=$(nproc); [ "$cores" -gt 8 ] && cores=8
+most=$(sort -n "$T/gprun.seen" | tail -1)
+expect "[ $rc -eq 0 ]" "a report drawn by gnuplots running side by side exits 0"
+expect "[ '$most' = '$cores' ]" "as many gnuplots ran at once as there are cores ($cores; seen $most)"
+expect "[ \$(ls $T/par/plots/*.png | wc -l) -eq 14 ] && ! grep -q 'Skipped plots' $T/par/report.md" "every plot was waited for and counts as drawn"
+expect "[ -z \"\$(ls $T/gprun)\" ]" "no gnuplot is left running when the report ends"
+
 # --- bad input ------------------------------------------------------------------
 "$REVISIT_BIN" report "$T/none" 2>"$T/err"; rc=$?
 expect "[ $rc -eq 2 ]" "a missing folder exits 2"
