@@ -355,6 +355,14 @@ void chain_free(struct chain *ch)
     free(ch);
 }
 
+int chain_is_identity(const struct chain *ch)
+{
+    if (!ch->n) return 0;
+    for (size_t i = 0; i < ch->n; i++)
+        if (!ch->st[i].def->identity || !ch->st[i].def->identity(&ch->st[i])) return 0;
+    return 1;
+}
+
 size_t chain_stage_count(const struct chain *ch)
 {
     return ch->n;

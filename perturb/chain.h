@@ -85,6 +85,12 @@ void chain_free(struct chain *ch);
 int chain_with_value(const struct chain *ch, const char *stage, const char *key, double value,
                      struct chain **out, struct err *e);
 
+/* 1 when every stage of ch sits at a setting that leaves each cloud as it
+ * is (today sector:width=0 and dropout:p=0, the usual first point of a
+ * swept axis), so a set perturbed by ch is the unperturbed set and may
+ * share its descriptors; 0 otherwise, and for the empty chain. */
+int chain_is_identity(const struct chain *ch);
+
 /* Number of stages and the name of stage i (i < count). */
 size_t chain_stage_count(const struct chain *ch);
 const char *chain_stage_name(const struct chain *ch, size_t i);

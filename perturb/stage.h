@@ -43,6 +43,9 @@ struct stage_def {
     int (*check)(const struct stage *st, const char **why);
     int (*apply)(const struct stage *st, struct cloud *c, struct rng *r,
                  struct chain_scratch *s, struct err *e);
+    /* 1 when apply, at these settings, leaves every cloud as it is (it
+     * returns before touching a point); NULL when no setting does. */
+    int (*identity)(const struct stage *st);
 };
 
 /* The `draw` parameter every stage with random draws carries. */

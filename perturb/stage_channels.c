@@ -91,4 +91,4 @@ static int channels_apply(const struct stage *st, struct cloud *c, struct rng *r
 const struct stage_def stage_channels = {
     {"channels", "keep every k-th channel or a listed set (a cheaper sensor with fewer channels)",
      3, channels_params},
-    channels_check, channels_apply};
+    channels_check, channels_apply, NULL};

@@ -230,4 +230,4 @@ static int clutter_apply(const struct stage *st, struct cloud *c, struct rng *r,
 const struct stage_def stage_clutter = {
     {"clutter", "place near-field boxes that shadow the scene and add their own returns", 8,
      clutter_params},
-    clutter_check, clutter_apply};
+    clutter_check, clutter_apply, NULL};

@@ -93,10 +93,16 @@ static int sector_apply(const struct stage *st, struct cloud *c, struct rng *r,
     return 0;
 }
 
+/* Width 0 blocks nothing: sector_apply returns before any point. */
+static int sector_identity(const struct stage *st)
+{
+    return st->v[SEC_WIDTH] <= 0;
+}
+
 const struct stage_def stage_sector = {
     {"sector", "remove every point whose azimuth lies in a blocked sector (a bracket, a truck)",
      4, sector_params},
-    sector_check, sector_apply};
+    sector_check, sector_apply, sector_identity};
 
 /* ---- range --------------------------------------------------------------- */
 
@@ -140,7 +146,7 @@ static int range_apply(const struct stage *st, struct cloud *c, struct rng *r,
 const struct stage_def stage_range = {
     {"range", "remove points beyond a maximum range and nearer than a minimum (rain, a short-range sensor)",
      2, range_params},
-    range_check, range_apply};
+    range_check, range_apply, NULL};
 
 /* ---- fov ----------------------------------------------------------------- */
 
@@ -178,4 +184,4 @@ static int fov_apply(const struct stage *st, struct cloud *c, struct rng *r,
 
 const struct stage_def stage_fov = {
     {"fov", "crop the vertical field of view to [down, up] degrees", 2, fov_params},
-    fov_check, fov_apply};
+    fov_check, fov_apply, NULL};

@@ -95,4 +95,4 @@ static int density_apply(const struct stage *st, struct cloud *c, struct rng *r,
 const struct stage_def stage_density = {
     {"density", "thin the scan on a voxel grid: one mean point per occupied voxel", 1,
      density_params},
-    NULL, density_apply};
+    NULL, density_apply, NULL};

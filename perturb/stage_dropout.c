@@ -152,7 +152,13 @@ static int dropout_apply(const struct stage *st, struct cloud *c, struct rng *r,
     return 0;
 }
 
+/* p = 0 removes nothing: dropout_apply returns before any point. */
+static int dropout_identity(const struct stage *st)
+{
+    return st->v[DROP_P] <= 0 && !(st->random >> DROP_P & 1);
+}
+
 const struct stage_def stage_dropout = {
     {"dropout", "remove returns at random, one by one or in azimuth bursts (a dirty window)",
      3, dropout_params},
-    dropout_check, dropout_apply};
+    dropout_check, dropout_apply, dropout_identity};

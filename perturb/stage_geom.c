@@ -41,7 +41,7 @@ static int yaw_apply(const struct stage *st, struct cloud *c, struct rng *r,
 const struct stage_def stage_yaw = {
     {"yaw", "turn the scan about the sensor's vertical axis (the vehicle faces another way)",
      2, yaw_params},
-    NULL, yaw_apply};
+    NULL, yaw_apply, NULL};
 
 /* ---- tilt ---------------------------------------------------------------- */
 
@@ -82,7 +82,7 @@ static int tilt_apply(const struct stage *st, struct cloud *c, struct rng *r,
 const struct stage_def stage_tilt = {
     {"tilt", "rotate the scan by roll and pitch about the sensor origin (a mount that is not level)",
      2, tilt_params},
-    NULL, tilt_apply};
+    NULL, tilt_apply, NULL};
 
 /* ---- shift --------------------------------------------------------------- */
 
@@ -113,7 +113,7 @@ static int shift_apply(const struct stage *st, struct cloud *c, struct rng *r,
 const struct stage_def stage_shift = {
     {"shift", "move the sensor origin by x, y, z in its own frame (a mount elsewhere on the vehicle)",
      3, shift_params},
-    NULL, shift_apply};
+    NULL, shift_apply, NULL};
 
 /* ---- skew ---------------------------------------------------------------- */
 
@@ -167,4 +167,4 @@ static int skew_apply(const struct stage *st, struct cloud *c, struct rng *r,
 const struct stage_def stage_skew = {
     {"skew", "undo the deskew of a sweep: distort by a forward speed and turn rate over the sweep",
      4, skew_params},
-    NULL, skew_apply};
+    NULL, skew_apply, NULL};

@@ -48,7 +48,7 @@ static int noise_apply(const struct stage *st, struct cloud *c, struct rng *r,
 const struct stage_def stage_noise = {
     {"noise", "add Gaussian noise along the rays or in x, y, z, and spurious returns", 4,
      noise_params},
-    NULL, noise_apply};
+    NULL, noise_apply, NULL};
 
 /* ---- intensity ----------------------------------------------------------- */
 
@@ -82,4 +82,4 @@ static int intensity_apply(const struct stage *st, struct cloud *c, struct rng *
 const struct stage_def stage_intensity = {
     {"intensity", "scale intensities, add noise to them, or round them to steps", 4,
      intensity_params},
-    NULL, intensity_apply};
+    NULL, intensity_apply, NULL};

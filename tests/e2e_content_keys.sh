@@ -90,4 +90,19 @@ expect_in "$out" "2 finished cells were made from another content of the recordi
 same=1
 for c in sw_fresh/cells/*/; do cmp -s "$c/queries.csv" "sw/cells/$(basename "$c")/queries.csv" || same=0; done
 expect "[ $same -eq 1 ]" "every cell of the resumed sweep equals the fresh sweep's"
+
+# A chain that changes no cloud (sector:width=0, dropout:p=0) is the
+# unperturbed set: its eval is served from the clean run's cache entry and
+# gives the clean run's queries; any other width describes again.
+ev id_clean --cache idc > /dev/null
+for pair in "sector:width=0|sector:width=0" "dropout:p=0+sector:width=0,at=random|dropout:p=0+sector:width=0"; do
+  ch=${pair%|*} norm=${pair#*|}
+  out=$(ev "id_$ch" --cache idc --chain "$ch"); rc=$?
+  expect "[ $rc -eq 0 ]" "eval with --chain $ch runs"
+  expect_in "$out" "descriptor sets from the cache: 1" "--chain $ch is served from the unperturbed run's cache"
+  expect "cmp -s id_clean/queries.csv 'id_$ch/queries.csv'" "--chain $ch gives the unperturbed queries"
+  expect_in "$(grep '"chain"' "id_$ch/result.json")" "\"$norm\"" "result.json still records the chain ($norm)"
+done
+out=$(ev id_narrow --cache idc --chain "sector:width=1")
+expect_in "$out" "descriptor sets from the cache: 0" "a sector of 1 degree is described afresh"
 done_tests

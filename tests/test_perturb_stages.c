@@ -289,6 +289,32 @@ static void stats_and_edges(void)
     apply("sector:width=0+dropout:p=0", &all, 1, 0, NULL);
     CHECK(all.n == (size_t)NAZ * NCH, "zero width and p=0 remove nothing");
     cloud_free(&all);
+    /* chain_is_identity: what it claims, apply confirms byte for byte */
+    static const struct { const char *text; int identity; } ids[] = {
+        {"sector:width=0", 1}, {"dropout:p=0", 1}, {"sector:width=0,at=random+dropout:p=0,burst=5", 1},
+        {"sector:width=0.01", 0}, {"dropout:p=0.001", 0}, {"sector:width=0+yaw:deg=0", 0}, {"range:max=1e6", 0},
+        {"noise:sigma=0", 0}, {"sector:width=0+dropout", 0},
+    };
+    int id_ok = 1;
+    for (size_t k = 0; k < sizeof ids / sizeof *ids; k++) {
+        struct chain *ich;
+        if (chain_parse(ids[k].text, &ich, NULL)) { id_ok = 0; continue; }
+        int claimed = chain_is_identity(ich);
+        chain_free(ich);
+        struct cloud a, b;
+        make_scan(&a, 1);
+        make_scan(&b, 1);
+        apply(ids[k].text, &a, 1, 3, NULL);
+        int same = a.n == b.n && !memcmp(a.pts, b.pts, 16 * a.n);
+        if (claimed != ids[k].identity || (claimed && !same)) {
+            fprintf(stderr, "  %s: identity %d (want %d), points unchanged %d\n", ids[k].text, claimed,
+                    ids[k].identity, same);
+            id_ok = 0;
+        }
+        cloud_free(&a);
+        cloud_free(&b);
+    }
+    CHECK(id_ok, "chain_is_identity: sector width 0 and dropout p 0 only, and their clouds are unchanged");
     /* density refuses a point too far for its grid, naming the stage */
     make_scan(&all, 1);
     all.pts[0] = 1e6f;

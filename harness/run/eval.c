@@ -290,8 +290,12 @@ static int ev_setup(struct ev_ctx *c, struct err *e)
     struct plugin_limits lim = {s->time_limit_s, (s->mem_limit_mb ? s->mem_limit_mb : EVAL_MEM_LIMIT_MB) << 20};
     if (plugin_open_limits(&c->plug, s->method, s->plugin_path, &lim, e)) return -1;
     if (s->crash_notice) plugin_crash_notice();
-    const struct chain *mch = c->chain && chain_on_map(c->on) ? c->chain : NULL;
-    const struct chain *qch = c->chain && chain_on_query(c->on) ? c->chain : NULL;
+    /* A chain that changes no cloud (sector:width=0, the first point of a
+     * swept axis) leaves the unperturbed sets: they share the unperturbed
+     * descriptors (cache key and all) instead of describing copies. */
+    const struct chain *act = c->chain && !chain_is_identity(c->chain) ? c->chain : NULL;
+    const struct chain *mch = act && chain_on_map(c->on) ? act : NULL;
+    const struct chain *qch = act && chain_on_query(c->on) ? act : NULL;
     c->mset = (struct ev_set){&c->map, mch, 0, c->map.n, NULL, NULL, NULL, NULL};
     c->qset = (struct ev_set){c->reloc ? &c->query : &c->map, qch, 1, c->reloc ? c->query.n : c->map.n,
                               NULL, NULL, NULL, NULL};
