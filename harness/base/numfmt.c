@@ -106,7 +106,7 @@ static numfmt_u128 numfmt_p10(int k)
 }
 
 /* The texts of 15, 16 and 17 digits by exact integer arithmetic, for
- * 1e-6 <= |v| < 1e14 (v = m 2^-s with 2^52 <= m < 2^53, 6 <= s <= 72,
+ * 1e-6 < |v| < 1e14 (v = m 2^-s with 2^52 <= m < 2^53, 6 <= s <= 72,
  * and m 10^k < 2^127 for the k <= 22 this range needs).  The digits at p
  * are q = floor(m 10^k / 2^s), k = p - 1 - E for the decimal exponent E,
  * rounded up when the remainder passes half and sent to the search when
@@ -120,7 +120,7 @@ static numfmt_u128 numfmt_p10(int k)
 static const char *numfmt_exact(char buf[NUMFMT_LEN], double v)
 {
     double a = fabs(v);
-    if (!(a >= 1e-6 && a < 1e14)) return NULL;
+    if (!(a > 1e-6 && a < 1e14)) return NULL;   /* the double 1e-6 lies below 10^-6: E would be -7 */
     int ex;
     uint64_t m = (uint64_t)ldexp(frexp(a, &ex), 53);
     int s = 53 - ex, e10 = (int)floor(log10(a));
