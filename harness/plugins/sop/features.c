@@ -61,20 +61,33 @@ void feat_eigen(const double l[3], double f[7])
     f[6] = e[2] / (e[0] + e[1] + e[2]);
 }
 
-/* Descending eigenvalues of the covariance of the points (about c). */
-static void feat_cov_eigen(const float *xyzi, const uint32_t *idx, uint32_t cnt,
-                           const double c[3], double l[3])
+/* One pass over the points for the second moments about c and the z
+ * range: s[3a+b] (b >= a) = sum of d[a] d[b], d = point - c, and *zmin,
+ * *zmax.  Every later use divides these sums, so the covariance, the
+ * horizontal spreads and the z deviation share them (they used to take a
+ * pass each, adding the same products in the same order). */
+static void feat_moments(const float *xyzi, const uint32_t *idx, uint32_t cnt, const double c[3],
+                         double s[9], double *zmin, double *zmax)
 {
-    double s[9] = {0}, w[3];
+    double lo = INFINITY, hi = -INFINITY;
+    memset(s, 0, sizeof(double[9]));
     for (uint32_t k = 0; k < cnt; k++) {
         const float *q = xyzi + 4 * (size_t)idx[k];
-        double d[3] = {q[0] - c[0], q[1] - c[1], q[2] - c[2]};
+        double d[3] = {q[0] - c[0], q[1] - c[1], q[2] - c[2]}, z = q[2];
         for (int a = 0; a < 3; a++)
             for (int b = a; b < 3; b++)
                 s[a * 3 + b] += d[a] * d[b];
+        lo = fmin(lo, z), hi = fmax(hi, z);
     }
+    *zmin = lo, *zmax = hi;
+}
+
+/* Descending eigenvalues of the covariance (s: the sums of feat_moments). */
+static void feat_cov_eigen(const double sum[9], uint32_t cnt, double l[3])
+{
+    double s[9], w[3];
     for (int k = 0; k < 9; k++)
-        s[k] /= cnt;
+        s[k] = sum[k] / cnt;
     if (LAPACKE_dsyev(LAPACK_ROW_MAJOR, 'N', 'U', 3, s, 3, w) != 0)
         w[0] = w[1] = w[2] = 0;
     for (int k = 0; k < 3; k++)  /* ascending from LAPACK; round-off may dip below 0 */
@@ -85,17 +98,11 @@ static void feat_cov_eigen(const float *xyzi, const uint32_t *idx, uint32_t cnt,
  * 2x2 covariance of x, y (the width of a uniform strip with that variance);
  * axis gets the unit direction of the first principal axis.  Eigenvalues do
  * not change when the segment turns, and unlike the extremes along the axes
- * they stay smooth when the two axes swap (near-square segments). */
-static void feat_horizontal(const float *xyzi, const uint32_t *idx, uint32_t cnt,
-                            const double c[3], double ext[2], double axis[2])
+ * they stay smooth when the two axes swap (near-square segments).
+ * s: the sums of feat_moments. */
+static void feat_horizontal(const double s[9], uint32_t cnt, double ext[2], double axis[2])
 {
-    double sxx = 0, syy = 0, sxy = 0;
-    for (uint32_t k = 0; k < cnt; k++) {
-        const float *q = xyzi + 4 * (size_t)idx[k];
-        double dx = q[0] - c[0], dy = q[1] - c[1];
-        sxx += dx * dx, syy += dy * dy, sxy += dx * dy;
-    }
-    sxx /= cnt, syy /= cnt, sxy /= cnt;
+    double sxx = s[0] / cnt, syy = s[4] / cnt, sxy = s[1] / cnt;
     double th = 0.5 * atan2(2 * sxy, sxx - syy), mid = 0.5 * (sxx + syy);
     double rad = sqrt(0.25 * (sxx - syy) * (sxx - syy) + sxy * sxy);
     axis[0] = cos(th), axis[1] = sin(th);
@@ -103,9 +110,32 @@ static void feat_horizontal(const float *xyzi, const uint32_t *idx, uint32_t cnt
     ext[1] = sqrt(12 * fmax(mid - rad, 0));
 }
 
+#define FEAT_BLOCK 256  /* points gathered at a time for the hull scan */
+
+/* Running extremes along dir over one gathered block x, y, z[0..len):
+ * *hi, *hi_at the largest dot product so far and its point, *lo, *lo_at
+ * the largest negated one.  Strict comparisons keep the first point of a
+ * tie, as one scan over all the points would. */
+static void feat_extreme(const double dir[3], const double *x, const double *y, const double *z,
+                         const uint32_t *idx, uint32_t len, double *hi, uint32_t *hi_at,
+                         double *lo, uint32_t *lo_at)
+{
+    double h = *hi, l = *lo;
+    uint32_t ha = *hi_at, la = *lo_at;
+    for (uint32_t m = 0; m < len; m++) {  /* selects, not branches: points come in scan order, so the extremes move often */
+        double v = dir[0] * x[m] + dir[1] * y[m] + dir[2] * z[m], nv = -v;
+        uint32_t at = idx[m];
+        ha = v > h ? at : ha, h = v > h ? v : h;
+        la = nv > l ? at : la, l = nv > l ? nv : l;
+    }
+    *hi = h, *lo = l, *hi_at = ha, *lo_at = la;
+}
+
 /* Hull vertices and bounding radius (see the file comment).  The 26
  * directions are taken in the frame of the horizontal principal axis, so
- * the chosen vertices turn with the segment when the sensor turns. */
+ * the chosen vertices turn with the segment when the sensor turns.  The
+ * points are gathered a block at a time and each direction scans the
+ * block on its own, which keeps its running extreme in registers. */
 static void feat_hull(const float *xyzi, const uint32_t *idx, uint32_t cnt, const double axis[2],
                       struct sop_seg *s)
 {
@@ -123,15 +153,16 @@ static void feat_hull(const float *xyzi, const uint32_t *idx, uint32_t cnt, cons
                 }
     /* direction SOP_HULL_DIRS - 1 - d is exactly -dir[d] (rounding is
      * symmetric), so its dot product is exactly -v: one product serves both */
-    for (uint32_t m = 0; m < cnt; m++) {
-        const float *q = xyzi + 4 * (size_t)idx[m];
+    double x[FEAT_BLOCK], y[FEAT_BLOCK], z[FEAT_BLOCK];
+    for (uint32_t m0 = 0; m0 < cnt; m0 += FEAT_BLOCK) {
+        uint32_t len = cnt - m0 < FEAT_BLOCK ? cnt - m0 : FEAT_BLOCK;
+        for (uint32_t m = 0; m < len; m++) {
+            const float *q = xyzi + 4 * (size_t)idx[m0 + m];
+            x[m] = q[0], y[m] = q[1], z[m] = q[2];
+        }
         for (int d = 0; d < SOP_HULL_DIRS / 2; d++) {
-            double v = dir[d][0] * (double)q[0] + dir[d][1] * (double)q[1] + dir[d][2] * (double)q[2];
             int o = SOP_HULL_DIRS - 1 - d;
-            if (v > bd[d])
-                bd[d] = v, best[d] = idx[m];
-            if (-v > bd[o])
-                bd[o] = -v, best[o] = idx[m];
+            feat_extreme(dir[d], x, y, z, idx + m0, len, &bd[d], &best[d], &bd[o], &best[o]);
         }
     }
     s->nv = 0;
@@ -150,15 +181,12 @@ static void feat_hull(const float *xyzi, const uint32_t *idx, uint32_t cnt, cons
     }
 }
 
-/* Heights: mean above ground, std of z, top above ground, slice shares. */
+/* Heights: mean above ground, std of z, top above ground, slice shares;
+ * ss, zmin, zmax from feat_moments (s[8] and the z range). */
 static void feat_heights(const struct sop_params *p, const float *xyzi, const uint32_t *idx,
-                         uint32_t cnt, const double plane[3], const double c[3], double *f)
+                         uint32_t cnt, const double plane[3], const double c[3], double ss,
+                         double zmin, double zmax, double *f)
 {
-    double zmin = INFINITY, zmax = -INFINITY, ss = 0;
-    for (uint32_t k = 0; k < cnt; k++) {
-        double z = xyzi[4 * (size_t)idx[k] + 2];
-        zmin = fmin(zmin, z), zmax = fmax(zmax, z), ss += (z - c[2]) * (z - c[2]);
-    }
     double g = plane[0] * c[0] + plane[1] * c[1] + plane[2];
     f[0] = (zmax - zmin) / p->extent_scale_m;
     f[1] = (c[2] - g) / p->height_scale_m;
@@ -187,11 +215,13 @@ static void feat_compute(const struct sop_params *p, const float *xyzi, const ui
             c[a] += xyzi[4 * (size_t)idx[k] + a];
     for (int a = 0; a < 3; a++)
         c[a] /= cnt;
-    feat_cov_eigen(xyzi, idx, cnt, c, l);
+    double s[9], zmin, zmax;
+    feat_moments(xyzi, idx, cnt, c, s, &zmin, &zmax);
+    feat_cov_eigen(s, cnt, l);
     feat_eigen(l, f);
-    feat_horizontal(xyzi, idx, cnt, c, f + 7, axis);
+    feat_horizontal(s, cnt, f + 7, axis);
     f[7] /= p->extent_scale_m, f[8] /= p->extent_scale_m;
-    feat_heights(p, xyzi, idx, cnt, plane, c, f + 9);
+    feat_heights(p, xyzi, idx, cnt, plane, c, s[8], zmin, zmax, f + 9);
 }
 
 void feat_segment(const struct sop_params *p, const float *xyzi, const uint32_t *idx,

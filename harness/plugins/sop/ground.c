@@ -29,21 +29,29 @@ static long ground_candidates(const struct sop_params *p, const float *xyzi, siz
         side = GROUND_MAX_CELLS_SIDE, cell = 2 * range / side;
     size_t cells = (size_t)side * side;
     long *best = malloc(sizeof *best * cells);
-    if (!best)
-        return -1;
+    float *low = malloc(sizeof *low * cells);  /* z of best[c], read without going back to the point */
+    if (!best || !low)
+        return free(best), free(low), -1;
     for (size_t c = 0; c < cells; c++)
-        best[c] = -1;
+        best[c] = -1, low[c] = 0;
+    /* a cell that is a power of two (the default 2 m) divides exactly as a
+     * product with its reciprocal: the same bits, without the division */
+    int e;
+    double inv = frexp(cell, &e) == 0.5 ? 1 / cell : 0;
     for (size_t k = 0; k < n; k++) {
         double x = xyzi[4 * k], y = xyzi[4 * k + 1];
         if (!(fabs(x) < range && fabs(y) < range))
             continue;
-        int cx = (int)((x + range) / cell), cy = (int)((y + range) / cell);
+        int cx = (int)(inv ? (x + range) * inv : (x + range) / cell);
+        int cy = (int)(inv ? (y + range) * inv : (y + range) / cell);
         if (cx >= side || cy >= side)
             continue;
         size_t c = (size_t)cy * side + cx;
-        if (best[c] < 0 || xyzi[4 * k + 2] < xyzi[4 * best[c] + 2])
-            best[c] = (long)k;
+        float z = xyzi[4 * k + 2];
+        if (best[c] < 0 || z < low[c])
+            best[c] = (long)k, low[c] = z;
     }
+    free(low);
     long m = 0;
     for (size_t c = 0; c < cells; c++)
         m += best[c] >= 0;
@@ -97,6 +105,24 @@ static void ground_refit(const struct ground_cand *c, long m, double tol, double
     plane[0] = out[0], plane[1] = out[1], plane[2] = out[2];
 }
 
+/* Candidates less than band from the plane z = a x + b y + c; once the
+ * count can no longer rise above best, some count <= best (the caller
+ * only keeps a plane that beats best, so the rest need not be counted). */
+static long ground_inliers(const struct ground_cand *c, long m, const double plane[3], double band,
+                           long best)
+{
+    enum { BLOCK = 64 };
+    long in = 0;
+    for (long k0 = 0; k0 < m; k0 += BLOCK) {
+        if (in + (m - k0) <= best)
+            return in;
+        long k1 = m - k0 > BLOCK ? k0 + BLOCK : m;
+        for (long k = k0; k < k1; k++)
+            in += fabs(c[k].z - (plane[0] * c[k].x + plane[1] * c[k].y + plane[2])) < band;
+    }
+    return in;
+}
+
 /* RANSAC over candidate triples; plane starts flat at the lowest candidate. */
 static void ground_ransac(const struct sop_params *p, const struct ground_cand *c, long m,
                           double plane[3])
@@ -122,9 +148,7 @@ static void ground_ransac(const struct sop_params *p, const struct ground_cand *
             continue;
         double cand[3] = {-nx / nz, -ny / nz, 0};
         cand[2] = c[id[0]].z - cand[0] * c[id[0]].x - cand[1] * c[id[0]].y;
-        long in = 0;
-        for (long k = 0; k < m; k++)
-            in += fabs(c[k].z - (cand[0] * c[k].x + cand[1] * c[k].y + cand[2])) < p->ground_height_m;
+        long in = ground_inliers(c, m, cand, p->ground_height_m, best_in);
         if (in > best_in)
             best_in = in, plane[0] = cand[0], plane[1] = cand[1], plane[2] = cand[2];
     }
