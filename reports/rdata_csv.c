@@ -26,7 +26,7 @@ static int track_fill(struct rdata_track *t, const struct poses_csv_set *s)
     if (bad) return -1;
     t->n = s->n;
     memset(t->has, 1, n);
-    memcpy(t->t, s->t, s->n * sizeof *s->t);
+    if (s->n) memcpy(t->t, s->t, s->n * sizeof *s->t);   /* s->t is NULL when there are no poses */
     for (size_t i = 0; i < s->n; i++) {
         t->x[i] = s->xyz[3 * i];
         t->y[i] = s->xyz[3 * i + 1];

@@ -39,13 +39,22 @@ fi
 expect_in "$("$R" --version)" ", 1 thread" "--version: one OpenBLAS thread when the user set none"
 expect_in "$(OPENBLAS_NUM_THREADS=2 "$R" --version)" ", 2 threads" "--version: a thread count the user set is kept"
 "$R" synth --scenario port --scans 40 --out "$T/rec" --quiet >/dev/null 2>&1
+# LeakSanitizer cannot run under ptrace, so a sanitizer build traces with
+# leak checks off.
 yields() {
-  env "$@" strace -f -qq -c -e trace=sched_yield -o "$T/strace.txt" "$R" index "$T/rec/scans" --poses "$T/rec/poses.csv" \
-    --channels 32 --out "$T/idx.json" >/dev/null 2>&1 || { echo fail; return; }
+  env ASAN_OPTIONS=detect_leaks=0 "$@" strace -f -qq -c -e trace=sched_yield -o "$T/strace.txt" "$R" index \
+    "$T/rec/scans" --poses "$T/rec/poses.csv" --channels 32 --out "$T/idx.json" >/dev/null 2>&1 || { echo fail; return; }
   awk '$NF == "sched_yield" { n = $4 } END { print n + 0 }' "$T/strace.txt"
 }
 n=$(yields)
-expect "[ '$n' = 0 ]" "no OpenBLAS worker spins in sched_yield during index (got $n calls)"
+if [ -n "${REVISIT_SANITIZED:-}" ]; then
+  # The ASan runtime's start, before main, is long enough for the workers
+  # the library starts at load to spin (some 70 calls); the plain build
+  # checks that none are left once main has stopped them.
+  skip_test "no sched_yield during index (a sanitizer build's slow start lets the workers spin before main: $n calls)"
+else
+  expect "[ '$n' = 0 ]" "no OpenBLAS worker spins in sched_yield during index (got $n calls)"
+fi
 n=$(yields OPENBLAS_NUM_THREADS=2)
 expect "[ '$n' != fail ] && [ '$n' -gt 0 ]" "with OPENBLAS_NUM_THREADS=2 set by the user the workers stay (their $n sched_yield calls seen)"
 

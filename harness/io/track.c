@@ -36,7 +36,7 @@ int track_finish(struct track *t, const char *what, struct err *e)
         t->n = t->n ? 1 : 0;
         return 0;
     }
-    qsort(t->v, t->n, sizeof *t->v, track_cmp);
+    if (t->n > 1) qsort(t->v, t->n, sizeof *t->v, track_cmp);   /* t->v is NULL when empty: qsort must not see it */
     size_t j = 0;
     for (size_t k = 0; k < t->n; k++) {
         if (j && t->v[k].t == t->v[j - 1].t) {
