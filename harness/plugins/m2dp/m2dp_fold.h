@@ -40,12 +40,12 @@ typedef int m2f_ivec __attribute__((vector_size(32)));
 #define M2F_IPERM(tab, i) ((m2f_ivec)_mm256_permutevar8x32_epi32((__m256i)(tab), (__m256i)(i)))
 
 /* The lookup tables of one scan: for the ring search the edges E_{i+1}
- * (half) and E_{i+2} (quarter) at the search's index i, and E_4; the edge
- * above each ring; the first column of each ring; by octant index
+ * (half, which is also the edge above ring i) and E_{i+2} (quarter) at
+ * the search's index i, and E_4; the first column of each ring; by octant index
  * (4 nu + 2 nv + (|v| > |u|)) the sector of s = 0 and whether the octant
  * runs mirrored (-1).  Edges past the last ring are +inf. */
 struct m2f_tabs {
-    m2f_vec half, quarter, above;
+    m2f_vec half, quarter;
     m2f_ivec ring_col, oct_base, oct_mirror;
     float e4, tanb[4];
 };
@@ -59,7 +59,6 @@ static void m2f_tabs_fill(const struct m2dp *m, const double *edge, struct m2f_t
     for (int j = 0; j < 8; j++) {
         b->half[j] = e[j + 1];
         b->quarter[j] = e[j + 2];
-        b->above[j] = e[j + 1];
         b->ring_col[j] = j * m->t;
         b->oct_mirror[j] = oct_of[j] % 2 ? -1 : 0;
         b->oct_base[j] = oct_of[j] * per_oct + (oct_of[j] % 2 ? per_oct - 1 : 0);
@@ -102,7 +101,7 @@ m2f_fold(const struct m2dp *m, const struct m2dp_plane *pl, const struct m2dp_pt
             m2f_ivec ring = (lo >= b.e4) & four;
             ring |= (lo >= M2F_PERM(b.quarter, ring)) & two;
             ring |= (lo >= M2F_PERM(b.half, ring)) & one;
-            m2f_ivec bad = r2 + tau >= M2F_PERM(b.above, ring);
+            m2f_ivec bad = r2 + tau >= M2F_PERM(b.half, ring);   /* the edge above the ring */
             m2f_vec au = (m2f_vec)((m2f_ivec)u & abs_bits), av = (m2f_vec)((m2f_ivec)v & abs_bits);
             m2f_vec mx = (m2f_vec)_mm256_max_ps((__m256)au, (__m256)av);
             m2f_vec mn = (m2f_vec)_mm256_min_ps((__m256)au, (__m256)av);
